@@ -1,0 +1,125 @@
+"""Units as people write them in column headers, and their conversion to SI and kelvin.
+
+Every quantity inside ttsp is SI (Pa, 1/Pa, s, rad/s) and temperatures are kelvin. This module is
+the only place that knows spellings such as ``MPa``, ``dyn/cm²``, ``1/GPa``, ``°C`` or ``rad/s``.
+Conversion factors are exact definitions (psi from the international pound and inch, NIST SP 811).
+"""
+
+from __future__ import annotations
+
+import math
+import re
+from dataclasses import dataclass
+
+import numpy as np
+
+from .exceptions import DataError
+
+__all__ = ["Unit", "parse_unit", "to_si", "from_si", "celsius_to_kelvin", "kelvin_to_celsius",
+           "UNIT_KINDS"]
+
+ZERO_CELSIUS_K = 273.15
+# 1 lbf/in² = 4.4482216152605 N / (0.0254 m)² (NIST SP 811, exact by definition)
+PSI_PA = 4.4482216152605 / 0.0254**2
+
+
+@dataclass(frozen=True)
+class Unit:
+    """A unit of a column: its kind and the affine map ``si = value * scale + offset``."""
+
+    symbol: str
+    kind: str  # "modulus", "compliance", "frequency", "time", "temperature", "dimensionless", "angle"
+    scale: float
+    offset: float = 0.0
+
+    def to_si(self, values):
+        """Convert values in this unit to SI (kelvin for temperatures, rad/s for frequency)."""
+        return np.asarray(values, dtype=float) * self.scale + self.offset
+
+    def from_si(self, values):
+        """Convert SI values back to this unit."""
+        return (np.asarray(values, dtype=float) - self.offset) / self.scale
+
+
+def _table() -> dict[str, Unit]:
+    units = {}
+
+    def add(kind, scale, offset, *spellings):
+        for s in spellings:
+            units[s] = Unit(spellings[0], kind, scale, offset)
+
+    add("modulus", 1.0, 0.0, "Pa", "pa", "N/m2", "N/m^2", "N/m²")
+    add("modulus", 1e3, 0.0, "kPa", "kpa")
+    add("modulus", 1e6, 0.0, "MPa", "mpa", "N/mm2", "N/mm^2", "N/mm²")
+    add("modulus", 1e9, 0.0, "GPa", "gpa")
+    add("modulus", PSI_PA, 0.0, "psi")
+    add("modulus", PSI_PA * 1e3, 0.0, "ksi")
+    add("modulus", 0.1, 0.0, "dyn/cm²", "dyn/cm2", "dyn/cm^2", "dyne/cm2", "dyne/cm²", "dyne/cm^2")
+    for sym, sc in (("Pa", 1.0), ("kPa", 1e3), ("MPa", 1e6), ("GPa", 1e9)):
+        add("compliance", 1.0 / sc, 0.0, f"1/{sym}", f"{sym}^-1", f"{sym}-1", f"{sym}⁻¹",
+            f"1/{sym.lower()}")
+    add("compliance", 1.0 / PSI_PA, 0.0, "1/psi", "psi^-1", "psi-1")
+    add("frequency", 2.0 * math.pi, 0.0, "Hz", "hz", "1/s", "s^-1", "s-1")
+    add("frequency", 1.0, 0.0, "rad/s", "rad s-1", "rad·s⁻¹", "rad s^-1", "rad/sec")
+    add("time", 1.0, 0.0, "s", "sec", "secs", "second", "seconds")
+    add("time", 60.0, 0.0, "min", "mins", "minute", "minutes")
+    add("time", 3600.0, 0.0, "h", "hr", "hrs", "hour", "hours")
+    add("temperature", 1.0, ZERO_CELSIUS_K, "°C", "ºC", "degC", "deg C", "C", "celsius", "oC", "℃")
+    add("temperature", 1.0, 0.0, "K", "kelvin")
+    add("temperature", 5.0 / 9.0, ZERO_CELSIUS_K - 32.0 * 5.0 / 9.0, "°F", "ºF", "degF", "deg F",
+        "F", "fahrenheit", "oF", "℉")
+    add("dimensionless", 1.0, 0.0, "-", "", "1")
+    add("angle", math.pi / 180.0, 0.0, "°", "deg", "degree", "degrees", "º")
+    add("angle", 1.0, 0.0, "rad", "radian", "radians")
+    return units
+
+
+_UNITS = _table()
+UNIT_KINDS = sorted({u.kind for u in _UNITS.values()})
+
+
+def parse_unit(text: str, *, kind: str | None = None) -> Unit:
+    """Return the :class:`Unit` for a spelling such as ``"MPa"``, ``"1/GPa"`` or ``"°C"``.
+
+    Parameters
+    ----------
+    text : str
+        The unit as written (surrounding whitespace ignored).
+    kind : str, optional
+        If given, the unit must be of this kind (``"modulus"``, ``"temperature"``, ...).
+
+    Raises
+    ------
+    DataError
+        If the spelling is unknown or of another kind.
+    """
+    key = re.sub(r"\s+", " ", str(text).strip())
+    unit = _UNITS.get(key) or _UNITS.get(key.replace(" ", ""))
+    if unit is None:
+        unit = _UNITS.get(key.lower()) if key.lower() not in ("c", "f", "k") else None
+    if unit is None:
+        known = sorted({u.symbol for u in _UNITS.values() if kind is None or u.kind == kind})
+        raise DataError(f"unit must be one of {', '.join(known)}; got {text!r}")
+    if kind is not None and unit.kind != kind:
+        raise DataError(f"unit must be a {kind} unit; got {text!r} (a {unit.kind} unit)")
+    return unit
+
+
+def to_si(values, unit: str):
+    """Convert ``values`` given in ``unit`` to SI (temperatures to kelvin)."""
+    return parse_unit(unit).to_si(values)
+
+
+def from_si(values, unit: str):
+    """Convert SI ``values`` to ``unit``."""
+    return parse_unit(unit).from_si(values)
+
+
+def celsius_to_kelvin(t_C):
+    """T/K = T/°C + 273.15 (definition of the Celsius scale)."""
+    return np.asarray(t_C, dtype=float) + ZERO_CELSIUS_K
+
+
+def kelvin_to_celsius(t_K):
+    """T/°C = T/K − 273.15 (definition of the Celsius scale)."""
+    return np.asarray(t_K, dtype=float) - ZERO_CELSIUS_K
