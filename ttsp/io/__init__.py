@@ -1,0 +1,1 @@
+"""Edges of ttsp: reading campaigns from files and writing results (layer 4)."""

@@ -1,0 +1,460 @@
+"""Read temperature campaigns from the files people have: delimited text and .xlsx.
+
+What is understood:
+
+* delimiters: comma, semicolon, tab or runs of white space, detected from the data lines;
+* decimal commas (with a semicolon, tab or white-space delimiter), a UTF-8 BOM, UTF-16 with a BOM,
+  and Latin-1 files;
+* preamble lines before the header row are skipped and kept as metadata (``key: value``,
+  ``key = value`` or ``key<delimiter>value``);
+* units read from the headers (see :mod:`ttsp.io.headers`), or given explicitly;
+* long format (a temperature column) or one file per isotherm, with the temperature taken from
+  a column, a preamble line such as ``Temperature: 35 °C``, or the file name (``sweep_35C.csv``);
+* a folder, or several files, as one campaign.
+
+Everything is converted to SI and kelvin and validated by :meth:`ttsp.data.Campaign.from_frame`,
+so every error names the file, the column and the first bad row.
+"""
+
+from __future__ import annotations
+
+import codecs
+import os
+import re
+import warnings
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Mapping, Sequence
+
+import numpy as np
+
+from .._validation import where
+from ..data import QUANTITIES, Campaign
+from ..exceptions import DataError, DroppedRowsWarning
+from ..units import parse_unit
+from .headers import DEFAULT_UNIT, UNIT_KIND_OF_ROLE, HeaderMeaning, interpret_header
+
+__all__ = ["read_campaign", "read_table", "RawTable", "TEXT_SUFFIXES", "TABLE_SUFFIXES"]
+
+TEXT_SUFFIXES = (".csv", ".txt", ".tsv", ".dat", ".tab", ".asc")
+TABLE_SUFFIXES = TEXT_SUFFIXES + (".xlsx",)
+_NUMBER = re.compile(r"^[+-]?(\d+([.,]\d*)?|[.,]\d+)([eE][+-]?\d+)?$")
+_KEY_VALUE = re.compile(r"^\s*#?\s*([^:=]{1,60}?)\s*[:=]\s*(.*?)\s*$")
+_TEMPERATURE_IN_NAME = re.compile(
+    r"(?<![A-Za-z0-9.])(?:T|temp)?[_=-]?(?P<value>[-+−]?\d+(?:[.,p]\d+)?)\s*(?P<unit>°C|degC|C|K|°F|degF|F)(?![A-Za-z])",
+    re.IGNORECASE)
+
+
+@dataclass(frozen=True)
+class RawTable:
+    """One file's table as text cells, before any interpretation.
+
+    ``rows`` hold the data cells; ``line_numbers`` the 1-based line of the file each came from.
+    """
+
+    path: str
+    header: tuple
+    rows: tuple
+    line_numbers: tuple
+    preamble: Mapping[str, str]
+    decimal_comma: bool
+    dropped: Mapping[str, int] = field(default_factory=dict)
+
+
+# ---- bytes -> text ----------------------------------------------------------------------------
+def _decode(data: bytes, path: str) -> str:
+    if not data.strip():
+        raise DataError(f"{where(path)}the file is empty")
+    if data.startswith(codecs.BOM_UTF8):
+        text = data[len(codecs.BOM_UTF8):].decode("utf-8", errors="strict")
+    elif data.startswith(codecs.BOM_UTF16_LE) or data.startswith(codecs.BOM_UTF16_BE):
+        text = data.decode("utf-16")
+    else:
+        try:
+            text = data.decode("utf-8")
+        except UnicodeDecodeError:
+            text = data.decode("latin-1")
+    if "\x00" in text:
+        raise DataError(f"{where(path)}not a text table: the file contains binary (NUL) bytes")
+    printable = sum(ch.isprintable() or ch in "\r\n\t" for ch in text[:4096])
+    if printable < 0.95 * min(len(text), 4096):
+        raise DataError(f"{where(path)}not a text table: most bytes are not printable text")
+    return text
+
+
+def _split(line: str, delimiter: str | None) -> list:
+    if delimiter is None:
+        return line.split()
+    return [c.strip().strip('"').strip() for c in line.split(delimiter)]
+
+
+def _is_number(cell: str, decimal_comma: bool) -> bool:
+    c = cell.strip().replace("−", "-")
+    if not decimal_comma and "," in c:
+        return False
+    return bool(_NUMBER.match(c)) or c.lower() in ("nan", "inf", "-inf", "+inf", "infinity")
+
+
+def _choose_delimiter(lines: Sequence[str]) -> tuple:
+    """Pick the delimiter and the decimal mark that make the most lines split into the same
+    number (>= 2) of numeric fields."""
+    best = (None, False, -1)
+    sample = [ln for ln in lines if ln.strip()][-200:]
+    for delimiter, decimal_comma in (("\t", True), (";", True), (",", False), (None, True),
+                                     ("\t", False), (";", False), (None, False)):
+        counts = {}
+        for ln in sample:
+            cells = _split(ln, delimiter)
+            if len(cells) >= 2 and all(_is_number(c, decimal_comma) for c in cells if c):
+                counts[len(cells)] = counts.get(len(cells), 0) + 1
+        score = max(counts.values()) if counts else 0
+        if score > best[2]:
+            best = (delimiter, decimal_comma, score)
+    if best[2] <= 0:
+        return None, False
+    # a decimal comma is only claimed when some cell actually uses one
+    delimiter, decimal_comma, _ = best
+    if decimal_comma and not any("," in c for ln in sample for c in _split(ln, delimiter)):
+        decimal_comma = False
+    return delimiter, decimal_comma
+
+
+def read_table(path: str | os.PathLike, *, sheet: str | int | None = None) -> RawTable:
+    """Read one file into a :class:`RawTable` (header row, data cells, preamble metadata)."""
+    path = str(path)
+    if not os.path.exists(path):
+        raise DataError(f"{where(path)}no such file")
+    if os.path.isdir(path):
+        raise DataError(f"{where(path)}is a folder, not a file")
+    if path.lower().endswith(".xlsx"):
+        lines_cells = _xlsx_cells(path, sheet)
+        return _table_from_cells(path, lines_cells, decimal_comma=False)
+    with open(path, "rb") as fh:
+        data = fh.read()
+    text = _decode(data, path)
+    lines = text.splitlines()
+    delimiter, decimal_comma = _choose_delimiter(lines)
+    if delimiter is None and not decimal_comma and not any(
+            len(ln.split()) >= 2 for ln in lines if ln.strip()):
+        raise DataError(f"{where(path)}no table found: no line has two or more numeric columns")
+    cells = [(_split(ln, delimiter) if ln.strip() else []) for ln in lines]
+    return _table_from_cells(path, cells, decimal_comma)
+
+
+def _xlsx_cells(path: str, sheet) -> list:
+    try:
+        import openpyxl
+    except ImportError:  # pragma: no cover - openpyxl is a declared dependency
+        raise DataError(f"{where(path)}reading .xlsx needs the package openpyxl") from None
+    try:
+        book = openpyxl.load_workbook(path, read_only=True, data_only=True)
+    except Exception as exc:  # openpyxl raises many types for a broken file
+        raise DataError(f"{where(path)}not a readable .xlsx workbook ({type(exc).__name__})") from None
+    try:
+        if sheet is None:
+            ws = book.worksheets[0]
+        elif isinstance(sheet, int):
+            ws = book.worksheets[sheet]
+        else:
+            if sheet not in book.sheetnames:
+                raise DataError(f"{where(path)}sheet must be one of {', '.join(book.sheetnames)}; "
+                                f"got {sheet!r}")
+            ws = book[sheet]
+        out = []
+        for row in ws.iter_rows(values_only=True):
+            cells = ["" if v is None else (repr(v) if isinstance(v, float) else str(v)) for v in row]
+            while cells and cells[-1] == "":
+                cells.pop()
+            out.append(cells)
+        return out
+    finally:
+        book.close()
+
+
+def _table_from_cells(path: str, cells: list, decimal_comma: bool) -> RawTable:
+    """Find the header (the last non-numeric line before the first run of numeric lines)."""
+    n = len(cells)
+    numeric = [bool(c) and len(c) >= 2 and all(_is_number(x, decimal_comma) for x in c if x)
+               and any(x for x in c) for c in cells]
+    first_data = next((i for i in range(n) if numeric[i]), None)
+    if first_data is None:
+        raise DataError(f"{where(path)}no data rows: found no line with two or more numbers")
+    header_idx = next((i for i in range(first_data - 1, -1, -1) if cells[i]), None)
+    if header_idx is None:
+        raise DataError(f"{where(path)}no header row: the first line with numbers (line "
+                        f"{first_data + 1}) has no line of column names above it")
+    header = tuple(c.strip() for c in cells[header_idx])
+    preamble = {}
+    for i in range(header_idx):
+        line = cells[i]
+        if not line:
+            continue
+        joined = " ".join(x for x in line if x) if len(line) != 2 else None
+        m = _KEY_VALUE.match(joined) if joined is not None else None
+        if len(line) == 2 and line[0]:
+            preamble[line[0].strip().lstrip("#").strip().rstrip(":=").strip()] = line[1].strip()
+        elif m:
+            preamble[m.group(1).strip()] = m.group(2).strip()
+        else:
+            preamble[f"line {i + 1}"] = joined or ""
+    rows, numbers, dropped = [], [], {}
+    trailing_blank = 0
+    for i in range(header_idx + 1, n):
+        c = cells[i]
+        if not c or not any(x.strip() for x in c):
+            trailing_blank += 1
+            continue
+        if c[0].lstrip().startswith("#"):
+            dropped["comment lines"] = dropped.get("comment lines", 0) + 1
+            continue
+        if trailing_blank:
+            dropped["blank lines"] = dropped.get("blank lines", 0) + trailing_blank
+            trailing_blank = 0
+        rows.append(tuple(c))
+        numbers.append(i + 1)
+    if trailing_blank:
+        dropped["blank lines"] = dropped.get("blank lines", 0) + trailing_blank
+    return RawTable(path, header, tuple(rows), tuple(numbers), preamble, decimal_comma, dropped)
+
+
+# ---- interpretation -------------------------------------------------------------------------
+def _to_float(cell: str, decimal_comma: bool) -> float:
+    c = cell.strip().replace("−", "-")
+    if c == "":
+        return float("nan")
+    if decimal_comma:
+        c = c.replace(",", ".")
+    if not (_NUMBER.match(c) or c.lower() in ("nan", "inf", "-inf", "+inf", "infinity")):
+        raise ValueError(cell)
+    return float(c)
+
+
+def _temperature_from_name(path: str) -> tuple | None:
+    stem = Path(path).stem
+    matches = list(_TEMPERATURE_IN_NAME.finditer(stem))
+    if len(matches) != 1:
+        return None
+    m = matches[0]
+    value = float(m.group("value").replace("−", "-").replace(",", ".").replace("p", "."))
+    unit = m.group("unit")
+    unit = {"c": "°C", "degc": "°C", "k": "K", "f": "°F", "degf": "°F"}.get(unit.lower(), unit)
+    return value, unit
+
+
+def _temperature_from_preamble(preamble: Mapping[str, str], path: str) -> tuple | None:
+    for key, text in preamble.items():
+        k = key.lower()
+        if not re.search(r"temp|^t$|^t ", k):
+            continue
+        name_unit = re.search(r"[\(\[]\s*([^\)\]]+)\s*[\)\]]", key)
+        m = re.match(r"^\s*([-+−]?\d+(?:[.,]\d+)?)\s*(.*?)\s*$", text)
+        if not m:
+            continue
+        unit = m.group(2) or (name_unit.group(1) if name_unit else "°C")
+        value = float(m.group(1).replace("−", "-").replace(",", "."))
+        return value, unit
+    return None
+
+
+def _meanings(table: RawTable, columns: Mapping[str, str] | None) -> dict:
+    """Map each used column index to a HeaderMeaning, honouring an explicit column mapping."""
+    columns = dict(columns or {})
+    valid_roles = set(QUANTITIES) | {"temperature_K", "frequency_rad_s", "time_s"}
+    for header, role in columns.items():
+        if role not in valid_roles:
+            raise DataError(f"column mapping for {header!r} must name one of "
+                            f"{', '.join(sorted(valid_roles))}; got {role!r}")
+        if header not in table.header:
+            raise DataError(f"{where(table.path)}mapped column {header!r} is not in the header; "
+                            f"columns found: {', '.join(table.header)}")
+    out = {}
+    for j, h in enumerate(table.header):
+        if h in columns:
+            meaning = interpret_header(h)
+            unit = meaning.unit if meaning else None
+            kind = meaning.modulus_kind if meaning and meaning.role == columns[h] else None
+            out[j] = HeaderMeaning(columns[h], unit, kind)
+        elif columns and h not in columns and any(r == (interpret_header(h) or HeaderMeaning("", None, None)).role
+                                                    for r in columns.values()):
+            continue  # an explicit mapping takes this role; the detected column gives way
+        else:
+            meaning = interpret_header(h)
+            if meaning is not None:
+                out[j] = meaning
+    seen = {}
+    for j, m in list(out.items()):
+        if m.role in seen:
+            first = table.header[seen[m.role]]
+            raise DataError(f"{where(table.path, table.header[j])}two columns mean "
+                            f"{m.role}: {first!r} and {table.header[j]!r}; map one explicitly "
+                            f"(columns=... or --column)")
+        seen[m.role] = j
+    return out
+
+
+def _table_to_frame(table: RawTable, *, columns, units, temperature_C):
+    import pandas as pd
+
+    meanings = _meanings(table, columns)
+    units = dict(units or {})
+    frame, labels, units_read, kinds, assumed = {}, {}, {}, set(), []
+    for j, m in meanings.items():
+        header = table.header[j]
+        unit_text = units.get(header, units.get(m.role, m.unit))
+        if unit_text is None:
+            unit_text = DEFAULT_UNIT[m.role]
+            assumed.append(f"{header!r} in {unit_text}")
+        try:
+            unit = parse_unit(unit_text, kind=UNIT_KIND_OF_ROLE[m.role])
+        except DataError as exc:
+            raise DataError(f"{where(table.path, header)}{exc}") from None
+        values = np.empty(len(table.rows))
+        for i, row in enumerate(table.rows):
+            cell = row[j] if j < len(row) else ""
+            try:
+                values[i] = _to_float(cell, table.decimal_comma)
+            except ValueError:
+                raise DataError(f"{where(table.path, header, table.line_numbers[i])}value must be "
+                                f"a number; got {cell!r}") from None
+            if cell.strip() == "" and m.role in ("temperature_K", "frequency_rad_s", "time_s"):
+                raise DataError(f"{where(table.path, header, table.line_numbers[i])}value must be "
+                                f"a number; got an empty cell")
+        frame[m.role] = unit.to_si(values)
+        labels[m.role] = header
+        units_read[header] = unit_text
+        if m.modulus_kind:
+            kinds.add(m.modulus_kind)
+    if "temperature_K" not in frame:
+        found = None
+        if temperature_C is not None:
+            found = (float(temperature_C), "°C")
+            label = "temperature given"
+        else:
+            found = _temperature_from_preamble(table.preamble, table.path)
+            label = "temperature from the preamble"
+            if found is None:
+                found = _temperature_from_name(table.path)
+                label = "temperature from the file name"
+        if found is None:
+            raise DataError(f"{where(table.path)}missing a temperature: no temperature column, no "
+                            f"'Temperature: …' preamble line, and none in the file name "
+                            f"(such as sweep_35C.csv); columns found: {', '.join(table.header)}")
+        value, unit_text = found
+        try:
+            unit = parse_unit(unit_text, kind="temperature")
+        except DataError as exc:
+            raise DataError(f"{where(table.path)}{label}: {exc}") from None
+        frame["temperature_K"] = np.full(len(table.rows), float(unit.to_si(value)))
+        labels["temperature_K"] = label
+        units_read[label] = f"{value:g} {unit_text}"
+    frame["source_row"] = np.asarray(table.line_numbers, dtype=np.int64)
+    if len(kinds) > 1:
+        raise DataError(f"{where(table.path)}the columns mix tensile (E, D) and shear (G, J) "
+                        f"symbols; give the modulus kind explicitly")
+    df = pd.DataFrame(frame)
+    return df, labels, units_read, (kinds.pop() if kinds else None), assumed
+
+
+def _expand(paths) -> list:
+    if isinstance(paths, (str, os.PathLike)):
+        paths = [paths]
+    files = []
+    for p in paths:
+        p = str(p)
+        if os.path.isdir(p):
+            inside = sorted(str(q) for q in Path(p).iterdir()
+                            if q.is_file() and q.suffix.lower() in TABLE_SUFFIXES
+                            and not q.name.startswith("."))
+            if not inside:
+                raise DataError(f"{where(p)}the folder holds no data files "
+                                f"({', '.join(TABLE_SUFFIXES)})")
+            files.extend(inside)
+        else:
+            files.append(p)
+    if not files:
+        raise DataError("no input files given")
+    return files
+
+
+def read_campaign(paths, *, columns: Mapping[str, str] | None = None,
+                  units: Mapping[str, str] | None = None, sheet: str | int | None = None,
+                  domain: str | None = None, modulus_kind: str | None = None,
+                  temperature_tolerance_K: float = 0.5,
+                  temperature_C: float | None = None) -> Campaign:
+    """Read one or more files (or a folder) into a validated :class:`~ttsp.data.Campaign`.
+
+    Parameters
+    ----------
+    paths : path or sequence of paths
+        Files (.csv, .txt, .tsv, .dat, .xlsx) or folders of them.
+    columns : mapping, optional
+        Explicit header -> role mapping for anything detection gets wrong, such as
+        ``{"Mod1": "storage_modulus_Pa"}``. Roles are the SI column names of :mod:`ttsp.data`.
+    units : mapping, optional
+        Unit override by header or by role, such as ``{"Mod1": "MPa"}`` or
+        ``{"temperature_K": "°F"}``.
+    sheet : str or int, optional
+        Sheet of an .xlsx workbook (default: the first).
+    domain, modulus_kind : str, optional
+        Override detection ("frequency"/"time", "tensile"/"shear").
+    temperature_tolerance_K : float
+        Points within this distance in temperature belong to one isotherm (default 0.5 K).
+    temperature_C : float, optional
+        The temperature of a single-isotherm file that does not state one.
+
+    Returns
+    -------
+    Campaign
+        Validated, SI and kelvin inside; ``units_as_read`` and ``metadata`` record what was read
+        and ``dropped_rows`` counts rows left out for a stated reason.
+
+    Raises
+    ------
+    DataError
+        With the file, column and first bad row.
+    """
+    import pandas as pd
+
+    if temperature_tolerance_K is None or not temperature_tolerance_K >= 0:
+        raise DataError(f"temperature_tolerance_K must be non-negative; got {temperature_tolerance_K!r}")
+    files = _expand(paths)
+    frames, labels, units_read, kinds, metadata, dropped, assumed = [], {}, {}, set(), {}, {}, []
+    for path in files:
+        table = read_table(path, sheet=sheet)
+        df, lab, ur, kind, ass = _table_to_frame(table, columns=columns, units=units,
+                                                 temperature_C=temperature_C)
+        file_domain = domain or ("frequency" if "frequency_rad_s" in df.columns else "time")
+        # validate each file on its own so messages name the file (one isotherm is fine here)
+        Campaign.from_frame(df, domain=file_domain, modulus_kind=modulus_kind or kind or "tensile",
+                            source=path, temperature_tolerance_K=temperature_tolerance_K,
+                            column_labels=lab, min_isotherms=1)
+        frames.append(df)
+        labels.update(lab)
+        units_read.update(ur)
+        if kind:
+            kinds.add(kind)
+        for k, v in table.preamble.items():
+            metadata[k if len(files) == 1 else f"{Path(path).name}: {k}"] = v
+        for k, v in table.dropped.items():
+            dropped[k] = dropped.get(k, 0) + v
+        assumed.extend(ass)
+    if len(kinds) > 1 and modulus_kind is None:
+        raise DataError("the files mix tensile (E, D) and shear (G, J) data; give the modulus kind")
+    domains = {("frequency" if "frequency_rad_s" in f.columns else "time") for f in frames}
+    if domain is None and len(domains) > 1:
+        raise DataError("the files mix frequency sweeps and time-domain tests; read them separately")
+    source = files[0] if len(files) == 1 else f"{len(files)} files in {os.path.commonpath(files) or '.'}"
+    if assumed:
+        metadata["assumed units"] = "; ".join(dict.fromkeys(assumed))
+    combined = pd.concat(frames, ignore_index=True) if len(frames) > 1 else frames[0]
+    if len(frames) > 1:
+        combined = combined.drop(columns="source_row")
+    campaign = Campaign.from_frame(combined, domain=domain or domains.pop(),
+                                   modulus_kind=modulus_kind or (kinds.pop() if kinds else "tensile"),
+                                   source=source, temperature_tolerance_K=temperature_tolerance_K,
+                                   column_labels=labels, units_as_read=units_read,
+                                   metadata=metadata, dropped_rows=dropped)
+    if dropped:
+        warnings.warn(f"{source}: left out " + ", ".join(f"{v} {k}" for k, v in dropped.items()),
+                      DroppedRowsWarning, stacklevel=2)
+    return campaign
