@@ -346,7 +346,7 @@ def _table_to_frame(table: RawTable, *, columns, units, temperature_C):
             raise DataError(f"{where(table.path)}{label}: {exc}") from None
         frame["temperature_K"] = np.full(len(table.rows), float(unit.to_si(value)))
         labels["temperature_K"] = label
-        units_read[label] = f"{value:g} {unit_text}"
+        units_read[label] = unit_text
     frame["source_row"] = np.asarray(table.line_numbers, dtype=np.int64)
     if len(kinds) > 1:
         raise DataError(f"{where(table.path)}the columns mix tensile (E, D) and shear (G, J) "

@@ -1,0 +1,5 @@
+"""``python -m ttsp`` runs the command line."""
+
+from .cli import main
+
+main()
