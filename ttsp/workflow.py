@@ -1,0 +1,320 @@
+"""The main job in one call: campaign → shift factors → shift law → Prony series → material
+functions → checks, returned as one frozen :class:`BuildResult`. No file I/O happens here.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import math
+import warnings
+from dataclasses import asdict, dataclass, field
+from pathlib import Path
+
+import numpy as np
+
+from . import __version__
+from ._validation import bad_value, check_choice
+from .data import Campaign
+from .exceptions import DataError, TtspWarning
+from .units import celsius_to_kelvin, kelvin_to_celsius
+
+__all__ = ["BuildOptions", "BuildResult", "build", "LAW_CHOICES", "VERTICAL_CHOICES",
+           "SHIFT_ON_CHOICES", "hash_inputs", "SCHEMA_VERSION"]
+
+SCHEMA_VERSION = "1"
+LAW_CHOICES = ("auto", "wlf", "arrhenius", "wlf-arrhenius", "vft", "polynomial")
+VERTICAL_CHOICES = ("none", "density", "fit")
+SHIFT_ON_CHOICES = ("auto", "tan_delta")
+GAP_CHOICES = ("stop", "bridge")
+
+
+@dataclass(frozen=True)
+class BuildOptions:
+    """Settings of a build (no logic). Temperatures in °C, as users give them.
+
+    Parameters
+    ----------
+    reference_temperature_C : float, optional
+        Reference temperature of the master curve; default: the measured temperature nearest the
+        campaign's median.
+    law : str
+        Shift law: ``auto`` (chosen by information criterion), ``wlf``, ``arrhenius``,
+        ``wlf-arrhenius``, ``vft`` or ``polynomial``.
+    vertical : str
+        Vertical shift: ``none``, ``density`` (b_T = Tρ/(T_ref ρ_ref), needs
+        ``expansion_coefficient_per_K``) or ``fit``.
+    shift_on : str
+        ``auto`` (all measured functions jointly) or ``tan_delta`` (frequency data only).
+    gaps : str
+        ``stop`` at isotherms that do not overlap, or ``bridge`` them with a fitted law.
+    prony_terms_per_decade : float
+        Density of the relaxation times of the Prony series (default 2).
+    glass_transition_C : float, optional
+        Tg for the WLF/Arrhenius law (fitted when not given).
+    """
+
+    reference_temperature_C: float | None = None
+    law: str = "auto"
+    vertical: str = "none"
+    expansion_coefficient_per_K: float | None = None
+    shift_on: str = "auto"
+    gaps: str = "stop"
+    prony_terms_per_decade: float = 2.0
+    glass_transition_C: float | None = None
+
+    def __post_init__(self):
+        check_choice("law", self.law, LAW_CHOICES)
+        check_choice("vertical", self.vertical, VERTICAL_CHOICES)
+        check_choice("shift_on", self.shift_on, SHIFT_ON_CHOICES)
+        check_choice("gaps", self.gaps, GAP_CHOICES)
+        if not (isinstance(self.prony_terms_per_decade, (int, float))
+                and 0.25 <= self.prony_terms_per_decade <= 10):
+            raise bad_value("prony_terms_per_decade", "between 0.25 and 10",
+                            self.prony_terms_per_decade)
+        if self.reference_temperature_C is not None and not math.isfinite(
+                float(self.reference_temperature_C)):
+            raise bad_value("reference_temperature_C", "finite", self.reference_temperature_C)
+
+    def to_dict(self) -> dict:
+        return asdict(self)
+
+
+def hash_inputs(paths) -> str:
+    """SHA-256 over the bytes of the input files in sorted path order (folders expanded)."""
+    from .io.readers import TABLE_SUFFIXES  # layer-4 constant only; no reading here
+
+    files = []
+    for p in ([paths] if isinstance(paths, (str, Path)) else paths):
+        p = Path(p)
+        if p.is_dir():
+            files += sorted(q for q in p.iterdir() if q.suffix.lower() in TABLE_SUFFIXES
+                            and not q.name.startswith("."))
+        else:
+            files.append(p)
+    h = hashlib.sha256()
+    for f in sorted(files, key=lambda q: q.name):
+        h.update(f.name.encode("utf-8") + b"\0")
+        h.update(f.read_bytes())
+    return h.hexdigest()
+
+
+def _campaign_hash(campaign: Campaign) -> str:
+    h = hashlib.sha256()
+    for iso in campaign.isotherms:
+        h.update(np.float64(iso.temperature_K).tobytes())
+        h.update(np.ascontiguousarray(iso.x).tobytes())
+        for k in sorted(iso.values):
+            h.update(k.encode())
+            h.update(np.ascontiguousarray(iso.values[k]).tobytes())
+    return h.hexdigest()
+
+
+@dataclass(frozen=True)
+class BuildResult:
+    """Everything a build produced. Evaluates and exports itself; no file I/O.
+
+    Attributes
+    ----------
+    campaign : Campaign
+    options : BuildOptions
+    shifts : ttsp.shifting.ShiftResult
+    law_fit : ttsp.laws.ShiftLawFit
+    prony_fit : ttsp.prony.PronyFit
+    model : ttsp.model.ViscoelasticModel
+    checks : tuple of ttsp.checks.CheckResult
+    warnings : tuple of str
+    input_sha256 : str
+    input_files : tuple of str
+    """
+
+    campaign: Campaign
+    options: BuildOptions
+    shifts: object
+    law_fit: object
+    prony_fit: object
+    model: object
+    checks: tuple
+    warnings: tuple
+    input_sha256: str
+    input_files: tuple = ()
+
+    @property
+    def reference_temperature_K(self) -> float:
+        return float(self.shifts.reference_temperature_K)
+
+    @property
+    def reference_temperature_C(self) -> float:
+        return float(kelvin_to_celsius(self.reference_temperature_K))
+
+    @property
+    def series(self):
+        return self.prony_fit.series
+
+    @property
+    def failed_checks(self) -> tuple:
+        return tuple(c for c in self.checks if c.status == "fail")
+
+    # ---- tables --------------------------------------------------------------------------------
+    def master_curve_frame(self):
+        """Every input point with its reduced x and shifted values (none dropped)."""
+        return self.shifts.shifted_frame(self.campaign)
+
+    def material_functions_frame(self, points_per_decade: int = 10):
+        """E(t), D(t), E', E'', tan δ at the reference temperature on one log grid.
+
+        Row i holds the time t_i and the frequency f_i = 1/(2π t_i) (so ω_i = 1/t_i), over the
+        series' valid reduced range widened by one decade each side (those rows are flagged).
+        """
+        import pandas as pd
+
+        lo, hi = self.series.valid_reduced_time_range_s
+        t = np.logspace(math.log10(lo) - 1, math.log10(hi) + 1,
+                        int(round((math.log10(hi) - math.log10(lo) + 2) * points_per_decade)) + 1)
+        omega = 1.0 / t
+        creep = self.model._creep()
+        frame = pd.DataFrame({
+            "time_s": t,
+            "relaxation_modulus_Pa": self.series.relaxation_modulus(t),
+            "creep_compliance_1_per_Pa": creep.creep_compliance(t),
+            "frequency_Hz": omega / (2 * math.pi),
+            "storage_modulus_Pa": self.series.storage_modulus(omega),
+            "loss_modulus_Pa": self.series.loss_modulus(omega),
+            "tan_delta": self.series.tan_delta(omega),
+            "extrapolated": (t < lo * (1 - 1e-12)) | (t > hi * (1 + 1e-12)),
+        })
+        frame.attrs["reference_temperature_C"] = self.reference_temperature_C
+        return frame
+
+    # ---- the output contract -------------------------------------------------------------------
+    def summary(self, *, created_utc: str = "") -> dict:
+        """The content of ``summary.json`` (schema version 1; see ``ttsp/schema``)."""
+        law = self.law_fit.to_dict()
+        law_section = {
+            "model": law["model"],
+            "parameters": law["parameters"],
+            "parameter_stderr": law.get("parameter_stderr", {}),
+            "reference_temperature_C": law["reference_temperature_C"],
+            "valid_temperature_range_C": law["valid_temperature_range_C"],
+        }
+        law_section.update({k: v for k, v in law.items() if k not in law_section})
+        prony = self.series.to_dict()
+        return {
+            "schema_version": SCHEMA_VERSION,
+            "tool_version": __version__,
+            "created_utc": created_utc,
+            "input_sha256": self.input_sha256,
+            "input_files": list(self.input_files),
+            "options": self.options.to_dict(),
+            "domain": self.campaign.domain,
+            "modulus_kind": self.campaign.modulus_kind,
+            "source": self.campaign.source,
+            "units_as_read": dict(self.campaign.units_as_read),
+            "reference_temperature_C": self.reference_temperature_C,
+            "shift_factors": self.shifts.to_dict(),
+            "shift_law": law_section,
+            "prony": prony,
+            "checks": [c.to_dict() for c in self.checks],
+            "warnings": list(self.warnings),
+        }
+
+    def _repr_html_(self) -> str:
+        checks = "".join(f"<li><b>{c.status}</b> {c.name}: {c.message}</li>" for c in self.checks)
+        return (f"<div><b>ttsp build</b> of {self.campaign.source}: {len(self.campaign)} isotherms, "
+                f"reference {self.reference_temperature_C:.2f} °C, law {self.law_fit.law.model}, "
+                f"{self.series.n_terms} Prony terms (rms {self.prony_fit.rms_percent:.2f} %)"
+                f"<ul>{checks}</ul></div>")
+
+
+def _fit_prony(campaign: Campaign, shifts, options: BuildOptions):
+    from .prony import fit_prony_frequency, fit_prony_time
+
+    frame = shifts.shifted_frame(campaign)
+    if campaign.domain == "frequency":
+        ok = frame[["storage_modulus_Pa", "loss_modulus_Pa"]].notna().all(axis=1)
+        if "outlier" in frame:
+            ok &= ~frame["outlier"].astype(bool)
+        return fit_prony_frequency(frame.loc[ok, "reduced_frequency_rad_s"].to_numpy(),
+                                   frame.loc[ok, "storage_modulus_Pa"].to_numpy(),
+                                   frame.loc[ok, "loss_modulus_Pa"].to_numpy(),
+                                   terms_per_decade=options.prony_terms_per_decade)
+    quantity = ("relaxation_modulus" if "relaxation_modulus_Pa" in campaign.quantities
+                else "creep_compliance")
+    column = "relaxation_modulus_Pa" if quantity == "relaxation_modulus" else "creep_compliance_1_per_Pa"
+    ok = frame[column].notna()
+    if "outlier" in frame:
+        ok &= ~frame["outlier"].astype(bool)
+    return fit_prony_time(frame.loc[ok, "reduced_time_s"].to_numpy(), frame.loc[ok, column].to_numpy(),
+                          quantity=quantity, terms_per_decade=options.prony_terms_per_decade)
+
+
+def build(campaign: Campaign, options: BuildOptions | None = None, *, input_sha256: str | None = None,
+          input_files=(), **option_values) -> BuildResult:
+    """Run the whole job on a campaign and return a :class:`BuildResult`.
+
+    Parameters
+    ----------
+    campaign : Campaign
+        From :func:`ttsp.read_campaign` or :meth:`Campaign.from_frame`.
+    options : BuildOptions, optional
+        Settings; alternatively give them as keywords (``reference_temperature_C=25``, ``law="wlf"``).
+    input_sha256 : str, optional
+        Hash of the input files (the CLI passes it); default: a hash of the campaign's numbers.
+
+    Warnings raised by the steps are collected into ``result.warnings`` (and re-emitted).
+    """
+    from .checks import run_checks
+    from .laws import fit_shift_law
+    from .model import ViscoelasticModel
+    from .shifting import default_reference_temperature_K, shift_isotherms
+
+    if options is None:
+        options = BuildOptions(**option_values)
+    elif option_values:
+        raise DataError("give either options=BuildOptions(...) or keyword options, not both")
+    if not isinstance(campaign, Campaign):
+        raise bad_value("campaign", "a ttsp Campaign (see ttsp.read_campaign)", type(campaign).__name__)
+    campaign = campaign.with_derived()
+    if options.shift_on == "tan_delta" and campaign.domain != "frequency":
+        raise DataError("shift_on='tan_delta' needs frequency-domain data; this campaign is "
+                        "time-domain")
+    t_ref_K = (celsius_to_kelvin(options.reference_temperature_C).item()
+               if options.reference_temperature_C is not None
+               else default_reference_temperature_K(campaign))
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always", TtspWarning)
+        shifts = shift_isotherms(
+            campaign, t_ref_K,
+            quantities="tan_delta" if options.shift_on == "tan_delta" else "auto",
+            vertical=options.vertical, expansion_coefficient_per_K=options.expansion_coefficient_per_K,
+            gaps=options.gaps)
+        fixed = ({"glass_transition_K": float(celsius_to_kelvin(options.glass_transition_C))}
+                 if options.glass_transition_C is not None and options.law == "wlf-arrhenius"
+                 else None)
+        law_fit = fit_shift_law(shifts.temperature_K, shifts.log10_aT,
+                                reference_temperature_K=t_ref_K, model=options.law,
+                                stderr=shifts.log10_aT_stderr, fixed=fixed)
+        prony_fit = _fit_prony(campaign, shifts, options)
+        series = prony_fit.series.replace(reference_temperature_K=t_ref_K) \
+            if prony_fit.series.reference_temperature_K is None else prony_fit.series
+        if series is not prony_fit.series:
+            prony_fit = _with_series(prony_fit, series)
+        model = ViscoelasticModel(series, law_fit.law)
+        checks = tuple(run_checks(campaign, shifts=shifts, law_fit=law_fit, prony_fit=prony_fit))
+    messages = []
+    for w in caught:
+        text = str(w.message)
+        if text not in messages:
+            messages.append(text)
+        warnings.warn_explicit(w.message, w.category, w.filename, w.lineno)
+    for source in (shifts, prony_fit):
+        for text in getattr(source, "warnings", ()) or ():
+            if text not in messages:
+                messages.append(text)
+    return BuildResult(campaign, options, shifts, law_fit, prony_fit, model, checks, tuple(messages),
+                       input_sha256 or _campaign_hash(campaign), tuple(str(f) for f in input_files))
+
+
+def _with_series(prony_fit, series):
+    import dataclasses
+
+    return dataclasses.replace(prony_fit, series=series)
