@@ -1,0 +1,74 @@
+"""Write the numbers of a build: summary.json and the CSV tables of the output contract.
+
+Temperatures are written in °C (users' unit) beside kelvin where a table carries both; moduli in
+Pa, times in s, frequencies in Hz or rad/s as the column name says. Floats are written with 10
+significant digits, so identical runs give identical bytes.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+from pathlib import Path
+
+import numpy as np
+
+from .atomic import write_text_atomic
+
+__all__ = ["write_build_numbers", "frame_to_csv_text", "summary_to_json_text", "NUMBER_FILES"]
+
+NUMBER_FILES = ("summary.json", "shift_factors.csv", "master_curve.csv", "prony.csv",
+                "prony_finite_element.csv", "material_functions.csv")
+
+
+def _plain(value):
+    if isinstance(value, dict):
+        return {str(k): _plain(v) for k, v in value.items()}
+    if isinstance(value, (list, tuple)):
+        return [_plain(v) for v in value]
+    if isinstance(value, np.ndarray):
+        return [_plain(v) for v in value.tolist()]
+    if isinstance(value, (np.bool_,)):
+        return bool(value)
+    if isinstance(value, (np.integer,)):
+        return int(value)
+    if isinstance(value, (float, np.floating)):
+        v = float(value)
+        return v if math.isfinite(v) else None
+    return value
+
+
+def summary_to_json_text(summary: dict) -> str:
+    """JSON text of a summary: NaN and infinities become null (JSON has neither)."""
+    return json.dumps(_plain(summary), indent=2, ensure_ascii=False, allow_nan=False) + "\n"
+
+
+def frame_to_csv_text(frame) -> str:
+    """CSV text with a fixed float format, K columns joined by their °C twins."""
+    frame = frame.copy()
+    for col in [c for c in frame.columns if c.endswith("temperature_K")]:
+        twin = col[:-1] + "C"
+        if twin not in frame.columns:
+            frame.insert(list(frame.columns).index(col), twin, frame[col] - 273.15)
+    return frame.to_csv(index=False, float_format="%.10g", lineterminator="\n")
+
+
+def write_build_numbers(result, folder, *, created_utc: str = "") -> dict:
+    """Write the number files of a :class:`~ttsp.workflow.BuildResult` into ``folder``.
+
+    Returns a dict file name -> path.
+    """
+    folder = Path(folder)
+    out = {}
+
+    def put(name, text):
+        write_text_atomic(folder / name, text)
+        out[name] = folder / name
+
+    put("summary.json", summary_to_json_text(result.summary(created_utc=created_utc)))
+    put("shift_factors.csv", frame_to_csv_text(result.shifts.to_frame()))
+    put("master_curve.csv", frame_to_csv_text(result.master_curve_frame()))
+    put("prony.csv", frame_to_csv_text(result.series.to_frame()))
+    put("prony_finite_element.csv", frame_to_csv_text(result.series.finite_element_table()))
+    put("material_functions.csv", frame_to_csv_text(result.material_functions_frame()))
+    return out
