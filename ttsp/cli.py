@@ -6,8 +6,11 @@ column and row; no traceback); 3 a check failed under ``--strict``; 1 an interna
 
 from __future__ import annotations
 
+import datetime
 import sys
+import time
 import traceback
+from enum import Enum
 from functools import wraps
 from pathlib import Path
 from typing import List, Optional
@@ -15,7 +18,7 @@ from typing import List, Optional
 import typer
 
 from . import __version__
-from .exceptions import TtspError
+from .exceptions import DataError, TtspError
 
 app = typer.Typer(add_completion=False, no_args_is_help=True,
                   help="Time–temperature superposition: master curves, shift laws, Prony series.")
@@ -48,6 +51,8 @@ def guarded(func):
             _say_error("interrupted")
             raise typer.Exit(130) from None
         except Exception as exc:  # an internal error: ask for a report
+            if hasattr(exc, "format_message") and isinstance(getattr(exc, "exit_code", None), int):
+                raise  # a usage error of the command-line framework: main() reports it
             if _state["debug"]:
                 traceback.print_exc()
             _say_error(f"internal error ({type(exc).__name__}: {exc}); please report it with the "
@@ -140,9 +145,313 @@ def inspect_cmd(inputs: List[Path] = typer.Argument(..., help="Files or folders 
     typer.echo(describe(campaign))
 
 
-def main():  # console-script entry point
-    app(prog_name="ttsp")
+
+class Law(str, Enum):
+    auto = "auto"
+    wlf = "wlf"
+    arrhenius = "arrhenius"
+    wlf_arrhenius = "wlf-arrhenius"
+    vft = "vft"
+    polynomial = "polynomial"
+
+
+class Vertical(str, Enum):
+    none = "none"
+    density = "density"
+    fit = "fit"
+
+
+class ShiftOn(str, Enum):
+    auto = "auto"
+    tan_delta = "tan_delta"
+
+
+class Gaps(str, Enum):
+    stop = "stop"
+    bridge = "bridge"
+
+
+class Quantity(str, Enum):
+    relaxation_modulus = "relaxation_modulus"
+    creep_compliance = "creep_compliance"
+    storage_modulus = "storage_modulus"
+    loss_modulus = "loss_modulus"
+    tan_delta = "tan_delta"
+
+
+class Progress:
+    """Step names on stderr with the time each took; silent with --quiet."""
+
+    def __init__(self, quiet: bool):
+        self.quiet, self.t0, self.name = quiet, None, None
+
+    def __call__(self, name: str):
+        self.done()
+        self.name, self.t0 = name, time.perf_counter()
+
+    def done(self):
+        if self.name is not None and not self.quiet:
+            typer.echo(f"ttsp: {self.name} ({time.perf_counter() - self.t0:.1f} s)", err=True)
+        self.name = None
+
+
+def _options(reference_temperature, law, vertical, expansion_coefficient, shift_on, gaps,
+             prony_density, glass_transition):
+    from .workflow import BuildOptions
+
+    return BuildOptions(reference_temperature_C=reference_temperature, law=law.value,
+                        vertical=vertical.value, expansion_coefficient_per_K=expansion_coefficient,
+                        shift_on=shift_on.value, gaps=gaps.value,
+                        prony_terms_per_decade=prony_density, glass_transition_C=glass_transition)
+
+
+def run_build(inputs, options, out: Path, *, figures: bool, force: bool, quiet: bool,
+              column=None, unit=None, sheet=None, tolerance=0.5, modulus_kind=None):
+    """Read, build and write one campaign's outputs atomically. Returns (result, out folder)."""
+    import warnings
+
+    from .io.atomic import atomic_output_dir
+    from .io.writers import write_build_numbers
+    from .workflow import build, hash_inputs
+
+    progress = Progress(quiet)
+    progress("reading")
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        campaign = read_inputs(inputs, column, unit, sheet, tolerance, modulus_kind)
+        result = build(campaign, options, input_sha256=hash_inputs(inputs),
+                       input_files=[Path(p).name for p in inputs], progress=progress)
+    progress("writing")
+    created = datetime.datetime.now(datetime.timezone.utc).strftime("%Y-%m-%dT%H:%M:%SZ")
+    with atomic_output_dir(out, force=force, protect=inputs) as tmp:
+        write_build_numbers(result, tmp, created_utc=created)
+        if figures:
+            from .plotting import render_figures, save_figures
+            from .report import render_report
+
+            figs = render_figures(result)
+            saved = save_figures(figs, tmp)
+            svg = {name: Path(paths["svg"]).read_text(encoding="utf-8") for name, paths in saved.items()}
+            (tmp / "report.html").write_text(render_report(result, svg, created_utc=created),
+                                             encoding="utf-8")
+    progress.done()
+    return result, Path(out)
+
+
+def _check_lines(result) -> str:
+    return "\n".join(f"{c.status.upper():5} {c.name}: {c.message}" for c in result.checks)
+
+
+@app.command("build")
+@guarded
+def build_cmd(inputs: List[Path] = typer.Argument(..., help="Files or folders of one campaign."),
+              reference_temperature: Optional[float] = typer.Option(
+                  None, "--reference-temperature", "-T",
+                  help="Reference temperature in °C (default: the measured one nearest the median)."),
+              law: Law = typer.Option(Law.auto, "--law", help="Shift law to fit."),
+              vertical: Vertical = typer.Option(Vertical.none, "--vertical", help="Vertical shift."),
+              expansion_coefficient: Optional[float] = typer.Option(
+                  None, "--expansion-coefficient",
+                  help="Volumetric expansion coefficient in 1/K (for --vertical density)."),
+              shift_on: ShiftOn = typer.Option(ShiftOn.auto, "--shift-on",
+                                               help="Functions to shift on."),
+              gaps: Gaps = typer.Option(Gaps.stop, "--gaps",
+                                        help="stop at isotherms that do not overlap, or bridge them."),
+              prony_density: float = typer.Option(2.0, "--prony-density",
+                                                  help="Prony relaxation times per decade."),
+              glass_transition: Optional[float] = typer.Option(
+                  None, "--glass-transition", help="Tg in °C for --law wlf-arrhenius (else fitted)."),
+              out: Path = typer.Option(Path("ttsp-out"), "--out", "-o", help="Output folder."),
+              force: bool = typer.Option(False, "--force", help="Replace an existing output folder."),
+              no_figures: bool = typer.Option(False, "--no-figures",
+                                              help="Numbers only: no figures, no HTML page."),
+              strict: bool = typer.Option(False, "--strict", help="Exit 3 when a check fails."),
+              quiet: bool = typer.Option(False, "--quiet", "-q", help="No progress on stderr."),
+              column: Optional[List[str]] = COLUMN_OPT, unit: Optional[List[str]] = UNIT_OPT,
+              sheet: Optional[str] = SHEET_OPT, tolerance: float = TOL_OPT,
+              modulus_kind: Optional[str] = KIND_OPT):
+    """Build the master curve, shift law, Prony series, material functions, checks and report."""
+    options = _options(reference_temperature, law, vertical, expansion_coefficient, shift_on, gaps,
+                       prony_density, glass_transition)
+    result, folder = run_build(inputs, options, out, figures=not no_figures, force=force,
+                               quiet=quiet, column=column, unit=unit, sheet=sheet,
+                               tolerance=tolerance, modulus_kind=modulus_kind)
+    typer.echo(str(folder / ("report.html" if not no_figures else "summary.json")))
+    if strict and result.failed_checks:
+        typer.echo("ttsp: a check failed (--strict): " +
+                   ", ".join(c.name for c in result.failed_checks), err=True)
+        raise typer.Exit(EXIT_CHECK_FAILED)
+
+
+def demo_input() -> Path:
+    """The bundled invented demo campaign (a DMA campaign on a damping elastomer)."""
+    return Path(__file__).resolve().parent / "demo_data" / "damping_elastomer_dma.csv"
+
+
+@app.command("demo")
+@guarded
+def demo_cmd(out: Path = typer.Option(Path("ttsp-demo"), "--out", "-o", help="Output folder."),
+             quiet: bool = typer.Option(False, "--quiet", "-q", help="No progress on stderr.")):
+    """Build the bundled (invented) demo campaign and print where the report is."""
+    from .workflow import BuildOptions
+
+    out = Path(out)
+    own = out.exists() and (out / "summary.json").is_file()
+    if out.exists() and any(out.iterdir()) and not own:
+        raise typer.BadParameter(f"{out} exists and is not a previous demo output; choose another",
+                                 param_hint="--out")
+    result, folder = run_build([demo_input()], BuildOptions(), out, figures=True, force=own,
+                               quiet=quiet)
+    typer.echo(f"ttsp demo: {len(result.campaign)} isotherms of an invented damping elastomer; "
+               f"master curve at {result.reference_temperature_C:.1f} °C, law "
+               f"{result.law_fit.law.model}, {result.series.n_terms} Prony terms.")
+    typer.echo(f"report: {(folder / 'report.html').resolve()}")
+
+
+@app.command("check")
+@guarded
+def check_cmd(inputs: List[Path] = typer.Argument(..., help="Files or folders of one campaign."),
+              reference_temperature: Optional[float] = typer.Option(
+                  None, "--reference-temperature", "-T", help="Reference temperature in °C."),
+              strict: bool = typer.Option(False, "--strict", help="Exit 3 when a check fails."),
+              as_json: bool = typer.Option(False, "--json", help="Print the checks as JSON."),
+              column: Optional[List[str]] = COLUMN_OPT, unit: Optional[List[str]] = UNIT_OPT,
+              sheet: Optional[str] = SHEET_OPT, tolerance: float = TOL_OPT,
+              modulus_kind: Optional[str] = KIND_OPT):
+    """Does superposition hold? Run the checks and print a verdict for each."""
+    import json
+    import warnings
+
+    from .workflow import BuildOptions, build
+
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        campaign = read_inputs(inputs, column, unit, sheet, tolerance, modulus_kind)
+        result = build(campaign, BuildOptions(reference_temperature_C=reference_temperature))
+    if as_json:
+        from .io.writers import summary_to_json_text
+
+        typer.echo(summary_to_json_text({"checks": [c.to_dict() for c in result.checks]}).rstrip())
+    else:
+        typer.echo(_check_lines(result))
+    if strict and result.failed_checks:
+        raise typer.Exit(EXIT_CHECK_FAILED)
+
+
+def parse_grid(text: str, option: str):
+    """``a:b:n`` -> n log-spaced values from a to b (both > 0, n >= 1)."""
+    import numpy as np
+
+    parts = text.split(":")
+    try:
+        if len(parts) != 3:
+            raise ValueError
+        a, b, n = float(parts[0]), float(parts[1]), int(parts[2])
+    except ValueError:
+        raise typer.BadParameter(f"must look like a:b:n (for example 1:1e6:50); got {text!r}",
+                                 param_hint=option) from None
+    if not (a > 0 and b > 0 and n >= 1) or not (np.isfinite(a) and np.isfinite(b)) or n > 1_000_000:
+        raise typer.BadParameter(f"needs a > 0, b > 0 and 1 <= n <= 1000000; got {text!r}",
+                                 param_hint=option)
+    return np.logspace(np.log10(a), np.log10(b), n) if n > 1 else np.array([a])
+
+
+def load_model(path: Path):
+    """Read the model that ``ttsp build`` wrote (its summary.json, or the folder holding it)."""
+    import json
+
+    from .model import ViscoelasticModel
+
+    path = Path(path)
+    file = path / "summary.json" if path.is_dir() else path
+    if not file.is_file():
+        raise typer.BadParameter(f"{path}: no summary.json here; give a 'ttsp build' output",
+                                 param_hint="MODEL")
+    try:
+        summary = json.loads(file.read_text(encoding="utf-8"))
+    except (UnicodeDecodeError, json.JSONDecodeError) as exc:
+        raise DataError(f"{file}: not a ttsp summary (invalid JSON: {exc})") from None
+    if not isinstance(summary, dict) or summary.get("schema_version") != "1":
+        raise DataError(f"{file}: not a ttsp summary of schema version 1")
+    return ViscoelasticModel.from_summary(summary)
+
+
+@app.command("predict")
+@guarded
+def predict_cmd(model: Path = typer.Argument(..., help="summary.json of a build, or its folder."),
+                quantity: Quantity = typer.Option(..., "--quantity", help="Material function."),
+                temperature: float = typer.Option(..., "--temperature", help="Temperature in °C."),
+                time_grid: Optional[str] = typer.Option(None, "--time", metavar="a:b:n",
+                                                        help="n log-spaced times from a to b s."),
+                frequency_grid: Optional[str] = typer.Option(
+                    None, "--frequency", metavar="a:b:n", help="n log-spaced frequencies, a to b Hz."),
+                out: Optional[Path] = typer.Option(None, "--out", "-o",
+                                                   help="CSV file (default: stdout).")):
+    """A material function at any temperature from a build's master curve and shift law."""
+    import warnings
+
+    import pandas as pd
+
+    from .io.atomic import write_text_atomic
+    from .io.writers import frame_to_csv_text
+    from .model import QUANTITY_COLUMNS, TIME_QUANTITIES
+
+    if (time_grid is None) == (frequency_grid is None):
+        raise typer.BadParameter("give exactly one of --time a:b:n or --frequency a:b:n",
+                                 param_hint="--time/--frequency")
+    is_time = quantity.value in TIME_QUANTITIES
+    if is_time and time_grid is None:
+        raise typer.BadParameter(f"{quantity.value} is a function of time: use --time a:b:n",
+                                 param_hint="--time")
+    if not is_time and frequency_grid is None:
+        raise typer.BadParameter(f"{quantity.value} is a function of frequency: use --frequency a:b:n",
+                                 param_hint="--frequency")
+    grid = parse_grid(time_grid or frequency_grid, "--time" if is_time else "--frequency")
+    m = load_model(model)
+    t_K = temperature + 273.15
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        values = m.evaluate(quantity.value, t_K, **({"time_s": grid} if is_time else
+                                                   {"frequency_Hz": grid}))
+    for w in {str(w.message) for w in caught if issubclass(w.category, UserWarning)}:
+        typer.echo(f"ttsp: warning: {w}", err=True)
+    frame = pd.DataFrame({"temperature_C": float(temperature),
+                          ("time_s" if is_time else "frequency_Hz"): grid,
+                          QUANTITY_COLUMNS[quantity.value]: values})
+    text = frame.to_csv(index=False, float_format="%.10g", lineterminator="\n")
+    if out is None:
+        typer.echo(text, nl=False)
+    else:
+        write_text_atomic(out, text)
+        typer.echo(str(out), err=True)
+
+
+def main():
+    """Console-script entry point: usage errors become one line on stderr and exit 2.
+
+    Typer's own exception classes live in click or in typer's vendored copy of it, depending on
+    the version, so they are recognised by their interface (``format_message`` and ``exit_code``).
+    """
+    try:
+        code = app(prog_name="ttsp", standalone_mode=False)
+    except KeyboardInterrupt:
+        _say_error("interrupted")
+        sys.exit(130)
+    except Exception as exc:
+        if hasattr(exc, "format_message") and isinstance(getattr(exc, "exit_code", None), int):
+            ctx = getattr(exc, "ctx", None)
+            name = f"ttsp {ctx.info_name}" if ctx is not None and ctx.parent is not None else "ttsp"
+            hint = f" (see '{name} --help')" if exc.exit_code == EXIT_BAD_INPUT else ""
+            message = " ".join(exc.format_message().split())
+            if message:  # (an empty one follows the help shown for a bare 'ttsp')
+                _say_error(message + hint)
+            sys.exit(exc.exit_code)
+        if type(exc).__name__ == "Abort":
+            _say_error("interrupted")
+            sys.exit(130)
+        raise
+    sys.exit(code if isinstance(code, int) else 0)
 
 
 if __name__ == "__main__":  # pragma: no cover
-    sys.exit(main())
+    main()

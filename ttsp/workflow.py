@@ -248,7 +248,7 @@ def _fit_prony(campaign: Campaign, shifts, options: BuildOptions):
 
 
 def build(campaign: Campaign, options: BuildOptions | None = None, *, input_sha256: str | None = None,
-          input_files=(), **option_values) -> BuildResult:
+          input_files=(), progress=None, **option_values) -> BuildResult:
     """Run the whole job on a campaign and return a :class:`BuildResult`.
 
     Parameters
@@ -259,6 +259,8 @@ def build(campaign: Campaign, options: BuildOptions | None = None, *, input_sha2
         Settings; alternatively give them as keywords (``reference_temperature_C=25``, ``law="wlf"``).
     input_sha256 : str, optional
         Hash of the input files (the CLI passes it); default: a hash of the campaign's numbers.
+    progress : callable, optional
+        Called with the name of each step as it starts (the CLI prints them).
 
     Warnings raised by the steps are collected into ``result.warnings`` (and re-emitted).
     """
@@ -280,8 +282,10 @@ def build(campaign: Campaign, options: BuildOptions | None = None, *, input_sha2
     t_ref_K = (celsius_to_kelvin(options.reference_temperature_C).item()
                if options.reference_temperature_C is not None
                else default_reference_temperature_K(campaign))
+    step = progress or (lambda name: None)
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always", TtspWarning)
+        step("shift factors")
         shifts = shift_isotherms(
             campaign, t_ref_K,
             quantities="tan_delta" if options.shift_on == "tan_delta" else "auto",
@@ -290,15 +294,18 @@ def build(campaign: Campaign, options: BuildOptions | None = None, *, input_sha2
         fixed = ({"glass_transition_K": float(celsius_to_kelvin(options.glass_transition_C))}
                  if options.glass_transition_C is not None and options.law == "wlf-arrhenius"
                  else None)
+        step("shift law")
         law_fit = fit_shift_law(shifts.temperature_K, shifts.log10_aT,
                                 reference_temperature_K=t_ref_K, model=options.law,
                                 stderr=shifts.log10_aT_stderr, fixed=fixed)
+        step("Prony series")
         prony_fit = _fit_prony(campaign, shifts, options)
         series = prony_fit.series.replace(reference_temperature_K=t_ref_K) \
             if prony_fit.series.reference_temperature_K is None else prony_fit.series
         if series is not prony_fit.series:
             prony_fit = _with_series(prony_fit, series)
         model = ViscoelasticModel(series, law_fit.law)
+        step("checks")
         checks = tuple(run_checks(campaign, shifts=shifts, law_fit=law_fit, prony_fit=prony_fit))
     messages = []
     for w in caught:
