@@ -426,6 +426,41 @@ def predict_cmd(model: Path = typer.Argument(..., help="summary.json of a build,
         typer.echo(str(out), err=True)
 
 
+@app.command("history")
+@guarded
+def history_cmd(model: Path = typer.Argument(..., help="summary.json of a build, or its folder."),
+                table: Path = typer.Argument(..., help="CSV: time, temperature (optional), and "
+                                                       "strain or stress."),
+                out: Optional[Path] = typer.Option(None, "--out", "-o",
+                                                   help="CSV file (default: stdout).")):
+    """Stress under a strain history, or strain under a stress history, with temperatures."""
+    import warnings
+
+    from .history import strain_under_stress, stress_under_strain
+    from .io.atomic import write_text_atomic
+    from .io.history_table import read_history_table
+    from .io.writers import frame_to_csv_text
+
+    m = load_model(model)
+    h = read_history_table(table)
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        kwargs = ({} if h.temperature_K is None
+                  else {"temperature_K": h.temperature_K, "log10_aT": m.log10_aT})
+        if h.control == "strain":
+            response = stress_under_strain(m.series, h.time_s, h.values, **kwargs)
+        else:
+            response = strain_under_stress(m.series, h.time_s, h.values, **kwargs)
+    for w in dict.fromkeys(str(w.message) for w in caught if issubclass(w.category, UserWarning)):
+        typer.echo(f"ttsp: warning: {w}", err=True)
+    text = frame_to_csv_text(response.to_frame())
+    if out is None:
+        typer.echo(text, nl=False)
+    else:
+        write_text_atomic(out, text)
+        typer.echo(str(out), err=True)
+
+
 def main():
     """Console-script entry point: usage errors become one line on stderr and exit 2.
 

@@ -1,0 +1,128 @@
+"""Read a loading history: a table of time, temperature, and strain or stress.
+
+Columns are recognised by their headers with units, as for campaigns: ``time (h)``,
+``T (°C)``, ``strain`` (or ``strain (%)``), ``stress (MPa)``. Exactly one of strain or stress is
+given; the temperature column is optional (isothermal at the reference temperature without it).
+"""
+
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass
+
+import numpy as np
+
+from .._validation import where
+from ..exceptions import DataError
+from ..units import parse_unit
+from .headers import split_unit
+from .readers import read_table
+
+__all__ = ["LoadingHistory", "read_history_table"]
+
+
+@dataclass(frozen=True)
+class LoadingHistory:
+    """A history in SI: times (s), temperatures (K or None), and strain or stress (Pa)."""
+
+    source: str
+    time_s: np.ndarray
+    temperature_K: np.ndarray | None
+    control: str  # "strain" or "stress"
+    values: np.ndarray
+
+
+_ROLES = (
+    ("time_s", re.compile(r"^(t|time|elapsed time|step time)$"), "time"),
+    ("temperature_K", re.compile(r"^(t|temp|temperature)$"), "temperature"),
+    ("strain", re.compile(r"^(strain|ε|eps|epsilon)$"), None),
+    ("stress", re.compile(r"^(stress|σ|sigma)$"), "modulus"),
+)
+
+
+def _role(header: str):
+    name, unit = split_unit(header)
+    key = name.strip().lower()
+    kind = None
+    if unit is not None:
+        try:
+            kind = parse_unit(unit).kind
+        except DataError:
+            kind = None
+    for role, pattern, unit_kind in _ROLES:
+        if pattern.match(key):
+            if key == "t" and unit is not None and kind != unit_kind:
+                continue
+            if key == "t" and unit is None:
+                role = "temperature_K" if name.strip() == "T" else "time_s"
+            return role, unit
+    return None, None
+
+
+def read_history_table(path) -> LoadingHistory:
+    """Read a history CSV (any delimiter the campaign reader accepts) into SI arrays.
+
+    Strain is dimensionless unless the header says ``%``; stress in a modulus unit (Pa, MPa, …);
+    time defaults to s and temperature to °C when the header has no unit.
+
+    Raises
+    ------
+    DataError
+        Naming file, column and row: no time column, neither or both of strain and stress,
+        a non-numeric or non-finite cell, times that go backwards.
+    """
+    table = read_table(path)
+    found = {}
+    for j, header in enumerate(table.header):
+        role, unit = _role(header)
+        if role is not None and role not in found:
+            found[role] = (j, header, unit)
+    if "time_s" not in found:
+        raise DataError(f"{where(table.path)}missing a time column; columns found: "
+                        f"{', '.join(table.header)}")
+    controls = [r for r in ("strain", "stress") if r in found]
+    if len(controls) != 1:
+        raise DataError(f"{where(table.path)}the history needs exactly one of a strain or a stress "
+                        f"column; found {len(controls)}")
+    control = controls[0]
+
+    def column(role):
+        j, header, unit = found[role]
+        values = np.empty(len(table.rows))
+        for i, row in enumerate(table.rows):
+            cell = (row[j] if j < len(row) else "").strip()
+            text = cell.replace(",", ".") if table.decimal_comma else cell
+            try:
+                values[i] = float(text)
+            except ValueError:
+                raise DataError(f"{where(table.path, header, table.line_numbers[i])}value must be "
+                                f"a number; got {cell!r}") from None
+            if not np.isfinite(values[i]):
+                raise DataError(f"{where(table.path, header, table.line_numbers[i])}value must be "
+                                f"finite; got {cell!r}")
+        if role == "strain":
+            if unit in ("%", "pct", "percent"):
+                return values / 100.0
+            if unit not in (None, "", "-", "1", "m/m", "mm/mm"):
+                raise DataError(f"{where(table.path, header)}unit must be none or % for strain; "
+                                f"got {unit!r}")
+            return values
+        default = {"time_s": "s", "temperature_K": "°C", "stress": "Pa"}[role]
+        kind = {"time_s": "time", "temperature_K": "temperature", "stress": "modulus"}[role]
+        try:
+            u = parse_unit(unit or default, kind=kind)
+        except DataError as exc:
+            raise DataError(f"{where(table.path, header)}{exc}") from None
+        return u.to_si(values)
+
+    t = column("time_s")
+    if np.any(np.diff(t) < 0):
+        i = int(np.flatnonzero(np.diff(t) < 0)[0]) + 1
+        raise DataError(f"{where(table.path, found['time_s'][1], table.line_numbers[i])}times must "
+                        f"not decrease; got {t[i]:g} s after {t[i - 1]:g} s")
+    temp = column("temperature_K") if "temperature_K" in found else None
+    if temp is not None and np.any(temp <= 0):
+        i = int(np.flatnonzero(temp <= 0)[0])
+        raise DataError(f"{where(table.path, found['temperature_K'][1], table.line_numbers[i])}"
+                        f"temperature must be above absolute zero")
+    return LoadingHistory(str(path), t, temp, control, column(control))
