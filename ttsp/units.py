@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import math
 import re
+import unicodedata
 from dataclasses import dataclass
 
 import numpy as np
@@ -49,23 +50,32 @@ def _table() -> dict[str, Unit]:
             units[s] = Unit(spellings[0], kind, scale, offset)
 
     add("modulus", 1.0, 0.0, "Pa", "pa", "N/m2", "N/m^2", "N/m²")
+    # millipascal, spelled exactly; the case-insensitive fallback below never reaches it, so
+    # "MPA" or "Mpa" still mean megapascal while "mPa" is not silently read as MPa (1e9 apart)
+    add("modulus", 1e-3, 0.0, "mPa")
     add("modulus", 1e3, 0.0, "kPa", "kpa")
     add("modulus", 1e6, 0.0, "MPa", "mpa", "N/mm2", "N/mm^2", "N/mm²")
     add("modulus", 1e9, 0.0, "GPa", "gpa")
-    add("modulus", PSI_PA, 0.0, "psi")
+    add("modulus", PSI_PA, 0.0, "psi", "lbf/in2", "lbf/in^2", "lbf/in²", "lb/in2", "lb/in^2", "lb/in²")
     add("modulus", PSI_PA * 1e3, 0.0, "ksi")
     add("modulus", 0.1, 0.0, "dyn/cm²", "dyn/cm2", "dyn/cm^2", "dyne/cm2", "dyne/cm²", "dyne/cm^2")
     for sym, sc in (("Pa", 1.0), ("kPa", 1e3), ("MPa", 1e6), ("GPa", 1e9)):
         add("compliance", 1.0 / sc, 0.0, f"1/{sym}", f"{sym}^-1", f"{sym}-1", f"{sym}⁻¹",
             f"1/{sym.lower()}")
     add("compliance", 1.0 / PSI_PA, 0.0, "1/psi", "psi^-1", "psi-1")
-    add("frequency", 2.0 * math.pi, 0.0, "Hz", "hz", "1/s", "s^-1", "s-1")
+    # cycles per second; "1/s" is read as Hz unless the header names an angular frequency
+    # (ttsp.io.headers turns "omega (1/s)" into rad/s)
+    add("frequency", 2.0 * math.pi, 0.0, "Hz", "hz", "1/s", "s^-1", "s-1", "s⁻¹", "cps")
+    add("frequency", 2.0 * math.pi * 1e-3, 0.0, "mHz")
+    add("frequency", 2.0 * math.pi * 1e3, 0.0, "kHz", "khz")
     add("frequency", 1.0, 0.0, "rad/s", "rad s-1", "rad·s⁻¹", "rad s^-1", "rad/sec")
+    add("time", 1e-3, 0.0, "ms", "msec")
     add("time", 1.0, 0.0, "s", "sec", "secs", "second", "seconds")
     add("time", 60.0, 0.0, "min", "mins", "minute", "minutes")
     add("time", 3600.0, 0.0, "h", "hr", "hrs", "hour", "hours")
+    add("time", 86400.0, 0.0, "d", "day", "days")
     add("temperature", 1.0, ZERO_CELSIUS_K, "°C", "ºC", "degC", "deg C", "C", "celsius", "oC", "℃")
-    add("temperature", 1.0, 0.0, "K", "kelvin")
+    add("temperature", 1.0, 0.0, "K", "kelvin", "°K")
     add("temperature", 5.0 / 9.0, ZERO_CELSIUS_K - 32.0 * 5.0 / 9.0, "°F", "ºF", "degF", "deg F",
         "F", "fahrenheit", "oF", "℉")
     add("dimensionless", 1.0, 0.0, "-", "", "1")
@@ -93,8 +103,10 @@ def parse_unit(text: str, *, kind: str | None = None) -> Unit:
     DataError
         If the spelling is unknown or of another kind.
     """
-    key = re.sub(r"\s+", " ", str(text).strip())
-    unit = _UNITS.get(key) or _UNITS.get(key.replace(" ", ""))
+    raw = re.sub(r"\s+", " ", str(text).strip())
+    key = unicodedata.normalize("NFKC", raw).replace("·", " ").replace("⋅", " ")
+    unit = (_UNITS.get(raw) or _UNITS.get(key) or _UNITS.get(key.replace(" ", ""))
+            or _UNITS.get(raw.replace(" ", "")))
     if unit is None:
         unit = _UNITS.get(key.lower()) if key.lower() not in ("c", "f", "k") else None
     if unit is None:
