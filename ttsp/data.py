@@ -19,9 +19,9 @@ from typing import Mapping
 
 import numpy as np
 
-from ._validation import bad_value, where
+from ._validation import bad_value, check_positive, where
 from .exceptions import DataError
-from .units import kelvin_to_celsius
+from .units import kelvin_to_celsius, parse_unit
 
 __all__ = ["Quantity", "QUANTITIES", "Isotherm", "Campaign", "DOMAINS", "MODULUS_KINDS",
            "X_COLUMN"]
@@ -67,20 +67,34 @@ def _readonly(a) -> np.ndarray:
     return arr
 
 
-@dataclass(frozen=True)
+def _same_array(a, b) -> bool:
+    return a.shape == b.shape and bool(np.array_equal(a, b, equal_nan=True))
+
+
+@dataclass(frozen=True, eq=False)
 class Isotherm:
     """One temperature's measurement.
 
     Parameters
     ----------
     temperature_K : float
-        Mean temperature of the points grouped into this isotherm, in K.
+        Mean temperature of the points grouped into this isotherm, in K (finite, > 0).
     x : array
-        Angular frequency in rad/s or time in s, strictly ascending after construction.
+        Angular frequency in rad/s or time in s, strictly ascending after construction (the
+        points are sorted by x; a repeated x is an error).
     values : mapping of str to array
-        Measured functions by the names of :data:`QUANTITIES`, in SI units.
+        Measured functions by the names of :data:`QUANTITIES`, in SI units, one value per x.
     source_rows : array of int, optional
         The input-file line each point came from (1-based), for messages and traceability.
+
+    Two isotherms are equal when their temperatures, x, values and source rows are equal
+    (NaN equals NaN). Arrays are read-only copies; the inputs are never modified.
+
+    Raises
+    ------
+    DataError
+        If the temperature is not a positive finite number, x is not one-dimensional, a value
+        array has another length than x, a quantity name is unknown, or an x value repeats.
     """
 
     temperature_K: float
@@ -89,17 +103,53 @@ class Isotherm:
     source_rows: np.ndarray = field(default=None)
 
     def __post_init__(self):
+        try:
+            t = float(self.temperature_K)
+        except (TypeError, ValueError):
+            raise bad_value("temperature_K", "a number in kelvin", self.temperature_K) from None
+        if not (np.isfinite(t) and t > 0):
+            raise bad_value("temperature_K", "finite and above absolute zero (in K)",
+                            self.temperature_K)
         x = np.asarray(self.x, dtype=float)
+        if x.ndim != 1:
+            raise bad_value("x", "a one-dimensional array", f"an array of shape {x.shape}")
         rows = (np.full(x.shape, -1, dtype=np.int64) if self.source_rows is None
                 else np.asarray(self.source_rows, dtype=np.int64))
+        if rows.shape != x.shape:
+            raise bad_value("source_rows", f"one row number per point ({x.size})",
+                            f"shape {rows.shape}")
+        arrays = {}
+        for k, v in dict(self.values).items():
+            if k not in QUANTITIES:
+                raise bad_value("values", "keyed by names of ttsp.data.QUANTITIES "
+                                f"({', '.join(QUANTITIES)})", k)
+            arr = np.asarray(v, dtype=float)
+            if arr.shape != x.shape:
+                raise bad_value(f"values[{k!r}]", f"one value per x point ({x.size})",
+                                f"shape {arr.shape}")
+            arrays[k] = arr
         order = np.argsort(x, kind="stable")
-        vals = {k: _readonly(np.asarray(v, dtype=float)[order]) for k, v in self.values.items()}
+        xs = x[order]
+        same = np.flatnonzero(np.diff(xs) == 0)
+        if same.size:
+            raise bad_value("x", "free of repeated values at one temperature", float(xs[same[0]]))
+        vals = {k: _readonly(v[order]) for k, v in arrays.items()}
         rows = rows[order].copy()
         rows.setflags(write=False)
-        object.__setattr__(self, "temperature_K", float(self.temperature_K))
-        object.__setattr__(self, "x", _readonly(x[order]))
+        object.__setattr__(self, "temperature_K", t)
+        object.__setattr__(self, "x", _readonly(xs))
         object.__setattr__(self, "values", MappingProxyType(vals))
         object.__setattr__(self, "source_rows", rows)
+
+    def __eq__(self, other):
+        if not isinstance(other, Isotherm):
+            return NotImplemented
+        return (self.temperature_K == other.temperature_K and _same_array(self.x, other.x)
+                and set(self.values) == set(other.values)
+                and all(_same_array(v, other.values[k]) for k, v in self.values.items())
+                and _same_array(self.source_rows, other.source_rows))
+
+    __hash__ = None  # holds arrays: equal by value, not hashable
 
     @property
     def temperature_C(self) -> float:
@@ -113,11 +163,12 @@ class Isotherm:
         return self.n_points
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False)
 class Campaign:
     """A temperature campaign: isotherms in ascending temperature with their metadata.
 
     Build one with :meth:`from_frame` (validates) or through :mod:`ttsp.io.readers`.
+    Two campaigns are equal when their isotherms and all metadata are equal.
     """
 
     isotherms: tuple
@@ -133,10 +184,26 @@ class Campaign:
             raise bad_value("domain", "'frequency' or 'time'", self.domain)
         if self.modulus_kind not in MODULUS_KINDS:
             raise bad_value("modulus_kind", "'tensile' or 'shear'", self.modulus_kind)
-        isos = tuple(sorted(self.isotherms, key=lambda i: i.temperature_K))
+        isos = tuple(self.isotherms)
+        for k, iso in enumerate(isos):
+            if not isinstance(iso, Isotherm):
+                raise bad_value(f"isotherms[{k}]", "an Isotherm", type(iso).__name__)
+        isos = tuple(sorted(isos, key=lambda i: i.temperature_K))
         object.__setattr__(self, "isotherms", isos)
         for name in ("units_as_read", "metadata", "dropped_rows"):
-            object.__setattr__(self, name, MappingProxyType(dict(getattr(self, name))))
+            object.__setattr__(self, name, MappingProxyType(dict(getattr(self, name) or {})))
+
+    def __eq__(self, other):
+        if not isinstance(other, Campaign):
+            return NotImplemented
+        return (self.domain == other.domain and self.modulus_kind == other.modulus_kind
+                and self.source == other.source and len(self) == len(other)
+                and all(a == b for a, b in zip(self.isotherms, other.isotherms))
+                and dict(self.units_as_read) == dict(other.units_as_read)
+                and dict(self.metadata) == dict(other.metadata)
+                and dict(self.dropped_rows) == dict(other.dropped_rows))
+
+    __hash__ = None
 
     # ---- views -------------------------------------------------------------------------------
     @property
@@ -201,21 +268,30 @@ class Campaign:
 
     # ---- frames ------------------------------------------------------------------------------
     def to_frame(self):
-        """Tidy DataFrame, one row per point: isotherm, temperature_K, x, quantities, source_row."""
+        """Tidy DataFrame, one row per point: isotherm, temperature_K, x, quantities, source_row.
+
+        A quantity measured in some isotherms only is NaN in the others. ``frame.attrs`` carries
+        domain, modulus kind, source, units as read, metadata and dropped rows, so that
+        :meth:`from_frame` rebuilds an equal campaign.
+        """
         import pandas as pd
 
         quantities = [q for q in QUANTITIES if any(q in i.values for i in self.isotherms)]
+        columns = ["isotherm", "temperature_K", self.x_name] + quantities + ["source_row"]
         parts = []
         for k, iso in enumerate(self.isotherms):
-            cols = {"isotherm": np.full(iso.n_points, k),
+            cols = {"isotherm": np.full(iso.n_points, k, dtype=np.int64),
                     "temperature_K": np.full(iso.n_points, iso.temperature_K),
-                    self.x_name: iso.x}
+                    self.x_name: np.array(iso.x)}
             for q in quantities:
-                cols[q] = iso.values.get(q, np.full(iso.n_points, np.nan))
-            cols["source_row"] = iso.source_rows
-            parts.append(pd.DataFrame(cols))
-        frame = pd.concat(parts, ignore_index=True)
-        frame.attrs.update(domain=self.domain, modulus_kind=self.modulus_kind, source=self.source)
+                cols[q] = np.array(iso.values[q]) if q in iso.values else np.full(iso.n_points, np.nan)
+            cols["source_row"] = np.array(iso.source_rows)
+            parts.append(pd.DataFrame(cols, columns=columns))
+        frame = (pd.concat(parts, ignore_index=True) if parts
+                 else pd.DataFrame({c: pd.Series(dtype=float) for c in columns}))
+        frame.attrs.update(domain=self.domain, modulus_kind=self.modulus_kind, source=self.source,
+                           units_as_read=dict(self.units_as_read), metadata=dict(self.metadata),
+                           dropped_rows=dict(self.dropped_rows))
         return frame
 
     @classmethod
@@ -231,20 +307,33 @@ class Campaign:
         Parameters
         ----------
         frame : DataFrame
-            Columns ``temperature_K``, ``frequency_rad_s`` or ``time_s``, and at least one of
-            :data:`QUANTITIES`; optional ``source_row`` (1-based file line of each row).
+            Columns ``temperature_K`` (K), ``frequency_rad_s`` (rad/s) or ``time_s`` (s), and at
+            least one of :data:`QUANTITIES` (SI). Optional: ``source_row`` (1-based file line of
+            each row), ``source_file`` (the file each row came from, for messages), and
+            ``isotherm`` (an isotherm label per row, as written by :meth:`to_frame`: when
+            present it groups the rows and the tolerance is not used).
         temperature_tolerance_K : float
-            Points whose temperatures lie within this distance of their neighbours in sorted order
-            form one isotherm (a controller holds about ±0.5 K, so 24.9 °C and 25.1 °C are one).
+            Points whose temperatures lie within this distance (K) of their neighbours in sorted
+            order form one isotherm (a controller holds about ±0.5 K, so 24.9 °C and 25.1 °C are
+            one); see :func:`group_temperatures`.
         column_labels : mapping, optional
             The original header of each SI column, so messages name what the user wrote.
+        units_as_read : mapping, optional
+            Unit as read for each original header; bad values in messages are shown in it.
+        metadata, dropped_rows : mapping, optional
+            Carried into the campaign (default: from ``frame.attrs``, else empty).
+        min_isotherms : int
+            Fewest isotherms accepted (superposition needs two).
+
+        A quantity may be missing (all NaN) in some isotherms, but not partly missing in one.
+        The frame is not modified.
 
         Raises
         ------
         DataError
-            Naming file, column and first bad row: a missing column, NaN or non-finite value,
-            a non-positive value where a logarithm is needed, a duplicate point, fewer than
-            ``min_isotherms`` isotherms.
+            Naming file, column and first bad row: a missing column, a non-numeric, NaN or
+            non-finite value, a non-positive value where a logarithm is needed, a temperature at
+            or below absolute zero, a duplicate point, fewer than ``min_isotherms`` isotherms.
         """
         labels = dict(column_labels or {})
         attrs = getattr(frame, "attrs", {}) or {}
@@ -252,84 +341,143 @@ class Campaign:
             "frequency" if "frequency_rad_s" in frame.columns else "time")
         modulus_kind = modulus_kind or attrs.get("modulus_kind") or "tensile"
         source = source or attrs.get("source", "")
+        if units_as_read is None:
+            units_as_read = attrs.get("units_as_read") or {}
+        if metadata is None:
+            metadata = attrs.get("metadata") or {}
+        if dropped_rows is None:
+            dropped_rows = attrs.get("dropped_rows") or {}
         if domain not in DOMAINS:
             raise bad_value("domain", "'frequency' or 'time'", domain, file=source)
+        if modulus_kind not in MODULUS_KINDS:
+            raise bad_value("modulus_kind", "'tensile' or 'shear'", modulus_kind, file=source)
+        tol = check_positive("temperature_tolerance_K", temperature_tolerance_K, allow_zero=True)
         x_name = X_COLUMN[domain]
 
         def label(col):
             return labels.get(col, col)
 
+        found = ", ".join(map(str, labels.values() or frame.columns))
         for col in ("temperature_K", x_name):
             if col not in frame.columns:
                 what = "a temperature column" if col == "temperature_K" else (
                     "a frequency column" if domain == "frequency" else "a time column")
-                raise DataError(f"{where(source)}missing {what} ({col}); "
-                                f"columns found: {', '.join(map(str, labels.values() or frame.columns))}")
+                raise DataError(f"{where(source)}missing {what} ({col}); columns found: {found}")
         quantities = [q for q in QUANTITIES if q in frame.columns]
+        needed = ", ".join(q for q in QUANTITIES if QUANTITIES[q].domain == domain)
         if not quantities:
-            raise DataError(f"{where(source)}no measured material function found: need at least one "
-                            f"of {', '.join(q for q in QUANTITIES if QUANTITIES[q].domain == domain)}")
+            raise DataError(f"{where(source)}no measured material function found: need at least "
+                            f"one of {needed}; columns found: {found}")
         wrong = [q for q in quantities if QUANTITIES[q].domain != domain]
         if wrong:
             raise DataError(f"{where(source, label(wrong[0]))}{QUANTITIES[wrong[0]].label} does not "
                             f"belong to {domain}-domain data")
-        rows = (np.asarray(frame["source_row"], dtype=np.int64) if "source_row" in frame.columns
-                else np.arange(len(frame), dtype=np.int64) + 2)
         if len(frame) == 0:
             raise DataError(f"{where(source)}no data rows")
-        for col in ["temperature_K", x_name] + quantities:
+        rows = (np.asarray(frame["source_row"], dtype=np.int64) if "source_row" in frame.columns
+                else np.arange(len(frame), dtype=np.int64) + 2)
+        files = (np.asarray(frame["source_file"], dtype=object) if "source_file" in frame.columns
+                 else None)
+
+        def at(col, i):
+            file = str(files[i]) if files is not None else source
+            return where(file, label(col), int(rows[i]))
+
+        def shown(col, v):
+            """The value as the user wrote it: in the unit as read where that is known."""
+            if not np.isfinite(v):
+                return f"{float(v)}"
+            unit = units_as_read.get(label(col))
+            if unit is not None and unit.strip() not in ("", "-", "1"):
+                try:
+                    return f"{float(parse_unit(unit).from_si(v)):.10g} {unit}".rstrip()
+                except DataError:
+                    pass
+            return f"{float(v):.10g}"
+
+        def numbers(col):
             raw = frame[col]
             try:
-                vals = np.asarray(raw, dtype=float)
+                return np.asarray(raw, dtype=float)
             except (TypeError, ValueError):
                 import pandas as pd
 
                 num = pd.to_numeric(raw, errors="coerce")
-                bad = int(np.flatnonzero(num.isna() & raw.notna())[0])
-                raise DataError(f"{where(source, label(col), int(rows[bad]))}value must be a number; "
+                bad = int(np.flatnonzero(np.asarray(num.isna() & raw.notna()))[0])
+                raise DataError(f"{at(col, bad)}value must be a number; "
                                 f"got {raw.iloc[bad]!r}") from None
-            nonfinite = ~np.isfinite(vals)
-            if col in quantities:
-                # a quantity may be absent in some isotherms (a blank column), but not partly blank
-                pass
-            if nonfinite.any() and (col not in quantities or not nonfinite.all()):
-                bad = int(np.flatnonzero(nonfinite)[0])
-                raise DataError(f"{where(source, label(col), int(rows[bad]))}value must be a finite "
-                                f"number; got {vals[bad]!r}")
-            must_be_positive = col == x_name or (col in quantities and QUANTITIES[col].positive)
-            if col == "temperature_K":
-                nonpos = vals <= 0
-                rule = "above absolute zero"
-            else:
-                nonpos = must_be_positive & (vals <= 0)
-                rule = "positive (it is taken in a logarithm)"
-            if np.any(nonpos):
-                bad = int(np.flatnonzero(nonpos)[0])
-                raise DataError(f"{where(source, label(col), int(rows[bad]))}value must be {rule}; "
-                                f"got {vals[bad]!r}")
-        quantities = [q for q in quantities if np.isfinite(np.asarray(frame[q], dtype=float)).any()]
 
-        temps = np.asarray(frame["temperature_K"], dtype=float)
-        groups = group_temperatures(temps, temperature_tolerance_K)
+        def first(mask):
+            return int(np.flatnonzero(mask)[0])
+
+        # the temperature and x: every row must have a finite, positive value
+        temps = numbers("temperature_K")
+        x_all = numbers(x_name)
+        for col, vals, rule in (("temperature_K", temps, "above absolute zero"),
+                                (x_name, x_all, "positive (it is taken in a logarithm)")):
+            if not np.isfinite(vals).all():
+                bad = first(~np.isfinite(vals))
+                raise DataError(f"{at(col, bad)}value must be a finite number; "
+                                f"got {shown(col, vals[bad])}")
+            if (vals <= 0).any():
+                bad = first(vals <= 0)
+                raise DataError(f"{at(col, bad)}value must be {rule}; got {shown(col, vals[bad])}")
+
+        # isotherms: by the isotherm label of to_frame, else by temperature within the tolerance
+        if "isotherm" in frame.columns:
+            tags = np.asarray(frame["isotherm"])
+            groups = [np.flatnonzero(tags == tag) for tag in dict.fromkeys(tags.tolist())]
+        else:
+            groups = group_temperatures(temps, tol)
+        group_of = np.empty(len(frame), dtype=np.int64)
+        for g, members in enumerate(groups):
+            group_of[members] = g
+
+        # the measured functions: finite where present; missing (NaN) only for a whole isotherm
+        values = {}
+        for q in quantities:
+            vals = numbers(q)
+            nan = np.isnan(vals)
+            infinite = np.isinf(vals)
+            all_nan_group = np.array([nan[m].all() for m in groups])
+            partly = nan & ~all_nan_group[group_of]
+            bad_mask = infinite | partly
+            if bad_mask.any():
+                bad = first(bad_mask)
+                raise DataError(f"{at(q, bad)}value must be a finite number; "
+                                f"got {shown(q, vals[bad])}")
+            if QUANTITIES[q].positive and (vals[~nan] <= 0).any():
+                bad = first(~nan & (vals <= 0))
+                raise DataError(f"{at(q, bad)}value must be positive (it is taken in a "
+                                f"logarithm); got {shown(q, vals[bad])}")
+            if not nan.all():
+                values[q] = (vals, all_nan_group)
+        if not values:
+            raise DataError(f"{where(source)}no measured material function has any value: need at "
+                            f"least one of {needed}; columns found: {found}")
+
         isotherms = []
-        x_all = np.asarray(frame[x_name], dtype=float)
-        for members in groups:
+        for g, members in enumerate(groups):
             x = x_all[members]
             dup = _first_duplicate(x)
             if dup is not None:
                 a, b = members[dup[0]], members[dup[1]]
-                raise DataError(f"{where(source, label(x_name), int(rows[b]))}duplicate point: the "
-                                f"same {x_name.split('_')[0]} {x_all[b]:g} at the same temperature as "
-                                f"row {int(rows[a])}")
-            vals = {q: np.asarray(frame[q], dtype=float)[members] for q in quantities}
-            isotherms.append(Isotherm(float(np.mean(temps[members])), x, vals, rows[members]))
+                what = "frequency" if domain == "frequency" else "time"
+                prior = (f"row {int(rows[a])} of {files[a]}" if files is not None
+                         and files[a] != files[b] else f"row {int(rows[a])}")
+                raise DataError(f"{at(x_name, b)}duplicate point: the same {what} "
+                                f"{shown(x_name, x_all[b])} at the same temperature as {prior}")
+            vals = {q: v[members] for q, (v, absent) in values.items() if not absent[g]}
+            t = temps[members]
+            t_mean = float(t[0]) if np.all(t == t[0]) else float(np.mean(t))
+            isotherms.append(Isotherm(t_mean, x, vals, rows[members]))
         if len(isotherms) < min_isotherms:
             t = ", ".join(f"{kelvin_to_celsius(i.temperature_K):.4g} °C" for i in isotherms)
             raise DataError(f"{where(source, label('temperature_K'))}superposition needs at least "
                             f"{min_isotherms} isotherms; found {len(isotherms)} ({t}) with a "
-                            f"grouping tolerance of {temperature_tolerance_K:g} K")
-        return cls(tuple(isotherms), domain, modulus_kind, source, units_as_read or {},
-                   metadata or {}, dropped_rows or {})
+                            f"grouping tolerance of {tol:g} K")
+        return cls(tuple(isotherms), domain, modulus_kind, source, units_as_read,
+                   metadata, dropped_rows)
 
     # ---- notebooks ---------------------------------------------------------------------------
     def summary_rows(self) -> list:
