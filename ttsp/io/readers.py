@@ -19,6 +19,7 @@ so every error names the file, the column and the first bad row.
 from __future__ import annotations
 
 import codecs
+import csv
 import os
 import re
 import warnings
@@ -28,7 +29,7 @@ from typing import Mapping, Sequence
 
 import numpy as np
 
-from .._validation import where
+from .._validation import check_positive, where
 from ..data import QUANTITIES, Campaign
 from ..exceptions import DataError, DroppedRowsWarning
 from ..units import parse_unit
@@ -39,10 +40,17 @@ __all__ = ["read_campaign", "read_table", "RawTable", "TEXT_SUFFIXES", "TABLE_SU
 TEXT_SUFFIXES = (".csv", ".txt", ".tsv", ".dat", ".tab", ".asc")
 TABLE_SUFFIXES = TEXT_SUFFIXES + (".xlsx",)
 _NUMBER = re.compile(r"^[+-]?(\d+([.,]\d*)?|[.,]\d+)([eE][+-]?\d+)?$")
+_SPECIAL_NUMBERS = ("nan", "inf", "-inf", "+inf", "infinity", "-infinity", "+infinity")
 _KEY_VALUE = re.compile(r"^\s*#?\s*([^:=]{1,60}?)\s*[:=]\s*(.*?)\s*$")
+# a temperature in a file name: a number, then C/K/F (or °C, degC ...) not followed by a letter or
+# digit; it must start the name or follow a separator ( _ = space . , ; ( [ ) or a T/temp prefix
 _TEMPERATURE_IN_NAME = re.compile(
-    r"(?<![A-Za-z0-9.])(?:T|temp)?[_=-]?(?P<value>[-+−]?\d+(?:[.,p]\d+)?)\s*(?P<unit>°C|degC|C|K|°F|degF|F)(?![A-Za-z])",
-    re.IGNORECASE)
+    r"(?P<prefix>(?:^|(?<=[^A-Za-z0-9.]))(?:t|temp|temperature)?[_=]?)"
+    r"(?P<sign>[-+−]?)(?P<value>\d+(?:[.,p]\d+)?)\s*(?P<unit>°C|degC|C|K|°F|degF|F)"
+    r"(?![A-Za-z0-9])", re.IGNORECASE)
+_TEMPERATURE_KEY = re.compile(r"temp|^t$|^t\s*[\(\[]")
+_PRIMARY_TEMPERATURE_KEYS = ("temperature", "temp", "t", "test temperature", "temperatur",
+                             "sample temperature", "isotherm", "isothermal temperature")
 
 
 @dataclass(frozen=True)
@@ -63,36 +71,63 @@ class RawTable:
 
 # ---- bytes -> text ----------------------------------------------------------------------------
 def _decode(data: bytes, path: str) -> str:
+    """Decode a text file: UTF-8 (with or without BOM), UTF-16 (with a BOM, or recognised by its
+    zero bytes), else Windows-1252 / Latin-1 (the single-byte encodings of older exports)."""
     if not data.strip():
         raise DataError(f"{where(path)}the file is empty")
     if data.startswith(codecs.BOM_UTF8):
-        text = data[len(codecs.BOM_UTF8):].decode("utf-8", errors="strict")
-    elif data.startswith(codecs.BOM_UTF16_LE) or data.startswith(codecs.BOM_UTF16_BE):
-        text = data.decode("utf-16")
-    else:
         try:
-            text = data.decode("utf-8")
+            text = data[len(codecs.BOM_UTF8):].decode("utf-8", errors="strict")
+        except UnicodeDecodeError as exc:
+            raise DataError(f"{where(path)}not a text table: the file starts with a UTF-8 mark "
+                            f"but byte {exc.start + 3} is not UTF-8") from None
+    elif data.startswith(codecs.BOM_UTF16_LE) or data.startswith(codecs.BOM_UTF16_BE):
+        try:
+            text = data.decode("utf-16")
         except UnicodeDecodeError:
-            text = data.decode("latin-1")
+            raise DataError(f"{where(path)}not a text table: the file starts with a UTF-16 mark "
+                            f"but is not UTF-16 text") from None
+    else:
+        sample = data[:4096]
+        zeros_odd, zeros_even = sample[1::2].count(0), sample[0::2].count(0)
+        half = len(sample) // 2
+        text = None
+        if half >= 4 and zeros_odd > 0.4 * half and zeros_even == 0:
+            text = _try_decode(data, "utf-16-le")
+        elif half >= 4 and zeros_even > 0.4 * half and zeros_odd == 0:
+            text = _try_decode(data, "utf-16-be")
+        if text is None:
+            text = _try_decode(data, "utf-8") or _try_decode(data, "cp1252") or data.decode("latin-1")
     if "\x00" in text:
         raise DataError(f"{where(path)}not a text table: the file contains binary (NUL) bytes")
-    printable = sum(ch.isprintable() or ch in "\r\n\t" for ch in text[:4096])
-    if printable < 0.95 * min(len(text), 4096):
+    head = text[:4096]
+    printable = sum(ch.isprintable() or ch in "\r\n\t" for ch in head)
+    if printable < 0.95 * len(head):
         raise DataError(f"{where(path)}not a text table: most bytes are not printable text")
     return text
+
+
+def _try_decode(data: bytes, encoding: str):
+    try:
+        return data.decode(encoding)
+    except UnicodeDecodeError:
+        return None
 
 
 def _split(line: str, delimiter: str | None) -> list:
     if delimiter is None:
         return line.split()
-    return [c.strip().strip('"').strip() for c in line.split(delimiter)]
+    if '"' in line:
+        cells = next(csv.reader([line], delimiter=delimiter, skipinitialspace=True))
+        return [c.strip() for c in cells]
+    return [c.strip() for c in line.split(delimiter)]
 
 
 def _is_number(cell: str, decimal_comma: bool) -> bool:
     c = cell.strip().replace("−", "-")
     if not decimal_comma and "," in c:
         return False
-    return bool(_NUMBER.match(c)) or c.lower() in ("nan", "inf", "-inf", "+inf", "infinity")
+    return bool(_NUMBER.match(c)) or c.lower() in _SPECIAL_NUMBERS
 
 
 def _choose_delimiter(lines: Sequence[str]) -> tuple:
@@ -120,7 +155,14 @@ def _choose_delimiter(lines: Sequence[str]) -> tuple:
 
 
 def read_table(path: str | os.PathLike, *, sheet: str | int | None = None) -> RawTable:
-    """Read one file into a :class:`RawTable` (header row, data cells, preamble metadata)."""
+    """Read one file into a :class:`RawTable` (header row, data cells, preamble metadata).
+
+    Raises
+    ------
+    DataError
+        For a missing file, a folder, an empty or binary file, an unreadable workbook or sheet,
+        and a file with no header row or no data rows.
+    """
     path = str(path)
     if not os.path.exists(path):
         raise DataError(f"{where(path)}no such file")
@@ -134,11 +176,11 @@ def read_table(path: str | os.PathLike, *, sheet: str | int | None = None) -> Ra
     text = _decode(data, path)
     lines = text.splitlines()
     delimiter, decimal_comma = _choose_delimiter(lines)
-    if delimiter is None and not decimal_comma and not any(
-            len(ln.split()) >= 2 for ln in lines if ln.strip()):
-        raise DataError(f"{where(path)}no table found: no line has two or more numeric columns")
+    if delimiter is None and not any(len(ln.split()) >= 2 for ln in lines if ln.strip()):
+        raise DataError(f"{where(path)}no table found: no line has two or more columns")
     cells = [(_split(ln, delimiter) if ln.strip() else []) for ln in lines]
-    return _table_from_cells(path, cells, decimal_comma)
+    return _table_from_cells(path, cells, decimal_comma, raw_lines=lines,
+                             whitespace=delimiter is None)
 
 
 def _xlsx_cells(path: str, sheet) -> list:
@@ -151,18 +193,23 @@ def _xlsx_cells(path: str, sheet) -> list:
     except Exception as exc:  # openpyxl raises many types for a broken file
         raise DataError(f"{where(path)}not a readable .xlsx workbook ({type(exc).__name__})") from None
     try:
+        names = book.sheetnames
         if sheet is None:
             ws = book.worksheets[0]
-        elif isinstance(sheet, int):
+        elif isinstance(sheet, int) and not isinstance(sheet, bool):
+            if not 0 <= sheet < len(names):
+                raise DataError(f"{where(path)}sheet must be a number from 0 to {len(names) - 1} "
+                                f"or one of {', '.join(names)}; got {sheet!r}")
             ws = book.worksheets[sheet]
         else:
-            if sheet not in book.sheetnames:
-                raise DataError(f"{where(path)}sheet must be one of {', '.join(book.sheetnames)}; "
+            if sheet not in names:
+                raise DataError(f"{where(path)}sheet must be one of {', '.join(names)}; "
                                 f"got {sheet!r}")
             ws = book[sheet]
         out = []
         for row in ws.iter_rows(values_only=True):
-            cells = ["" if v is None else (repr(v) if isinstance(v, float) else str(v)) for v in row]
+            cells = ["" if v is None else (repr(v) if isinstance(v, float) else str(v)).strip()
+                     for v in row]
             while cells and cells[-1] == "":
                 cells.pop()
             out.append(cells)
@@ -171,32 +218,41 @@ def _xlsx_cells(path: str, sheet) -> list:
         book.close()
 
 
-def _table_from_cells(path: str, cells: list, decimal_comma: bool) -> RawTable:
-    """Find the header (the last non-numeric line before the first run of numeric lines)."""
+def _data_like(cells: list, decimal_comma: bool) -> bool:
+    """A line that looks like data with a bad cell: two or more cells, at least half numeric."""
+    filled = [c for c in cells if c]
+    return len(filled) >= 2 and 2 * sum(_is_number(c, decimal_comma) for c in filled) >= len(filled)
+
+
+def _table_from_cells(path: str, cells: list, decimal_comma: bool, *, raw_lines=None,
+                      whitespace: bool = False) -> RawTable:
+    """Find the header: the last non-empty line that is not data, above the first run of
+    numeric lines. Lines between it and the first all-numeric line (data with a bad cell) are
+    data, so the error names them."""
     n = len(cells)
     numeric = [bool(c) and len(c) >= 2 and all(_is_number(x, decimal_comma) for x in c if x)
                and any(x for x in c) for c in cells]
     first_data = next((i for i in range(n) if numeric[i]), None)
     if first_data is None:
         raise DataError(f"{where(path)}no data rows: found no line with two or more numbers")
-    header_idx = next((i for i in range(first_data - 1, -1, -1) if cells[i]), None)
+    header_idx = None
+    for i in range(first_data - 1, -1, -1):
+        if not cells[i]:
+            continue
+        if _data_like(cells[i], decimal_comma) and not (raw_lines and raw_lines[i].lstrip().startswith("#")):
+            continue
+        header_idx = i
+        break
     if header_idx is None:
         raise DataError(f"{where(path)}no header row: the first line with numbers (line "
                         f"{first_data + 1}) has no line of column names above it")
-    header = tuple(c.strip() for c in cells[header_idx])
+    header = [c.strip() for c in cells[header_idx]]
     preamble = {}
     for i in range(header_idx):
-        line = cells[i]
-        if not line:
-            continue
-        joined = " ".join(x for x in line if x) if len(line) != 2 else None
-        m = _KEY_VALUE.match(joined) if joined is not None else None
-        if len(line) == 2 and line[0]:
-            preamble[line[0].strip().lstrip("#").strip().rstrip(":=").strip()] = line[1].strip()
-        elif m:
-            preamble[m.group(1).strip()] = m.group(2).strip()
-        else:
-            preamble[f"line {i + 1}"] = joined or ""
+        key_value = _preamble_entry(cells[i], raw_lines[i] if raw_lines else None)
+        if key_value is not None:
+            key, value = key_value
+            preamble[key if key not in preamble and key else f"line {i + 1}"] = value
     rows, numbers, dropped = [], [], {}
     trailing_blank = 0
     for i in range(header_idx + 1, n):
@@ -214,7 +270,92 @@ def _table_from_cells(path: str, cells: list, decimal_comma: bool) -> RawTable:
         numbers.append(i + 1)
     if trailing_blank:
         dropped["blank lines"] = dropped.get("blank lines", 0) + trailing_blank
-    return RawTable(path, header, tuple(rows), tuple(numbers), preamble, decimal_comma, dropped)
+    header = _fit_header(path, header, rows, numbers, header_idx + 1,
+                         raw_lines[header_idx] if (whitespace and raw_lines) else None)
+    return RawTable(path, tuple(header), tuple(rows), tuple(numbers), preamble, decimal_comma,
+                    dropped)
+
+
+def _preamble_entry(cells: list, raw: str | None):
+    """``(key, value)`` of a preamble line, or None for a blank one."""
+    if not cells or not any(c.strip() for c in cells):
+        return None
+    text = raw.strip() if raw is not None else " ".join(c for c in cells if c)
+    m = _KEY_VALUE.match(text)
+    if m and m.group(1).strip():
+        return m.group(1).strip(), m.group(2).strip()
+    filled = [c.strip() for c in cells if c.strip()]
+    if len(filled) == 2:
+        return filled[0].lstrip("#").strip().rstrip(":=").strip(), filled[1]
+    for sep in (";", "\t"):
+        parts = [p.strip() for p in text.split(sep) if p.strip()]
+        if len(parts) == 2:
+            return parts[0].lstrip("#").strip(), parts[1]
+    return "", text
+
+
+def _fit_header(path, header, rows, numbers, header_line, raw_header):
+    """Check that the header names every column that holds data. With a white-space delimiter
+    a header such as ``Temp (°C)  Freq (Hz)`` splits into more words than there are columns:
+    regroup its words into as many names as there are columns."""
+    if not rows:
+        return header
+    widths = [len([c for c in r]) for r in rows]
+    width = max(set(widths), key=widths.count)
+    if raw_header is not None and len(header) != width:
+        regrouped = _regroup_header(raw_header, width)
+        if regrouped is None:
+            raise DataError(f"{where(path, None, header_line)}the header has {len(header)} words "
+                            f"({' | '.join(header)}) but the data rows have {width} columns; "
+                            f"separate the column names with tabs or two spaces")
+        header = regrouped
+    for r, line in zip(rows, numbers):
+        extra = [c for c in r[len(header):] if c.strip()]
+        if extra:
+            raise DataError(f"{where(path, None, line)}the row has {len(header) + len(extra)} "
+                            f"values but the header names {len(header)} columns; got "
+                            f"{extra[0]!r} beyond the last named column")
+    return header
+
+
+def _regroup_header(raw: str, width: int):
+    parts = [p.strip() for p in re.split(r"\t| {2,}", raw.strip()) if p.strip()]
+    if len(parts) == width:
+        return parts
+    words = raw.split()
+    n = len(words)
+    if n < width:
+        return None
+    # best partition of the words into `width` consecutive names: exactly recognised names
+    # count 2, names guessed from a keyword 1, and a name may not start with a bracketed unit
+    max_len = 6
+
+    def score(i, j):
+        if words[i][0] in "([/":
+            return -3
+        m = interpret_header(" ".join(words[i:j]))
+        return 0 if m is None else (1 if m.fuzzy else 2)
+
+    unreachable = float("-inf")
+    best = [[unreachable] * (width + 1) for _ in range(n + 1)]
+    back = [[0] * (width + 1) for _ in range(n + 1)]
+    best[0][0] = 0
+    for j in range(1, n + 1):
+        for k in range(1, min(j, width) + 1):
+            for i in range(max(0, j - max_len), j):
+                if best[i][k - 1] == unreachable:
+                    continue
+                v = best[i][k - 1] + score(i, j)
+                if v > best[j][k]:
+                    best[j][k], back[j][k] = v, i
+    if best[n][width] <= 0:
+        return None
+    names, j = [], n
+    for k in range(width, 0, -1):
+        i = back[j][k]
+        names.append(" ".join(words[i:j]))
+        j = i
+    return names[::-1]
 
 
 # ---- interpretation -------------------------------------------------------------------------
@@ -224,40 +365,82 @@ def _to_float(cell: str, decimal_comma: bool) -> float:
         return float("nan")
     if decimal_comma:
         c = c.replace(",", ".")
-    if not (_NUMBER.match(c) or c.lower() in ("nan", "inf", "-inf", "+inf", "infinity")):
+    if not (_NUMBER.match(c) or c.lower() in _SPECIAL_NUMBERS):
         raise ValueError(cell)
     return float(c)
 
 
 def _temperature_from_name(path: str) -> tuple | None:
+    """Temperature written in a file name: ``sweep_35C``, ``iso_-20C``, ``T_85.5C``, ``T85p5C``,
+    ``run_300K``, ``x_100F``. A minus sign counts after ``_``, ``=``, a space or at the start
+    (``iso_-20C``, ``-20C``) or as U+2212; a hyphen right after a letter or digit is a separator
+    (``sample-25C`` is 25 °C). Two or more candidates in one name give None (ambiguous)."""
     stem = Path(path).stem
     matches = list(_TEMPERATURE_IN_NAME.finditer(stem))
     if len(matches) != 1:
         return None
     m = matches[0]
-    value = float(m.group("value").replace("−", "-").replace(",", ".").replace("p", "."))
+    sign = m.group("sign")
+    if sign == "-" and not m.group("prefix"):
+        before = stem[m.start() - 1] if m.start() > 0 else ""
+        if before.isalnum():
+            sign = ""
+    value = float(m.group("value").replace(",", ".").replace("p", ".").replace("P", "."))
+    if sign in ("-", "−"):
+        value = -value
     unit = m.group("unit")
-    unit = {"c": "°C", "degc": "°C", "k": "K", "f": "°F", "degf": "°F"}.get(unit.lower(), unit)
+    unit = {"c": "°C", "degc": "°C", "°c": "°C", "k": "K", "f": "°F", "degf": "°F",
+            "°f": "°F"}.get(unit.lower(), unit)
     return value, unit
 
 
 def _temperature_from_preamble(preamble: Mapping[str, str], path: str) -> tuple | None:
+    """Temperature of a ``Temperature: 35 °C`` preamble line (also ``Temp (°C) = 35``,
+    ``T: 308.15 K``, ``Temperature: 35 ± 0.1 °C``). Lines that do not read as one temperature
+    (``Temperature rate: 2 K/min``) are passed over; two different temperatures are an error
+    unless one of them is under a plain key such as ``Temperature``."""
+    found, unreadable = [], []
     for key, text in preamble.items():
-        k = key.lower()
-        if not re.search(r"temp|^t$|^t ", k):
+        k = key.lower().strip()
+        if not _TEMPERATURE_KEY.search(k):
             continue
-        name_unit = re.search(r"[\(\[]\s*([^\)\]]+)\s*[\)\]]", key)
-        m = re.match(r"^\s*([-+−]?\d+(?:[.,]\d+)?)\s*(.*?)\s*$", text)
+        name_unit = re.search(r"[\(\[]\s*([^\)\]]+?)\s*[\)\]]", key)
+        plain = re.sub(r"\s*[\(\[].*$", "", k).strip()
+        value_text = re.sub(r"\s*(±|\+/-|\+-)\s*[\d.,]+", "", text)
+        m = re.match(r"^\s*([-+−]?\d+(?:[.,]\d+)?)\s*(.*?)\s*$", value_text)
         if not m:
+            unreadable.append((key, text, plain))
             continue
         unit = m.group(2) or (name_unit.group(1) if name_unit else "°C")
+        try:
+            parse_unit(unit, kind="temperature")
+        except DataError:
+            unreadable.append((key, text, plain))
+            continue
         value = float(m.group(1).replace("−", "-").replace(",", "."))
-        return value, unit
-    return None
+        found.append((value, unit, key, plain))
+    if not found:
+        for key, text, plain in unreadable:
+            if plain in _PRIMARY_TEMPERATURE_KEYS:
+                raise DataError(f"{where(path)}preamble line {key!r}: temperature must be a number "
+                                f"with a unit such as °C or K; got {text!r}")
+        return None
+    distinct = {parse_unit(u).to_si(v).item() for v, u, _, _ in found}
+    if len(distinct) == 1:
+        return found[0][0], found[0][1]
+    primary = [f for f in found if f[3] in _PRIMARY_TEMPERATURE_KEYS]
+    if len(primary) == 1:
+        return primary[0][0], primary[0][1]
+    lines = "; ".join(f"{key}: {v:g} {u}" for v, u, key, _ in found)
+    raise DataError(f"{where(path)}the preamble gives more than one temperature ({lines}); give "
+                    f"the temperature explicitly")
 
 
 def _meanings(table: RawTable, columns: Mapping[str, str] | None) -> dict:
-    """Map each used column index to a HeaderMeaning, honouring an explicit column mapping."""
+    """Map each used column index to a HeaderMeaning, honouring an explicit column mapping.
+
+    A column recognised exactly takes a role before one guessed from a keyword; a bare ``E``
+    means the relaxation modulus when the file has a time column and no frequency column."""
     columns = dict(columns or {})
     valid_roles = set(QUANTITIES) | {"temperature_K", "frequency_rad_s", "time_s"}
     for header, role in columns.items():
@@ -267,6 +450,10 @@ def _meanings(table: RawTable, columns: Mapping[str, str] | None) -> dict:
         if header not in table.header:
             raise DataError(f"{where(table.path)}mapped column {header!r} is not in the header; "
                             f"columns found: {', '.join(table.header)}")
+    detected = {j: interpret_header(h) for j, h in enumerate(table.header) if h not in columns}
+    roles = {m.role for m in detected.values() if m is not None} | set(columns.values())
+    if "time_s" in roles and "frequency_rad_s" not in roles:
+        detected = {j: interpret_header(table.header[j], domain="time") for j in detected}
     out = {}
     for j, h in enumerate(table.header):
         if h in columns:
@@ -274,13 +461,12 @@ def _meanings(table: RawTable, columns: Mapping[str, str] | None) -> dict:
             unit = meaning.unit if meaning else None
             kind = meaning.modulus_kind if meaning and meaning.role == columns[h] else None
             out[j] = HeaderMeaning(columns[h], unit, kind)
-        elif columns and h not in columns and any(r == (interpret_header(h) or HeaderMeaning("", None, None)).role
-                                                    for r in columns.values()):
-            continue  # an explicit mapping takes this role; the detected column gives way
-        else:
-            meaning = interpret_header(h)
-            if meaning is not None:
-                out[j] = meaning
+        elif detected.get(j) is not None:
+            if detected[j].role in columns.values():
+                continue  # an explicit mapping takes this role; the detected column gives way
+            out[j] = detected[j]
+    exact_roles = {m.role for m in out.values() if not m.fuzzy}
+    out = {j: m for j, m in out.items() if not (m.fuzzy and m.role in exact_roles)}
     seen = {}
     for j, m in list(out.items()):
         if m.role in seen:
@@ -297,13 +483,19 @@ def _table_to_frame(table: RawTable, *, columns, units, temperature_C):
 
     meanings = _meanings(table, columns)
     units = dict(units or {})
+    known = set(table.header) | set(QUANTITIES) | {"temperature_K", "frequency_rad_s", "time_s"}
+    for key in units:
+        if key not in known:
+            raise DataError(f"{where(table.path)}unit override for {key!r} must name a column "
+                            f"header or a role; columns found: {', '.join(table.header)}")
     frame, labels, units_read, kinds, assumed = {}, {}, {}, set(), []
     for j, m in meanings.items():
         header = table.header[j]
         unit_text = units.get(header, units.get(m.role, m.unit))
         if unit_text is None:
             unit_text = DEFAULT_UNIT[m.role]
-            assumed.append(f"{header!r} in {unit_text}")
+            if UNIT_KIND_OF_ROLE[m.role] != "dimensionless":
+                assumed.append(f"{header!r} in {unit_text}")
         try:
             unit = parse_unit(unit_text, kind=UNIT_KIND_OF_ROLE[m.role])
         except DataError as exc:
@@ -340,6 +532,7 @@ def _table_to_frame(table: RawTable, *, columns, units, temperature_C):
                             f"'Temperature: …' preamble line, and none in the file name "
                             f"(such as sweep_35C.csv); columns found: {', '.join(table.header)}")
         value, unit_text = found
+        unit_text = units.get("temperature_K", unit_text)
         try:
             unit = parse_unit(unit_text, kind="temperature")
         except DataError as exc:
@@ -364,7 +557,7 @@ def _expand(paths) -> list:
         if os.path.isdir(p):
             inside = sorted(str(q) for q in Path(p).iterdir()
                             if q.is_file() and q.suffix.lower() in TABLE_SUFFIXES
-                            and not q.name.startswith("."))
+                            and not q.name.startswith(".") and not q.name.startswith("~$"))
             if not inside:
                 raise DataError(f"{where(p)}the folder holds no data files "
                                 f"({', '.join(TABLE_SUFFIXES)})")
@@ -415,8 +608,8 @@ def read_campaign(paths, *, columns: Mapping[str, str] | None = None,
     """
     import pandas as pd
 
-    if temperature_tolerance_K is None or not temperature_tolerance_K >= 0:
-        raise DataError(f"temperature_tolerance_K must be non-negative; got {temperature_tolerance_K!r}")
+    temperature_tolerance_K = check_positive("temperature_tolerance_K", temperature_tolerance_K,
+                                             allow_zero=True)
     files = _expand(paths)
     frames, labels, units_read, kinds, metadata, dropped, assumed = [], {}, {}, set(), {}, {}, []
     for path in files:
@@ -427,7 +620,9 @@ def read_campaign(paths, *, columns: Mapping[str, str] | None = None,
         # validate each file on its own so messages name the file (one isotherm is fine here)
         Campaign.from_frame(df, domain=file_domain, modulus_kind=modulus_kind or kind or "tensile",
                             source=path, temperature_tolerance_K=temperature_tolerance_K,
-                            column_labels=lab, min_isotherms=1)
+                            column_labels=lab, units_as_read=ur, min_isotherms=1)
+        if len(files) > 1:
+            df["source_file"] = path  # so a message about the merged campaign names the file
         frames.append(df)
         labels.update(lab)
         units_read.update(ur)
@@ -447,8 +642,6 @@ def read_campaign(paths, *, columns: Mapping[str, str] | None = None,
     if assumed:
         metadata["assumed units"] = "; ".join(dict.fromkeys(assumed))
     combined = pd.concat(frames, ignore_index=True) if len(frames) > 1 else frames[0]
-    if len(frames) > 1:
-        combined = combined.drop(columns="source_row")
     campaign = Campaign.from_frame(combined, domain=domain or domains.pop(),
                                    modulus_kind=modulus_kind or (kinds.pop() if kinds else "tensile"),
                                    source=source, temperature_tolerance_K=temperature_tolerance_K,
