@@ -1,0 +1,1562 @@
+"""Shift-factor laws: WLF, Arrhenius, WLF above Tg with Arrhenius below, VFT and polynomial.
+
+A *shift law* gives the horizontal shift factor log10 a_T as a function of the absolute
+temperature T about a reference temperature T_ref, where log10 a_T(T_ref) = 0. The sign
+follows the convention of the package: log10 a_T > 0 below the reference temperature, the
+reduced frequency is omega * a_T and the reduced time t / a_T.
+
+Contents
+--------
+* a registry :data:`SHIFT_LAWS` (model name -> law class) of frozen law objects that evaluate
+  themselves (:meth:`ShiftLaw.log10_aT`, :meth:`ShiftLaw.activation_energy_kJ_per_mol`,
+  :meth:`ShiftLaw.fragility`), change reference temperature (:meth:`ShiftLaw.at_reference`)
+  and export themselves (``to_dict`` / ``from_dict`` / ``_repr_html_``);
+* :func:`make_shift_law` to build a law from known constants without any data;
+* :func:`fit_shift_law`, a weighted least-squares fit (lmfit) of a law to a shift table, with
+  an ``"auto"`` choice by the Bayesian information criterion, returning a :class:`ShiftLawFit`;
+* conversions between WLF constants at two reference temperatures and between WLF and VFT
+  (:func:`wlf_at_reference`, :func:`wlf_to_vft`, :func:`vft_to_wlf`).
+
+References
+----------
+Williams, M. L., Landel, R. F. & Ferry, J. D. (1955). J. Am. Chem. Soc. 77, 3701-3707.
+Ferry, J. D. (1980). Viscoelastic Properties of Polymers, 3rd ed., Wiley, ch. 11.
+Schwarz, G. (1978). Estimating the dimension of a model. Ann. Stat. 6, 461-464.
+Kass, R. E. & Raftery, A. E. (1995). Bayes factors. J. Am. Stat. Assoc. 90, 773-795.
+"""
+
+from __future__ import annotations
+
+import abc
+import html
+import math
+import warnings
+from dataclasses import dataclass, field
+from typing import Any, ClassVar, Iterable, Mapping
+
+import numpy as np
+import scipy.constants
+
+from ._validation import bad_value, check_choice, check_finite, check_positive
+from .exceptions import DataError, ExtrapolationWarning, FitError, FitQualityWarning
+
+__all__ = [
+    "GAS_CONSTANT_J_PER_MOL_K",
+    "SHIFT_LAWS",
+    "AUTO_MODELS",
+    "ShiftLaw",
+    "WLFLaw",
+    "ArrheniusLaw",
+    "WLFArrheniusLaw",
+    "VFTLaw",
+    "PolynomialLaw",
+    "ShiftLawFit",
+    "make_shift_law",
+    "fit_shift_law",
+    "wlf_at_reference",
+    "wlf_to_vft",
+    "vft_to_wlf",
+]
+
+#: Molar gas constant R in J/(mol K), CODATA value as shipped by scipy.constants.
+GAS_CONSTANT_J_PER_MOL_K: float = scipy.constants.R
+
+_ZERO_CELSIUS_K: float = scipy.constants.zero_Celsius
+_LN10: float = math.log(10.0)
+#: log10 a_T per (1/K) for an activation energy of 1 kJ/mol: 1000 / (ln 10 * R).
+_ARRHENIUS_K_PER_KJ_MOL: float = 1000.0 / (_LN10 * GAS_CONSTANT_J_PER_MOL_K)
+#: Temperatures closer than this to an end of the valid range count as inside it.
+_RANGE_TOLERANCE_K = 1e-9
+#: Resolution floor of the fit (decades), so exact data compare by parameter count, not rounding.
+_RESIDUAL_FLOOR_DECADES = 1e-9
+
+
+# --------------------------------------------------------------------------------------
+# small helpers
+# --------------------------------------------------------------------------------------
+def _as_temperature_array(value: Any, name: str = "temperature_K") -> np.ndarray:
+    """Return ``value`` as a float array of positive, finite absolute temperatures."""
+    try:
+        arr = np.asarray(value, dtype=float)
+    except (TypeError, ValueError):
+        raise bad_value(name, "an array of numbers in kelvin", value) from None
+    bad = ~np.isfinite(arr) | (arr <= 0)
+    if np.any(bad):
+        raise bad_value(name, "positive and finite (an absolute temperature in kelvin)",
+                        float(arr[bad][0]))
+    return arr
+
+
+def _to_celsius(value_K: float) -> float:
+    return float(value_K) - _ZERO_CELSIUS_K
+
+
+def _check_range_K(name: str, value: Any) -> tuple[float, float] | None:
+    """Validate a (low, high) temperature range in kelvin, or None."""
+    if value is None:
+        return None
+    try:
+        lo, hi = (float(v) for v in value)
+    except (TypeError, ValueError):
+        raise bad_value(name, "None or a pair (low, high) of temperatures in kelvin", value) from None
+    if not (np.isfinite(lo) and np.isfinite(hi) and 0 < lo <= hi):
+        raise bad_value(name, "a pair (low, high) with 0 < low <= high, in kelvin", value)
+    return (lo, hi)
+
+
+def _poly_name(k: int) -> str:
+    """Name of the k-th polynomial coefficient: a1_per_K, a2_per_K2, a3_per_K3, ..."""
+    return "a1_per_K" if k == 1 else f"a{k}_per_K{k}"
+
+
+def _poly_unit(k: int) -> str:
+    return "1/K" if k == 1 else f"1/K^{k}"
+
+
+def _fmt(value: float) -> str:
+    return "nan" if value is None or not np.isfinite(value) else f"{value:.6g}"
+
+
+def _html_table(caption: str, rows: Iterable[tuple[str, str]]) -> str:
+    body = "".join(
+        f"<tr><th style='text-align:left'>{html.escape(k)}</th>"
+        f"<td style='text-align:left'>{html.escape(v)}</td></tr>"
+        for k, v in rows
+    )
+    return f"<table><caption>{html.escape(caption)}</caption>{body}</table>"
+
+
+def _plain(value: Any) -> Any:
+    """Turn a number into a JSON-ready float (None for NaN or infinity)."""
+    v = float(value)
+    return v if np.isfinite(v) else None
+
+
+# --------------------------------------------------------------------------------------
+# the law objects
+# --------------------------------------------------------------------------------------
+@dataclass(frozen=True)
+class ShiftLaw(abc.ABC):
+    """A shift law log10 a_T(T) about a reference temperature (base class of the registry).
+
+    Build one with :func:`make_shift_law`, with a registry class directly
+    (``WLFLaw(373.15, {"C1": 17.44, "C2_K": 51.6})``) or by fitting with :func:`fit_shift_law`.
+
+    Parameters
+    ----------
+    reference_temperature_K : float
+        Reference temperature T_ref in K, where log10 a_T = 0.
+    params : mapping of str to float
+        The law's constants, named with their units (see each law class).
+    valid_temperature_range_K : (float, float) or None
+        Temperatures (K) the law is trusted over, usually the range of the fitted data.
+        Evaluating outside it issues an :class:`~ttsp.exceptions.ExtrapolationWarning`.
+        None means no range is known and no warning is given.
+
+    Attributes
+    ----------
+    model : str
+        Registry name of the law (``"wlf"``, ``"arrhenius"``, ...).
+    """
+
+    reference_temperature_K: float
+    params: dict
+    valid_temperature_range_K: tuple[float, float] | None = None
+
+    model: ClassVar[str] = ""
+    _units: ClassVar[dict] = {}
+
+    # ---- construction ------------------------------------------------------------
+    def __post_init__(self) -> None:
+        tr = check_positive("reference_temperature_K", self.reference_temperature_K)
+        if not isinstance(self.params, Mapping):
+            raise bad_value("params", "a mapping of parameter names to numbers", self.params)
+        expected = self._expected_names(self.params)
+        given = set(self.params)
+        if given != set(expected):
+            missing = [n for n in expected if n not in given]
+            extra = sorted(given - set(expected))
+            detail = []
+            if missing:
+                detail.append("missing " + ", ".join(missing))
+            if extra:
+                detail.append("unknown " + ", ".join(extra))
+            raise bad_value(
+                f"the parameters of the {self.model!r} law",
+                "exactly " + ", ".join(expected) + " (" + "; ".join(detail) + ")",
+                sorted(given),
+            )
+        clean = {n: check_finite(n, self.params[n]) for n in expected}
+        self._check_params(clean, tr)
+        object.__setattr__(self, "reference_temperature_K", tr)
+        object.__setattr__(self, "params", clean)
+        object.__setattr__(
+            self, "valid_temperature_range_K",
+            _check_range_K("valid_temperature_range_K", self.valid_temperature_range_K),
+        )
+
+    def __hash__(self) -> int:
+        return hash((self.model, self.reference_temperature_K,
+                     tuple(self.params.items()), self.valid_temperature_range_K))
+
+    # ---- hooks each law implements -------------------------------------------------
+    @classmethod
+    def _expected_names(cls, params: Mapping[str, Any] | None = None) -> tuple[str, ...]:
+        return tuple(cls._units)
+
+    @classmethod
+    def _check_params(cls, p: Mapping[str, float], tr: float) -> None:
+        """Raise DataError when the constants do not define a usable law."""
+
+    @staticmethod
+    @abc.abstractmethod
+    def _evaluate(p: Mapping[str, float], T: np.ndarray, tr: float) -> np.ndarray:
+        """log10 a_T for constants ``p`` (no checks; also used inside the fit)."""
+
+    @staticmethod
+    @abc.abstractmethod
+    def _slope(p: Mapping[str, float], T: np.ndarray, tr: float) -> np.ndarray:
+        """d log10 a_T / dT in 1/K."""
+
+    @staticmethod
+    def _lower_limit_K(p: Mapping[str, float], tr: float) -> float | None:
+        """Temperature (K) at or below which the law is undefined, or None."""
+        return None
+
+    _limit_name: ClassVar[str] = ""
+
+    # ---- evaluation ------------------------------------------------------------------
+    @property
+    def reference_temperature_C(self) -> float:
+        """Reference temperature in degrees Celsius."""
+        return _to_celsius(self.reference_temperature_K)
+
+    def _prepare(self, temperature_K: Any, stacklevel: int) -> np.ndarray:
+        T = _as_temperature_array(temperature_K)
+        limit = self._lower_limit_K(self.params, self.reference_temperature_K)
+        if limit is not None and np.any(T <= limit):
+            raise bad_value("temperature_K", f"above {self._limit_name} = {limit:.6g} K",
+                            float(T[T <= limit][0]))
+        rng = self.valid_temperature_range_K
+        if rng is not None and T.size:
+            outside = (T < rng[0] - _RANGE_TOLERANCE_K) | (T > rng[1] + _RANGE_TOLERANCE_K)
+            if np.any(outside):
+                warnings.warn(
+                    f"{int(outside.sum())} of {T.size} temperatures lie outside the valid range "
+                    f"{rng[0]:.6g}-{rng[1]:.6g} K of this {self.model} law (for example "
+                    f"{float(T[outside][0]):.6g} K); the value there is an extrapolation",
+                    ExtrapolationWarning, stacklevel=stacklevel + 1,
+                )
+        return T
+
+    def _log10_aT(self, temperature_K: Any, stacklevel: int) -> Any:
+        T = self._prepare(temperature_K, stacklevel + 1)
+        out = self._evaluate(self.params, T, self.reference_temperature_K)
+        return float(out) if np.ndim(out) == 0 else out
+
+    def log10_aT(self, temperature_K: Any) -> Any:
+        """Decimal logarithm of the shift factor a_T at absolute temperature(s).
+
+        Parameters
+        ----------
+        temperature_K : float or array_like
+            Absolute temperature(s) in K.
+
+        Returns
+        -------
+        float or numpy.ndarray
+            log10 a_T (decades), same shape as the input; > 0 below the reference temperature.
+
+        Raises
+        ------
+        DataError
+            A temperature is not positive and finite, or lies at or below the law's divergence
+            (WLF: T <= T_ref - C2; VFT: T <= T_inf).
+
+        Warns
+        -----
+        ExtrapolationWarning
+            A temperature lies outside ``valid_temperature_range_K``.
+        """
+        return self._log10_aT(temperature_K, stacklevel=2)
+
+    def _activation_energy(self, temperature_K: Any, stacklevel: int) -> Any:
+        T = self._prepare(temperature_K, stacklevel + 1)
+        slope = self._slope(self.params, T, self.reference_temperature_K)
+        out = -_LN10 * GAS_CONSTANT_J_PER_MOL_K * T ** 2 * slope / 1000.0
+        return float(out) if np.ndim(out) == 0 else out
+
+    def activation_energy_kJ_per_mol(self, temperature_K: Any) -> Any:
+        """Apparent (flow) activation energy of the law at absolute temperature(s).
+
+        E_a(T) = -ln(10) * R * T^2 * d log10 a_T / dT, equivalently R * d ln a_T / d(1/T)
+        (Ferry 1980, ch. 11), with R = :data:`GAS_CONSTANT_J_PER_MOL_K`. For WLF this is
+        E_a = ln(10) R C1 C2 T^2 / (C2 + T - T_ref)^2; for Arrhenius it is the constant E_a.
+
+        Parameters
+        ----------
+        temperature_K : float or array_like
+            Absolute temperature(s) in K.
+
+        Returns
+        -------
+        float or numpy.ndarray
+            Apparent activation energy in kJ/mol.
+        """
+        return self._activation_energy(temperature_K, stacklevel=2)
+
+    def fragility(self, glass_transition_K: float) -> float:
+        """Fragility (steepness) index m at the glass transition.
+
+        m = d log10 tau / d(Tg/T) at T = Tg, with tau proportional to a_T, i.e.
+        m = -Tg * d log10 a_T/dT (Tg) = E_a(Tg) / (ln(10) R Tg) (Boehmer, Ngai, Angell & Plazek,
+        J. Chem. Phys. 99, 4201, 1993; IUPAC, Pure Appl. Chem. 85, 1017, 2013). For WLF
+        constants referred to Tg this is m = C1g * Tg / C2g.
+
+        Parameters
+        ----------
+        glass_transition_K : float
+            Glass transition temperature Tg in K.
+
+        Returns
+        -------
+        float
+            Fragility index m (dimensionless).
+        """
+        tg = check_positive("glass_transition_K", glass_transition_K)
+        T = self._prepare(tg, stacklevel=2)
+        return float(-tg * self._slope(self.params, T, self.reference_temperature_K))
+
+    def at_reference(self, reference_temperature_K: float) -> "ShiftLaw":
+        """The same law referred to another reference temperature T_ref'.
+
+        log10 a_T' (T) = log10 a_T(T) - log10 a_T(T_ref'), so that a_T'(T_ref') = 1. The valid
+        range is kept. Each law rewrites its own constants (WLF: C1' = C1 C2 / (C2 + T_ref' -
+        T_ref), C2' = C2 + T_ref' - T_ref, Ferry 1980; Arrhenius and VFT constants do not change;
+        polynomial coefficients are re-expanded about T_ref').
+
+        Parameters
+        ----------
+        reference_temperature_K : float
+            The new reference temperature in K.
+        """
+        new_tr = check_positive("reference_temperature_K", reference_temperature_K)
+        limit = self._lower_limit_K(self.params, self.reference_temperature_K)
+        if limit is not None and new_tr <= limit:
+            raise bad_value("reference_temperature_K", f"above {self._limit_name} = {limit:.6g} K",
+                            reference_temperature_K)
+        return type(self)(new_tr, self._params_at(new_tr), self.valid_temperature_range_K)
+
+    @abc.abstractmethod
+    def _params_at(self, new_tr: float) -> dict:
+        """The constants of the same law about the reference ``new_tr`` (K)."""
+
+    # ---- export ------------------------------------------------------------------------
+    def to_dict(self) -> dict:
+        """JSON-ready description: model, parameters, reference temperature (K and degC), range."""
+        rng = self.valid_temperature_range_K
+        return {
+            "model": self.model,
+            "parameters": {k: float(v) for k, v in self.params.items()},
+            "reference_temperature_K": float(self.reference_temperature_K),
+            "reference_temperature_C": self.reference_temperature_C,
+            "valid_temperature_range_K": None if rng is None else [float(rng[0]), float(rng[1])],
+            "valid_temperature_range_C": None if rng is None else [_to_celsius(rng[0]),
+                                                                    _to_celsius(rng[1])],
+        }
+
+    @classmethod
+    def from_dict(cls, data: Mapping[str, Any]) -> "ShiftLaw":
+        """Rebuild a law from :meth:`to_dict` output (or the ``shift_law`` of a summary).
+
+        Kelvin keys are used when present; otherwise the degC keys are converted.
+        """
+        if not isinstance(data, Mapping):
+            raise bad_value("shift law description", "a mapping (as written by to_dict)", data)
+        model = check_choice("model", data.get("model"), SHIFT_LAWS)
+        law_cls = SHIFT_LAWS[model]
+        if cls is not ShiftLaw and law_cls is not cls:
+            raise bad_value("model", f"{cls.model!r} for {cls.__name__}.from_dict", model)
+        if "parameters" not in data:
+            raise bad_value("shift law description", "a mapping with a 'parameters' entry",
+                            sorted(data))
+        if data.get("reference_temperature_K") is not None:
+            tr = data["reference_temperature_K"]
+        elif data.get("reference_temperature_C") is not None:
+            tr = check_finite("reference_temperature_C", data["reference_temperature_C"]) \
+                + _ZERO_CELSIUS_K
+        else:
+            raise bad_value("shift law description",
+                            "a mapping with reference_temperature_K or reference_temperature_C",
+                            sorted(data))
+        rng = data.get("valid_temperature_range_K")
+        if rng is None and data.get("valid_temperature_range_C") is not None:
+            rc = data["valid_temperature_range_C"]
+            try:
+                rng = tuple(float(v) + _ZERO_CELSIUS_K for v in rc)
+            except (TypeError, ValueError):
+                raise bad_value("valid_temperature_range_C", "None or a pair (low, high)",
+                                rc) from None
+        return law_cls(tr, dict(data["parameters"]), None if rng is None else tuple(rng))
+
+    def _repr_html_(self) -> str:
+        rows = [("model", self.model),
+                ("reference temperature", f"{self.reference_temperature_K:.6g} K "
+                                          f"({self.reference_temperature_C:.6g} degC)")]
+        for name, value in self.params.items():
+            rows.append((name, f"{value:.6g} {self._unit_of(name)}".rstrip()))
+        rng = self.valid_temperature_range_K
+        rows.append(("valid range", "not known" if rng is None else
+                     f"{rng[0]:.6g}-{rng[1]:.6g} K"))
+        return _html_table(f"{self.model} shift law", rows)
+
+    def _unit_of(self, name: str) -> str:
+        return self._units.get(name, "")
+
+
+class WLFLaw(ShiftLaw):
+    """Williams-Landel-Ferry law.
+
+    log10 a_T = -C1 (T - T_ref) / (C2 + T - T_ref)
+
+    (Williams, Landel & Ferry, J. Am. Chem. Soc. 77, 3701, 1955; Ferry 1980, ch. 11).
+    It diverges at T_inf = T_ref - C2 and tends to -C1 for T >> T_ref. The "universal"
+    constants referred to Tg are C1g = 17.44 and C2g = 51.6 K (WLF 1955).
+
+    Parameters (in ``params``)
+    --------------------------
+    C1 : dimensionless (decades).
+    C2_K : K, > 0.
+    """
+
+    model: ClassVar[str] = "wlf"
+    _units: ClassVar[dict] = {"C1": "", "C2_K": "K"}
+    _limit_name: ClassVar[str] = "the WLF divergence T_ref - C2"
+
+    @classmethod
+    def _check_params(cls, p, tr):
+        if p["C2_K"] <= 0:
+            raise bad_value("C2_K", "positive (the WLF divergence T_ref - C2 must lie below "
+                                    "the reference temperature)", p["C2_K"])
+
+    @staticmethod
+    def _evaluate(p, T, tr):
+        x = T - tr
+        return -p["C1"] * x / (p["C2_K"] + x)
+
+    @staticmethod
+    def _slope(p, T, tr):
+        return -p["C1"] * p["C2_K"] / (p["C2_K"] + T - tr) ** 2
+
+    @staticmethod
+    def _lower_limit_K(p, tr):
+        return tr - p["C2_K"]
+
+    def _params_at(self, new_tr):
+        return wlf_at_reference(self.params["C1"], self.params["C2_K"],
+                                self.reference_temperature_K, new_tr)
+
+    @property
+    def T_inf_K(self) -> float:
+        """Divergence (Vogel) temperature T_inf = T_ref - C2 in K; unchanged by a new reference."""
+        return self.reference_temperature_K - self.params["C2_K"]
+
+    def at_glass_transition(self, glass_transition_K: float) -> "WLFLaw":
+        """The same law with the glass transition Tg (K) as reference: constants C1g, C2g."""
+        return self.at_reference(glass_transition_K)
+
+    def to_vft(self) -> "VFTLaw":
+        """The identical law written in VFT form (log10 form: B_K = C1 C2, T_inf = T_ref - C2)."""
+        vft = wlf_to_vft(self.params["C1"], self.params["C2_K"], self.reference_temperature_K)
+        return VFTLaw(self.reference_temperature_K, vft, self.valid_temperature_range_K)
+
+    def free_volume(self, glass_transition_K: float) -> dict:
+        """Free-volume figures at Tg from the Doolittle interpretation of WLF.
+
+        f_g / B = 1 / (ln(10) C1g) and alpha_f / B = 1 / (ln(10) C1g C2g), where C1g, C2g are the
+        constants referred to Tg (Doolittle, J. Appl. Phys. 22, 1471, 1951; Ferry 1980, ch. 11).
+        B is the Doolittle constant, usually taken as 1.
+
+        Parameters
+        ----------
+        glass_transition_K : float
+            Glass transition temperature Tg in K.
+
+        Returns
+        -------
+        dict
+            ``glass_transition_K``, ``C1g``, ``C2g_K``, ``fractional_free_volume_over_B``
+            (dimensionless) and ``expansion_coefficient_over_B_per_K`` (1/K).
+        """
+        g = self.at_glass_transition(glass_transition_K).params
+        c1g, c2g = g["C1"], g["C2_K"]
+        return {
+            "glass_transition_K": float(glass_transition_K),
+            "C1g": c1g,
+            "C2g_K": c2g,
+            "fractional_free_volume_over_B": 1.0 / (_LN10 * c1g),
+            "expansion_coefficient_over_B_per_K": 1.0 / (_LN10 * c1g * c2g),
+        }
+
+
+class ArrheniusLaw(ShiftLaw):
+    """Arrhenius law.
+
+    ln a_T = (E_a / R) (1/T - 1/T_ref), i.e. log10 a_T = E_a / (ln(10) R) (1/T - 1/T_ref)
+
+    (Arrhenius, Z. Phys. Chem. 4, 226, 1889; Ferry 1980, ch. 11), T in K and R =
+    :data:`GAS_CONSTANT_J_PER_MOL_K`.
+
+    Parameters (in ``params``)
+    --------------------------
+    activation_energy_kJ_per_mol : kJ/mol.
+    """
+
+    model: ClassVar[str] = "arrhenius"
+    _units: ClassVar[dict] = {"activation_energy_kJ_per_mol": "kJ/mol"}
+
+    @staticmethod
+    def _evaluate(p, T, tr):
+        return p["activation_energy_kJ_per_mol"] * _ARRHENIUS_K_PER_KJ_MOL * (1.0 / T - 1.0 / tr)
+
+    @staticmethod
+    def _slope(p, T, tr):
+        return -p["activation_energy_kJ_per_mol"] * _ARRHENIUS_K_PER_KJ_MOL / T ** 2
+
+    def _params_at(self, new_tr):
+        return dict(self.params)
+
+
+class WLFArrheniusLaw(ShiftLaw):
+    """WLF above the glass transition, Arrhenius below it, continuous in value at Tg.
+
+    With W(T) = -C1 (T - T_ref) / (C2 + T - T_ref) and k = E_a / (ln(10) R),
+
+        h(T) = W(T)                            for T >= Tg
+        h(T) = W(Tg) + k (1/T - 1/Tg)          for T <  Tg
+        log10 a_T = h(T) - h(T_ref)
+
+    When T_ref >= Tg (the usual case) h(T_ref) = 0 and the WLF branch is the plain WLF law about
+    T_ref. The slope is continuous at Tg only if E_a = ln(10) R C1 C2 Tg^2 / (C2 + Tg - T_ref)^2;
+    otherwise the law has a kink there. A common engineering form (e.g. asphalt binders,
+    Christensen & Anderson, J. Assoc. Asphalt Paving Technol. 61, 67, 1992; WLF part: Williams,
+    Landel & Ferry 1955; Arrhenius part: Ferry 1980, ch. 11).
+
+    Parameters (in ``params``)
+    --------------------------
+    C1 : dimensionless (decades), WLF branch about T_ref.
+    C2_K : K, WLF branch about T_ref; C2 + Tg - T_ref > 0 so that WLF is finite above Tg.
+    activation_energy_kJ_per_mol : kJ/mol, Arrhenius branch below Tg.
+    glass_transition_K : K, the break temperature Tg.
+    """
+
+    model: ClassVar[str] = "wlf-arrhenius"
+    _units: ClassVar[dict] = {"C1": "", "C2_K": "K", "activation_energy_kJ_per_mol": "kJ/mol",
+                              "glass_transition_K": "K"}
+
+    @classmethod
+    def _check_params(cls, p, tr):
+        tg = check_positive("glass_transition_K", p["glass_transition_K"])
+        if p["C2_K"] + tg - tr <= 0:
+            raise bad_value("C2_K", f"greater than T_ref - Tg = {tr - tg:.6g} K (so that the WLF "
+                                    "branch stays finite above Tg)", p["C2_K"])
+
+    @staticmethod
+    def _h(p, T, tr):
+        c1, c2 = p["C1"], p["C2_K"]
+        tg = p["glass_transition_K"]
+        k = p["activation_energy_kJ_per_mol"] * _ARRHENIUS_K_PER_KJ_MOL
+        tw = np.maximum(T, tg)
+        wlf = -c1 * (tw - tr) / (c2 + tw - tr)
+        return wlf + np.where(T < tg, k * (1.0 / T - 1.0 / tg), 0.0)
+
+    @classmethod
+    def _evaluate(cls, p, T, tr):
+        return cls._h(p, T, tr) - cls._h(p, np.asarray(float(tr)), tr)
+
+    @staticmethod
+    def _slope(p, T, tr):
+        c1, c2 = p["C1"], p["C2_K"]
+        k = p["activation_energy_kJ_per_mol"] * _ARRHENIUS_K_PER_KJ_MOL
+        return np.where(T >= p["glass_transition_K"], -c1 * c2 / (c2 + T - tr) ** 2, -k / T ** 2)
+
+    def _params_at(self, new_tr):
+        p = self.params
+        c2_new = p["C2_K"] + new_tr - self.reference_temperature_K
+        if abs(c2_new) < 1e-9 * self.reference_temperature_K:
+            raise bad_value("reference_temperature_K",
+                            "different from the WLF divergence T_ref - C2", new_tr)
+        out = dict(p)
+        out["C1"] = p["C1"] * p["C2_K"] / c2_new
+        out["C2_K"] = c2_new
+        return out
+
+
+class VFTLaw(ShiftLaw):
+    """Vogel-Fulcher-Tammann law, written in decimal logarithms.
+
+    log10 a_T = B / (T - T_inf) - B / (T_ref - T_inf)
+
+    (Vogel, Phys. Z. 22, 645, 1921; Fulcher, J. Am. Ceram. Soc. 8, 339, 1925; Tammann & Hesse,
+    Z. Anorg. Allg. Chem. 156, 245, 1926). ``B_K`` here is the **log10** constant: it equals
+    C1 C2 of the equivalent WLF law (T_inf = T_ref - C2). The natural-log form
+    ln a_T = B' / (T - T_inf) - ... has B' = ln(10) B_K = 2.303 C1 C2.
+
+    Parameters (in ``params``)
+    --------------------------
+    B_K : K (log10 form).
+    T_inf_K : K, the Vogel temperature, below the reference temperature.
+    """
+
+    model: ClassVar[str] = "vft"
+    _units: ClassVar[dict] = {"B_K": "K", "T_inf_K": "K"}
+    _limit_name: ClassVar[str] = "the VFT divergence T_inf"
+
+    @classmethod
+    def _check_params(cls, p, tr):
+        if p["T_inf_K"] >= tr:
+            raise bad_value("T_inf_K", f"below the reference temperature {tr:.6g} K", p["T_inf_K"])
+
+    @staticmethod
+    def _evaluate(p, T, tr):
+        b, ti = p["B_K"], p["T_inf_K"]
+        return b / (T - ti) - b / (tr - ti)
+
+    @staticmethod
+    def _slope(p, T, tr):
+        return -p["B_K"] / (T - p["T_inf_K"]) ** 2
+
+    @staticmethod
+    def _lower_limit_K(p, tr):
+        return p["T_inf_K"]
+
+    def _params_at(self, new_tr):
+        return dict(self.params)
+
+    def to_wlf(self) -> WLFLaw:
+        """The identical law in WLF form about the same reference (C2 = T_ref - T_inf, C1 = B/C2)."""
+        wlf = vft_to_wlf(self.params["B_K"], self.params["T_inf_K"], self.reference_temperature_K)
+        return WLFLaw(self.reference_temperature_K, wlf, self.valid_temperature_range_K)
+
+
+class PolynomialLaw(ShiftLaw):
+    """Polynomial law in (T - T_ref), zero at the reference temperature.
+
+    log10 a_T = a1 (T - T_ref) + a2 (T - T_ref)^2 + ... + an (T - T_ref)^n
+
+    An empirical law used for asphalt concrete and bituminous mixes, second order by default
+    (compared with WLF, Arrhenius and others in e.g. Materials 15, 4325, 2022). It must not
+    be extrapolated.
+
+    Parameters (in ``params``)
+    --------------------------
+    a1_per_K : 1/K; a2_per_K2 : 1/K^2; a3_per_K3 : 1/K^3; ... (contiguous from a1).
+    """
+
+    model: ClassVar[str] = "polynomial"
+
+    @classmethod
+    def _expected_names(cls, params=None):
+        order = 0
+        if params:
+            for name in params:
+                if isinstance(name, str) and name.startswith("a"):
+                    digits = name[1:].split("_", 1)[0]
+                    if digits.isdigit() and _poly_name(int(digits)) == name:
+                        order = max(order, int(digits))
+        return tuple(_poly_name(k) for k in range(1, max(order, 1) + 1))
+
+    @property
+    def order(self) -> int:
+        """Polynomial order n."""
+        return len(self.params)
+
+    def _unit_of(self, name):
+        return _poly_unit(int(name[1:].split("_", 1)[0]))
+
+    @staticmethod
+    def _coefficients(p):
+        return np.array([0.0] + [p[_poly_name(k)] for k in range(1, len(p) + 1)])
+
+    @classmethod
+    def _evaluate(cls, p, T, tr):
+        return np.polynomial.polynomial.polyval(T - tr, cls._coefficients(p))
+
+    @classmethod
+    def _slope(cls, p, T, tr):
+        c = np.polynomial.polynomial.polyder(cls._coefficients(p))
+        return np.polynomial.polynomial.polyval(T - tr, c)
+
+    def _params_at(self, new_tr):
+        # P(x) about T_ref; about T_ref' = T_ref + d:  P(y + d) - P(d), y = T - T_ref'.
+        d = new_tr - self.reference_temperature_K
+        c = self._coefficients(self.params)
+        n = len(c) - 1
+        shifted = np.zeros(n + 1)
+        for j in range(n + 1):
+            for k in range(j, n + 1):
+                shifted[j] += c[k] * math.comb(k, j) * d ** (k - j)
+        return {_poly_name(k): float(shifted[k]) for k in range(1, n + 1)}
+
+
+#: Registry of shift laws: model name -> law class.
+SHIFT_LAWS: dict[str, type[ShiftLaw]] = {
+    "wlf": WLFLaw,
+    "arrhenius": ArrheniusLaw,
+    "wlf-arrhenius": WLFArrheniusLaw,
+    "vft": VFTLaw,
+    "polynomial": PolynomialLaw,
+}
+
+#: Laws compared by ``fit_shift_law(model="auto")``, in order of preference on a tie.
+#: VFT is left out: it is the same law as WLF written with other constants (T_inf = T_ref - C2,
+#: B = C1 C2), so it would always tie with WLF; convert a WLF result with ``.to_vft()``.
+AUTO_MODELS: tuple[str, ...] = ("wlf", "arrhenius", "polynomial", "wlf-arrhenius")
+
+
+def make_shift_law(model: str, reference_temperature_K: float, *,
+                   valid_temperature_range_K: tuple[float, float] | None = None,
+                   **params: float) -> ShiftLaw:
+    """Build a shift law from known constants, without data.
+
+    Parameters
+    ----------
+    model : str
+        One of ``"wlf"``, ``"arrhenius"``, ``"wlf-arrhenius"``, ``"vft"``, ``"polynomial"``.
+    reference_temperature_K : float
+        Reference temperature in K.
+    valid_temperature_range_K : (float, float), optional
+        Range (K) over which the constants are trusted; outside it evaluation warns.
+    **params : float
+        The law's constants with their unit-suffixed names, e.g. ``C1=17.44, C2_K=51.6``
+        (see the law classes in :data:`SHIFT_LAWS`).
+
+    Returns
+    -------
+    ShiftLaw
+
+    Examples
+    --------
+    >>> law = make_shift_law("wlf", 373.15, C1=17.44, C2_K=51.6)
+    >>> round(law.log10_aT(423.15), 4)
+    -8.5827
+    """
+    check_choice("model", model, SHIFT_LAWS)
+    return SHIFT_LAWS[model](reference_temperature_K, dict(params), valid_temperature_range_K)
+
+
+# --------------------------------------------------------------------------------------
+# conversions
+# --------------------------------------------------------------------------------------
+def wlf_at_reference(C1: float, C2_K: float, old_reference_K: float,
+                     new_reference_K: float) -> dict:
+    """WLF constants referred to another reference temperature.
+
+    C1' = C1 C2 / (C2 + T' - T) and C2' = C2 + T' - T (Ferry 1980, ch. 11). The product C1 C2
+    and T_inf = T - C2 do not change.
+
+    Parameters
+    ----------
+    C1 : float
+        C1 at the old reference (dimensionless).
+    C2_K : float
+        C2 at the old reference, in K.
+    old_reference_K, new_reference_K : float
+        Old reference T and new reference T', in K.
+
+    Returns
+    -------
+    dict
+        ``{"C1": C1', "C2_K": C2'}``.
+
+    Raises
+    ------
+    DataError
+        The new reference is at or below the divergence T_inf = T - C2.
+    """
+    c1 = check_finite("C1", C1)
+    c2 = check_positive("C2_K", C2_K)
+    t_old = check_positive("old_reference_K", old_reference_K)
+    t_new = check_positive("new_reference_K", new_reference_K)
+    c2_new = c2 + t_new - t_old
+    if c2_new <= 0:
+        raise bad_value("new_reference_K",
+                        f"above the WLF divergence T - C2 = {t_old - c2:.6g} K", new_reference_K)
+    return {"C1": c1 * c2 / c2_new, "C2_K": c2_new}
+
+
+def wlf_to_vft(C1: float, C2_K: float, reference_temperature_K: float) -> dict:
+    """VFT constants (log10 form) of a WLF law: T_inf = T_ref - C2 and B = C1 C2.
+
+    log10 a_T = B/(T - T_inf) - B/(T_ref - T_inf) equals the WLF expression identically
+    (Ferry 1980, ch. 11). For the natural-log VFT form multiply B by ln(10) (B' = 2.303 C1 C2).
+
+    Returns
+    -------
+    dict
+        ``{"B_K": C1*C2, "T_inf_K": T_ref - C2}``, both in K.
+    """
+    c1 = check_finite("C1", C1)
+    c2 = check_positive("C2_K", C2_K)
+    tr = check_positive("reference_temperature_K", reference_temperature_K)
+    return {"B_K": c1 * c2, "T_inf_K": tr - c2}
+
+
+def vft_to_wlf(B_K: float, T_inf_K: float, reference_temperature_K: float) -> dict:
+    """WLF constants of a VFT law in log10 form: C2 = T_ref - T_inf and C1 = B / C2.
+
+    Returns
+    -------
+    dict
+        ``{"C1": B/(T_ref - T_inf), "C2_K": T_ref - T_inf}``.
+
+    Raises
+    ------
+    DataError
+        T_inf is not below the reference temperature.
+    """
+    b = check_finite("B_K", B_K)
+    ti = check_finite("T_inf_K", T_inf_K)
+    tr = check_positive("reference_temperature_K", reference_temperature_K)
+    if ti >= tr:
+        raise bad_value("T_inf_K", f"below the reference temperature {tr:.6g} K", T_inf_K)
+    return {"C1": b / (tr - ti), "C2_K": tr - ti}
+
+
+# --------------------------------------------------------------------------------------
+# fitting
+# --------------------------------------------------------------------------------------
+@dataclass(frozen=True)
+class ShiftLawFit:
+    """Result of :func:`fit_shift_law`: the fitted law, its uncertainties and the fit figures.
+
+    Attributes
+    ----------
+    law : ShiftLaw
+        The fitted law; its valid range is the temperature range of the data.
+    params, stderr : dict of str to float
+        Fitted constants and their standard errors (units as in the law's names). The
+        standard errors come from the covariance matrix scaled by the reduced chi-square
+        (lmfit's default), so they reflect the actual scatter even when the supplied shift
+        stderr are only relative. A fixed parameter has stderr 0.0; NaN when it could not
+        be estimated. A fitted Tg (``glass_transition_K``) sits at a kink of the law: its
+        standard error from the local linearisation is optimistic; read it as a resolution
+        of about the spacing of the data temperatures.
+    correlation : dict of (str, str) to float
+        Correlation coefficient of each pair of free parameters.
+    residuals : numpy.ndarray
+        Data minus fitted log10 a_T (decades), one per input point, in input order.
+    temperature_K, log10_aT_data, log10_aT_stderr : numpy.ndarray
+        The shift table as fitted (stderr is NaN where not given).
+    chi_square, reduced_chi_square, aic, bic : float
+        Weighted chi-square (sum of squared residuals / stderr^2; unweighted when no stderr),
+        chi-square per degree of freedom, and AIC = n ln(chi2/n) + 2k,
+        BIC = n ln(chi2/n) + k ln n (Akaike, IEEE Trans. Autom. Control 19, 716, 1974;
+        Schwarz, Ann. Stat. 6, 461, 1978). chi2 is floored at a residual of 1e-9 decades
+        per point so that exact data compare by parameter count.
+    n_points, n_free : int
+        Points used in the fit and free parameters. A row at the reference temperature
+        with log10 a_T = 0 is satisfied by every law by construction; it carries no
+        information and is not counted in n_points (its residual is still reported).
+    fixed_parameters : tuple of str
+        Parameters held fixed.
+    derived, derived_stderr : dict of str to float
+        Derived figures and their standard errors by propagation through the covariance
+        matrix. WLF family: ``T_inf_K`` = T_ref - C2 and ``C1_times_C2_K`` (the VFT constant B),
+        both unchanged by a change of reference temperature, and ``C1_over_C2_per_K``
+        = -d log10 a_T/dT at T_ref. C1 and C2 are strongly and positively correlated
+        (typically > 0.95), so their ratio is usually determined about as well as the better
+        of the two and the product less well; quote the pair with its correlation.
+        VFT: the equivalent ``C1`` and ``C2_K``.
+    candidates : tuple of dict
+        For ``model="auto"``: every law tried, with ``status``, ``n_free``, ``chi_square``,
+        ``aic``, ``bic`` and ``delta_bic`` to the chosen one. Otherwise the one law fitted.
+    reason : str
+        One sentence saying why this law was chosen.
+    success : bool, message : str, nfev : int
+        Solver provenance (lmfit ``leastsq``, Levenberg-Marquardt).
+    notes : tuple of str
+        Doubts about the fit (a parameter at a bound, uncertainties not estimable); each is
+        also issued as a :class:`~ttsp.exceptions.FitQualityWarning`.
+    """
+
+    law: ShiftLaw
+    params: dict
+    stderr: dict
+    correlation: dict
+    residuals: np.ndarray
+    temperature_K: np.ndarray
+    log10_aT_data: np.ndarray
+    log10_aT_stderr: np.ndarray
+    chi_square: float
+    reduced_chi_square: float
+    aic: float
+    bic: float
+    n_points: int
+    n_free: int
+    fixed_parameters: tuple
+    derived: dict
+    derived_stderr: dict
+    candidates: tuple
+    reason: str
+    success: bool = True
+    message: str = ""
+    nfev: int = 0
+    notes: tuple = ()
+    method: str = field(default="lmfit.minimize, leastsq (Levenberg-Marquardt)")
+
+    @property
+    def model(self) -> str:
+        """Registry name of the fitted law."""
+        return self.law.model
+
+    def log10_aT(self, temperature_K: Any) -> Any:
+        """log10 a_T of the fitted law; see :meth:`ShiftLaw.log10_aT`."""
+        return self.law._log10_aT(temperature_K, stacklevel=2)
+
+    def activation_energy_kJ_per_mol(self, temperature_K: Any) -> Any:
+        """Apparent activation energy (kJ/mol) of the fitted law; see :class:`ShiftLaw`."""
+        return self.law._activation_energy(temperature_K, stacklevel=2)
+
+    def to_dict(self) -> dict:
+        """JSON-ready summary: the law's keys plus stderr, statistics and the choice made."""
+        out = self.law.to_dict()
+        out["parameter_stderr"] = {k: _plain(v) for k, v in self.stderr.items()}
+        out["fixed_parameters"] = list(self.fixed_parameters)
+        out["correlation"] = [{"parameters": [a, b], "value": _plain(r)}
+                              for (a, b), r in self.correlation.items()]
+        out["derived"] = {k: _plain(v) for k, v in self.derived.items()}
+        out["derived_stderr"] = {k: _plain(v) for k, v in self.derived_stderr.items()}
+        out["statistics"] = {
+            "n_points": int(self.n_points), "n_free": int(self.n_free),
+            "chi_square": _plain(self.chi_square),
+            "reduced_chi_square": _plain(self.reduced_chi_square),
+            "aic": _plain(self.aic), "bic": _plain(self.bic),
+            "rms_residual_log10_aT": _plain(np.sqrt(np.mean(self.residuals ** 2))),
+        }
+        out["selection"] = {"candidates": [dict(c) for c in self.candidates],
+                            "reason": self.reason}
+        out["solver"] = {"method": self.method, "success": bool(self.success),
+                         "message": self.message, "nfev": int(self.nfev)}
+        out["notes"] = list(self.notes)
+        return out
+
+    def to_frame(self):
+        """Tidy per-point table: temperature, data, stderr, fitted value and residual."""
+        import pandas as pd
+
+        fitted = self.log10_aT_data - self.residuals
+        return pd.DataFrame({
+            "temperature_K": self.temperature_K,
+            "temperature_C": self.temperature_K - _ZERO_CELSIUS_K,
+            "log10_aT": self.log10_aT_data,
+            "log10_aT_stderr": self.log10_aT_stderr,
+            "log10_aT_fitted": fitted,
+            "residual_log10_aT": self.residuals,
+        })
+
+    def _repr_html_(self) -> str:
+        law = self.law
+        rows = [("model", law.model),
+                ("reference temperature", f"{law.reference_temperature_K:.6g} K "
+                                          f"({law.reference_temperature_C:.6g} degC)")]
+        for name, value in self.params.items():
+            unit = law._unit_of(name)
+            if name in self.fixed_parameters:
+                text = f"{value:.6g} {unit} (fixed)"
+            else:
+                text = f"{value:.6g} +/- {_fmt(self.stderr[name])} {unit}"
+            rows.append((name, " ".join(text.split())))
+        for name, value in self.derived.items():
+            rows.append((name, f"{value:.6g} +/- {_fmt(self.derived_stderr.get(name))}"))
+        rng = law.valid_temperature_range_K
+        rows += [("valid range", f"{rng[0]:.6g}-{rng[1]:.6g} K"),
+                 ("points / free parameters", f"{self.n_points} / {self.n_free}"),
+                 ("chi-square (reduced)", f"{self.chi_square:.4g} ({self.reduced_chi_square:.4g})"),
+                 ("AIC / BIC", f"{self.aic:.4g} / {self.bic:.4g}"),
+                 ("why this law", self.reason)]
+        rows += [("note", n) for n in self.notes]
+        return _html_table(f"fitted {law.model} shift law", rows)
+
+
+@dataclass(frozen=True)
+class _Outcome:
+    """One law fitted to the table (internal)."""
+
+    cls: type
+    params: dict
+    stderr: dict
+    correlation: dict
+    covariance: np.ndarray | None
+    free_names: tuple
+    chi_square: float
+    success: bool
+    message: str
+    nfev: int
+    notes: tuple
+
+
+def _weighted_lstsq(columns: Mapping[str, np.ndarray], y: np.ndarray, w: np.ndarray,
+                    fixed: Mapping[str, float]) -> tuple[dict, float]:
+    """Weighted linear least squares y ~ sum c_n col_n with some c_n fixed; (coefs, sse)."""
+    r = y.copy()
+    coefs = {}
+    for name, col in columns.items():
+        if name in fixed:
+            coefs[name] = fixed[name]
+            r = r - fixed[name] * col
+    free = [n for n in columns if n not in fixed]
+    if free:
+        A = np.column_stack([columns[n] for n in free]) * w[:, None]
+        sol, *_ = np.linalg.lstsq(A, r * w, rcond=None)
+        coefs.update(dict(zip(free, (float(v) for v in sol))))
+        resid = r * w - A @ sol
+    else:
+        resid = r * w
+    sse = float(resid @ resid)
+    return coefs, (sse if np.isfinite(sse) else np.inf)
+
+
+def _grid_above(lower: float, bounds: tuple[float, float]) -> np.ndarray:
+    """Trial values lower + (0.5 ... 1e4) K, restricted to ``bounds``."""
+    grid = lower + np.geomspace(0.5, 1e4, 70)
+    lo, hi = bounds
+    grid = grid[(grid > lo) & (grid < hi)]
+    if grid.size == 0:
+        lo2 = max(lo, lower)
+        if np.isfinite(hi):
+            grid = np.linspace(lo2, hi, 12)[1:-1] if hi > lo2 else np.array([])
+        else:
+            grid = lo2 + np.geomspace(0.5, 1e4, 70)
+    return grid
+
+
+def _start_values(cls: type, T, y, w, tr, fixed, bounds, order) -> list[dict]:
+    """Starting values, best first, from separable grids with linear inner solutions."""
+    if cls is ArrheniusLaw:
+        cols = {"activation_energy_kJ_per_mol": _ARRHENIUS_K_PER_KJ_MOL * (1 / T - 1 / tr)}
+        return [_weighted_lstsq(cols, y, w, fixed)[0]]
+    if cls is PolynomialLaw:
+        x = T - tr
+        cols = {_poly_name(k): x ** k for k in range(1, order + 1)}
+        return [_weighted_lstsq(cols, y, w, fixed)[0]]
+    if cls in (WLFLaw, VFTLaw):
+        x = T - tr
+        tmin = float(T.min())
+        if cls is WLFLaw:
+            if "C2_K" in fixed:
+                c2_grid = np.array([fixed["C2_K"]])
+            else:
+                c2_grid = _grid_above(max(0.0, tr - tmin), bounds["C2_K"])
+                # the classical linearisation (T-Tr)/log aT = -C2/C1 - (T-Tr)/C1 as one more trial
+                ok = (np.abs(y) > 1e-12) & (x != 0)
+                if ok.sum() >= 2:
+                    s, i = np.polyfit(x[ok], x[ok] / y[ok], 1)
+                    if s != 0 and np.isfinite(i / s):
+                        c2_lin = i / s
+                        lo, hi = bounds["C2_K"]
+                        if max(lo, tr - tmin) < c2_lin < hi:
+                            c2_grid = np.append(c2_grid, c2_lin)
+            trials = []
+            for c2 in c2_grid:
+                coefs, sse = _weighted_lstsq({"C1": -x / (c2 + x)}, y, w, fixed)
+                coefs["C2_K"] = float(c2)
+                trials.append((sse, coefs))
+        else:
+            if "T_inf_K" in fixed:
+                ti_grid = np.array([fixed["T_inf_K"]])
+            else:
+                top = min(tmin, tr)
+                lo, hi = bounds["T_inf_K"]
+                ti_grid = top - _grid_above(0.0, (top - hi, top - lo))
+            trials = []
+            for ti in ti_grid:
+                col = 1 / (T - ti) - 1 / (tr - ti)
+                coefs, sse = _weighted_lstsq({"B_K": col}, y, w, fixed)
+                coefs["T_inf_K"] = float(ti)
+                trials.append((sse, coefs))
+        trials.sort(key=lambda t: t[0])
+        return [trials[0][1]]
+    # the remaining law: WLF above Tg, Arrhenius below
+    tg_grid = _tg_candidates(T, fixed, bounds["glass_transition_K"])
+    trials = []
+    for tg in tg_grid:
+        if "C2_K" in fixed:
+            c2_grid = np.array([fixed["C2_K"]])
+        else:
+            lo, hi = bounds["C2_K"]
+            c2_grid = _grid_above(tr - tg, (max(lo, tr - tg), hi))
+        for c2 in c2_grid:
+            if c2 + tg - tr <= 0:
+                continue
+            u_T = -(np.maximum(T, tg) - tr) / (c2 + np.maximum(T, tg) - tr)
+            u_r = -(max(tr, tg) - tr) / (c2 + max(tr, tg) - tr)
+            a_T = np.where(T < tg, 1 / T - 1 / tg, 0.0) * _ARRHENIUS_K_PER_KJ_MOL
+            a_r = (1 / tr - 1 / tg) * _ARRHENIUS_K_PER_KJ_MOL if tr < tg else 0.0
+            cols = {"C1": u_T - u_r, "activation_energy_kJ_per_mol": a_T - a_r}
+            coefs, sse = _weighted_lstsq(cols, y, w, fixed)
+            coefs["C2_K"] = float(c2)
+            coefs["glass_transition_K"] = float(tg)
+            trials.append((sse, coefs))
+    if not trials:
+        return []
+    trials.sort(key=lambda t: t[0])
+    # best start in each of the three best Tg intervals
+    starts, seen = [], set()
+    for _, coefs in trials:
+        if coefs["glass_transition_K"] not in seen:
+            seen.add(coefs["glass_transition_K"])
+            starts.append(coefs)
+        if len(starts) == 3:
+            break
+    return starts
+
+
+def _tg_candidates(T: np.ndarray, fixed: Mapping[str, float],
+                   bounds: tuple[float, float]) -> np.ndarray:
+    """Trial break temperatures: midpoints leaving at least two points on each side."""
+    if "glass_transition_K" in fixed:
+        return np.array([fixed["glass_transition_K"]])
+    ts = np.sort(T)
+    mids = 0.5 * (ts[1:] + ts[:-1])
+    counts_below = np.arange(1, ts.size)
+    keep = (counts_below >= 2) & (ts.size - counts_below >= 2) & (ts[1:] > ts[:-1])
+    mids = mids[keep]
+    lo, hi = bounds
+    inside = mids[(mids > lo) & (mids < hi)]
+    if inside.size == 0 and np.isfinite(lo) and np.isfinite(hi):
+        inside = np.array([0.5 * (lo + hi)])
+    return inside
+
+
+def _default_bounds(cls: type, T: np.ndarray, tr: float, fixed: Mapping[str, float],
+                    order: int) -> dict:
+    """Bounds that keep every data temperature on the defined side of the law."""
+    tmin, tmax = float(T.min()), float(T.max())
+    margin = 1e-6 * max(tr, tmin)
+    names = cls._expected_names({_poly_name(k): 0 for k in range(1, order + 1)})
+    b = {n: (-np.inf, np.inf) for n in names}
+    if cls is WLFLaw:
+        b["C2_K"] = (max(0.0, tr - tmin) + margin, np.inf)
+    elif cls is VFTLaw:
+        b["T_inf_K"] = (-np.inf, min(tmin, tr) - margin)
+    elif cls is WLFArrheniusLaw:
+        if "C2_K" in fixed:   # keep the WLF branch finite above Tg: Tg > T_ref - C2
+            b["glass_transition_K"] = (max(tmin, tr - fixed["C2_K"] + margin), tmax)
+        else:
+            b["glass_transition_K"] = (tmin, tmax)
+        tg_low = fixed.get("glass_transition_K", tmin)
+        b["C2_K"] = (tr - tg_low + margin, np.inf)
+    return b
+
+
+def _merge_bounds(name: str, default: tuple[float, float], user: tuple[float, float] | None):
+    if user is None:
+        return default
+    if name == "glass_transition_K":          # a data-range default, not a validity limit
+        return user
+    lo, hi = max(default[0], user[0]), min(default[1], user[1])
+    if not lo < hi:
+        raise bad_value(f"bounds[{name!r}]",
+                        f"overlapping the values the law allows ({default[0]:.6g} to "
+                        f"{default[1]:.6g})", user)
+    return (lo, hi)
+
+
+def _into_bounds(value: float, lo: float, hi: float) -> float:
+    """Move a starting value just inside its bounds (lmfit needs lo < start < hi)."""
+    if lo < value < hi:
+        return value
+    if np.isfinite(lo) and np.isfinite(hi):
+        if not np.isfinite(value):
+            return 0.5 * (lo + hi)
+        return lo + (hi - lo) * (1e-3 if value <= lo else 1 - 1e-3)
+    if value <= lo:
+        return lo + max(1e-3 * abs(lo), 1e-3)
+    return hi - max(1e-3 * abs(hi), 1e-3)
+
+
+def _fit_one(cls: type, T, y, w, tr, fixed, user_bounds, order) -> _Outcome:
+    """Fit one law by Levenberg-Marquardt from the best separable-grid starts."""
+    names = cls._expected_names({_poly_name(k): 0 for k in range(1, order + 1)})
+    defaults = _default_bounds(cls, T, tr, fixed, order)
+    bounds = {n: _merge_bounds(n, defaults[n], user_bounds.get(n)) for n in names}
+    for n, v in fixed.items():
+        lo, hi = bounds[n]
+        if n in user_bounds and not lo <= v <= hi:
+            raise bad_value(f"fixed[{n!r}]", f"within its bounds ({lo:.6g}, {hi:.6g})", v)
+    if cls is WLFLaw and "C2_K" in fixed and tr - fixed["C2_K"] >= T.min():
+        raise bad_value("fixed['C2_K']", f"greater than T_ref - (lowest temperature) = "
+                                         f"{tr - T.min():.6g} K (else the WLF law diverges "
+                                         "inside the data)", fixed["C2_K"])
+    if cls is VFTLaw and "T_inf_K" in fixed and fixed["T_inf_K"] >= min(T.min(), tr):
+        raise bad_value("fixed['T_inf_K']", f"below the lowest temperature and the reference "
+                                            f"({min(T.min(), tr):.6g} K)", fixed["T_inf_K"])
+    if cls is WLFArrheniusLaw and {"C2_K", "glass_transition_K"} <= set(fixed):
+        tg = fixed["glass_transition_K"]
+        if fixed["C2_K"] + tg - tr <= 0:
+            raise bad_value("fixed['C2_K']", f"greater than T_ref - Tg = {tr - tg:.6g} K (else "
+                                             "the WLF branch diverges above Tg)", fixed["C2_K"])
+
+    starts = _start_values(cls, T, y, w, tr, fixed, bounds, order)
+    if not starts:
+        raise FitError(f"{cls.model}: no trial break temperature within the bounds of "
+                       "glass_transition_K leaves two points on each side")
+    free = tuple(n for n in names if n not in fixed)
+
+    def residual(p):
+        values = p.valuesdict()
+        with np.errstate(all="ignore"):
+            r = (cls._evaluate(values, T, tr) - y) * w
+        return np.where(np.isfinite(r), r, 1e10)
+
+    import lmfit  # lazily: lmfit loads matplotlib and pandas at import
+
+    best = None
+    for start in starts:
+        params = lmfit.Parameters()
+        for n in names:
+            lo, hi = bounds[n]
+            if n in fixed:
+                params.add(n, value=fixed[n], vary=False)
+            else:
+                params.add(n, value=_into_bounds(float(start[n]), lo, hi), min=lo, max=hi)
+        if not free:
+            r = residual(params)
+            best = (float(r @ r), params, None)
+            break
+        try:
+            res = lmfit.minimize(residual, params, method="leastsq", xtol=1e-12, ftol=1e-12,
+                                 max_nfev=4000 * (len(free) + 1))
+        except Exception as exc:  # lmfit/MINPACK failures become FitError
+            raise FitError(f"{cls.model}: the least-squares solver failed: {exc}") from exc
+        chi2 = float(np.sum(np.asarray(res.residual) ** 2))
+        values = [res.params[n].value for n in free]
+        if not (np.isfinite(chi2) and np.all(np.isfinite(values))):
+            continue
+        if best is None or chi2 < best[0]:
+            best = (chi2, res.params, res)
+    if best is None:
+        raise FitError(f"{cls.model}: the fit produced no finite parameters")
+    chi2, p, res = best
+    values = {n: float(p[n].value) for n in names}
+    notes = []
+    stderr = {n: 0.0 for n in names}
+    corr: dict = {}
+    cov = None
+    if res is not None:
+        cov = None if res.covar is None else np.asarray(res.covar, dtype=float)
+        for n in free:
+            s = p[n].stderr
+            stderr[n] = float("nan") if s is None else float(s)
+        if cov is None:
+            notes.append("parameter uncertainties could not be estimated (singular covariance)")
+        else:
+            sd = np.sqrt(np.diag(cov))
+            for i, a in enumerate(free):
+                for j in range(i + 1, len(free)):
+                    denom = sd[i] * sd[j]
+                    corr[(a, free[j])] = float(cov[i, j] / denom) if denom > 0 else float("nan")
+        for n in free:
+            lo, hi = bounds[n]
+            for side, b in (("lower", lo), ("upper", hi)):
+                if np.isfinite(b) and abs(values[n] - b) <= 1e-6 * max(1.0, abs(b)):
+                    notes.append(f"{n} ended at its {side} bound {b:.6g}; the data do not "
+                                 f"determine it within the bounds")
+    return _Outcome(cls, values, stderr, corr, cov, free, chi2,
+                    True if res is None else bool(res.success),
+                    "all parameters fixed; nothing was fitted" if res is None else str(res.message),
+                    0 if res is None else int(res.nfev), tuple(notes))
+
+
+def _information(chi2: float, n: int, k: int, floor: float) -> tuple[float, float]:
+    c = max(chi2, floor)
+    neg2ll = n * math.log(c / n)
+    return neg2ll + 2 * k, neg2ll + k * math.log(n)
+
+
+def _derived(outcome: _Outcome, tr: float) -> tuple[dict, dict]:
+    p = outcome.params
+    free = list(outcome.free_names)
+    cov = outcome.covariance
+
+    def stderr_of(grad: Mapping[str, float]) -> float:
+        if not any(n in free for n in grad):
+            return 0.0
+        if cov is None:
+            return float("nan")
+        g = np.array([grad.get(n, 0.0) for n in free])
+        return float(np.sqrt(max(g @ cov @ g, 0.0)))
+
+    if "C1" in p and "C2_K" in p:
+        c1, c2 = p["C1"], p["C2_K"]
+        d = {"T_inf_K": tr - c2, "C1_times_C2_K": c1 * c2, "C1_over_C2_per_K": c1 / c2}
+        s = {"T_inf_K": stderr_of({"C2_K": -1.0}),
+             "C1_times_C2_K": stderr_of({"C1": c2, "C2_K": c1}),
+             "C1_over_C2_per_K": stderr_of({"C1": 1 / c2, "C2_K": -c1 / c2 ** 2})}
+        return d, s
+    if "B_K" in p:
+        c2 = tr - p["T_inf_K"]
+        d = {"C1": p["B_K"] / c2, "C2_K": c2}
+        s = {"C1": stderr_of({"B_K": 1 / c2, "T_inf_K": p["B_K"] / c2 ** 2}),
+             "C2_K": stderr_of({"T_inf_K": -1.0})}
+        return d, s
+    return {}, {}
+
+
+def _check_fixed_and_bounds(fixed, bounds, allowed: Iterable[str], what: str):
+    allowed = list(allowed)
+    fixed_clean: dict = {}
+    if fixed is not None:
+        if not isinstance(fixed, Mapping):
+            raise bad_value("fixed", "a mapping of parameter names to numbers", fixed)
+        for name, value in fixed.items():
+            if name not in allowed:
+                raise bad_value("fixed", f"keyed by parameters of {what} ("
+                                + ", ".join(allowed) + ")", name)
+            fixed_clean[name] = check_finite(f"fixed[{name!r}]", value)
+    bounds_clean: dict = {}
+    if bounds is not None:
+        if not isinstance(bounds, Mapping):
+            raise bad_value("bounds", "a mapping of parameter names to (low, high) pairs", bounds)
+        for name, pair in bounds.items():
+            if name not in allowed:
+                raise bad_value("bounds", f"keyed by parameters of {what} ("
+                                + ", ".join(allowed) + ")", name)
+            try:
+                lo, hi = (float(v) for v in pair)
+            except (TypeError, ValueError):
+                raise bad_value(f"bounds[{name!r}]", "a pair (low, high) of numbers", pair) from None
+            if np.isnan(lo) or np.isnan(hi) or not lo < hi:
+                raise bad_value(f"bounds[{name!r}]", "a pair (low, high) with low < high", pair)
+            bounds_clean[name] = (lo, hi)
+    return fixed_clean, bounds_clean
+
+
+def _evidence_word(delta: float) -> str:
+    # Kass & Raftery (1995), Table on 2 ln(Bayes factor), read with Delta BIC in its place.
+    if delta < 2:
+        return "weak evidence"
+    if delta < 6:
+        return "positive evidence"
+    if delta < 10:
+        return "strong evidence"
+    return "very strong evidence"
+
+
+def fit_shift_law(temperature_K: Any, log10_aT: Any, *, reference_temperature_K: float,
+                  model: str = "auto", stderr: Any = None,
+                  fixed: Mapping[str, float] | None = None,
+                  bounds: Mapping[str, tuple[float, float]] | None = None,
+                  polynomial_order: int = 2) -> ShiftLawFit:
+    """Fit a shift law to a table of shift factors by weighted least squares.
+
+    Minimises sum_i [(log10 a_T,i - law(T_i)) / s_i]^2 with lmfit's Levenberg-Marquardt
+    (``leastsq``), where s_i is the shift stderr (all 1 when none is given). Starting values
+    come from the separable structure of each law: for each trial of its nonlinear constant
+    (WLF: C2, including the classical linearisation (T - T_ref)/log10 a_T = -C2/C1 -
+    (T - T_ref)/C1; VFT: T_inf; WLF-Arrhenius: C2 and the break Tg) the linear constants are
+    solved exactly, and the best trial starts the nonlinear fit. Arrhenius and polynomial
+    laws are linear and their starts are already the answer.
+
+    With ``model="auto"`` the laws of :data:`AUTO_MODELS` that have more points than free
+    parameters are fitted and the one with the lowest BIC (Schwarz 1978) is returned; equal
+    BIC goes to fewer parameters, then to the order of :data:`AUTO_MODELS`. VFT is not among them
+    because it is WLF with other constants (use ``.law.to_vft()``). ``reason`` states the BIC
+    margin and its strength on the scale of Kass & Raftery (1995).
+
+    Parameters
+    ----------
+    temperature_K : array_like
+        Absolute temperatures of the shift table, in K (1-D).
+    log10_aT : array_like
+        log10 a_T at those temperatures (decades), > 0 below the reference.
+    reference_temperature_K : float
+        Reference temperature in K, where the law is 0. It need not be a measured temperature.
+    model : str
+        ``"auto"`` or a name of :data:`SHIFT_LAWS`.
+    stderr : array_like, optional
+        Standard error of each log10 a_T (decades). Zero or missing (NaN/None) entries are
+        unknown, not exact: they get the smallest positive stderr of the table. When no
+        entry is positive the fit is unweighted.
+    fixed : mapping, optional
+        Parameters held at given values, e.g. ``{"C1": 17.44, "C2_K": 51.6}`` or
+        ``{"glass_transition_K": 373.15}``.
+    bounds : mapping, optional
+        (low, high) for parameters, e.g. ``{"C2_K": (10, 300)}``. They are intersected with
+        the limits that keep the law defined over the data (e.g. C2 > T_ref - min T for WLF).
+    polynomial_order : int
+        Order of the polynomial law (default 2), also used by ``"auto"``.
+
+    Returns
+    -------
+    ShiftLawFit
+
+    Raises
+    ------
+    DataError
+        Invalid input: shapes, non-finite values, negative stderr, unknown model, or
+        ``fixed``/``bounds`` naming a parameter the law does not have (the message lists the
+        allowed names).
+    FitError
+        Too few points (a law needs more points than free parameters) or the solver failed.
+
+    Warns
+    -----
+    FitQualityWarning
+        A parameter ended at a bound or its uncertainty could not be estimated.
+    """
+    T = _as_temperature_array(temperature_K)
+    if T.ndim != 1 or T.size == 0:
+        raise bad_value("temperature_K", "a non-empty 1-D array", f"shape {T.shape}")
+    try:
+        y = np.asarray(log10_aT, dtype=float)
+    except (TypeError, ValueError):
+        raise bad_value("log10_aT", "an array of numbers", log10_aT) from None
+    if y.shape != T.shape:
+        raise bad_value("log10_aT", f"the same shape as temperature_K {T.shape}",
+                        f"shape {y.shape}")
+    if not np.all(np.isfinite(y)):
+        raise bad_value("log10_aT", "finite", float(y[~np.isfinite(y)][0]))
+    tr = check_positive("reference_temperature_K", reference_temperature_K)
+    check_choice("model", model, ("auto",) + tuple(SHIFT_LAWS))
+    if isinstance(polynomial_order, bool) or not isinstance(polynomial_order, (int, np.integer)) \
+            or not 1 <= polynomial_order <= 6:
+        raise bad_value("polynomial_order", "an integer from 1 to 6", polynomial_order)
+    order = int(polynomial_order)
+
+    if stderr is None:
+        s = np.full(T.shape, np.nan)
+        w = np.ones(T.shape)
+    else:
+        try:
+            s = np.array([np.nan if v is None else v for v in np.ravel(stderr).tolist()],
+                         dtype=float).reshape(np.shape(stderr))
+        except (TypeError, ValueError):
+            raise bad_value("stderr", "an array of numbers (or None entries)", stderr) from None
+        if s.shape != T.shape:
+            raise bad_value("stderr", f"the same shape as temperature_K {T.shape}",
+                            f"shape {s.shape}")
+        if np.any(s < 0) or np.any(np.isinf(s)):
+            raise bad_value("stderr", "non-negative and finite (NaN/None for unknown)",
+                            float(s[(s < 0) | np.isinf(s)][0]))
+        positive = s[s > 0]
+        if positive.size == 0:
+            w = np.ones(T.shape)
+        else:
+            w = 1.0 / np.where(s > 0, s, positive.min())
+
+    informative = ~((np.abs(T - tr) <= _RANGE_TOLERANCE_K) & (y == 0))
+    Tf, yf, wf = T[informative], y[informative], w[informative]
+    n = int(Tf.size)
+    if n == 0:
+        raise FitError("the shift table has no point away from the reference temperature")
+    floor = float(np.sum((wf * _RESIDUAL_FLOOR_DECADES * max(1.0, float(np.abs(yf).max()))) ** 2))
+    models = AUTO_MODELS if model == "auto" else (model,)
+
+    def names_of(m: str) -> tuple:
+        return SHIFT_LAWS[m]._expected_names({_poly_name(k): 0 for k in range(1, order + 1)})
+
+    allowed = []
+    for m in models:
+        allowed += [nm for nm in names_of(m) if nm not in allowed]
+    what = f"the {model!r} law" if model != "auto" else "the laws compared by 'auto'"
+    fixed_all, bounds_all = _check_fixed_and_bounds(fixed, bounds, allowed, what)
+
+    rows, outcomes = [], {}
+    for m in models:
+        cls = SHIFT_LAWS[m]
+        nm = names_of(m)
+        fx = {k: v for k, v in fixed_all.items() if k in nm}
+        bd = {k: v for k, v in bounds_all.items() if k in nm}
+        k_free = len(nm) - len(fx)
+        row = {"model": m, "n_free": k_free, "status": "fitted", "detail": "",
+               "chi_square": None, "aic": None, "bic": None, "delta_bic": None}
+        need_sides = cls is WLFArrheniusLaw and "glass_transition_K" not in fx
+        if n <= k_free or (need_sides and n < 4):
+            msg = (f"the {m} law has {k_free} free parameters and needs more points than that"
+                   + (" (and two on each side of Tg)" if need_sides else "")
+                   + f"; the table has {n}")
+            if model != "auto":
+                raise FitError(msg)
+            row.update(status="skipped", detail=msg)
+            rows.append(row)
+            continue
+        try:
+            out = _fit_one(cls, Tf, yf, wf, tr, fx, bd, order)
+            if not out.success:
+                raise FitError(f"{m}: the solver did not converge ({out.message})")
+            try:
+                cls(tr, out.params)
+            except DataError as exc:
+                raise FitError(f"{m}: the fitted constants do not define a valid law "
+                               f"({exc})") from exc
+        except FitError as exc:
+            if model != "auto":
+                raise
+            row.update(status="failed", detail=str(exc))
+            rows.append(row)
+            continue
+        aic, bic = _information(out.chi_square, n, k_free, floor)
+        row.update(chi_square=out.chi_square, aic=aic, bic=bic)
+        rows.append(row)
+        outcomes[m] = (out, aic, bic)
+
+    if not outcomes:
+        raise FitError("no shift law could be fitted: "
+                       + "; ".join(r["detail"] for r in rows))
+    ranking = sorted(outcomes, key=lambda m: (outcomes[m][2], len(outcomes[m][0].free_names),
+                                              models.index(m)))
+    chosen = ranking[0]
+    out, aic, bic = outcomes[chosen]
+    for r in rows:
+        if r["bic"] is not None:
+            r["delta_bic"] = r["bic"] - bic
+    if model != "auto":
+        reason = f"the {chosen} law was requested"
+    elif len(ranking) == 1:
+        reason = f"{chosen} was the only law that could be fitted to {n} points"
+    else:
+        runner = ranking[1]
+        delta = outcomes[runner][2] - bic
+        reason = (f"{chosen} has the lowest BIC ({bic:.2f}), {delta:.2f} below the runner-up "
+                  f"{runner} ({outcomes[runner][2]:.2f}): {_evidence_word(delta)} on the scale "
+                  f"of Kass & Raftery (1995)")
+
+    law = out.cls(tr, out.params, (float(T.min()), float(T.max())))
+    fitted = law._evaluate(law.params, T, tr)
+    residuals = y - fitted
+    derived, derived_stderr = _derived(out, tr)
+    for note in out.notes:
+        warnings.warn(f"{chosen} fit: {note}", FitQualityWarning, stacklevel=2)
+
+    def frozen(a):
+        a = np.array(a, dtype=float)
+        a.setflags(write=False)
+        return a
+
+    return ShiftLawFit(
+        law=law,
+        params=dict(law.params),
+        stderr=dict(out.stderr),
+        correlation=dict(out.correlation),
+        residuals=frozen(residuals),
+        temperature_K=frozen(T),
+        log10_aT_data=frozen(y),
+        log10_aT_stderr=frozen(s),
+        chi_square=float(out.chi_square),
+        reduced_chi_square=float(out.chi_square / (n - len(out.free_names))),
+        aic=float(aic),
+        bic=float(bic),
+        n_points=n,
+        n_free=len(out.free_names),
+        fixed_parameters=tuple(k for k in law.params if k not in out.free_names),
+        derived=derived,
+        derived_stderr=derived_stderr,
+        candidates=tuple(rows),
+        reason=reason,
+        success=out.success,
+        message=out.message,
+        nfev=out.nfev,
+        notes=tuple(out.notes),
+    )
