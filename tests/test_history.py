@@ -362,7 +362,8 @@ def test_reduced_time_substeps_errors(substeps):
 
 
 def test_reduced_time_overflowing_law():
-    with pytest.raises(DataError, match="log10_aT at 300.0 K must be a finite number with a finite 1/a_T; got -400.0"):
+    message = "log10_aT at 300.0 K must be a finite number with a finite 1/a_T; got -400.0"
+    with pytest.raises(DataError, match=message):
         reduced_time([0.0, 1.0], 300.0, lambda T: np.full(np.shape(T), -400.0))
 
 

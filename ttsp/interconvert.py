@@ -23,8 +23,8 @@ the retardation times are :math:`\\lambda_j = -1/s_j` at the zeros :math:`s_j` o
 :math:`F` increases strictly between its poles :math:`\\tau_i`, runs from :math:`-\\infty` to
 :math:`+\\infty` between two consecutive poles, is positive below :math:`\\tau_1` and tends to
 :math:`E_\\infty` above :math:`\\tau_N`. So the roots interlace the relaxation times,
-:math:`\\tau_1 < \\lambda_1 < \\tau_2 < \\dots < \\tau_N < \\lambda_N`, with the last root only for a
-solid (:math:`E_\\infty > 0`). This is a *secular equation* of the kind met in rank-one
+:math:`\\tau_1 < \\lambda_1 < \\tau_2 < \\dots < \\tau_N < \\lambda_N`, with the last root only
+for a solid (:math:`E_\\infty > 0`). This is a *secular equation* of the kind met in rank-one
 eigenvalue updates (Golub, SIAM Review 15:318, 1973; Bunch, Nielsen & Sorensen, Numer. Math.
 31:31, 1978). The residues of :math:`1/(s\\bar E(s))` give
 
