@@ -225,6 +225,9 @@ def test_reduced_time_of_a_temperature_ramp_against_quad():
     exact = np.array([integrate.quad(rate, 0.0, ti, epsrel=1e-13, limit=200)[0] for ti in t])
     xi = reduced_time(t, temps, wlf, substeps=500)
     np.testing.assert_allclose(xi, exact, rtol=1e-5)
+    r = stress_under_strain(ref_series(), t, np.full(t.size, 0.01), temperature_K=temps,
+                            log10_aT=wlf, substeps=500)
+    np.testing.assert_array_equal(r.reduced_time_s, xi)
     e1 = abs(reduced_time(t, temps, wlf, substeps=20)[-1] / exact[-1] - 1)
     e2 = abs(reduced_time(t, temps, wlf, substeps=40)[-1] / exact[-1] - 1)
     assert 3.5 < e1 / e2 < 4.5
@@ -359,6 +362,8 @@ def test_strain_under_stress_errors():
 def test_reduced_time_substeps_errors(substeps):
     with pytest.raises(DataError, match="substeps must be an integer >= 1"):
         reduced_time([0.0, 1.0], 300.0, wlf, substeps=substeps)
+    with pytest.raises(DataError, match="substeps must be an integer >= 1"):
+        strain_under_stress(ref_series(), [0.0, 1.0], [1.0, 1.0], substeps=substeps)
 
 
 def test_reduced_time_overflowing_law():

@@ -137,6 +137,12 @@ def _rate(log10_aT: Callable, temperature_K: np.ndarray) -> np.ndarray:
     return rate
 
 
+def _substeps(substeps: Any) -> int:
+    if isinstance(substeps, bool) or not isinstance(substeps, (int, np.integer)) or substeps < 1:
+        raise bad_value("substeps", "an integer >= 1", substeps)
+    return int(substeps)
+
+
 # ----------------------------------------------------------------------------------------
 # reduced time
 # ----------------------------------------------------------------------------------------
@@ -176,9 +182,7 @@ def reduced_time(time_s, temperature_K, log10_aT: Callable, *, substeps: int = 1
     """
     t = _time(time_s)
     temp = _temperatures(temperature_K, t.size)
-    if isinstance(substeps, bool) or not isinstance(substeps, (int, np.integer)) or substeps < 1:
-        raise bad_value("substeps", "an integer >= 1", substeps)
-    m = int(substeps)
+    m = _substeps(substeps)
     if t.size == 1:
         _rate(log10_aT, temp)   # validate the law all the same
         return np.zeros(1)
@@ -190,8 +194,10 @@ def reduced_time(time_s, temperature_K, log10_aT: Callable, *, substeps: int = 1
     return xi
 
 
-def _reduced(t: np.ndarray, temperature_K, log10_aT, series) -> tuple[np.ndarray, np.ndarray]:
+def _reduced(t: np.ndarray, temperature_K, log10_aT, series,
+             substeps: int) -> tuple[np.ndarray, np.ndarray]:
     """Reduced time and the temperature column for a history call."""
+    substeps = _substeps(substeps)
     if temperature_K is None and log10_aT is None:
         t_ref = series.reference_temperature_K
         temp = np.full(t.size, np.nan if t_ref is None else float(t_ref))
@@ -201,7 +207,7 @@ def _reduced(t: np.ndarray, temperature_K, log10_aT, series) -> tuple[np.ndarray
     if log10_aT is None:
         raise bad_value("log10_aT", "given when temperature_K is given", None)
     temp = _temperatures(temperature_K, t.size)
-    return reduced_time(t, temp, log10_aT), temp
+    return reduced_time(t, temp, log10_aT, substeps=substeps), temp
 
 
 # ----------------------------------------------------------------------------------------
@@ -378,7 +384,8 @@ def _warn_span(series, xi: np.ndarray) -> None:
 
 
 def stress_under_strain(series, time_s, strain, temperature_K=None,
-                        log10_aT: Callable | None = None) -> HistoryResponse:
+                        log10_aT: Callable | None = None, *,
+                        substeps: int = 1) -> HistoryResponse:
     """Stress under a strain history, optionally at a varying temperature.
 
     σ(ξ) = E_∞ ε(ξ) + Σ_i h_i(ξ) by Boltzmann superposition in reduced time with the exact
@@ -400,7 +407,10 @@ def stress_under_strain(series, time_s, strain, temperature_K=None,
         reference temperature of the series.
     log10_aT : callable, optional
         Shift law T_K -> log10 a_T, referred to the series' reference temperature; required
-        with ``temperature_K``. ξ uses :func:`reduced_time` with one trapezoid per interval.
+        with ``temperature_K``.
+    substeps : int
+        Trapezoid sub-intervals per sample interval for the reduced time (see
+        :func:`reduced_time`), ≥ 1; raise it when T changes by more than ~1 K between samples.
 
     Returns
     -------
@@ -423,18 +433,19 @@ def stress_under_strain(series, time_s, strain, temperature_K=None,
         raise bad_value("series", "a PronySeries or a CreepSeries", type(series).__name__)
     t = _time(time_s)
     eps = _same_length("strain", strain, t.size)
-    xi, temp = _reduced(t, temperature_K, log10_aT, series)
+    xi, temp = _reduced(t, temperature_K, log10_aT, series, substeps)
     _warn_span(series, xi)
     sigma = series.equilibrium_modulus_Pa * eps + _exponential_memory(
         xi, eps, np.asarray(series.tau_s), np.asarray(series.modulus_Pa))
     return HistoryResponse(t, xi, temp, eps, sigma, "strain", series.modulus_kind,
                            {"method": "Boltzmann superposition in reduced time, recursive "
                                       "Prony update (strain piecewise linear in reduced time)",
-                            "isothermal": temperature_K is None})
+                            "isothermal": temperature_K is None, "substeps": int(substeps)})
 
 
 def strain_under_stress(series, time_s, stress_Pa, temperature_K=None,
-                        log10_aT: Callable | None = None) -> HistoryResponse:
+                        log10_aT: Callable | None = None, *,
+                        substeps: int = 1) -> HistoryResponse:
     """Strain under a stress history, optionally at a varying temperature.
 
     ε(ξ) = (D_g + Σ D_j) σ(ξ) − Σ_j ∫ D_j e^{−(ξ−ξ')/λ_j} dσ(ξ') + φ ∫_0^ξ σ dξ', the Boltzmann
@@ -455,6 +466,8 @@ def strain_under_stress(series, time_s, stress_Pa, temperature_K=None,
         Temperature history (K); see :func:`stress_under_strain`.
     log10_aT : callable, optional
         Shift law T_K -> log10 a_T; required with ``temperature_K``.
+    substeps : int
+        As for :func:`stress_under_strain`.
 
     Returns
     -------
@@ -477,7 +490,7 @@ def strain_under_stress(series, time_s, stress_Pa, temperature_K=None,
         raise bad_value("series", "a CreepSeries or a PronySeries", type(series).__name__)
     t = _time(time_s)
     sig = _same_length("stress_Pa", stress_Pa, t.size)
-    xi, temp = _reduced(t, temperature_K, log10_aT, series)
+    xi, temp = _reduced(t, temperature_K, log10_aT, series, substeps)
     _warn_span(series, xi)
     lam = np.asarray(series.retardation_times_s)
     dj = np.asarray(series.compliance_1_per_Pa)
@@ -489,4 +502,4 @@ def strain_under_stress(series, time_s, stress_Pa, temperature_K=None,
     return HistoryResponse(t, xi, temp, eps, sig, "stress", series.modulus_kind,
                            {"method": "Boltzmann superposition in reduced time, recursive "
                                       "Prony update (stress piecewise linear in reduced time)",
-                            "isothermal": temperature_K is None})
+                            "isothermal": temperature_K is None, "substeps": int(substeps)})
