@@ -337,8 +337,13 @@ class Campaign:
         """
         labels = dict(column_labels or {})
         attrs = getattr(frame, "attrs", {}) or {}
-        domain = domain or attrs.get("domain") or (
-            "frequency" if "frequency_rad_s" in frame.columns else "time")
+        if not domain:
+            domain = attrs.get("domain")
+        if not domain:  # from the x column, else from the measured functions
+            named = [QUANTITIES[q].domain for q in QUANTITIES if q in frame.columns]
+            domain = ("frequency" if "frequency_rad_s" in frame.columns else
+                      "time" if "time_s" in frame.columns else
+                      named[0] if named else "frequency")
         modulus_kind = modulus_kind or attrs.get("modulus_kind") or "tensile"
         source = source or attrs.get("source", "")
         if units_as_read is None:

@@ -20,6 +20,7 @@ from __future__ import annotations
 
 import codecs
 import csv
+import math
 import os
 import re
 import warnings
@@ -517,16 +518,20 @@ def _table_to_frame(table: RawTable, *, columns, units, temperature_C):
         if m.modulus_kind:
             kinds.add(m.modulus_kind)
     if "temperature_K" not in frame:
-        found = None
-        if temperature_C is not None:
-            found = (float(temperature_C), "°C")
-            label = "temperature given"
-        else:
+        found, label = None, "temperature given"
+        if isinstance(temperature_C, Mapping):
+            given = temperature_C.get(table.path, temperature_C.get(Path(table.path).name))
+            if given is not None:
+                found = (_given_temperature(given, table.path), "°C")
+        if found is None:
             found = _temperature_from_preamble(table.preamble, table.path)
             label = "temperature from the preamble"
-            if found is None:
-                found = _temperature_from_name(table.path)
-                label = "temperature from the file name"
+        if found is None:
+            found = _temperature_from_name(table.path)
+            label = "temperature from the file name"
+        if found is None and temperature_C is not None and not isinstance(temperature_C, Mapping):
+            found = (_given_temperature(temperature_C, table.path), "°C")
+            label = "temperature given"
         if found is None:
             raise DataError(f"{where(table.path)}missing a temperature: no temperature column, no "
                             f"'Temperature: …' preamble line, and none in the file name "
@@ -546,6 +551,16 @@ def _table_to_frame(table: RawTable, *, columns, units, temperature_C):
                         f"symbols; give the modulus kind explicitly")
     df = pd.DataFrame(frame)
     return df, labels, units_read, (kinds.pop() if kinds else None), assumed
+
+
+def _given_temperature(value, path) -> float:
+    try:
+        t = float(value)
+    except (TypeError, ValueError):
+        t = float("nan")
+    if not math.isfinite(t):
+        raise DataError(f"{where(path)}temperature_C must be a number in °C; got {value!r}")
+    return t
 
 
 def _expand(paths) -> list:
@@ -573,7 +588,7 @@ def read_campaign(paths, *, columns: Mapping[str, str] | None = None,
                   units: Mapping[str, str] | None = None, sheet: str | int | None = None,
                   domain: str | None = None, modulus_kind: str | None = None,
                   temperature_tolerance_K: float = 0.5,
-                  temperature_C: float | None = None) -> Campaign:
+                  temperature_C: float | Mapping[str, float] | None = None) -> Campaign:
     """Read one or more files (or a folder) into a validated :class:`~ttsp.data.Campaign`.
 
     Parameters
@@ -592,8 +607,10 @@ def read_campaign(paths, *, columns: Mapping[str, str] | None = None,
         Override detection ("frequency"/"time", "tensile"/"shear").
     temperature_tolerance_K : float
         Points within this distance in temperature belong to one isotherm (default 0.5 K).
-    temperature_C : float, optional
-        The temperature of a single-isotherm file that does not state one.
+    temperature_C : float or mapping, optional
+        Temperature in °C of one-isotherm files. A number is used for every file that states
+        no temperature (no column, preamble line or temperature in the name); a mapping from
+        path or file name to °C gives each file its own, before anything the file says.
 
     Returns
     -------
@@ -610,12 +627,17 @@ def read_campaign(paths, *, columns: Mapping[str, str] | None = None,
 
     temperature_tolerance_K = check_positive("temperature_tolerance_K", temperature_tolerance_K,
                                              allow_zero=True)
+    if isinstance(temperature_C, Mapping):
+        temperature_C = {str(k): v for k, v in temperature_C.items()}
     files = _expand(paths)
     frames, labels, units_read, kinds, metadata, dropped, assumed = [], {}, {}, set(), {}, {}, []
     for path in files:
         table = read_table(path, sheet=sheet)
         df, lab, ur, kind, ass = _table_to_frame(table, columns=columns, units=units,
                                                  temperature_C=temperature_C)
+        if "frequency_rad_s" not in df.columns and "time_s" not in df.columns:
+            raise DataError(f"{where(path)}missing a frequency or time column; columns found: "
+                            f"{', '.join(table.header)}")
         file_domain = domain or ("frequency" if "frequency_rad_s" in df.columns else "time")
         # validate each file on its own so messages name the file (one isotherm is fine here)
         Campaign.from_frame(df, domain=file_domain, modulus_kind=modulus_kind or kind or "tensile",
