@@ -83,6 +83,22 @@ def test_quoted_csv_cells(tmp_path):
     assert_ground_truth(read_campaign(write(tmp_path, "q.csv", text)))
 
 
+@pytest.mark.parametrize("delimiter, units", [
+    (",", ["°C", "Hz", "MPa", "MPa"]),
+    ("\t", ["[°C]", "[Hz]", "[MPa]", "[MPa]"]),
+    (";", ["(°C)", "(Hz)", "(MPa)", "(MPa)"]),
+])
+def test_units_on_a_line_of_their_own(tmp_path, delimiter, units):
+    # a two-line header (names, then units) as some instruments export it
+    head = ["Temperature", "Frequency", "Storage modulus", "Loss modulus"]
+    text = render(delimiter, head=head).replace("\n", "\n" + delimiter.join(units) + "\n", 1)
+    c = read_campaign(write(tmp_path, "two_line.csv", "Operator: x\n" + text))
+    assert_ground_truth(c)
+    assert c.units_as_read["Storage modulus (MPa)"] == "MPa"
+    assert c.isotherms[0].source_rows.tolist() == [4, 5]
+    assert dict(c.metadata) == {"Operator": "x"}
+
+
 def test_windows_line_endings(tmp_path):
     path = tmp_path / "crlf.csv"
     path.write_bytes(render().replace("\n", "\r\n").encode())

@@ -7,7 +7,8 @@ What is understood:
   and Latin-1 files;
 * preamble lines before the header row are skipped and kept as metadata (``key: value``,
   ``key = value`` or ``key<delimiter>value``);
-* units read from the headers (see :mod:`ttsp.io.headers`), or given explicitly;
+* units read from the headers (see :mod:`ttsp.io.headers`), from a line of units right under
+  the names (``°C, Hz, MPa``), or given explicitly;
 * long format (a temperature column) or one file per isotherm, with the temperature taken from
   a column, a preamble line such as ``Temperature: 35 °C``, or the file name (``sweep_35C.csv``);
 * a folder, or several files, as one campaign.
@@ -248,6 +249,14 @@ def _table_from_cells(path: str, cells: list, decimal_comma: bool, *, raw_lines=
         raise DataError(f"{where(path)}no header row: the first line with numbers (line "
                         f"{first_data + 1}) has no line of column names above it")
     header = [c.strip() for c in cells[header_idx]]
+    data_start = header_idx + 1
+    names_idx = _names_above_units(cells, header_idx, whitespace)
+    if names_idx is not None:  # a two-line header: names, then units
+        units_row = header + [""] * (len(cells[names_idx]) - len(header))
+        header = [(f"{name.strip()} ({_bare_unit(u)})" if _bare_unit(u) else name.strip())
+                  for name, u in zip(cells[names_idx], units_row)]
+        header_idx = names_idx
+        whitespace = False
     preamble = {}
     for i in range(header_idx):
         key_value = _preamble_entry(cells[i], raw_lines[i] if raw_lines else None)
@@ -256,7 +265,7 @@ def _table_from_cells(path: str, cells: list, decimal_comma: bool, *, raw_lines=
             preamble[key if key not in preamble and key else f"line {i + 1}"] = value
     rows, numbers, dropped = [], [], {}
     trailing_blank = 0
-    for i in range(header_idx + 1, n):
+    for i in range(data_start, n):
         c = cells[i]
         if not c or not any(x.strip() for x in c):
             trailing_blank += 1
@@ -275,6 +284,36 @@ def _table_from_cells(path: str, cells: list, decimal_comma: bool, *, raw_lines=
                          raw_lines[header_idx] if (whitespace and raw_lines) else None)
     return RawTable(path, tuple(header), tuple(rows), tuple(numbers), preamble, decimal_comma,
                     dropped)
+
+
+def _bare_unit(cell: str) -> str:
+    u = cell.strip()
+    if len(u) >= 2 and u[0] in "([" and u[-1] in ")]":
+        u = u[1:-1].strip()
+    return u
+
+
+def _names_above_units(cells: list, idx: int, whitespace: bool):
+    """Index of the line of column names when line ``idx`` holds only units (``°C, Hz, MPa``)
+    under it, else None."""
+    units = [_bare_unit(c) for c in cells[idx]]
+    filled = [u for u in units if u]
+    if not filled or all(u in ("-", "1") for u in filled):
+        return None
+    for u in filled:
+        try:
+            parse_unit(u)
+        except DataError:
+            return None
+    above = next((i for i in range(idx - 1, -1, -1) if cells[i]), None)
+    if above is None:
+        return None
+    names = cells[above]
+    if len([c for c in names if c.strip()]) < len(filled) or len(names) < len(units):
+        return None
+    if whitespace and len(names) != len(units):
+        return None
+    return above
 
 
 def _preamble_entry(cells: list, raw: str | None):
