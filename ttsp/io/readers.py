@@ -3,8 +3,10 @@
 What is understood:
 
 * delimiters: comma, semicolon, tab or runs of white space, detected from the data lines;
-* decimal commas (with a semicolon, tab or white-space delimiter), a UTF-8 BOM, UTF-16 with a BOM,
-  and Latin-1 files;
+* decimal commas (with a semicolon, tab or white-space delimiter), quoted cells, a UTF-8 BOM,
+  UTF-16 with or without a BOM, and Windows-1252 / Latin-1 files;
+* a white-space header whose names contain spaces (``Temp (°C) Freq (Hz)``) is regrouped into
+  as many names as the data has columns;
 * preamble lines before the header row are skipped and kept as metadata (``key: value``,
   ``key = value`` or ``key<delimiter>value``);
 * units read from the headers (see :mod:`ttsp.io.headers`), from a line of units right under
