@@ -256,3 +256,15 @@ def test_fit_error_when_every_start_fails(monkeypatch):
     monkeypatch.setattr(lmfit, "minimize", boom)
     with pytest.raises(FitError, match="failed from every starting point"):
         fit_sigmoid(W, W + 1.0)
+
+
+def test_computation_modules_do_not_import_matplotlib_or_lmfit_at_import():
+    # layer rule (DESIGN.md): computation modules never load matplotlib; lmfit is loaded
+    # only when a closed-form fit runs
+    import subprocess
+    import sys
+
+    code = ("import sys, ttsp.closed_forms, ttsp.spectrum; "
+            "print('matplotlib' in sys.modules, 'lmfit' in sys.modules)")
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
+    assert out.stdout.split() == ["False", "False"]
