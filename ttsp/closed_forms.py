@@ -68,7 +68,8 @@ def hn_loss_peak_omega_tau(alpha: float, beta: float) -> float:
     [sin(απ/(2β+2)) / sin(αβπ/(2β+2))]^(1/α) (Díaz-Calleja, Macromolecules 33:8924, 2000;
     REFERENCE §8, verified numerically there)."""
     a, b = float(alpha), float(beta)
-    return (math.sin(a * math.pi / (2 * b + 2)) / math.sin(a * b * math.pi / (2 * b + 2))) ** (1 / a)
+    ratio = math.sin(a * math.pi / (2 * b + 2)) / math.sin(a * b * math.pi / (2 * b + 2))
+    return ratio ** (1 / a)
 
 
 @dataclass(frozen=True)
@@ -250,7 +251,10 @@ class ClosedFormFit:
         })
 
     def to_frame(self):
-        """Tidy table of the fitted data: omega_rad_s, quantity, measured, fitted, residual_percent."""
+        """Tidy table of the fitted data.
+
+        Columns: omega_rad_s, quantity, measured, fitted, residual_percent.
+        """
         import pandas as pd
 
         return pd.concat([pd.DataFrame({"omega_rad_s": self.x, "quantity": q,

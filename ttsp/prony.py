@@ -1182,13 +1182,14 @@ _TIME_QUANTITIES = ("relaxation_modulus", "creep_compliance")
 def fit_prony_time(time_s, values, *, quantity: str = "relaxation_modulus",
                    terms_per_decade: float = 2.0, margin_decades: float = 1.0,
                    short_time_margin_decades: float = 0.25, relative: bool = True,
-                   equilibrium_modulus_Pa: float | None = None, fluid: bool = False, tau_s=None, prune_tolerance_percent: float | None = None,
+                   equilibrium_modulus_Pa: float | None = None, fluid: bool = False,
+                   tau_s=None, prune_tolerance_percent: float | None = None,
                    plateau_slope: float = 0.05, modulus_kind: str = "tensile",
                    reference_temperature_K: float | None = None) -> PronyFit:
     """Fit a non-negative Prony series to a time master curve E(t) or D(t).
 
-    ``quantity="relaxation_modulus"``: with τ_i fixed on a log-spaced grid over
-    [t_min, t_max] widened by ``margin_decades``, E(t_j) = E_∞ + Σ E_i exp(−t_j/τ_i) is linear
+    ``quantity="relaxation_modulus"``: with τ_i fixed on a log-spaced grid from
+    t_min/10^short_time_margin_decades to t_max·10^margin_decades, E(t_j) = E_∞ + Σ E_i exp(−t_j/τ_i) is linear
     in (E_∞, E_i) and is solved by non-negative least squares with relative residuals
     (Lawson & Hanson 1974; REFERENCE §4.2).
 
