@@ -125,6 +125,8 @@ class BuildResult:
     warnings : tuple of str
     input_sha256 : str
     input_files : tuple of str
+    glass_transition : ttsp.transition.GlassTransitionEstimate or None
+        E'' and tan δ peak temperatures at 1 Hz (frequency data only).
     """
 
     campaign: Campaign
@@ -137,6 +139,7 @@ class BuildResult:
     warnings: tuple
     input_sha256: str
     input_files: tuple = ()
+    glass_transition: object = None
 
     @property
     def reference_temperature_K(self) -> float:
@@ -213,6 +216,8 @@ class BuildResult:
             "shift_factors": self.shifts.to_dict(),
             "shift_law": law_section,
             "prony": prony,
+            "glass_transition": (self.glass_transition.to_dict()
+                                 if self.glass_transition is not None else None),
             "checks": [c.to_dict() for c in self.checks],
             "warnings": list(self.warnings),
         }
@@ -307,6 +312,11 @@ def build(campaign: Campaign, options: BuildOptions | None = None, *, input_sha2
         model = ViscoelasticModel(series, law_fit.law)
         step("checks")
         checks = tuple(run_checks(campaign, shifts=shifts, law_fit=law_fit, prony_fit=prony_fit))
+        glass = None
+        if campaign.domain == "frequency":
+            from .transition import estimate_glass_transition
+
+            glass = estimate_glass_transition(model, campaign, frequency_Hz=1.0)
     messages = []
     for w in caught:
         text = str(w.message)
@@ -318,10 +328,39 @@ def build(campaign: Campaign, options: BuildOptions | None = None, *, input_sha2
             if text not in messages:
                 messages.append(text)
     return BuildResult(campaign, options, shifts, law_fit, prony_fit, model, checks, tuple(messages),
-                       input_sha256 or _campaign_hash(campaign), tuple(str(f) for f in input_files))
+                       input_sha256 or _campaign_hash(campaign), tuple(str(f) for f in input_files),
+                       glass)
 
 
 def _with_series(prony_fit, series):
     import dataclasses
 
     return dataclasses.replace(prony_fit, series=series)
+
+
+def check(campaign: Campaign, **option_values) -> tuple:
+    """Run a build and return only its checks (each with status, value, threshold, message)."""
+    return build(campaign, **option_values).checks
+
+
+def predict(model, quantity: str, temperature_C, *, time_s=None, frequency_Hz=None):
+    """Evaluate a material function at a temperature (°C) from a build result or a model.
+
+    ``model`` is a :class:`BuildResult`, a :class:`~ttsp.model.ViscoelasticModel`, or the dict
+    read from a ``summary.json``. Returns a tidy DataFrame with unit-suffixed columns.
+    """
+    import pandas as pd
+
+    from .model import QUANTITY_COLUMNS, ViscoelasticModel
+
+    if isinstance(model, BuildResult):
+        model = model.model
+    elif isinstance(model, dict):
+        model = ViscoelasticModel.from_summary(model)
+    values = model.evaluate(quantity, celsius_to_kelvin(temperature_C), time_s=time_s,
+                            frequency_Hz=frequency_Hz)
+    x_name, x = ("time_s", time_s) if time_s is not None else ("frequency_Hz", frequency_Hz)
+    t = np.broadcast_to(np.asarray(temperature_C, dtype=float), np.shape(values))
+    return pd.DataFrame({"temperature_C": t.ravel(),
+                         x_name: np.broadcast_to(np.asarray(x, dtype=float), np.shape(values)).ravel(),
+                         QUANTITY_COLUMNS[quantity]: np.ravel(values)})
