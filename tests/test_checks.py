@@ -419,6 +419,35 @@ def test_bridged_shifts_are_named():
     assert "bridged by a law at 35 °C" in result.message
 
 
+def two_isotherms(storage_a, storage_b, tan_a, tan_b):
+    """Two hand-made isotherms 10 K apart (5 points each, 1-100 rad/s)."""
+    w = np.logspace(0, 2, 5)
+    rows = [pd.DataFrame({"temperature_K": t, "frequency_rad_s": w, "storage_modulus_Pa": e1,
+                          "loss_modulus_Pa": np.asarray(e1) * np.asarray(td)})
+            for t, e1, td in ((300.0, storage_a, tan_a), (310.0, storage_b, tan_b))]
+    return Campaign.from_frame(pd.concat(rows, ignore_index=True))
+
+
+def test_gap_in_storage_bridged_by_tan_delta_warns():
+    # E' ranges 0.05 decade apart, tan δ ranges overlapping by 0.3 decade
+    camp = two_isotherms(np.logspace(8.0, 8.3, 5), np.logspace(8.35, 8.65, 5),
+                         np.logspace(-1.0, -0.5, 5), np.logspace(-0.8, -0.3, 5))
+    result = checks.check_overlap_coverage(camp)
+    assert result.status == "warn"
+    assert result.details["gaps_bridged_by_tan_delta"] == ["26.85 °C and 36.85 °C (0.05 decade "
+                                                           "apart)"]
+    assert "but tan δ does" in result.message
+
+
+def test_thin_overlap_warns():
+    # E' ranges overlap by 0.05 decade of 0.3 decade spans (below 0.1 decade and below 25 %)
+    camp = two_isotherms(np.logspace(8.0, 8.3, 5), np.logspace(8.25, 8.55, 5),
+                         np.full(5, 0.1), np.full(5, 0.1))
+    result = checks.check_overlap_coverage(camp)
+    assert result.status == "warn" and result.value == pytest.approx(0.05)
+    assert result.details["thin"] == ["26.85 °C and 36.85 °C (0.05 decade)"]
+
+
 # ----------------------------------------------------------------------------------------------
 # monotonic shifts
 # ----------------------------------------------------------------------------------------------
@@ -677,6 +706,26 @@ def test_vertical_shifts_are_divided_out(simple_exact):
     assert checks.check_van_gurp_palmen(scaled, shifts=shifts).value == pytest.approx(plain,
                                                                                    rel=1e-2)
     assert checks.check_van_gurp_palmen(scaled).value > 2 * plain
+
+
+@settings(max_examples=6, deadline=None)
+@given(modulus_unit=st.floats(1e-4, 1e4), frequency_unit=st.floats(0.1, 10.0))
+def test_verdicts_do_not_depend_on_units(modulus_unit, frequency_unit):
+    """Property: rescaling every modulus (MPa for Pa) or every frequency (Hz for rad/s) leaves the
+    shift-free spreads and the Kramers–Kronig value unchanged (they are built on logarithms and
+    relative residuals)."""
+    base = frequency_campaign(SIMPLE_TEMPS_C[::2], [(TAU_S, MOD_PA, simple_law)], E_RUBBERY_PA,
+                              noise=0.02, seed=12, points=8)
+    frame = base.to_frame().drop(columns=["isotherm"])
+    frame["storage_modulus_Pa"] *= modulus_unit
+    frame["loss_modulus_Pa"] *= modulus_unit
+    frame["frequency_rad_s"] *= frequency_unit
+    scaled = Campaign.from_frame(frame)
+    for check in (checks.check_van_gurp_palmen, checks.check_loss_vs_storage):
+        assert check(scaled).value == pytest.approx(check(base).value, rel=1e-6)
+    kk = [checks.check_kramers_kronig(c, shifts=exact_shifts(c, simple_law)).value
+          for c in (base, scaled)]
+    assert kk[1] == pytest.approx(kk[0], rel=1e-6)
 
 
 def test_check_result_is_frozen_and_json_ready(simple_noisy):
