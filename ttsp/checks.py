@@ -16,7 +16,7 @@ The checks
     The same in the log E'' against log E' plane (no shift factor needed either; Ferry,
     Viscoelastic Properties of Polymers, 3rd ed., 1980, ch. 11).
 ``shifted_superposition``
-    After shifting: spread of log tan δ of neighbouring isotherms against reduced frequency
+    After shifting: spread of log tan δ of the isotherms against reduced frequency
     (tan δ is unchanged by a vertical shift, so it tests the horizontal shifts alone); for
     time-domain data, the spread of the shifted measured function.
 ``kramers_kronig``
@@ -91,12 +91,12 @@ NOISE_FLOOR_LOG10 = 0.002
 NOISE_FLOOR_RAD = 0.003
 #: Spread of overlapping isotherms: the rms of their distances in units of the combined noise
 #: and tolerance (below). For isotherms that superpose and whose noise is as estimated, the
-#: normalised distances are at most about standard normal (rms ≤ 1; measured 0.5-0.6 on exact
-#: WLF campaigns with 2 % noise, 0.1-0.15 without noise). The noise estimate from a few third differences can be off by
-#: a factor up to about 2, so up to 2.5 passes; above 5 the curves differ far beyond noise and
-#: tolerance, the signature of thermorheological complexity (mechanisms with different
-#: temperature dependences: Ngai & Plazek, ch. 26 in Mark (ed.), Physical Properties of Polymers
-#: Handbook, 2nd ed., 2007).
+#: normalised distances are at most about standard normal (rms ≤ 1; measured about 0.6 on
+#: exact WLF campaigns with 2 % noise added, 0.2-0.3 without noise). The noise estimate from a
+#: few third differences can be off by a factor up to about 2, so up to 2.5 passes; above 5 the
+#: curves differ far beyond noise and tolerance, the signature of thermorheological complexity
+#: (mechanisms with different temperature dependences: Ngai & Plazek, ch. 26 in Mark (ed.),
+#: Physical Properties of Polymers Handbook, 2nd ed., 2007).
 SPREAD_WARN = 2.5
 SPREAD_FAIL = 5.0
 #: Scatter between isotherms allowed beyond their noise, added in quadrature to the combined
@@ -114,8 +114,9 @@ MIN_CLASS_POINTS = 10
 
 #: Kramers–Kronig: disagreement (rms, %) between a measured function and its prediction from the
 #: other function of the master curve. It reads about as the error of the level of E'': on the
-#: exact test spectra a copy of E'' scaled by 1.1 gives 9 %, by 1.2 19 %, by 1.6 58 %, while a
-#: consistent curve gives 0.6 % (exact) or 2-3 % (2 % noise) [computed here]. A tenth of E''
+#: exact test spectra a copy of E'' scaled by 1.1 gives 9 %, by 1.2 18 %, by 1.6 (with a slope
+#: change) 61 %, while a consistent curve gives 0.1 % (exact) or about 3 % (2 % noise)
+#: [computed here, tests/test_checks.py]. A tenth of E''
 #: unexplained is more than the phase error of a sound instrument causes [common practice, no
 #: source], so 10 % warns; at 25 % E' and E'' cannot come from one spectrum.
 KK_WARN_PERCENT = 10.0
@@ -626,11 +627,12 @@ def check_van_gurp_palmen(campaign: Campaign, *, shifts=None) -> CheckResult | N
     If the material is thermorheologically simple (and b_T = 1), a change of temperature only
     slides each isotherm along one curve δ(|E*|), so the raw isotherms collapse without any
     shift factor (van Gurp & Palmen, Rheology Bulletin 67, 5-8, 1998; Trinkle & Friedrich,
-    Rheol. Acta 40, 322-328, 2001). For every pair of isotherms whose |E*| ranges overlap, each
+    Rheol. Acta 40, 322-328, 2001). For pairs of isotherms whose |E*| ranges overlap, each
     point of one is measured to the curve of the other in units of the combined noise and
     tolerance (:data:`SPREAD_TOLERANCE_RAD`, :data:`SPREAD_TOLERANCE_LOG10`; see
-    :func:`_distances`); the value is the rms of all these normalised distances. When
-    ``shifts`` carries vertical shifts, |E*| is divided by b_T first.
+    :func:`_distances`); the value is the largest rms of these normalised distances over the
+    temperature separations of the pairs (see :func:`_pairwise_spread`). When ``shifts``
+    carries vertical shifts, |E*| is divided by b_T first.
 
     Parameters
     ----------
@@ -684,7 +686,7 @@ def check_loss_vs_storage(campaign: Campaign, *, shifts=None) -> CheckResult | N
 
 
 def check_shifted_superposition(campaign: Campaign, shifts) -> CheckResult | None:
-    """Superposition error after shifting: spread of neighbouring shifted isotherms.
+    """Superposition error after shifting: spread of overlapping shifted isotherms.
 
     Frequency data: log10 tan δ against log10(ω·a_T). tan δ is unchanged by a vertical shift, so
     this tests the horizontal shifts alone (REFERENCE §1.3; common practice). Time data: log10 of
