@@ -1,0 +1,1086 @@
+"""Figures of a campaign and of a build: raw isotherms, master curve, shift factors with their law,
+the Prony fit, the material functions and the shift-free superposition check.
+
+Every ``plot_*`` function draws on the :class:`~matplotlib.axes.Axes` it is given (a new
+figure is made when ``ax`` is None) and returns it, so figures compose in a notebook or a paper.
+matplotlib is imported inside the functions only, and pyplot never: figures are plain
+:class:`matplotlib.figure.Figure` objects, so nothing global is touched and batch runs do not
+accumulate open figures. Importing this module stays cheap.
+
+Conventions of the figures
+--------------------------
+- Temperature is coded by a colourblind-safe sequential map (viridis without its palest end,
+  which vanishes on white paper) with a colour bar in °C.
+- Moduli are shown in Pa, kPa, MPa or GPa, whichever suits their magnitude; compliances in the
+  inverse unit. Frequencies are in Hz or rad/s, following the unit the campaign was read in.
+- Symbols follow the data: E, E′, E″, D for tensile campaigns; G, G′, G″, J for shear ones.
+- Model curves are solid inside the range the Prony series was fitted to and dashed outside it
+  (extrapolation); the outside is also shaded.
+"""
+
+from __future__ import annotations
+
+import math
+from pathlib import Path
+
+import numpy as np
+
+from ._validation import bad_value, check_choice
+from .units import kelvin_to_celsius
+
+__all__ = [
+    "FIGURE_NAMES",
+    "plot_isotherms",
+    "plot_master_curve",
+    "plot_shift_factors",
+    "plot_prony_fit",
+    "plot_time_functions",
+    "plot_frequency_functions",
+    "plot_superposition_check",
+    "render_figures",
+    "save_figures",
+]
+
+#: Names of the figures :func:`render_figures` makes (also the stems of the saved files).
+FIGURE_NAMES = ("isotherms", "master_curve", "shift_factors", "prony_fit", "time_functions",
+                "frequency_functions", "superposition_check")
+
+# Okabe & Ito (2002, "Color Universal Design") colours: distinguishable with the common forms
+# of colour-vision deficiency.
+_BLUE = "#0072B2"
+_VERMILLION = "#D55E00"
+_GREEN = "#009E73"
+_ORANGE = "#E69F00"
+_GREY = "#7f7f7f"
+_INK = "#1a1a1a"
+
+_SINGLE_SIZE = (6.4, 4.4)      # inches: one panel plus a colour bar
+_PNG_DPI = 150
+_SVG_SALT = "ttsp"             # fixes the ids matplotlib writes into SVG files
+
+_MODULUS_UNITS = (("GPa", 1e9), ("MPa", 1e6), ("kPa", 1e3), ("Pa", 1.0))
+_QUANTITY_ALIASES = {
+    "storage_modulus": "storage_modulus_Pa",
+    "loss_modulus": "loss_modulus_Pa",
+    "complex_modulus": "complex_modulus_Pa",
+    "phase_angle": "phase_angle_rad",
+    "relaxation_modulus": "relaxation_modulus_Pa",
+    "creep_compliance": "creep_compliance_1_per_Pa",
+    "tan_delta": "tan_delta",
+}
+
+
+# ------------------------------------------------------------------------------------------
+# small helpers: symbols, units, colours, the look
+# ------------------------------------------------------------------------------------------
+def _pretty(symbol: str) -> str:
+    """Typographic primes: E'' → E″, E' → E′."""
+    return symbol.replace("''", "″").replace("'", "′")
+
+
+def _letters(modulus_kind: str) -> tuple[str, str]:
+    """(modulus letter, compliance letter): ('E', 'D') tensile, ('G', 'J') shear."""
+    return ("G", "J") if modulus_kind == "shear" else ("E", "D")
+
+
+def _modulus_unit(values_Pa) -> tuple[str, float]:
+    """Pick Pa, kPa, MPa or GPa for moduli around the geometric median of ``values_Pa``.
+
+    Returns (unit, factor) with value_in_unit = value_Pa / factor.
+    """
+    v = np.asarray(values_Pa, dtype=float).ravel()
+    v = v[np.isfinite(v) & (v > 0)]
+    if v.size == 0:
+        return "Pa", 1.0
+    mid = 10.0 ** float(np.median(np.log10(v)))
+    for unit, factor in _MODULUS_UNITS:
+        if mid >= factor:
+            return unit, factor
+    return "Pa", 1.0
+
+
+def _compliance_unit(values_1_per_Pa) -> tuple[str, float]:
+    """Inverse of :func:`_modulus_unit`: (unit, factor) with value_in_unit = value_SI / factor."""
+    v = np.asarray(values_1_per_Pa, dtype=float).ravel()
+    v = v[np.isfinite(v) & (v > 0)]
+    unit, factor = _modulus_unit(1.0 / v) if v.size else ("Pa", 1.0)
+    return f"{unit}⁻¹", 1.0 / factor
+
+
+def _frequency_unit(campaign) -> tuple[str, float]:
+    """("Hz", 2π) or ("rad/s", 1): the unit the campaign's frequencies were read in (Hz if unknown).
+
+    Returns (unit, factor) with value_in_unit = ω_rad_s / factor.
+    """
+    from .units import parse_unit
+
+    for text in dict(getattr(campaign, "units_as_read", {}) or {}).values():
+        try:
+            unit = parse_unit(text)
+        except Exception:  # a unit spelled for another purpose: not ours to judge here
+            continue
+        if unit.kind == "frequency":
+            return ("rad/s", 1.0) if unit.scale == 1.0 else ("Hz", 2.0 * math.pi)
+    return "Hz", 2.0 * math.pi
+
+
+def _temperature_cmap():
+    import matplotlib
+    from matplotlib.colors import ListedColormap
+
+    base = matplotlib.colormaps["viridis"]
+    return ListedColormap(base(np.linspace(0.0, 0.9, 256)), name="ttsp_temperature")
+
+
+def _temperature_colours(temperatures_C):
+    """A Normalize over the temperatures and the colour map, as a ScalarMappable."""
+    from matplotlib.cm import ScalarMappable
+    from matplotlib.colors import Normalize
+
+    t = np.asarray(temperatures_C, dtype=float)
+    lo, hi = float(np.min(t)), float(np.max(t))
+    if hi - lo < 1e-9:
+        lo, hi = lo - 0.5, hi + 0.5
+    return ScalarMappable(Normalize(lo, hi), _temperature_cmap())
+
+
+def _colour_bar(ax, mappable):
+    cbar = ax.figure.colorbar(mappable, ax=ax, pad=0.02, fraction=0.05, aspect=30)
+    cbar.set_label("Temperature (°C)")
+    cbar.ax.tick_params(labelsize=8.5, direction="out")
+    cbar.outline.set_linewidth(0.6)
+    return cbar
+
+
+def _new_axes(ax, size=_SINGLE_SIZE):
+    if ax is not None:
+        return ax
+    from matplotlib.figure import Figure
+
+    fig = Figure(figsize=size, layout="constrained")
+    return fig.add_subplot()
+
+
+_SUPERSCRIPT = str.maketrans("-0123456789", "⁻⁰¹²³⁴⁵⁶⁷⁸⁹")
+
+
+def _power_label(value, _pos=None) -> str:
+    """10⁻³, 2×10⁵ ... as plain Unicode text (no mathtext: it looks the same and draws faster)."""
+    if not (np.isfinite(value) and value > 0):
+        return ""
+    exponent = math.floor(math.log10(value) + 1e-9)
+    mantissa = value / 10.0 ** exponent
+    power = "10" + str(exponent).translate(_SUPERSCRIPT)
+    return power if abs(mantissa - 1.0) < 1e-6 else f"{mantissa:.3g}×{power}"
+
+
+def _plain_label(value, _pos=None) -> str:
+    if not (np.isfinite(value) and value > 0):
+        return ""
+    return f"{value:g}" if 1e-3 <= value < 1e5 else _power_label(value)
+
+
+def _log_scale(ax, which: str):
+    """Make the x or y axis of ``ax`` logarithmic with our tick labels (powers of ten only)."""
+    from matplotlib.ticker import FuncFormatter, NullFormatter
+
+    (ax.set_xscale if which == "x" else ax.set_yscale)("log")
+    axis = ax.xaxis if which == "x" else ax.yaxis
+    axis.set_major_formatter(FuncFormatter(_power_label))
+    axis.set_minor_formatter(NullFormatter())
+
+
+def _style(ax, *, logx=False, logy=False):
+    """Our look: thin frame, ticks inside on all four sides, a faint major grid."""
+    if logx:
+        _log_scale(ax, "x")
+    if logy:
+        _log_scale(ax, "y")
+    for spine in ax.spines.values():
+        spine.set_linewidth(0.7)
+        spine.set_color(_INK)
+    ax.tick_params(which="both", direction="in", top=True, right=True, colors=_INK,
+                   labelsize=9)
+    ax.tick_params(which="major", length=4.5, width=0.7)
+    ax.tick_params(which="minor", length=2.5, width=0.5)
+    ax.grid(True, which="major", color="#e3e3e3", linewidth=0.6, zorder=0)
+    ax.set_axisbelow(True)
+    ax.xaxis.label.set_size(10)
+    ax.yaxis.label.set_size(10)
+    return ax
+
+
+def _style_twin(ax, colour):
+    """A right-hand axis: ticks inside, its label and numbers in the colour of its curves."""
+    ax.tick_params(which="both", direction="in", right=True, colors=colour, labelsize=9)
+    ax.tick_params(which="major", length=4.5, width=0.7)
+    ax.tick_params(which="minor", length=2.5, width=0.5)
+    ax.yaxis.label.set_color(colour)
+    ax.yaxis.label.set_size(10)
+    ax.spines["right"].set_color(colour)
+
+
+def _note(ax, text, loc="upper right"):
+    """A small text in a corner of the axes (the reference temperature, a law)."""
+    from matplotlib.offsetbox import AnchoredText
+
+    box = AnchoredText(text, loc=loc, prop={"size": 8.5, "color": _INK}, frameon=True,
+                       borderpad=0.6, pad=0.35)
+    box.patch.set_boxstyle("round,pad=0.2,rounding_size=0.15")
+    box.patch.set_facecolor("white")
+    box.patch.set_edgecolor("#bdbdbd")
+    box.patch.set_alpha(0.9)
+    ax.add_artist(box)
+    return box
+
+
+_AT = r"$a_T$"
+_TREF = r"$T_\mathrm{ref}$"
+
+
+def _tref_title(ax, result, extra: str = ""):
+    """A small left-aligned line above the axes: the reference temperature and any note."""
+    text = f"{_TREF} = {result.reference_temperature_C:.4g} °C" + (f";  {extra}" if extra else "")
+    ax.set_title(text, loc="left", fontsize=9, color=_INK, pad=4)
+
+
+def _extrapolation_handle():
+    from matplotlib.lines import Line2D
+
+    return Line2D([], [], color=_GREY, lw=1.3, ls=(0, (4, 2.5)), label="extrapolated")
+
+
+def _tidy_log_axis(axis):
+    """On a log axis spanning less than ~2.5 decades, put major ticks at 1-2-5 and label them
+    as plain numbers: powers of ten alone leave one or two labels on a short axis.
+    """
+    from matplotlib.ticker import FuncFormatter, LogLocator, NullFormatter
+
+    lo, hi = sorted(axis.get_view_interval())
+    if not (lo > 0 and hi > lo) or math.log10(hi / lo) > 2.5:
+        return
+    axis.set_major_locator(LogLocator(subs=(1.0, 2.0, 5.0)))
+    axis.set_major_formatter(FuncFormatter(_plain_label))
+    axis.set_minor_formatter(NullFormatter())
+
+
+_PARAM_DISPLAY = {  # parameter name → (mathtext symbol, unit, shown in °C?)
+    "C1": (r"$C_1$", "", False),
+    "C2_K": (r"$C_2$", "K", False),
+    "activation_energy_kJ_per_mol": (r"$E_a$", "kJ/mol", False),
+    "glass_transition_K": (r"$T_g$", "°C", True),
+    "B_K": (r"$B$", "K", False),
+    "T_inf_K": (r"$T_\infty$", "°C", True),
+}
+
+
+def _param_display(name: str):
+    if name in _PARAM_DISPLAY:
+        return _PARAM_DISPLAY[name]
+    import re
+
+    m = re.fullmatch(r"a(\d+)_per_K(\d*)", name)
+    if m:
+        k = m.group(1)
+        return rf"$a_{{{k}}}$", "K⁻¹" if k == "1" else rf"K$^{{-{k}}}$", False
+    return name, "", False
+
+
+def _fmt(value, digits=3) -> str:
+    if value is None or not np.isfinite(value):
+        return "–"
+    return f"{value:.{digits}g}"
+
+
+def _shade_extrapolation(ax, lo, hi, xmin, xmax):
+    """Shade the parts of [xmin, xmax] outside [lo, hi] (where the model is extrapolated)."""
+    kw = dict(color="#8c8c8c", alpha=0.10, linewidth=0, zorder=0)
+    if xmin < lo:
+        ax.axvspan(xmin, lo, **kw)
+    if xmax > hi:
+        ax.axvspan(hi, xmax, **kw)
+
+
+# ------------------------------------------------------------------------------------------
+# access to the pieces of a build result
+# ------------------------------------------------------------------------------------------
+def _shift_table(result):
+    """Temperatures (K), log10 a_T, their stderr and log10 b_T of a build, in temperature order."""
+    shifts = result.shifts
+    t = np.asarray(getattr(shifts, "temperature_K"), dtype=float)
+    a = np.asarray(getattr(shifts, "log10_aT"), dtype=float)
+    se = getattr(shifts, "log10_aT_stderr", None)
+    se = np.full(t.shape, np.nan) if se is None else np.array(
+        [np.nan if v is None else v for v in np.ravel(se)], dtype=float)
+    b = getattr(shifts, "log10_bT", None)
+    b = np.zeros(t.shape) if b is None else np.asarray(b, dtype=float)
+    order = np.argsort(t, kind="stable")
+    return t[order], a[order], se[order], b[order]
+
+
+def _reduced_data(result):
+    """Per isotherm: (temperature_C, reduced x, {quantity: shifted values}, outlier mask).
+
+    Taken from the build's master-curve table (every input point, shifted), so the figure shows
+    exactly what was written to ``master_curve.csv``.
+    """
+    campaign = result.campaign
+    frame = result.master_curve_frame()
+    xcol = "reduced_frequency_rad_s" if campaign.domain == "frequency" else "reduced_time_s"
+    quantities = [q for q in campaign.quantities if q in frame.columns]
+    out = []
+    group_key = "isotherm" if "isotherm" in frame.columns else "temperature_K"
+    for _, part in frame.groupby(group_key, sort=True):
+        part = part.sort_values(xcol)
+        tK = float(part["temperature_K"].iloc[0])
+        outlier = (part["outlier"].to_numpy(dtype=bool) if "outlier" in part.columns
+                   else np.zeros(len(part), dtype=bool))
+        out.append((float(kelvin_to_celsius(tK)), part[xcol].to_numpy(dtype=float),
+                    {q: part[q].to_numpy(dtype=float) for q in quantities}, outlier))
+    out.sort(key=lambda item: item[0])
+    return out
+
+
+def _functions(result):
+    """The material-functions table of a build (model at the reference temperature)."""
+    return result.material_functions_frame(points_per_decade=20)
+
+
+def _valid_range(result):
+    rng = getattr(result.series, "valid_reduced_time_range_s", None)
+    return None if rng is None else (float(rng[0]), float(rng[1]))
+
+
+def _split_by_validity(x, y, extrapolated):
+    """Segments of a curve: (x, y, inside?) with the joints shared so the line is unbroken."""
+    segments = []
+    start = 0
+    n = len(x)
+    for i in range(1, n + 1):
+        if i == n or extrapolated[i] != extrapolated[start]:
+            stop = min(i + 1, n)
+            segments.append((x[start:stop], y[start:stop], not bool(extrapolated[start])))
+            start = i
+    return segments
+
+
+def _model_line(ax, x, y, extrapolated, *, colour, label=None, lw=1.6, zorder=4):
+    first = True
+    for xs, ys, inside in _split_by_validity(x, y, extrapolated):
+        ax.plot(xs, ys, color=colour, lw=lw, ls="-" if inside else (0, (4, 2.5)),
+                label=label if (first and inside) else None, zorder=zorder)
+        first = first and not inside
+    return ax
+
+
+# ------------------------------------------------------------------------------------------
+# campaign figures (no fitting needed)
+# ------------------------------------------------------------------------------------------
+def _resolve_quantities(campaign, quantity):
+    present = campaign.quantities
+    if quantity in (None, "auto"):
+        if campaign.domain == "frequency":
+            pick = [q for q in ("storage_modulus_Pa", "loss_modulus_Pa") if q in present]
+            if not pick:
+                pick = [q for q in ("complex_modulus_Pa", "tan_delta") if q in present][:1]
+        else:
+            pick = [q for q in ("relaxation_modulus_Pa", "creep_compliance_1_per_Pa")
+                    if q in present][:1]
+        return pick or list(present[:1])
+    names = [quantity] if isinstance(quantity, str) else list(quantity)
+    out = []
+    for name in names:
+        full = _QUANTITY_ALIASES.get(name, name)
+        check_choice("quantity", full, present)
+        out.append(full)
+    kinds = {_unit_kind(q) for q in out}
+    if len(kinds) > 1:
+        raise bad_value("quantity", "functions that share one axis unit (moduli together, or one "
+                        "other function)", names)
+    return out
+
+
+def _unit_kind(quantity: str) -> str:
+    if quantity.endswith("_Pa"):
+        return "modulus"
+    if quantity.endswith("_1_per_Pa"):
+        return "compliance"
+    return quantity
+
+
+def _value_axis(campaign, quantities, values):
+    """(label, factor, log?) for the y axis of ``quantities`` given all plotted values (SI)."""
+    symbols = ", ".join(_pretty(campaign.symbol(q)) for q in quantities)
+    kind = _unit_kind(quantities[0])
+    if kind == "modulus":
+        unit, factor = _modulus_unit(values)
+        return f"{symbols} ({unit})", factor, True
+    if kind == "compliance":
+        unit, factor = _compliance_unit(values)
+        return f"{symbols} ({unit})", factor, True
+    if kind == "phase_angle_rad":
+        return f"{symbols} (°)", math.pi / 180.0, False
+    return symbols, 1.0, True
+
+
+_MARKERS = ("o", "^", "s", "D")
+
+
+def plot_isotherms(campaign, ax=None, quantity="auto"):
+    """Plot the measured isotherms as read, coloured by temperature, with a colour bar in °C.
+
+    Parameters
+    ----------
+    campaign : ttsp.Campaign
+        The measurements (frequency sweeps or time-domain tests).
+    ax : matplotlib Axes, optional
+        Where to draw; a new figure is made when None.
+    quantity : str or sequence of str
+        ``"auto"`` (E′ and E″ for frequency data, E(t) or D(t) for time data) or names of
+        measured functions (``"storage_modulus"``, ``"loss_modulus"``, ``"tan_delta"``,
+        ``"complex_modulus"``, ``"phase_angle"``, ``"relaxation_modulus"``,
+        ``"creep_compliance"``, with or without their unit suffix) that share one axis unit.
+
+    Returns
+    -------
+    matplotlib Axes
+        Log–log axes of the function against frequency (Hz or rad/s) or time (s).
+    """
+    campaign = campaign.with_derived() if campaign.domain == "frequency" else campaign
+    quantities = _resolve_quantities(campaign, quantity)
+    ax = _new_axes(ax)
+    freq = campaign.domain == "frequency"
+    xunit, xfactor = _frequency_unit(campaign) if freq else ("s", 1.0)
+    values = np.concatenate([iso.values[q] for iso in campaign.isotherms for q in quantities
+                             if q in iso.values])
+    ylabel, yfactor, ylog = _value_axis(campaign, quantities, values)
+    colours = _temperature_colours(campaign.temperatures_C)
+    for iso in campaign.isotherms:
+        c = colours.to_rgba(iso.temperature_C)
+        for k, q in enumerate(quantities):
+            if q not in iso.values:
+                continue
+            filled = k == 0
+            ax.plot(iso.x / xfactor, iso.values[q] / yfactor, marker=_MARKERS[k % len(_MARKERS)],
+                    ms=3.6, lw=0.8, color=c, mfc=c if filled else "white", mec=c, mew=0.9,
+                    zorder=3)
+    _style(ax, logx=True, logy=ylog)
+    ax.set_xlabel(f"Frequency f ({xunit})" if freq and xunit == "Hz" else
+                  f"Angular frequency ω ({xunit})" if freq else "Time t (s)")
+    ax.set_ylabel(ylabel)
+    if len(quantities) > 1:
+        from matplotlib.lines import Line2D
+
+        handles = [Line2D([], [], color=_INK, lw=0.8, marker=_MARKERS[k % len(_MARKERS)], ms=4,
+                          mfc=_INK if k == 0 else "white", mec=_INK,
+                          label=_pretty(campaign.symbol(q)))
+                   for k, q in enumerate(quantities)]
+        ax.legend(handles=handles, fontsize=8.5, frameon=False, loc="best")
+    if ylog:
+        _tidy_log_axis(ax.yaxis)
+    _colour_bar(ax, colours)
+    return ax
+
+
+def _local_log_slope(x, y, half_window: int = 2):
+    """d log10 y / d log10 x at each point: least-squares line through ±half_window neighbours.
+
+    A moving-window regression is the derivative estimate of Savitzky & Golay (Anal. Chem. 36,
+    1627, 1964) of first order, written for uneven spacing.
+    """
+    lx, ly = np.log10(x), np.log10(y)
+    n = lx.size
+    out = np.full(n, np.nan)
+    for i in range(n):
+        lo, hi = max(0, i - half_window), min(n, i + half_window + 1)
+        if hi - lo < 3:
+            continue
+        xs, ys = lx[lo:hi], ly[lo:hi]
+        xc = xs - xs.mean()
+        denom = float(np.dot(xc, xc))
+        if denom > 0:
+            out[i] = float(np.dot(xc, ys - ys.mean()) / denom)
+    return out
+
+
+def plot_superposition_check(campaign, ax=None):
+    """Shift-free check of thermorheological simplicity, coloured by temperature.
+
+    Frequency data: the van Gurp–Palmen plot, phase angle δ against |E*| (van Gurp & Palmen,
+    Rheology Bulletin 67, 5, 1998; Trinkle & Friedrich, Rheol. Acta 40, 322, 2001). Time data:
+    the local log–log slope −d log E/d log t (or d log D/d log t) against E (or D). Both
+    coordinates are unchanged by a horizontal shift, so the isotherms of a thermorheologically
+    simple material fall on one curve without any shifting; fanning out shows complexity.
+
+    Returns
+    -------
+    matplotlib Axes
+    """
+    ax = _new_axes(ax)
+    colours = _temperature_colours(campaign.temperatures_C)
+    letter, cletter = _letters(campaign.modulus_kind)
+    if campaign.domain == "frequency":
+        full = campaign.with_derived()
+        if not {"complex_modulus_Pa", "phase_angle_rad"} <= set(full.quantities):
+            raise bad_value("campaign", "frequency data with E′ and E″ (or |E*| and δ) for the van "
+                            "Gurp–Palmen plot", ", ".join(full.quantities))
+        mags = np.concatenate([i.values["complex_modulus_Pa"] for i in full.isotherms])
+        unit, factor = _modulus_unit(mags)
+        for iso in full.isotherms:
+            c = colours.to_rgba(iso.temperature_C)
+            m = iso.values["complex_modulus_Pa"]
+            order = np.argsort(m)
+            ax.plot(m[order] / factor, np.degrees(iso.values["phase_angle_rad"][order]),
+                    marker="o", ms=3.6, lw=0.8, color=c, mec=c, mfc=c, zorder=3)
+        _style(ax, logx=True)
+        ax.set_xlabel(f"|{letter}*| ({unit})")
+        ax.set_ylabel("Phase angle δ (°)")
+    else:
+        quantity = ("relaxation_modulus_Pa" if "relaxation_modulus_Pa" in campaign.quantities
+                    else "creep_compliance_1_per_Pa")
+        sign = -1.0 if quantity == "relaxation_modulus_Pa" else 1.0
+        values = np.concatenate([i.values[quantity] for i in campaign.isotherms])
+        if quantity == "relaxation_modulus_Pa":
+            unit, factor = _modulus_unit(values)
+            xlabel = f"{letter}(t) ({unit})"
+            ylabel = f"Local slope −d log {letter} / d log t"
+        else:
+            unit, factor = _compliance_unit(values)
+            xlabel = f"{cletter}(t) ({unit})"
+            ylabel = f"Local slope d log {cletter} / d log t"
+        for iso in campaign.isotherms:
+            c = colours.to_rgba(iso.temperature_C)
+            y = iso.values[quantity]
+            slope = sign * _local_log_slope(iso.x, y)
+            ok = np.isfinite(slope)
+            ax.plot(y[ok] / factor, slope[ok], marker="o", ms=3.6, lw=0.8, color=c, mec=c, mfc=c,
+                    zorder=3)
+        _style(ax, logx=True)
+        ax.set_xlabel(xlabel)
+        ax.set_ylabel(ylabel)
+    _colour_bar(ax, colours)
+    return ax
+
+
+# ------------------------------------------------------------------------------------------
+# build figures
+# ------------------------------------------------------------------------------------------
+def _reduced_x_label(campaign, xunit: str) -> str:
+    if campaign.domain != "frequency":
+        return f"Reduced time t/{_AT} (s)"
+    if xunit == "Hz":
+        return f"Reduced frequency f·{_AT} (Hz)"
+    return f"Reduced angular frequency ω·{_AT} (rad/s)"
+
+
+def plot_master_curve(result, ax=None):
+    """The master curve at the reference temperature: every point at its reduced frequency
+    (f·a_T) or reduced time (t/a_T), coloured by its temperature, with the fitted Prony model.
+
+    Parameters
+    ----------
+    result : ttsp.workflow.BuildResult
+
+    Returns
+    -------
+    matplotlib Axes
+        Log–log axes; the model is solid over the fitted range and dashed beyond it. Points
+        the shifting flagged as outliers are drawn as grey crosses (they are kept, not dropped).
+    """
+    from matplotlib.lines import Line2D
+
+    campaign = result.campaign
+    freq = campaign.domain == "frequency"
+    data = _reduced_data(result)
+    quantities = [q for q in _resolve_quantities(campaign, "auto") if q in data[0][2]]
+    ax = _new_axes(ax)
+    xunit, xfactor = _frequency_unit(campaign) if freq else ("s", 1.0)
+    values = np.concatenate([d[2][q] for d in data for q in quantities])
+    ylabel, yfactor, ylog = _value_axis(campaign, quantities, values)
+    colours = _temperature_colours([d[0] for d in data])
+    n_outliers = 0
+    xs_all = []
+    for t_C, x, vals, outlier in data:
+        c = colours.to_rgba(t_C)
+        xs_all.append(x)
+        for k, q in enumerate(quantities):
+            y = vals[q]
+            keep = ~outlier & np.isfinite(y)
+            ax.plot(x[keep] / xfactor, y[keep] / yfactor, ls="none",
+                    marker=_MARKERS[k % len(_MARKERS)], ms=3.4, mec=c, mfc=c if k == 0 else "white",
+                    mew=0.8, zorder=3)
+            if outlier.any():
+                ax.plot(x[outlier] / xfactor, y[outlier] / yfactor, ls="none", marker="x", ms=5,
+                        color=_GREY, mew=1.0, zorder=3)
+        n_outliers += int(outlier.sum()) * len(quantities)
+    # the fitted model at the reference temperature, half a decade beyond the data at most
+    xs_all = np.concatenate(xs_all)
+    lo, hi = float(xs_all.min()) / 10 ** 0.5, float(xs_all.max()) * 10 ** 0.5
+    frame = _functions(result)
+    ext = frame["extrapolated"].to_numpy(dtype=bool)
+    xm = 2.0 * math.pi * frame["frequency_Hz"].to_numpy() if freq else frame["time_s"].to_numpy()
+    order = np.argsort(xm)
+    window = (xm[order] >= lo) & (xm[order] <= hi)
+    model_columns = {"storage_modulus_Pa", "loss_modulus_Pa", "tan_delta",
+                     "relaxation_modulus_Pa", "creep_compliance_1_per_Pa"}
+    drawn = False
+    for q in quantities:
+        if q in model_columns and q in frame.columns:
+            idx = order[window]
+            _model_line(ax, xm[idx] / xfactor, frame[q].to_numpy()[idx] / yfactor, ext[idx],
+                        colour=_INK, lw=1.2)
+            drawn = True
+    handles = [Line2D([], [], ls="none", marker=_MARKERS[k % len(_MARKERS)], ms=4, mec=_INK,
+                      mfc=_INK if k == 0 else "white", label=_pretty(campaign.symbol(q)))
+               for k, q in enumerate(quantities)]
+    if drawn:
+        handles.append(Line2D([], [], color=_INK, lw=1.2, label="Prony series"))
+        if ext[order][window].any():
+            handles.append(_extrapolation_handle())
+    if n_outliers:
+        handles.append(Line2D([], [], ls="none", marker="x", color=_GREY,
+                              label=f"flagged outliers ({n_outliers})"))
+    _style(ax, logx=True, logy=ylog)
+    ax.set_xlabel(_reduced_x_label(campaign, xunit))
+    ax.set_ylabel(ylabel)
+    ax.legend(handles=handles, fontsize=8.5, frameon=False, loc="best")
+    if ylog:
+        _tidy_log_axis(ax.yaxis)
+    _tref_title(ax, result, "master curve")
+    _colour_bar(ax, colours)
+    return ax
+
+
+def _law_band(law_fit, temperature_K):
+    """Standard error of the fitted law's log10 a_T at ``temperature_K``, or None.
+
+    First-order propagation of the parameter covariance, var f = J C Jᵀ, with the Jacobian J
+    by central differences (steps of 10⁻³ standard errors) and C rebuilt from the parameter
+    standard errors and their correlation coefficients (JCGM 100:2008, GUM, eq. 13).
+    """
+    law = law_fit.law
+    stderr = dict(law_fit.stderr)
+    fixed = set(getattr(law_fit, "fixed_parameters", ()) or ())
+    free = [n for n in law.params if n not in fixed and stderr.get(n) is not None
+            and np.isfinite(stderr[n]) and stderr[n] > 0]
+    if not free:
+        return None
+    s = np.array([float(stderr[n]) for n in free])
+    cov = np.diag(s ** 2)
+    for (a, b), r in dict(getattr(law_fit, "correlation", {}) or {}).items():
+        if a in free and b in free and r is not None and np.isfinite(r):
+            i, j = free.index(a), free.index(b)
+            cov[i, j] = cov[j, i] = float(r) * s[i] * s[j]
+    t = np.atleast_1d(np.asarray(temperature_K, dtype=float))
+    jac = np.empty((t.size, len(free)))
+    try:
+        for k, name in enumerate(free):
+            h = 1e-3 * s[k]
+            vals = []
+            for sign in (1.0, -1.0):
+                p = dict(law.params)
+                p[name] = p[name] + sign * h
+                moved = type(law)(law.reference_temperature_K, p, None)
+                vals.append(np.asarray(moved.log10_aT(t), dtype=float))
+            jac[:, k] = (vals[0] - vals[1]) / (2.0 * h)
+    except Exception:  # a step left the law's domain (e.g. C2 <= 0): no band rather than a wrong one
+        return None
+    var = np.einsum("ti,ij,tj->t", jac, cov, jac)
+    return np.sqrt(np.clip(var, 0.0, None))
+
+
+_LAW_NAMES = {"wlf": "WLF", "arrhenius": "Arrhenius", "wlf-arrhenius": "WLF/Arrhenius",
+              "vft": "VFT", "polynomial": "Polynomial"}
+
+
+def _law_text(law_fit) -> str:
+    law = law_fit.law
+    lines = [f"{_LAW_NAMES.get(law.model, law.model)} law"]
+    fixed = set(getattr(law_fit, "fixed_parameters", ()) or ())
+    for name, value in law.params.items():
+        symbol, unit, celsius = _param_display(name)
+        shown = float(kelvin_to_celsius(value)) if celsius else value
+        se = law_fit.stderr.get(name)
+        if name in fixed:
+            lines.append(f"{symbol} = {shown:.4g} {unit} (fixed)")
+        else:
+            lines.append(f"{symbol} = {shown:.4g} ± {_fmt(se, 2)} {unit}".rstrip())
+    return "\n".join(lines)
+
+
+def _shift_flags(result, temperature_K):
+    """Per row of the shift table: its flags from the shifting (empty tuples if none)."""
+    shifts = result.shifts
+    flags = getattr(shifts, "flags", None)
+    temps = getattr(shifts, "temperature_K", None)
+    if flags is None or temps is None or len(flags) != len(temps):
+        return [()] * len(temperature_K)
+    by_t = {round(float(t), 6): tuple(f) for t, f in zip(temps, flags)}
+    return [by_t.get(round(float(t), 6), ()) for t in temperature_K]
+
+
+def plot_shift_factors(result, ax=None, residual_ax=None):
+    """log10 a_T against temperature: the shifts found (± one standard error) and the fitted
+    law with its ± one-standard-error band propagated from the parameter covariance; below it,
+    the residuals of the shifts about the law.
+
+    Parameters
+    ----------
+    result : ttsp.workflow.BuildResult
+    ax : matplotlib Axes, optional
+        Where to draw the shifts and the law. When None, a new figure is made with a residual
+        panel below.
+    residual_ax : matplotlib Axes, optional
+        Where to draw the residuals (data − law, decades); only drawn when given or when
+        ``ax`` is None.
+
+    Returns
+    -------
+    matplotlib Axes
+        Temperature in °C on x, log10 a_T on y (linear: it is already a logarithm).
+    """
+    if ax is None:
+        from matplotlib.figure import Figure
+
+        fig = Figure(figsize=(6.0, 5.2), layout="constrained")
+        grid = fig.add_gridspec(2, 1, height_ratios=(3.0, 1.1))
+        ax = fig.add_subplot(grid[0])
+        residual_ax = fig.add_subplot(grid[1], sharex=ax)
+        fig.align_ylabels([ax, residual_ax])
+    t_K, log_a, se, _ = _shift_table(result)
+    t_C = kelvin_to_celsius(t_K)
+    law_fit = result.law_fit
+    law = law_fit.law
+    rng = law.valid_temperature_range_K or (float(t_K.min()), float(t_K.max()))
+    grid_K = np.linspace(rng[0], rng[1], 241)
+    curve = np.asarray(law.log10_aT(grid_K), dtype=float)
+    band = _law_band(law_fit, grid_K)
+    grid_C = kelvin_to_celsius(grid_K)
+    name = _LAW_NAMES.get(law.model, law.model)
+    if band is not None:
+        ax.fill_between(grid_C, curve - band, curve + band, color=_BLUE, alpha=0.22, lw=0,
+                        label=f"{name} ± 1 s.e.", zorder=1)
+    ax.plot(grid_C, curve, color=_BLUE, lw=1.6, label=f"{name} law, fitted", zorder=2)
+    flags = _shift_flags(result, t_K)
+    bridged = np.array(["bridged" in f for f in flags], dtype=bool)
+    yerr = np.where(np.isfinite(se), se, 0.0)
+    main = ~bridged
+    ax.errorbar(t_C[main], log_a[main], yerr=yerr[main], fmt="o", ms=4.2, color=_INK,
+                mfc="white", mew=1.0, elinewidth=0.9, capsize=2.2,
+                label="shift factors ± 1 s.e.", zorder=3)
+    if bridged.any():
+        ax.errorbar(t_C[bridged], log_a[bridged], yerr=yerr[bridged], fmt="s", ms=4.2,
+                    color=_VERMILLION, mfc="white", mew=1.0, elinewidth=0.9, capsize=2.2,
+                    label="placed across a gap by the law", zorder=3)
+    for a in (ax, residual_ax):
+        if a is not None:
+            a.axvline(result.reference_temperature_C, color=_GREY, lw=0.8, ls=(0, (2, 2)),
+                      zorder=1)
+    ax.axhline(0.0, color=_GREY, lw=0.6, zorder=1)
+    _style(ax)
+    ax.set_ylabel(r"Shift factor $\log_{10} a_T$")
+    ax.legend(fontsize=8.5, frameon=False, loc="upper right")
+    _note(ax, _law_text(law_fit), loc="lower left")
+    _tref_title(ax, result)
+    if residual_ax is None:
+        ax.set_xlabel("Temperature T (°C)")
+        return ax
+    # residuals of the shifts about the law, with the law's own uncertainty as a band
+    fitted = np.asarray(law.log10_aT(np.clip(t_K, rng[0], rng[1])), dtype=float)
+    resid = log_a - fitted
+    if band is not None:
+        residual_ax.fill_between(grid_C, -band, band, color=_BLUE, alpha=0.22, lw=0, zorder=1)
+    residual_ax.axhline(0.0, color=_BLUE, lw=1.2, zorder=2)
+    residual_ax.errorbar(t_C, resid, yerr=yerr, fmt="o", ms=3.6, color=_INK, mfc="white",
+                         mew=0.9, elinewidth=0.8, capsize=2.0, zorder=3)
+    _style(residual_ax)
+    ax.tick_params(labelbottom=False)
+    residual_ax.set_xlabel("Temperature T (°C)")
+    residual_ax.set_ylabel("Data − law\n(decades)")
+    lim = float(np.nanmax(np.abs(resid) + yerr)) if resid.size else 0.0
+    lim = max(lim * 1.25, float(np.nanmax(band)) * 1.25 if band is not None else 0.0, 0.01)
+    residual_ax.set_ylim(-lim, lim)
+    return ax
+
+
+def plot_prony_fit(result, axes=None):
+    """The Prony fit: master-curve data with the fitted series, the residuals in per cent, and
+    the discrete spectrum (stems E_i at τ_i) with the long-term modulus.
+
+    Parameters
+    ----------
+    result : ttsp.workflow.BuildResult
+    axes : sequence of three Axes, optional
+        (fit, residuals, spectrum); a new figure with that layout is made when None.
+
+    Returns
+    -------
+    tuple of three matplotlib Axes
+    """
+    if axes is None:
+        from matplotlib.figure import Figure
+
+        fig = Figure(figsize=(10.0, 4.8), layout="constrained")
+        grid = fig.add_gridspec(2, 2, height_ratios=(3.0, 1.25), width_ratios=(1.35, 1.0))
+        ax_fit = fig.add_subplot(grid[0, 0])
+        ax_res = fig.add_subplot(grid[1, 0], sharex=ax_fit)
+        ax_spec = fig.add_subplot(grid[:, 1])
+        fig.align_ylabels([ax_fit, ax_res])
+    else:
+        ax_fit, ax_res, ax_spec = axes
+    campaign = result.campaign
+    fit = result.prony_fit
+    series = result.series
+    letter, cletter = _letters(campaign.modulus_kind)
+    freq = fit.domain == "frequency"
+    xunit, xfactor = _frequency_unit(campaign) if freq else ("s", 1.0)
+    symbols = {"storage_modulus": f"{letter}′", "loss_modulus": f"{letter}″",
+               "relaxation_modulus": f"{letter}(t)", "creep_compliance": f"{cletter}(t)"}
+    colours = {"storage_modulus": _BLUE, "loss_modulus": _VERMILLION,
+               "relaxation_modulus": _BLUE, "creep_compliance": _GREEN}
+    compliance = list(fit.quantities) == ["creep_compliance"]
+    all_meas = np.concatenate([np.asarray(fit.measured[q], dtype=float) for q in fit.quantities])
+    unit, factor = (_compliance_unit(all_meas) if compliance else _modulus_unit(all_meas))
+    x = np.asarray(fit.x, dtype=float)
+    frame = _functions(result)
+    ext = frame["extrapolated"].to_numpy(dtype=bool)
+    xs = 2.0 * math.pi * frame["frequency_Hz"].to_numpy() if freq else frame["time_s"].to_numpy()
+    order = np.argsort(xs)
+    lo, hi = float(x.min()) / 10 ** 0.5, float(x.max()) * 10 ** 0.5
+    idx = order[(xs[order] >= lo) & (xs[order] <= hi)]
+    model_cols = {"storage_modulus": "storage_modulus_Pa", "loss_modulus": "loss_modulus_Pa",
+                  "relaxation_modulus": "relaxation_modulus_Pa",
+                  "creep_compliance": "creep_compliance_1_per_Pa"}
+    for q in fit.quantities:
+        c = colours.get(q, _INK)
+        ax_fit.plot(x / xfactor, np.asarray(fit.measured[q]) / factor, ls="none", marker="o",
+                    ms=2.8, mfc="none", mec=c, mew=0.6, alpha=0.75, zorder=2,
+                    label=f"{symbols.get(q, q)} master curve")
+        if q in model_cols:
+            _model_line(ax_fit, xs[idx] / xfactor, frame[model_cols[q]].to_numpy()[idx] / factor,
+                        ext[idx], colour=c, lw=1.5, label=f"{symbols.get(q, q)} Prony series")
+        ax_res.plot(x / xfactor, np.asarray(fit.residuals_percent[q]), ls="none", marker="o",
+                    ms=2.6, mfc=c, mec=c, mew=0.0, alpha=0.8, zorder=2)
+    _style(ax_fit, logx=True, logy=True)
+    _style(ax_res, logx=True)
+    ax_res.axhline(0.0, color=_INK, lw=0.8)
+    ax_fit.set_ylabel(", ".join(symbols.get(q, q) for q in fit.quantities) + f" ({unit})")
+    handles, labels = ax_fit.get_legend_handles_labels()
+    if ext[idx].any():
+        handles.append(_extrapolation_handle())
+        labels.append("extrapolated")
+    ax_fit.legend(handles, labels, fontsize=8, frameon=False, loc="best")
+    _tidy_log_axis(ax_fit.yaxis)
+    ax_fit.tick_params(labelbottom=False)
+    ax_res.set_ylabel("Residual (%)")
+    ax_res.set_xlabel(_reduced_x_label(campaign, xunit))
+    resid = np.concatenate([np.asarray(fit.residuals_percent[q], dtype=float)
+                            for q in fit.quantities])
+    lim = max(1.0, float(np.nanmax(np.abs(resid))) * 1.15) if resid.size else 1.0
+    ax_res.set_ylim(-lim, lim)
+    _tref_title(ax_fit, result, f"{series.n_terms} terms, rms {fit.rms_percent:.2g} %, "
+                                f"max {fit.max_percent:.2g} %")
+
+    # spectrum
+    tau = np.asarray(series.tau_s, dtype=float)
+    e_i = np.asarray(series.modulus_Pa, dtype=float)
+    keep = e_i > 0
+    tau, e_i = tau[keep], e_i[keep]
+    einf = float(series.equilibrium_modulus_Pa)
+    sunit, sfactor = _modulus_unit(np.concatenate([e_i, [einf] if einf > 0 else []]))
+    positive = np.concatenate([e_i, [einf] if einf > 0 else []]) / sfactor
+    bottom = float(positive.min()) / 8.0 if positive.size else 1e-3
+    top = float(positive.max()) * 40.0 if positive.size else 1.0
+    rng = _valid_range(result)
+    if rng is not None:
+        ax_spec.axvspan(rng[0], rng[1], color=_BLUE, alpha=0.07, lw=0, zorder=0,
+                        label="range of the data (reduced time)")
+    if tau.size:
+        ax_spec.vlines(tau, bottom, e_i / sfactor, color=_INK, lw=1.1, zorder=3)
+        ax_spec.plot(tau, e_i / sfactor, ls="none", marker="o", ms=4.5, color=_INK, zorder=4,
+                     label=rf"${letter}_i$ at $\tau_i$")
+    if einf > 0:
+        ax_spec.axhline(einf / sfactor, color=_VERMILLION, lw=1.1, ls=(0, (4, 2)), zorder=2,
+                        label=rf"${letter}_\infty$ = {einf / sfactor:.3g} {sunit}")
+    _style(ax_spec, logx=True, logy=True)
+    from matplotlib.ticker import LogLocator
+
+    ax_spec.xaxis.set_major_locator(LogLocator(numticks=7))
+    ax_spec.set_ylim(bottom, top)
+    if tau.size:
+        ax_spec.set_xlim(tau.min() / 10.0, tau.max() * 10.0)
+    ax_spec.set_xlabel(r"Relaxation time $\tau_i$ (s)")
+    ax_spec.set_ylabel(rf"Prony coefficient ${letter}_i$ ({sunit})")
+    ax_spec.legend(fontsize=8, frameon=False, loc="upper right")
+    ax_spec.set_title("discrete relaxation spectrum", loc="left", fontsize=9, color=_INK, pad=4)
+    return ax_fit, ax_res, ax_spec
+
+
+def _twin_legend(ax, twin, extra=()):
+    """One legend for an axes and its twin, in a row below the x-axis label (curves that span
+    the whole width leave no free corner inside)."""
+    lines = [ln for ln in ax.get_lines() + twin.get_lines() if not ln.get_label().startswith("_")]
+    handles = lines + list(extra)
+    ax.legend(handles, [h.get_label() for h in handles], fontsize=8.5, frameon=False,
+              loc="upper center", bbox_to_anchor=(0.5, -0.13), ncol=len(handles),
+              handlelength=1.8, columnspacing=1.2)
+
+
+def plot_time_functions(result, ax=None):
+    """Relaxation modulus E(t) (left axis) and creep compliance D(t) (right axis) of the model
+    at the reference temperature over reduced time; extrapolated parts dashed and shaded.
+
+    Returns
+    -------
+    matplotlib Axes
+        The E(t) axes; the D(t) axes is its twin (``ax.figure.axes``).
+    """
+    ax = _new_axes(ax, size=(6.4, 4.4))
+    letter, cletter = _letters(result.campaign.modulus_kind)
+    frame = _functions(result)
+    t = frame["time_s"].to_numpy()
+    e = frame["relaxation_modulus_Pa"].to_numpy()
+    d = frame["creep_compliance_1_per_Pa"].to_numpy()
+    ext = frame["extrapolated"].to_numpy(dtype=bool)
+    eunit, efactor = _modulus_unit(e)
+    dunit, dfactor = _compliance_unit(d)
+    _model_line(ax, t, e / efactor, ext, colour=_BLUE, label=f"{letter}(t) relaxation modulus")
+    twin = ax.twinx()
+    _model_line(twin, t, d / dfactor, ext, colour=_VERMILLION,
+                label=f"{cletter}(t) creep compliance")
+    rng = _valid_range(result)
+    _style(ax, logx=True, logy=True)
+    ax.tick_params(which="both", right=False)
+    _log_scale(twin, "y")
+    _style_twin(twin, _VERMILLION)
+    _style_twin_left(ax, _BLUE)
+    if rng is not None:
+        _shade_extrapolation(ax, rng[0], rng[1], float(t.min()), float(t.max()))
+    ax.set_xlim(float(t.min()), float(t.max()))
+    ax.set_xlabel(f"Reduced time t/{_AT} (s)")
+    ax.set_ylabel(f"Relaxation modulus {letter}(t) ({eunit})")
+    twin.set_ylabel(f"Creep compliance {cletter}(t) ({dunit})")
+    _tidy_log_axis(ax.yaxis)
+    _tidy_log_axis(twin.yaxis)
+    _twin_legend(ax, twin, [_extrapolation_handle()] if ext.any() else [])
+    _tref_title(ax, result, "from the Prony series")
+    return ax
+
+
+def _style_twin_left(ax, colour):
+    ax.yaxis.label.set_color(colour)
+    ax.tick_params(axis="y", which="both", colors=colour)
+    ax.spines["left"].set_color(colour)
+
+
+def plot_frequency_functions(result, ax=None):
+    """Storage and loss modulus (left axis, log) and tan δ (right axis, linear) of the model at
+    the reference temperature over reduced frequency; extrapolated parts dashed and shaded.
+
+    Returns
+    -------
+    matplotlib Axes
+        The modulus axes; the tan δ axes is its twin.
+    """
+    ax = _new_axes(ax, size=(6.4, 4.4))
+    campaign = result.campaign
+    letter, _ = _letters(campaign.modulus_kind)
+    xunit, xfactor = _frequency_unit(campaign)
+    frame = _functions(result)
+    omega = 2.0 * math.pi * frame["frequency_Hz"].to_numpy()
+    order = np.argsort(omega)
+    x = omega[order] / xfactor
+    ep = frame["storage_modulus_Pa"].to_numpy()[order]
+    epp = frame["loss_modulus_Pa"].to_numpy()[order]
+    tand = frame["tan_delta"].to_numpy()[order]
+    ext = frame["extrapolated"].to_numpy(dtype=bool)[order]
+    unit, factor = _modulus_unit(np.concatenate([ep, epp]))
+    _model_line(ax, x, ep / factor, ext, colour=_BLUE, label=f"{letter}′ storage modulus")
+    _model_line(ax, x, epp / factor, ext, colour=_VERMILLION, label=f"{letter}″ loss modulus")
+    twin = ax.twinx()
+    _model_line(twin, x, tand, ext, colour=_GREEN, lw=1.3, label="tan δ")
+    _style(ax, logx=True, logy=True)
+    ax.tick_params(which="both", right=False)
+    _style_twin(twin, _GREEN)
+    finite = tand[np.isfinite(tand)]
+    twin.set_ylim(0.0, float(finite.max()) * 1.08 if finite.size else 1.0)
+    rng = _valid_range(result)
+    if rng is not None:
+        # the series' range is in reduced time; the matching angular frequencies are ω = 1/t
+        _shade_extrapolation(ax, 1.0 / rng[1] / xfactor, 1.0 / rng[0] / xfactor,
+                             float(x.min()), float(x.max()))
+    ax.set_xlim(float(x.min()), float(x.max()))
+    ax.set_xlabel(_reduced_x_label(campaign, xunit))
+    ax.set_ylabel(f"{letter}′, {letter}″ ({unit})")
+    twin.set_ylabel("Loss factor tan δ")
+    _tidy_log_axis(ax.yaxis)
+    _twin_legend(ax, twin, [_extrapolation_handle()] if ext.any() else [])
+    _tref_title(ax, result, "from the Prony series")
+    return ax
+
+
+# ------------------------------------------------------------------------------------------
+# all figures of a build, and saving them
+# ------------------------------------------------------------------------------------------
+def render_figures(result) -> dict:
+    """Every figure of a build as ``{name: matplotlib Figure}`` (names in :data:`FIGURE_NAMES`).
+
+    ``frequency_functions`` is made for every build: a series fitted to time-domain data has a
+    frequency response too (Ferry 1980, ch. 3), it is simply further from the measurements.
+    """
+    figures = {}
+    figures["isotherms"] = plot_isotherms(result.campaign).figure
+    figures["master_curve"] = plot_master_curve(result).figure
+    figures["shift_factors"] = plot_shift_factors(result).figure
+    figures["prony_fit"] = plot_prony_fit(result)[0].figure
+    figures["time_functions"] = plot_time_functions(result).figure
+    figures["frequency_functions"] = plot_frequency_functions(result).figure
+    figures["superposition_check"] = plot_superposition_check(result.campaign).figure
+    return figures
+
+
+def save_figures(figures, folder) -> dict:
+    """Write each figure as ``<name>.png`` (150 dpi) and ``<name>.svg`` into ``folder``.
+
+    Output is byte-for-byte reproducible: no date or software version is written into the
+    files, and the ids inside the SVG are derived from a fixed salt.
+
+    Parameters
+    ----------
+    figures : mapping of str to matplotlib Figure
+        As returned by :func:`render_figures`.
+    folder : str or Path
+        Created if missing.
+
+    Returns
+    -------
+    dict
+        ``{name: {"png": Path, "svg": Path}}``.
+    """
+    import re
+
+    import matplotlib
+
+    folder = Path(folder)
+    folder.mkdir(parents=True, exist_ok=True)
+    written = {}
+    for name, fig in figures.items():
+        if not isinstance(name, str) or not re.fullmatch(r"[A-Za-z0-9_\-]+", name):
+            raise bad_value("figure name", "letters, digits, '_' or '-' (it becomes a file name)",
+                            name)
+        png, svg = folder / f"{name}.png", folder / f"{name}.svg"
+        # Lay the figure out once and keep that layout for both files: with a layout engine
+        # active, every savefig would draw twice (once to lay out, once to render).
+        engine = fig.get_layout_engine()
+        fig.draw_without_rendering()
+        fig.set_layout_engine("none")
+        try:
+            with matplotlib.rc_context({"svg.hashsalt": _SVG_SALT, "svg.fonttype": "path"}):
+                fig.savefig(png, format="png", dpi=_PNG_DPI, metadata={"Software": None},
+                            facecolor="white")
+                fig.savefig(svg, format="svg", metadata={"Date": None, "Creator": None},
+                            facecolor="white")
+        finally:
+            fig.set_layout_engine(engine)
+        written[name] = {"png": png, "svg": svg}
+    return written
