@@ -103,7 +103,13 @@ def _compliance_unit(values_1_per_Pa) -> tuple[str, float]:
     """Inverse of :func:`_modulus_unit`: (unit, factor) with value_in_unit = value_SI / factor."""
     v = np.asarray(values_1_per_Pa, dtype=float).ravel()
     v = v[np.isfinite(v) & (v > 0)]
-    unit, factor = _modulus_unit(1.0 / v) if v.size else ("Pa", 1.0)
+    unit, factor = "GPa", 1e9
+    if v.size:
+        # the smallest modulus unit in whose inverse the typical compliance is at least 1
+        mid = 10.0 ** float(-np.median(np.log10(v)))
+        for unit, factor in reversed(_MODULUS_UNITS):
+            if factor >= mid * (1 - 1e-12):
+                break
     return f"{unit}⁻¹", 1.0 / factor
 
 
@@ -401,10 +407,10 @@ def _resolve_quantities(campaign, quantity):
 
 
 def _unit_kind(quantity: str) -> str:
-    if quantity.endswith("_Pa"):
-        return "modulus"
     if quantity.endswith("_1_per_Pa"):
         return "compliance"
+    if quantity.endswith("_Pa"):
+        return "modulus"
     return quantity
 
 
