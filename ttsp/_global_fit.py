@@ -1,0 +1,570 @@
+"""Joint fit of a master curve and the shifts of every isotherm (private).
+
+The model, in log–log coordinates (decades), for point i of isotherm k and function q::
+
+    y_i = F_q(u_i; θ) + v_q * c_k + noise,      u_i = x_i + d * s_k,   d = +1 (frequency) or -1 (time)
+
+``s_k`` = log10 a_T of isotherm k, ``c_k`` = log10 b_T (free only in the vertical "fit" mode),
+``v_q`` = +1 for a modulus, -1 for a compliance, 0 for tan δ or δ. Two master models F:
+
+``"spectrum"`` (default)
+    One relaxation spectrum shared by every measured function: a generalized Maxwell model
+    E(t) = E_e + Σ g_j exp(−t/τ_j) with τ_j on a fixed grid (five per decade, three decades
+    beyond the data on each side) and g_j = exp(φ_j) > 0, so E', E'', |E*|, δ and tan δ all
+    follow from the same φ and are consistent with each other (the Kramers–Kronig relations hold
+    by construction; Ferry, Viscoelastic Properties of Polymers, 3rd ed., 1980, ch. 3). Creep
+    compliance uses a retardation spectrum D(t) = D_g + Σ h_j (1 − exp(−t/λ_j)) the same way.
+    The log-spectrum is penalised by its squared second differences, i.e. a smooth spectrum,
+    the regularised-spectrum idea of Honerkamp & Weese (Rheol. Acta 32:57, 1993) applied to
+    master-curve estimation. Because E' and E'' are tied together, each isotherm's shift is
+    pinned by both at once, which is what makes the joint fit more precise than a fit of two
+    independent curves.
+``"spline"``
+    One cubic B-spline per function on uniform knots with a third-difference penalty (P-spline,
+    Eilers & Marx, Statistical Science 11:89, 1996): no physics, any function.
+
+Shifts, vertical shifts and curve parameters are fitted together by damped Gauss–Newton
+(Levenberg–Marquardt) on the stacked residuals: a full step over every parameter, which converges
+to the optimum of the separable problem that variable projection (Golub & Pereyra, SIAM J.
+Numer. Anal. 10:413, 1973) would reach. A robust loss (Huber, Robust Statistics, 1981) enters
+through iteratively re-weighted least squares, with the noise scale of each function estimated
+from the median absolute residual. Standard errors come from the inverse of the Gauss–Newton
+curvature of the penalised objective (its shift block, so the curve's own uncertainty is
+included), scaled by the residual variance per effective degree of freedom (trace of the hat
+matrix; the Bayesian reading of a penalised fit's covariance, Wahba, J. R. Stat. Soc. B 45:133,
+1983).
+
+Nothing here validates user input: :mod:`ttsp.shifting` does that.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+import scipy.sparse as sp
+from scipy.linalg import LinAlgError, cho_factor, cho_solve, lu_factor, lu_solve
+
+from .exceptions import FitError
+
+__all__ = ["JointProblem", "JointSolution", "fit_joint", "MASTER_MODELS"]
+
+MASTER_MODELS = ("spectrum", "spline")
+_MAD_TO_SIGMA = 1.482602218505602  # 1 / Φ⁻¹(3/4): MAD of a normal sample to its σ
+_LN10 = np.log(10.0)
+
+
+@dataclass
+class JointProblem:
+    """Flattened data of one connected set of isotherms.
+
+    Every array has one entry per residual (one measured value of one function).
+    """
+
+    x: np.ndarray          # log10 of frequency (rad/s) or time (s)
+    y: np.ndarray          # log10 of the measured value, known vertical shifts removed
+    iso: np.ndarray        # isotherm index 0..n_iso-1
+    fn: np.ndarray         # function index 0..n_fn-1
+    n_iso: int
+    functions: tuple       # names of the functions (ttsp.data.QUANTITIES keys)
+    direction: float       # +1: reduced x = x + s; -1: reduced x = x - s
+    vertical_sign: np.ndarray   # per function: +1, -1 or 0
+    s_fixed: dict          # isotherm -> fixed log10 aT (includes the gauge anchor)
+    fit_vertical: bool = False
+    c_fixed: dict = None   # isotherm -> fixed log10 bT (the vertical gauge anchor)
+
+    @property
+    def n_fn(self) -> int:
+        return len(self.functions)
+
+
+@dataclass
+class JointSolution:
+    s: np.ndarray            # log10 aT per isotherm (problem gauge)
+    c: np.ndarray            # log10 bT per isotherm (zeros unless fitted)
+    cov_s: np.ndarray        # covariance of s (zero rows/cols for fixed entries)
+    cov_c: np.ndarray
+    residual: np.ndarray     # raw residual in decades, per data entry
+    scaled_residual: np.ndarray  # residual / sigma of its function
+    sigma: np.ndarray        # noise scale per function, decades
+    slope: np.ndarray        # dF_q/du at each data entry (decades per decade)
+    u: np.ndarray            # reduced log10 x per data entry
+    weights: np.ndarray      # final robust weights
+    objective: float
+    variance_factor: float   # residual variance of the scaled residuals (≈ 1 for pure noise)
+    effective_parameters: float
+    iterations: int
+    converged: bool
+    model: str
+
+
+# ---- master models ------------------------------------------------------------------------------
+def _basis(u, u0, h, nb):
+    """Uniform cubic B-spline basis: column indices, values and first derivatives (4 per row)."""
+    z = (u - u0) / h
+    j = np.clip(np.floor(z).astype(np.int64), 0, nb - 4)
+    t = z - j
+    t2 = t * t
+    t3 = t2 * t
+    omt = 1.0 - t
+    B = np.column_stack([omt ** 3 / 6.0, (3 * t3 - 6 * t2 + 4) / 6.0,
+                         (-3 * t3 + 3 * t2 + 3 * t + 1) / 6.0, t3 / 6.0])
+    dB = np.column_stack([-omt ** 2 / 2.0, (3 * t2 - 4 * t) / 2.0,
+                          (-3 * t2 + 2 * t + 1) / 2.0, t2 / 2.0]) / h
+    cols = j[:, None] + np.arange(4)
+    return cols, B, dB
+
+
+class _SplineModel:
+    """One penalised cubic B-spline per function: F_q(u) = Σ_b θ_qb B_b(u)."""
+
+    linear = True
+
+    def __init__(self, prob, smoothing, spacing=0.2, order=3, margin=1.5):
+        self.p = prob
+        self.h = float(spacing)
+        self.order = int(order)
+        self.margin = float(margin)
+        self.lam = float(smoothing)
+
+    def build(self, u, theta_old=None):
+        lo, hi = float(u.min()), float(u.max())
+        m = self.margin + 3 * self.h
+        self.u0 = lo - m
+        self.nb = int(np.ceil((hi - lo + 2 * m) / self.h)) + 3
+        self.lo_ok, self.hi_ok = self.u0, self.u0 + (self.nb - 3) * self.h
+        self.n_theta = self.nb * self.p.n_fn
+        D = np.diff(np.eye(self.nb), self.order, axis=0)
+        counts = np.bincount(self.p.fn, minlength=self.p.n_fn)
+        rho = np.maximum(counts, 1) / max(hi - lo, 1.0)
+        # λ ρ_q ∫ F_q'''(u)² du, the integral being h^(1-2d) Σ (Δ^d θ)²; ρ_q (points per decade)
+        # keeps one λ meaning one bandwidth at any data density
+        scale = self.lam * rho * self.h ** (1 - 2 * self.order)
+        self.pen_rows = np.zeros((D.shape[0] * self.p.n_fn, self.n_theta))
+        for q in range(self.p.n_fn):
+            self.pen_rows[q * D.shape[0]:(q + 1) * D.shape[0],
+                          q * self.nb:(q + 1) * self.nb] = np.sqrt(scale[q]) * D
+        self.pen = self.pen_rows.T @ self.pen_rows
+        return np.zeros(self.n_theta)   # a linear model: the first Gauss–Newton step solves it
+
+    def on_grid(self, u):
+        return u.min() >= self.lo_ok + 1e-9 and u.max() <= self.hi_ok - 1e-9
+
+    def evaluate(self, u, theta, jac=True):
+        cols, B, dB = _basis(u, self.u0, self.h, self.nb)
+        cols = cols + (self.p.fn * self.nb)[:, None]
+        th = theta[cols]
+        F = np.einsum("ij,ij->i", B, th)
+        dF = np.einsum("ij,ij->i", dB, th)
+        if not jac:
+            return F, dF, None
+        n = u.size
+        J = sp.csr_matrix((B.ravel(), (np.repeat(np.arange(n), 4), cols.ravel())),
+                          shape=(n, self.n_theta))
+        return F, dF, J
+
+
+#: which kernel family each function belongs to and how it follows from (E1, E2)
+_SPECTRAL_KIND = {"storage_modulus_Pa": "E1", "loss_modulus_Pa": "E2",
+                  "complex_modulus_Pa": "abs", "tan_delta": "tan", "phase_angle_rad": "phase",
+                  "relaxation_modulus_Pa": "relax", "creep_compliance_1_per_Pa": "creep"}
+
+
+class _SpectrumModel:
+    """A smooth positive spectrum shared by all functions (see the module docstring).
+
+    θ = [φ_0, φ_1 … φ_M]: exp(φ_0) is the equilibrium modulus E_e (or glassy compliance D_g),
+    exp(φ_j) the strength of the mode at τ_j, all in units of ``scale`` (Pa or 1/Pa).
+    """
+
+    linear = False
+
+    def __init__(self, prob, y, smoothing, spacing=0.2, order=2, margin=3.0):
+        self.p = prob
+        self.h = float(spacing)
+        self.order = int(order)
+        self.margin = float(margin)
+        self.lam = float(smoothing)
+        self.kinds = [_SPECTRAL_KIND[f] for f in prob.functions]
+        self.kind_of_row = np.array(self.kinds, dtype=object)[prob.fn]
+        self.time = prob.direction < 0
+        scaled = [q for q, k in enumerate(self.kinds) if k not in ("tan", "phase")]
+        sel = np.isin(prob.fn, scaled)
+        self.log10_scale = float(np.median(y[sel])) if sel.any() else 0.0
+        self.offset = np.array([self.log10_scale if k not in ("tan", "phase") else 0.0
+                                for k in self.kinds])[prob.fn]
+        self.y = y
+
+    def build(self, u, theta_old=None):
+        lo, hi = float(u.min()), float(u.max())
+        m = self.margin
+        # grid of log10 τ: in frequency ω τ = 1 at log τ = -u; in time t/τ = 1 at log τ = u
+        a, b = (lo - m, hi + m) if self.time else (-hi - m, -lo + m)
+        old = getattr(self, "ltau", None)
+        self.ltau = np.arange(a, b + 1e-9, self.h)
+        self.lo_ok, self.hi_ok = lo - (m - 1.0), hi + (m - 1.0)
+        M = self.ltau.size
+        self.n_theta = M + 1
+        D = np.diff(np.eye(M), self.order, axis=0)
+        rho = self.p.x.size / max(hi - lo, 1.0)
+        scale = self.lam * rho * self.h ** (1 - 2 * self.order)
+        scaled = any(k not in ("tan", "phase") for k in self.kinds)
+        self.pen_rows = np.zeros((D.shape[0] + (0 if scaled else 1), self.n_theta))
+        self.pen_rows[:D.shape[0], 1:] = np.sqrt(scale) * D
+        if not scaled:
+            # tan δ and δ do not see the modulus scale: fix it with a tiny ridge on Σ φ
+            self.pen_rows[-1, :] = np.sqrt(1e-6 * rho) / np.sqrt(self.n_theta)
+        self.pen = self.pen_rows.T @ self.pen_rows
+        if theta_old is not None and old is not None:
+            phi = np.interp(self.ltau, old, theta_old[1:])
+            return np.concatenate([[theta_old[0]], phi])
+        return self._start(u)
+
+    def _start(self, u):
+        """A flat spectrum spanning the measured range of the (scaled) moduli."""
+        y = self.y - self.offset
+        scaled = np.array([k not in ("tan", "phase") for k in self.kind_of_row])
+        if scaled.any():
+            lo_v, hi_v = 10.0 ** np.min(y[scaled]), 10.0 ** np.max(y[scaled])
+        else:
+            lo_v, hi_v = 1.0, 100.0
+        creep = "creep" in self.kinds
+        n_win = max((u.max() - u.min()) / self.h, 1.0)
+        phi = np.full(self.ltau.size, np.log(max(hi_v - lo_v, 1e-3 * hi_v) / n_win))
+        phi0 = np.log(lo_v / 2.0 if not creep else lo_v / 2.0)
+        return np.concatenate([[phi0], phi])
+
+    def on_grid(self, u):
+        return u.min() >= self.lo_ok and u.max() <= self.hi_ok
+
+    def evaluate(self, u, theta, jac=True):
+        n = u.size
+        g = np.exp(np.clip(theta[1:], -700, 700))
+        e0 = float(np.exp(np.clip(theta[0], -700, 700)))
+        z = (u[:, None] - self.ltau[None, :]) if self.time else (u[:, None] + self.ltau[None, :])
+        X = 10.0 ** np.clip(z, -300, 300)
+        F = np.empty(n)
+        dF = np.empty(n)
+        J = np.zeros((n, self.n_theta)) if jac else None
+        kinds = self.kind_of_row
+        if self.time:
+            for kind in ("relax", "creep"):
+                r = np.flatnonzero(kinds == kind)
+                if r.size == 0:
+                    continue
+                ex = np.exp(-X[r])
+                K = ex if kind == "relax" else 1.0 - ex
+                dK = -X[r] * ex if kind == "relax" else X[r] * ex
+                E = e0 + K @ g
+                F[r] = np.log(E)
+                dF[r] = (dK @ g) / E
+                if jac:
+                    J[r, 0] = e0 / E
+                    J[r, 1:] = K * g / E[:, None]
+        else:
+            X2 = X * X
+            den = 1.0 + X2
+            K1, K2 = X2 / den, X / den
+            d1, d2 = 2.0 * X2 / den ** 2, X * (1.0 - X2) / den ** 2
+            E1 = e0 + K1 @ g
+            E2 = K2 @ g
+            E1u, E2u = d1 @ g, d2 @ g
+            for kind in set(kinds.tolist()):
+                r = np.flatnonzero(kinds == kind)
+                a1, a2 = E1[r], E2[r]
+                if kind == "E1":
+                    F[r] = np.log(a1)
+                    dF[r] = E1u[r] / a1
+                    c1, c2 = 1.0 / a1, 0.0 * a1
+                elif kind == "E2":
+                    F[r] = np.log(a2)
+                    dF[r] = E2u[r] / a2
+                    c1, c2 = 0.0 * a1, 1.0 / a2
+                elif kind == "abs":
+                    m2 = a1 * a1 + a2 * a2
+                    F[r] = 0.5 * np.log(m2)
+                    c1, c2 = a1 / m2, a2 / m2
+                    dF[r] = c1 * E1u[r] + c2 * E2u[r]
+                elif kind == "tan":
+                    F[r] = np.log(a2 / a1)
+                    c1, c2 = -1.0 / a1, 1.0 / a2
+                    dF[r] = c1 * E1u[r] + c2 * E2u[r]
+                else:  # phase angle δ = atan2(E2, E1)
+                    m2 = a1 * a1 + a2 * a2
+                    d = np.arctan2(a2, a1)
+                    F[r] = np.log(d)
+                    c1, c2 = -a2 / (m2 * d), a1 / (m2 * d)
+                    dF[r] = c1 * E1u[r] + c2 * E2u[r]
+                if jac:
+                    J[r, 0] = c1 * e0
+                    J[r, 1:] = (c1[:, None] * K1[r] + c2[:, None] * K2[r]) * g
+        # natural log of the scaled value -> log10 of the value in SI
+        F = F / _LN10 + self.offset
+        if jac:
+            J /= _LN10
+        return F, dF, J
+
+
+# ---- the joint fit ----------------------------------------------------------------------------
+class _Fit:
+    def __init__(self, prob: JointProblem, model, s0, c0):
+        self.p = prob
+        self.model = model
+        n = prob.n_iso
+        self.free_s = np.array([k not in prob.s_fixed for k in range(n)])
+        c_fixed = prob.c_fixed or {}
+        self.free_c = (np.array([k not in c_fixed for k in range(n)]) if prob.fit_vertical
+                       else np.zeros(n, bool))
+        self.s = np.asarray(s0, float).copy()
+        for k, v in prob.s_fixed.items():
+            self.s[k] = v
+        self.c = np.zeros(n) if c0 is None else np.asarray(c0, float).copy()
+        for k, v in c_fixed.items():
+            self.c[k] = v
+        self.vs = np.asarray(prob.vertical_sign, float)[prob.fn]
+        self.sigma = np.ones(prob.n_fn)
+        self.huber = None
+        self.iterations = 0
+        self.converged = False
+        self.theta = model.build(self.u(self.s))
+        self._layout()
+
+    def u(self, s):
+        return self.p.x + self.p.direction * s[self.p.iso]
+
+    def _layout(self):
+        nt = self.model.n_theta
+        ns, nc = int(self.free_s.sum()), int(self.free_c.sum())
+        self.n_theta, self.n_par = nt, nt + ns + nc
+        self.s_col = np.full(self.p.n_iso, -1)
+        self.s_col[self.free_s] = nt + np.arange(ns)
+        self.c_col = np.full(self.p.n_iso, -1)
+        self.c_col[self.free_c] = nt + ns + np.arange(nc)
+        self.sc = slice(nt, nt + ns + nc)
+
+    def pack(self):
+        return np.concatenate([self.theta, self.s[self.free_s], self.c[self.free_c]])
+
+    def unpack(self, vec):
+        nt, ns = self.n_theta, int(self.free_s.sum())
+        s = self.s.copy()
+        s[self.free_s] = vec[nt:nt + ns]
+        c = self.c.copy()
+        c[self.free_c] = vec[nt + ns:]
+        return vec[:nt], s, c
+
+    def evaluate(self, theta, s, c, jac=True):
+        """Scaled residuals and the blocks of their Jacobian (J_theta, shift and vertical parts)."""
+        p = self.p
+        u = self.u(s)
+        F, dF, Jt = self.model.evaluate(u, theta, jac)
+        sig = self.sigma[p.fn]
+        raw = p.y - F - self.vs * c[p.iso]
+        r = raw / sig
+        if not jac:
+            return r, raw, dF, u, None
+        n = r.size
+        rows, cols, vals = [], [], []
+        fs = self.s_col[p.iso] >= 0
+        rows.append(np.flatnonzero(fs))
+        cols.append(self.s_col[p.iso][fs] - self.n_theta)
+        vals.append(-p.direction * dF[fs] / sig[fs])
+        fc = (self.c_col[p.iso] >= 0) & (self.vs != 0)
+        rows.append(np.flatnonzero(fc))
+        cols.append(self.c_col[p.iso][fc] - self.n_theta)
+        vals.append(-self.vs[fc] / sig[fc])
+        Jsc = sp.csr_matrix((np.concatenate(vals), (np.concatenate(rows), np.concatenate(cols))),
+                            shape=(n, self.n_par - self.n_theta))
+        if sp.issparse(Jt):
+            Jt = sp.diags(-1.0 / sig) @ Jt
+        else:
+            Jt = Jt * (-1.0 / sig)[:, None]
+        return r, raw, dF, u, (Jt, Jsc)
+
+    def normal(self, J, w):
+        """Dense normal matrix JᵀWJ (+ penalty) and the J-part of the gradient helper."""
+        Jt, Jsc = J
+        P = self.n_par
+        nt = self.n_theta
+        A = np.zeros((P, P))
+        WJsc = sp.diags(w) @ Jsc
+        if sp.issparse(Jt):
+            A[:nt, :nt] = (Jt.T @ sp.diags(w) @ Jt).toarray()
+            A[:nt, nt:] = (Jt.T @ WJsc).toarray()
+        else:
+            A[:nt, :nt] = Jt.T @ (Jt * w[:, None])
+            A[:nt, nt:] = np.asarray((WJsc.T @ Jt).T)
+        A[nt:, :nt] = A[:nt, nt:].T
+        A[nt:, nt:] = (Jsc.T @ WJsc).toarray()
+        A[:nt, :nt] += self.model.pen
+        return A
+
+    def gradient(self, J, w, r, theta):
+        Jt, Jsc = J
+        g = np.empty(self.n_par)
+        g[:self.n_theta] = Jt.T @ (w * r) + self.model.pen @ theta
+        g[self.n_theta:] = Jsc.T @ (w * r)
+        return g
+
+    def weights(self, r):
+        if self.huber is None:
+            return np.ones_like(r)
+        a = np.abs(r)
+        return np.where(a <= self.huber, 1.0, self.huber / np.maximum(a, 1e-300))
+
+    def loss(self, r, theta):
+        if self.huber is None:
+            data = 0.5 * np.sum(r * r)
+        else:
+            a = np.abs(r)
+            c = self.huber
+            data = np.sum(np.where(a <= c, 0.5 * a * a, c * a - 0.5 * c * c))
+        return data + 0.5 * float(theta @ (self.model.pen @ theta))
+
+    def gauss_newton(self, max_iter=100, tol=1e-10, max_shift_step=0.3, curve_only=False):
+        vec = self.pack()
+        theta, s, c = self.unpack(vec)
+        r, _, _, _, J = self.evaluate(theta, s, c)
+        phi = self.loss(r, theta)
+        mu = 1e-4 if self.model.linear else 1e-3
+        converged = False
+        nt = self.n_theta
+        it = 0
+        for it in range(1, max_iter + 1):
+            w = self.weights(r)
+            A = self.normal(J, w)
+            g = self.gradient(J, w, r, theta)
+            if curve_only:
+                A, g = A[:nt, :nt], g[:nt]
+            dA = np.diag(A).copy()
+            accepted = False
+            for _ in range(40):
+                Mx = A + np.diag(mu * dA + 1e-12 * (dA.max() + 1.0))
+                try:
+                    step = cho_solve(cho_factor(Mx, check_finite=False), -g, check_finite=False)
+                except (LinAlgError, ValueError):
+                    mu *= 10.0
+                    continue
+                if curve_only:
+                    step = np.concatenate([step, np.zeros(self.n_par - nt)])
+                big = np.max(np.abs(step[self.sc])) if step[self.sc].size else 0.0
+                if big > max_shift_step:
+                    step *= max_shift_step / big
+                    big = max_shift_step
+                trial = vec + step
+                th_t, s_t, c_t = self.unpack(trial)
+                if not self.model.on_grid(self.u(s_t)):
+                    # the shifts moved the data off the model's grid: rebuild it around the
+                    # trial shifts (carrying the curve over) and start the iteration afresh
+                    self.s, self.c = s_t, c_t
+                    self.theta = self.model.build(self.u(s_t), th_t)
+                    self._layout()
+                    self.iterations += it
+                    if self.model.linear:
+                        self.gauss_newton(max_iter=3, curve_only=True)
+                    return self.gauss_newton(max_iter, tol, max_shift_step, curve_only)
+                r_t, _, _, _, J_t = self.evaluate(th_t, s_t, c_t)
+                phi_t = self.loss(r_t, th_t)
+                if np.isfinite(phi_t) and phi_t <= phi:
+                    dphi = phi - phi_t
+                    vec, theta, s, c, r, J, phi = trial, th_t, s_t, c_t, r_t, J_t, phi_t
+                    mu = max(mu / 3.0, 1e-10)
+                    accepted = True
+                    if dphi <= tol * (1.0 + phi) and big < 1e-6:
+                        converged = True
+                    break
+                mu *= 4.0
+            self.theta, self.s, self.c = theta, s, c
+            if not accepted:
+                converged = True  # no descent possible at machine precision: a minimum
+            if converged:
+                break
+        self.iterations += it
+        self.converged = converged
+        return converged
+
+    def estimate_sigma(self, r_raw, floor=1e-5):
+        sig = np.empty(self.p.n_fn)
+        for q in range(self.p.n_fn):
+            rq = r_raw[self.p.fn == q]
+            sig[q] = max(_MAD_TO_SIGMA * np.median(np.abs(rq - np.median(rq))), floor)
+        return sig
+
+
+def fit_joint(prob: JointProblem, s0, c0=None, *, model="spectrum", robust=True, huber=1.5,
+              smoothing=None, max_iter=200) -> JointSolution:
+    """Fit a master curve and the shifts of one connected set of isotherms jointly.
+
+    Parameters
+    ----------
+    prob : JointProblem
+        Flattened data; fixed shifts include the gauge anchor.
+    s0, c0 : array
+        Starting log10 a_T (and log10 b_T) per isotherm, e.g. from pairwise overlaps.
+    model : {"spectrum", "spline"}
+        Master-curve model (see the module docstring).
+    robust : bool
+        Huber loss with threshold ``huber`` noise scales; else plain least squares.
+    smoothing : float, optional
+        Penalty weight λ in λ ρ ∫ (f^(d))² (ρ: points per decade; d = 2 on the log-spectrum,
+        d = 3 on a spline). Defaults 0.05 (spectrum) and 3 (spline), chosen on synthetic
+        benchmark campaigns (benchmarks/bench_shifting.py).
+    """
+    if model == "spectrum":
+        m = _SpectrumModel(prob, prob.y, 0.05 if smoothing is None else smoothing)
+    else:
+        m = _SplineModel(prob, 3.0 if smoothing is None else smoothing)
+    fit = _Fit(prob, m, s0, c0)
+    # the curve at the starting shifts; noise scales from it, so that the penalty weighs
+    # against the data in the right units from the first joint step on
+    fit.gauss_newton(max_iter=max_iter, tol=1e-8, curve_only=True)
+    r, raw, _, _, _ = fit.evaluate(fit.theta, fit.s, fit.c, jac=False)
+    fit.sigma = fit.estimate_sigma(raw)
+    fit.gauss_newton(max_iter=max_iter, tol=1e-8, curve_only=True)
+    fit.gauss_newton(max_iter=max_iter, tol=1e-8)
+    for _ in range(3):
+        r, raw, _, _, _ = fit.evaluate(fit.theta, fit.s, fit.c, jac=False)
+        new_sigma = fit.estimate_sigma(raw)
+        change = np.max(np.abs(np.log(new_sigma / fit.sigma)))
+        fit.sigma = new_sigma
+        first_robust = robust and fit.huber is None
+        fit.huber = huber if robust else None
+        fit.gauss_newton(max_iter=max_iter)
+        if change < 0.05 and not first_robust:
+            break
+    r, raw, dF, u, J = fit.evaluate(fit.theta, fit.s, fit.c)
+    w = fit.weights(r)
+    if not np.all(np.isfinite(r)):
+        raise FitError("the joint shift fit produced non-finite residuals")
+
+    # curvature of the penalised objective, its inverse, the effective number of parameters
+    H = fit.normal(J, w)
+    H[np.diag_indices_from(H)] += 1e-10 * (np.max(np.diag(H)) + 1.0)
+    try:
+        factor = lu_factor(H, check_finite=False)
+    except (LinAlgError, ValueError) as exc:  # pragma: no cover - degenerate input only
+        raise FitError(f"the joint shift fit is singular: {exc}") from None
+    R = m.pen_rows
+    Rt = np.zeros((fit.n_par, R.shape[0]))
+    Rt[:fit.n_theta] = R.T
+    p_eff = fit.n_par - float(np.sum(Rt * lu_solve(factor, Rt, check_finite=False)))
+    dof = max(r.size - p_eff, 1.0)
+    var = float(np.sum(w * r * r) / dof)
+    n_s, n_c = int(fit.free_s.sum()), int(fit.free_c.sum())
+    cov_s = np.zeros((prob.n_iso, prob.n_iso))
+    cov_c = np.zeros((prob.n_iso, prob.n_iso))
+    if n_s + n_c:
+        E = np.zeros((fit.n_par, n_s + n_c))
+        E[fit.n_theta + np.arange(n_s + n_c), np.arange(n_s + n_c)] = 1.0
+        X = lu_solve(factor, E, check_finite=False)[fit.n_theta:] * var
+        X = 0.5 * (X + X.T)
+        fs = np.flatnonzero(fit.free_s)
+        fc = np.flatnonzero(fit.free_c)
+        cov_s[np.ix_(fs, fs)] = X[:n_s, :n_s]
+        cov_c[np.ix_(fc, fc)] = X[n_s:, n_s:]
+    return JointSolution(s=fit.s.copy(), c=fit.c.copy(), cov_s=cov_s, cov_c=cov_c,
+                         residual=raw, scaled_residual=raw / fit.sigma[prob.fn],
+                         sigma=fit.sigma.copy(), slope=dF, u=u, weights=w,
+                         objective=float(fit.loss(r, fit.theta)), variance_factor=var,
+                         effective_parameters=p_eff, iterations=fit.iterations,
+                         converged=bool(fit.converged), model=model)
