@@ -1,9 +1,10 @@
 """Tests of ttsp.shifting: recovery of known shifts, invariance, hard data, errors, real data.
 
-Ground truth comes from exact generalized-Maxwell (Prony) campaigns: E'(ω) = E∞ + Σ E_i (ωτ_i)²/
-(1 + (ωτ_i)²), E''(ω) = Σ E_i ωτ_i/(1 + (ωτ_i)²) (Ferry, Viscoelastic Properties of Polymers,
-1980, ch. 3) with every τ_i scaled by a WLF a_T (Williams, Landel & Ferry, J. Am. Chem. Soc.
-77:3701, 1955). The generator below is a small copy of benchmarks/generator.py.
+Ground truth comes from exact generalized-Maxwell (Prony) campaigns:
+E'(ω) = E∞ + Σ E_i (ωτ_i)²/(1 + (ωτ_i)²), E''(ω) = Σ E_i ωτ_i/(1 + (ωτ_i)²) (Ferry,
+Viscoelastic Properties of Polymers, 1980, ch. 3) with every τ_i scaled by a WLF a_T (Williams,
+Landel & Ferry, J. Am. Chem. Soc. 77:3701, 1955). The generator below is a small copy of
+benchmarks/generator.py.
 
 Scale of the tolerances: 2 % log-normal noise is 0.0087 decades per value; fitting one isotherm
 of 10 frequencies × (E', E'') to the exact curve leaves about 0.01 decades of error in its shift

@@ -2,7 +2,7 @@
 
 The model, in log–log coordinates (decades), for point i of isotherm k and function q::
 
-    y_i = F_q(u_i; θ) + v_q * c_k + noise,      u_i = x_i + d * s_k,   d = +1 (frequency) or -1 (time)
+    y_i = F_q(u_i; θ) + v_q * c_k + noise,   u_i = x_i + d * s_k,   d = +1 (frequency), -1 (time)
 
 ``s_k`` = log10 a_T of isotherm k, ``c_k`` = log10 b_T (free only in the vertical "fit" mode),
 ``v_q`` = +1 for a modulus, -1 for a compliance, 0 for tan δ or δ. Two master models F:
@@ -137,8 +137,8 @@ class _SplineModel:
         D = np.diff(np.eye(self.nb), self.order, axis=0)
         counts = np.bincount(self.p.fn, minlength=self.p.n_fn)
         rho = np.maximum(counts, 1) / max(hi - lo, 1.0)
-        # λ ρ_q ∫ F_q'''(u)² du, the integral being h^(1-2d) Σ (Δ^d θ)²; ρ_q (points per decade)
-        # keeps one λ meaning one bandwidth at any data density
+        # λ ρ_q ∫ F_q'''(u)² du, the integral being h^(1-2d) Σ (Δ^d θ)²; ρ_q (points per
+        # decade) keeps one λ meaning one bandwidth at any data density
         scale = self.lam * rho * self.h ** (1 - 2 * self.order)
         self.pen_rows = np.zeros((D.shape[0] * self.p.n_fn, self.n_theta))
         for q in range(self.p.n_fn):

@@ -1,10 +1,10 @@
 """Overlap of neighbouring isotherms (private): pairwise shifts that seed the joint fit, and gaps.
 
 Pairwise shift (overlap least squares with interpolation in log–log coordinates, a common
-practice of manual and automatic shifting): isotherm b is translated by δ decades along log x and compared with the
-piecewise-linear interpolant (in log–log coordinates) of isotherm a, and symmetrically a with b
-at −δ; the mean squared ordinate difference over the points that fall inside the other
-isotherm's range is minimised, first on a grid, then by a bounded scalar search. When vertical
+practice of manual and automatic shifting): isotherm b is translated by δ decades along log x
+and compared with the piecewise-linear interpolant of isotherm a, and symmetrically a with b at
+−δ; the mean squared ordinate difference over the points that fall inside the other isotherm's
+range is minimised, first on a grid, then by a bounded scalar search. When vertical
 shifts are free, the best vertical offset is found in closed form at every δ. These shifts only
 start the joint fit; they are not the answer.
 

@@ -369,8 +369,8 @@ def shift_isotherms(campaign: Campaign, reference_temperature_K: float | None = 
         what was measured), E(t) and/or D(t) (time). ``"tan_delta"``: tan δ alone, which no
         vertical shift affects.
     vertical : {"none", "density", "fit"}
-        ``"density"``: b_T = T ρ(T)/(T_ref ρ_ref), ρ(T) = ρ_ref [1 − α_v (T − T_ref)] (needs
-        ``expansion_coefficient_per_K``). ``"fit"``: a free log10 b_T per isotherm, fitted
+        ``"density"``: b_T = T ρ(T)/(T_ref ρ_ref), ρ(T) = ρ_ref [1 − α_v (T − T_ref)]
+        (needs ``expansion_coefficient_per_K``). ``"fit"``: a free log10 b_T per isotherm, fitted
         jointly; needs at least two functions, one of which carries the vertical shift.
     expansion_coefficient_per_K : float, optional
         Volumetric thermal expansion coefficient α_v, in 1/K (about 6e-4 for rubbers).
@@ -702,9 +702,10 @@ def shift_isotherms(campaign: Campaign, reference_temperature_K: float | None = 
         if lst:
             tot = sum(m for _, m in lst)
             scale[name] = float(np.sqrt(sum(sg ** 2 * m for sg, m in lst) / max(tot, 1)))
-    method = (f"joint fit of all shifts and a {'shared relaxation spectrum' if model == 'spectrum' else 'penalised spline per function'} "
-              f"on log10 {', '.join(chosen)} ({'Huber loss' if robust else 'least squares'}), "
-              f"seeded by pairwise overlaps")
+    curve = ("one shared smooth spectrum" if model == "spectrum"
+             else "a penalised spline per function")
+    method = (f"joint fit of all shifts and {curve} on log10 {', '.join(chosen)} "
+              f"({'Huber loss' if robust else 'least squares'}), seeded by pairwise overlaps")
     return ShiftResult(
         reference_temperature_K=float(t_ref), temperature_K=_ro(temps), log10_aT=_ro(s),
         log10_aT_stderr=_ro(stderr), log10_bT=_ro(log10_bT), log10_bT_stderr=_ro(bT_err),
