@@ -1,0 +1,241 @@
+"""Benchmark of automatic shift factors: accuracy against exact synthetic campaigns, and speed.
+
+Run from the repository root::
+
+    python benchmarks/bench_shifting.py            # full suite
+    python benchmarks/bench_shifting.py --quick    # fewer cases, no 200-isotherm timing
+
+Rows (one table):
+
+* ``ttsp``: :func:`ttsp.shifting.shift_isotherms` with its defaults, per case and overall:
+  max and rms |Δlog10 a_T| against the truth, the share of isotherms within 2 reported stderr
+  (the reference isotherm, stderr 0 by definition and error 0, counts as within), and time.
+* ``pairwise``: a sequential pair-by-pair baseline written here (linear interpolation in
+  log–log coordinates of E' and E'', least squares over the overlap, both directions averaged,
+  shifts chained outward from the reference).
+* ``oracle``: each isotherm fitted alone to the exact master curve (noise-limited). Its
+  ``oracle-ref`` variant subtracts the oracle error of the reference isotherm, as any method
+  that sets log10 a_T(T_ref) = 0 from the data must.
+* timing rows at 10, 50 and 200 isotherms × 30 points, and 20 × 10.
+* a held-out real-data check (asphalt binders, lanes 6–10) when the shared data are present.
+
+Targets (issue 3): rms ≤ 0.018 and max ≤ 0.05 decades overall at 2 % noise; ≥ 90 % within
+2 stderr; 20×10 < 0.5 s, 200×30 < 10 s.
+"""
+
+from __future__ import annotations
+
+import os
+
+# Small dense factorisations dominate; on a shared 2-core machine multi-threaded BLAS spends
+# more time waking threads than computing (measured 200x slower for 150x150 Cholesky), so the
+# benchmark runs single-threaded unless told otherwise.
+for _var in ("OPENBLAS_NUM_THREADS", "OMP_NUM_THREADS", "MKL_NUM_THREADS"):
+    os.environ.setdefault(_var, "1")
+
+import argparse  # noqa: E402
+import sys  # noqa: E402
+import time  # noqa: E402
+import warnings  # noqa: E402
+from pathlib import Path  # noqa: E402
+
+import numpy as np  # noqa: E402
+from scipy.optimize import minimize_scalar  # noqa: E402
+
+HERE = Path(__file__).resolve().parent
+sys.path.insert(0, str(HERE))
+sys.path.insert(0, str(HERE.parent))
+
+from generator import (benchmark_cases, case_campaign, make_campaign,  # noqa: E402
+                       prony_storage_loss, wlf_log10_aT)
+
+from ttsp.data import Campaign  # noqa: E402
+from ttsp.shifting import shift_isotherms  # noqa: E402
+
+FUNCS = ("storage_modulus_Pa", "loss_modulus_Pa")
+
+
+# ---- the sequential pairwise baseline ---------------------------------------------------------
+def _pair_delta(xa, Ya, xb, Yb):
+    """δ such that isotherm b at x + δ lies on a (mean squared log difference, both ways)."""
+    def cost(d, both=True):
+        tot, cnt = 0.0, 0
+        for xs, Ys, xr, Yr, sgn in ((xb + d, Yb, xa, Ya, 1), (xa - d, Ya, xb, Yb, -1)):
+            inside = (xs >= xr[0]) & (xs <= xr[-1])
+            for q in range(Ys.shape[1]):
+                diff = Ys[inside, q] - np.interp(xs[inside], xr, Yr[:, q])
+                tot += float(np.sum(diff ** 2))
+                cnt += diff.size
+        return tot / cnt if cnt >= 6 else np.inf
+
+    grid = np.arange(xa[0] - xb[-1], xa[-1] - xb[0], 0.05)
+    vals = np.array([cost(d) for d in grid])
+    g = int(np.argmin(vals))
+    res = minimize_scalar(cost, bounds=(grid[g] - 0.05, grid[g] + 0.05), method="bounded")
+    return float(res.x) if res.fun <= vals[g] else float(grid[g])
+
+
+def pairwise_baseline(campaign: Campaign, reference_K: float):
+    X = [np.log10(i.x) for i in campaign.isotherms]
+    Y = [np.log10(np.column_stack([i.values[q] for q in FUNCS])) for i in campaign.isotherms]
+    n = len(X)
+    steps = [_pair_delta(X[k], Y[k], X[k + 1], Y[k + 1]) for k in range(n - 1)]
+    s = np.concatenate([[0.0], np.cumsum(steps)])      # frequency: s_{k+1} = s_k + δ
+    temps = campaign.temperatures_K
+    ref = int(np.argmin(np.abs(temps - reference_K)))
+    if abs(temps[ref] - reference_K) < 1e-6:
+        return s - s[ref]
+    # reference between isotherms: linear interpolation of the chained shifts
+    return s - np.interp(reference_K, temps, s)
+
+
+# ---- the oracle -------------------------------------------------------------------------------
+def oracle(campaign: Campaign, truth, true_log10_aT):
+    """Each isotherm fitted alone to the exact curve; returns shifts in the truth's gauge."""
+    out = []
+    ref_offset = float(true_log10_aT[0] - truth.log10_aT[0])   # wlf-reference -> shift-reference
+    for k, iso in enumerate(campaign.isotherms):
+        y = np.log10(np.column_stack([iso.values[q] for q in FUNCS]))
+
+        def cost(s):
+            ep, epp = prony_storage_loss(iso.x * 10.0 ** s, truth.E_inf, truth.E_i, truth.tau_i)
+            return float(np.sum((y - np.log10(np.column_stack([ep, epp]))) ** 2))
+
+        t = truth.log10_aT[k]
+        res = minimize_scalar(cost, bounds=(t - 1, t + 1), method="bounded",
+                              options={"xatol": 1e-7})
+        out.append(res.x + ref_offset)
+    return np.array(out)
+
+
+# ---- real data held out -----------------------------------------------------------------------
+def _real_rows():
+    base = HERE.parent.parent / "shared" / "data" / "asphalt-binder-ptf"
+    if not base.exists():
+        base = Path("/work/shared/data/asphalt-binder-ptf")
+    if not base.exists():
+        return []
+    import pandas as pd
+
+    data = pd.read_csv(base / "binder_frequency_sweeps_long.csv")
+    pub = pd.read_csv(base / "authors_shift_factors_log10aT_Tref60C.csv")
+    rows = []
+    for lane in range(6, 11):
+        d = data[(data.lane == lane) & (data.rep == 1)]
+        frame = pd.DataFrame({"temperature_K": d.T_C + 273.15, "frequency_rad_s": d.omega_rad_s,
+                              "storage_modulus_Pa": d.Gp_Pa, "loss_modulus_Pa": d.Gpp_Pa})
+        camp = Campaign.from_frame(frame, modulus_kind="shear")
+        p = pub[(pub.lane == lane) & (pub.rep == 1)].sort_values("T_C")
+        t0 = time.perf_counter()
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")
+            r = shift_isotherms(camp, 60.0 + 273.15)
+        dt = time.perf_counter() - t0
+        ours = neighbour_mismatch(camp, r.log10_aT)
+        theirs = neighbour_mismatch(camp, p.log10_aT.to_numpy())
+        dev = np.abs(r.log10_aT - p.log10_aT.to_numpy()).max()
+        rows.append((lane, ours, theirs, dev, dt))
+    return rows
+
+
+def neighbour_mismatch(campaign: Campaign, log10_aT):
+    """rms of log10 G' and G'' differences between neighbouring shifted isotherms where they
+    overlap (linear interpolation in log–log, both directions)."""
+    X = [np.log10(i.x) + s for i, s in zip(campaign.isotherms, log10_aT)]
+    Y = [np.log10(np.column_stack([i.values[q] for q in FUNCS])) for i in campaign.isotherms]
+    d = []
+    for k in range(len(X) - 1):
+        for xa, Ya, xb, Yb in ((X[k], Y[k], X[k + 1], Y[k + 1]), (X[k + 1], Y[k + 1], X[k], Y[k])):
+            inside = (xb >= xa[0]) & (xb <= xa[-1])
+            for q in range(2):
+                d.append(Yb[inside, q] - np.interp(xb[inside], xa, Ya[:, q]))
+    d = np.concatenate(d)
+    return float(np.sqrt(np.mean(d ** 2)))
+
+
+# ---- timing -----------------------------------------------------------------------------------
+def timing_campaign(n_isotherms, n_points, seed=7):
+    C1, C2, tr = 12.0, 100.0, 350.0
+    span = 80.0 if n_isotherms > 25 else 5.0 * (n_isotherms - 1)
+    temps = np.linspace(tr - 20.0, tr - 20.0 + span, n_isotherms)
+    camp, _ = make_campaign("symmetric", C1, C2, tr, temps, np.geomspace(0.1, 100, n_points),
+                            seed=seed)
+    return camp
+
+
+def _fmt(name, n_iso, rms, mx, within, t):
+    w = "   -  " if within is None else f"{100 * within:5.1f}%"
+    tt = "    -   " if t is None else f"{t:7.3f}s"
+    return f"{name:<22s}{n_iso:>6d}{rms:>10.4f}{mx:>10.4f}{w:>9s}{tt:>10s}"
+
+
+def main(argv=None):
+    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    ap.add_argument("--quick", action="store_true", help="fewer cases, smaller timing set")
+    ap.add_argument("--cases", type=int, default=None, help="number of synthetic cases")
+    args = ap.parse_args(argv)
+    n_cases = args.cases or (6 if args.quick else 24)
+    cases = benchmark_cases(n_cases)
+
+    print(f"{'case':<22s}{'n_iso':>6s}{'rms':>10s}{'max':>10s}{'≤2se':>9s}{'time':>10s}")
+    acc = {"ttsp": [], "pairwise": [], "oracle": [], "oracle-ref": []}
+    within_all, t_all = [], 0.0
+    for case in cases:
+        camp, truth, true = case_campaign(case)
+        ref = case["shift_reference_K"]
+        t0 = time.perf_counter()
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")
+            r = shift_isotherms(camp, ref)
+        dt = time.perf_counter() - t0
+        t_all += dt
+        d = r.log10_aT - true
+        within = np.abs(d) <= 2 * r.log10_aT_stderr + 1e-12
+        within_all.append(within)
+        acc["ttsp"].append(d)
+        print(_fmt(case["name"], len(camp), np.sqrt(np.mean(d ** 2)), np.abs(d).max(),
+                   within.mean(), dt))
+        b = pairwise_baseline(camp, ref) - true
+        acc["pairwise"].append(b)
+        o = oracle(camp, truth, true) - true
+        acc["oracle"].append(o)
+        if abs(np.min(np.abs(camp.temperatures_K - ref))) < 1e-6:
+            k = int(np.argmin(np.abs(camp.temperatures_K - ref)))
+            acc["oracle-ref"].append(o - o[k])
+        else:
+            w = np.interp(ref, camp.temperatures_K, o)
+            acc["oracle-ref"].append(o - w)
+    print("-" * 67)
+    n_tot = sum(a.size for a in acc["ttsp"])
+    for name in ("ttsp", "pairwise", "oracle", "oracle-ref"):
+        d = np.concatenate(acc[name])
+        print(_fmt(f"ALL {name}", n_tot, np.sqrt(np.mean(d ** 2)), np.abs(d).max(),
+                   np.concatenate(within_all).mean() if name == "ttsp" else None,
+                   t_all if name == "ttsp" else None))
+    print("targets: ttsp rms ≤ 0.018, max ≤ 0.05, ≥ 90 % within 2 stderr")
+    print()
+    print(f"{'timing (isotherms × points)':<34s}{'time':>10s}")
+    sizes = [(20, 10), (10, 30), (50, 30)] + ([] if args.quick else [(200, 30)])
+    for n_iso, n_pts in sizes:
+        camp = timing_campaign(n_iso, n_pts)
+        t0 = time.perf_counter()
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")
+            shift_isotherms(camp)
+        print(f"{f'{n_iso} × {n_pts}':<34s}{time.perf_counter() - t0:>9.3f}s")
+    print("targets: 20 × 10 < 0.5 s, 200 × 30 < 10 s")
+    rows = _real_rows()
+    if rows:
+        print()
+        print("held-out real data: asphalt binders (TFHRC PTF), lanes 6-10, replicate 1, "
+              "Tref 60 °C")
+        print(f"{'lane':<6s}{'mismatch ours':>15s}{'published':>12s}{'max |Δ| pub':>13s}"
+              f"{'time':>9s}")
+        for lane, ours, theirs, dev, dt in rows:
+            print(f"{lane:<6d}{ours:>15.4f}{theirs:>12.4f}{dev:>13.4f}{dt:>8.3f}s")
+        print("(mismatch: rms of log10 G', G'' differences of neighbours where they overlap, "
+              "decades; targets ours ≤ published, |Δ| ≤ 0.15)")
+
+
+if __name__ == "__main__":
+    main()
