@@ -186,11 +186,11 @@ def test_law_table_has_parameters_with_standard_errors(page, result):
     assert float(c1.group(2)) == pytest.approx(fit.stderr["C1"], rel=0.05)
     # the fitted WLF constants are near the truth C1 = 9, C2 = 100 K (0.5 % noise)
     assert fit.params["C1"] == pytest.approx(9.0, rel=0.05)
-    assert "Apparent activation energy at T_ref" in body
+    assert "Apparent activation energy at the reference temperature" in body
     # WLF Ea(Tr) = ln10 R C1 C2 Tr² / C2² (Ferry 1980, ch. 11), in kJ/mol
     ea = (math.log(10) * R_J_PER_MOL_K * fit.params["C1"] * 293.15 ** 2
           / fit.params["C2_K"] / 1e3)
-    shown = re.search(r"Apparent activation energy at T_ref</td><td class=\"num\">([^<]+)<",
+    shown = re.search(r"at the reference temperature</td><td class=\"num\">([^<]+)<",
                       body).group(1)
     assert float(shown) == pytest.approx(ea, rel=1e-3)
 
@@ -237,8 +237,9 @@ def test_warnings_are_listed(result, figures):
 def test_time_domain_build_renders(time_result, figures):
     page = report.render_report(time_result, figures, created_utc=CREATED)
     assert "time-domain (transient)" in page and "Arrhenius" in page
-    assert "Activation energy E_a" in page
-    ea = float(re.search(r"<td>Activation energy E_a</td><td class=\"num\">([^<]+)<",
+    assert "Activation energy Eₐ" in page
+    assert "Apparent activation energy" not in page       # the same number again for Arrhenius
+    ea = float(re.search(r"<td>Activation energy Eₐ</td><td class=\"num\">([^<]+)<",
                          page).group(1))
     assert ea == pytest.approx(200.0, rel=0.02)      # the Ea the data were made with
 

@@ -769,15 +769,16 @@ def plot_shift_factors(result, ax=None, residual_ax=None):
     ax.plot(grid_C, curve, color=_BLUE, lw=1.6, label=f"{name} law, fitted", zorder=2)
     flags = _shift_flags(result, t_K)
     bridged = np.array(["bridged" in f for f in flags], dtype=bool)
+    weak = np.array(["low-information" in f for f in flags], dtype=bool) & ~bridged
     yerr = np.where(np.isfinite(se), se, 0.0)
-    main = ~bridged
-    ax.errorbar(t_C[main], log_a[main], yerr=yerr[main], fmt="o", ms=4.2, color=_INK,
-                mfc="white", mew=1.0, elinewidth=0.9, capsize=2.2,
-                label="shift factors ± 1 s.e.", zorder=3)
-    if bridged.any():
-        ax.errorbar(t_C[bridged], log_a[bridged], yerr=yerr[bridged], fmt="s", ms=4.2,
-                    color=_VERMILLION, mfc="white", mew=1.0, elinewidth=0.9, capsize=2.2,
-                    label="placed across a gap by the law", zorder=3)
+    groups = ((~bridged & ~weak, "o", _INK, "shift factors ± 1 s.e."),
+              (weak, "D", _GREY, "poorly determined (low information)"),
+              (bridged, "s", _VERMILLION, "placed across a gap by the law"))
+    for mask, marker, colour, label in groups:
+        if mask.any():
+            ax.errorbar(t_C[mask], log_a[mask], yerr=yerr[mask], fmt=marker, ms=4.2,
+                        color=colour, mfc="white", mew=1.0, elinewidth=0.9, capsize=2.2,
+                        label=label, zorder=3)
     for a in (ax, residual_ax):
         if a is not None:
             a.axvline(result.reference_temperature_C, color=_GREY, lw=0.8, ls=(0, (2, 2)),
@@ -797,14 +798,19 @@ def plot_shift_factors(result, ax=None, residual_ax=None):
     if band is not None:
         residual_ax.fill_between(grid_C, -band, band, color=_BLUE, alpha=0.22, lw=0, zorder=1)
     residual_ax.axhline(0.0, color=_BLUE, lw=1.2, zorder=2)
-    residual_ax.errorbar(t_C, resid, yerr=yerr, fmt="o", ms=3.6, color=_INK, mfc="white",
-                         mew=0.9, elinewidth=0.8, capsize=2.0, zorder=3)
+    for mask, marker, colour, _label in groups:
+        if mask.any():
+            residual_ax.errorbar(t_C[mask], resid[mask], yerr=yerr[mask], fmt=marker, ms=3.6,
+                                 color=colour, mfc="white", mew=0.9, elinewidth=0.8,
+                                 capsize=2.0, zorder=3)
     _style(residual_ax)
     ax.tick_params(labelbottom=False)
     residual_ax.set_xlabel("Temperature T (°C)")
     residual_ax.set_ylabel("Data − law\n(decades)")
-    lim = float(np.nanmax(np.abs(resid) + yerr)) if resid.size else 0.0
-    lim = max(lim * 1.25, float(np.nanmax(band)) * 1.25 if band is not None else 0.0, 0.01)
+    # scaled to the residuals (and the band), not to the error bars of poorly determined shifts,
+    # which may run off the panel
+    lim = float(np.nanmax(np.abs(resid))) if resid.size else 0.0
+    lim = max(lim * 1.4, float(np.nanmax(band)) * 1.25 if band is not None else 0.0, 0.01)
     residual_ax.set_ylim(-lim, lim)
     return ax
 

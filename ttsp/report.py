@@ -91,14 +91,14 @@ _CHECK_TITLES = {
 _STATUS_WORDS = {"pass": ("pass", "✓", "Pass"), "warn": ("warn", "!", "Warning"),
                  "fail": ("fail", "✗", "Fail")}
 
-_LAW_NAMES = {"wlf": "WLF", "arrhenius": "Arrhenius", "wlf-arrhenius": "WLF above T_g, Arrhenius "
+_LAW_NAMES = {"wlf": "WLF", "arrhenius": "Arrhenius", "wlf-arrhenius": "WLF above Tg, Arrhenius "
               "below", "vft": "Vogel–Fulcher–Tammann (VFT)", "polynomial": "Polynomial"}
 
 _PARAMETERS = {  # name → (label, unit, shown in °C?)
     "C1": ("C₁", "", False),
     "C2_K": ("C₂", "K", False),
-    "activation_energy_kJ_per_mol": ("Activation energy E_a", "kJ/mol", False),
-    "glass_transition_K": ("Glass transition T_g", "°C", True),
+    "activation_energy_kJ_per_mol": ("Activation energy Eₐ", "kJ/mol", False),
+    "glass_transition_K": ("Glass transition Tg", "°C", True),
     "B_K": ("B (log₁₀ form)", "K", False),
     "T_inf_K": ("Vogel temperature T∞", "°C", True),
     "C1_times_C2_K": ("C₁·C₂", "K", False),
@@ -334,10 +334,11 @@ def _law(result) -> dict:
     extra = []
     tr = float(law.reference_temperature_K)
     inside = rng is None or (rng[0] - 1e-9 <= tr <= rng[1] + 1e-9)
-    if inside:
+    if inside and law.model != "arrhenius":  # for Arrhenius it is the parameter itself
         try:
             ea = float(np.asarray(law.activation_energy_kJ_per_mol(tr)))
-            extra.append({"name": "Apparent activation energy at T_ref", "key": "Ea_ref",
+            extra.append({"name": "Apparent activation energy at the reference temperature",
+                          "key": "Ea_ref",
                           "value": _num(ea, 4), "unit": "kJ/mol", "stderr": ""})
         except Exception:  # a law without a derivative: nothing to show
             pass
@@ -348,7 +349,7 @@ def _law(result) -> dict:
         tg = float(result.options.glass_transition_C) + 273.15
     if tg is not None and (rng is None or rng[0] <= tg <= rng[1]):
         try:
-            extra.append({"name": "Fragility index m at T_g", "key": "fragility",
+            extra.append({"name": "Fragility index m at Tg", "key": "fragility",
                           "value": _num(law.fragility(tg), 3), "unit": "", "stderr": ""})
         except Exception:  # fragility needs a law defined at Tg
             pass
@@ -357,9 +358,9 @@ def _law(result) -> dict:
                 at_tg = law.at_reference(tg)
                 if law.model == "vft":
                     at_tg = at_tg.to_wlf()
-                extra.append({"name": "C₁ referred to T_g", "key": "C1g",
+                extra.append({"name": "C₁ referred to Tg", "key": "C1g",
                               "value": _num(at_tg.params["C1"], 4), "unit": "", "stderr": ""})
-                extra.append({"name": "C₂ referred to T_g", "key": "C2g",
+                extra.append({"name": "C₂ referred to Tg", "key": "C2g",
                               "value": _num(at_tg.params["C2_K"], 4), "unit": "K", "stderr": ""})
             except Exception:  # no finite WLF form at Tg
                 pass
