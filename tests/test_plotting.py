@@ -10,6 +10,7 @@ known exactly. Figures are inspected through matplotlib's object model, not by p
 
 from __future__ import annotations
 
+import dataclasses
 import math
 import subprocess
 import sys
@@ -400,6 +401,27 @@ def test_frequency_functions_have_tan_delta_on_a_linear_twin(freq_result):
 def test_time_domain_master_curve(time_result):
     ax = plotting.plot_master_curve(time_result)
     assert ax.get_xlabel() == "Reduced time t/$a_T$ (s)" and ax.get_yscale() == "log"
+
+
+def test_frequency_functions_of_a_time_domain_build_are_over_frequency(time_result):
+    ax = plotting.plot_frequency_functions(time_result)
+    assert ax.get_xlabel() == "Reduced frequency f·$a_T$ (Hz)"
+
+
+def test_shear_creep_build_uses_g_and_j():
+    campaign = dataclasses.replace(time_campaign(quantity="creep_compliance_1_per_Pa"),
+                                   modulus_kind="shear")
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        result = build(campaign, law="arrhenius", reference_temperature_C=40.0)
+    ax_fit, _, ax_spec = plotting.plot_prony_fit(result)
+    assert ax_fit.get_ylabel() == "J(t) (GPa⁻¹)"
+    assert ax_spec.get_ylabel().startswith("Prony coefficient $G_i$")
+    # the fitted creep data are drawn in GPa⁻¹: 1e9 times their value in 1/Pa
+    measured = [ln for ln in ax_fit.get_lines() if ln.get_linestyle() == "None"][0]
+    assert np.allclose(measured.get_ydata(), result.prony_fit.measured["creep_compliance"] * 1e9)
+    twin = [a for a in plotting.plot_time_functions(result).figure.axes][1]
+    assert twin.get_ylabel() == "Creep compliance J(t) (GPa⁻¹)"
 
 
 # ----------------------------------------------------------------------------------------------

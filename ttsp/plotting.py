@@ -571,8 +571,8 @@ def plot_superposition_check(campaign, ax=None):
 # ------------------------------------------------------------------------------------------
 # build figures
 # ------------------------------------------------------------------------------------------
-def _reduced_x_label(campaign, xunit: str) -> str:
-    if campaign.domain != "frequency":
+def _reduced_x_label(campaign, xunit: str, domain: str | None = None) -> str:
+    if (domain or campaign.domain) != "frequency":
         return f"Reduced time t/{_AT} (s)"
     if xunit == "Hz":
         return f"Reduced frequency f·{_AT} (Hz)"
@@ -1022,7 +1022,7 @@ def plot_frequency_functions(result, ax=None):
         _shade_extrapolation(ax, 1.0 / rng[1] / xfactor, 1.0 / rng[0] / xfactor,
                              float(x.min()), float(x.max()))
     ax.set_xlim(float(x.min()), float(x.max()))
-    ax.set_xlabel(_reduced_x_label(campaign, xunit))
+    ax.set_xlabel(_reduced_x_label(campaign, xunit, "frequency"))
     ax.set_ylabel(f"{letter}′, {letter}″ ({unit})")
     twin.set_ylabel("Loss factor tan δ")
     _tidy_log_axis(ax.yaxis)
