@@ -6,9 +6,7 @@ column and row; no traceback); 3 a check failed under ``--strict``; 1 an interna
 
 from __future__ import annotations
 
-import datetime
 import sys
-import time
 import traceback
 from enum import Enum
 from functools import wraps
@@ -19,6 +17,7 @@ import typer
 
 from . import __version__
 from .exceptions import DataError, TtspError
+from .runner import read_inputs, run_build
 
 app = typer.Typer(add_completion=False, no_args_is_help=True,
                   help="Time–temperature superposition: master curves, shift laws, Prony series.")
@@ -75,17 +74,6 @@ def _root(version: bool = typer.Option(False, "--version", callback=_version_cal
     _state["debug"] = debug
 
 
-def parse_pairs(values: Optional[List[str]], option: str) -> dict:
-    """Parse repeated ``NAME=VALUE`` options into a dict (usage error on a malformed one)."""
-    out = {}
-    for item in values or []:
-        if "=" not in item:
-            raise typer.BadParameter(f"must look like NAME=VALUE; got {item!r}", param_hint=option)
-        k, v = item.split("=", 1)
-        out[k.strip()] = v.strip()
-    return out
-
-
 # Options shared by every command that reads a campaign
 COLUMN_OPT = typer.Option(None, "--column", "-c", metavar="HEADER=ROLE",
                           help="Map a header to a role (e.g. 'Mod1=storage_modulus_Pa'); repeatable.")
@@ -95,16 +83,6 @@ SHEET_OPT = typer.Option(None, "--sheet", help="Sheet of an .xlsx workbook (defa
 TOL_OPT = typer.Option(0.5, "--temperature-tolerance", min=0.0,
                        help="Points within this many kelvin form one isotherm.")
 KIND_OPT = typer.Option(None, "--modulus-kind", help="tensile or shear (default: from the headers).")
-
-
-def read_inputs(inputs, column, unit, sheet, tolerance, modulus_kind):
-    from .io.readers import read_campaign
-
-    if modulus_kind not in (None, "tensile", "shear"):
-        raise typer.BadParameter("must be tensile or shear", param_hint="--modulus-kind")
-    return read_campaign([str(p) for p in inputs], columns=parse_pairs(column, "--column"),
-                         units=parse_pairs(unit, "--unit"), sheet=sheet,
-                         temperature_tolerance_K=tolerance, modulus_kind=modulus_kind)
 
 
 def describe(campaign) -> str:
@@ -179,22 +157,6 @@ class Quantity(str, Enum):
     tan_delta = "tan_delta"
 
 
-class Progress:
-    """Step names on stderr with the time each took; silent with --quiet."""
-
-    def __init__(self, quiet: bool):
-        self.quiet, self.t0, self.name = quiet, None, None
-
-    def __call__(self, name: str):
-        self.done()
-        self.name, self.t0 = name, time.perf_counter()
-
-    def done(self):
-        if self.name is not None and not self.quiet:
-            typer.echo(f"ttsp: {self.name} ({time.perf_counter() - self.t0:.1f} s)", err=True)
-        self.name = None
-
-
 def _options(reference_temperature, law, vertical, expansion_coefficient, shift_on, gaps,
              prony_density, glass_transition):
     from .workflow import BuildOptions
@@ -203,39 +165,6 @@ def _options(reference_temperature, law, vertical, expansion_coefficient, shift_
                         vertical=vertical.value, expansion_coefficient_per_K=expansion_coefficient,
                         shift_on=shift_on.value, gaps=gaps.value,
                         prony_terms_per_decade=prony_density, glass_transition_C=glass_transition)
-
-
-def run_build(inputs, options, out: Path, *, figures: bool, force: bool, quiet: bool,
-              column=None, unit=None, sheet=None, tolerance=0.5, modulus_kind=None):
-    """Read, build and write one campaign's outputs atomically. Returns (result, out folder)."""
-    import warnings
-
-    from .io.atomic import atomic_output_dir
-    from .io.writers import write_build_numbers
-    from .workflow import build, hash_inputs
-
-    progress = Progress(quiet)
-    progress("reading")
-    with warnings.catch_warnings():
-        warnings.simplefilter("ignore")
-        campaign = read_inputs(inputs, column, unit, sheet, tolerance, modulus_kind)
-        result = build(campaign, options, input_sha256=hash_inputs(inputs),
-                       input_files=[Path(p).name for p in inputs], progress=progress)
-    progress("writing")
-    created = datetime.datetime.now(datetime.timezone.utc).strftime("%Y-%m-%dT%H:%M:%SZ")
-    with atomic_output_dir(out, force=force, protect=inputs) as tmp:
-        write_build_numbers(result, tmp, created_utc=created)
-        if figures:
-            from .plotting import render_figures, save_figures
-            from .report import render_report
-
-            figs = render_figures(result)
-            saved = save_figures(figs, tmp)
-            svg = {name: Path(paths["svg"]).read_text(encoding="utf-8") for name, paths in saved.items()}
-            (tmp / "report.html").write_text(render_report(result, svg, created_utc=created),
-                                             encoding="utf-8")
-    progress.done()
-    return result, Path(out)
 
 
 def _check_lines(result) -> str:
@@ -319,7 +248,6 @@ def check_cmd(inputs: List[Path] = typer.Argument(..., help="Files or folders of
               sheet: Optional[str] = SHEET_OPT, tolerance: float = TOL_OPT,
               modulus_kind: Optional[str] = KIND_OPT):
     """Does superposition hold? Run the checks and print a verdict for each."""
-    import json
     import warnings
 
     from .workflow import BuildOptions, build
@@ -393,7 +321,6 @@ def predict_cmd(model: Path = typer.Argument(..., help="summary.json of a build,
     import pandas as pd
 
     from .io.atomic import write_text_atomic
-    from .io.writers import frame_to_csv_text
     from .model import QUANTITY_COLUMNS, TIME_QUANTITIES
 
     if (time_grid is None) == (frequency_grid is None):

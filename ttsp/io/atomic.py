@@ -21,6 +21,12 @@ __all__ = ["atomic_output_dir", "write_text_atomic"]
 _PREFIX = ".ttsp-tmp-"
 
 
+def _umask() -> int:
+    mask = os.umask(0)
+    os.umask(mask)
+    return mask
+
+
 @contextlib.contextmanager
 def atomic_output_dir(destination, *, force: bool = False, protect=()):
     """Yield a temporary folder; on success move it to ``destination``.
@@ -48,6 +54,7 @@ def atomic_output_dir(destination, *, force: bool = False, protect=()):
     for stale in dest.parent.glob(f"{_PREFIX}{dest.name}-*"):
         shutil.rmtree(stale, ignore_errors=True)
     tmp = Path(tempfile.mkdtemp(prefix=f"{_PREFIX}{dest.name}-", dir=dest.parent))
+    os.chmod(tmp, 0o777 & ~_umask())  # mkdtemp makes 0700; give the folder the usual mode
     try:
         yield tmp
         if dest.exists():
@@ -70,6 +77,7 @@ def write_text_atomic(path, text: str) -> None:
     try:
         with os.fdopen(fd, "w", encoding="utf-8", newline="") as fh:
             fh.write(text)
+        os.chmod(tmp, 0o666 & ~_umask())  # mkstemp makes 0600; give the file the usual mode
         os.replace(tmp, path)
     except BaseException:
         with contextlib.suppress(OSError):

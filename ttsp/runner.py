@@ -1,0 +1,90 @@
+"""Run one build from files to a finished output folder (shared by ``ttsp build`` and batches).
+
+Layer 5: it reads through :mod:`ttsp.io.readers`, computes through :func:`ttsp.workflow.build`,
+and writes numbers, figures and the HTML page into an atomic output folder.
+"""
+
+from __future__ import annotations
+
+import datetime
+import time
+import warnings
+from pathlib import Path
+
+import typer
+
+__all__ = ["Progress", "read_inputs", "run_build", "parse_pairs"]
+
+
+def parse_pairs(values, option: str) -> dict:
+    """Parse repeated ``NAME=VALUE`` options into a dict (usage error on a malformed one)."""
+    import typer
+
+    out = {}
+    for item in values or []:
+        if "=" not in item:
+            raise typer.BadParameter(f"must look like NAME=VALUE; got {item!r}", param_hint=option)
+        k, v = item.split("=", 1)
+        out[k.strip()] = v.strip()
+    return out
+
+
+def read_inputs(inputs, column, unit, sheet, tolerance, modulus_kind):
+    from .io.readers import read_campaign
+
+    if modulus_kind not in (None, "tensile", "shear"):
+        raise typer.BadParameter("must be tensile or shear", param_hint="--modulus-kind")
+    return read_campaign([str(p) for p in inputs], columns=parse_pairs(column, "--column"),
+                         units=parse_pairs(unit, "--unit"), sheet=sheet,
+                         temperature_tolerance_K=tolerance, modulus_kind=modulus_kind)
+
+
+class Progress:
+    """Step names on stderr with the time each took; silent with --quiet."""
+
+    def __init__(self, quiet: bool):
+        self.quiet, self.t0, self.name = quiet, None, None
+
+    def __call__(self, name: str):
+        self.done()
+        self.name, self.t0 = name, time.perf_counter()
+
+    def done(self):
+        if self.name is not None and not self.quiet:
+            typer.echo(f"ttsp: {self.name} ({time.perf_counter() - self.t0:.1f} s)", err=True)
+        self.name = None
+
+
+def run_build(inputs, options, out: Path, *, figures: bool, force: bool, quiet: bool,
+              column=None, unit=None, sheet=None, tolerance=0.5, modulus_kind=None):
+    """Read, build and write one campaign's outputs atomically. Returns (result, out folder)."""
+    from .io.atomic import atomic_output_dir
+    from .io.writers import write_build_numbers
+    from .workflow import build, hash_inputs
+
+    progress = Progress(quiet)
+    progress("reading")
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        campaign = read_inputs(inputs, column, unit, sheet, tolerance, modulus_kind)
+        result = build(campaign, options, input_sha256=hash_inputs(inputs),
+                       input_files=[Path(p).name for p in inputs], progress=progress)
+    progress("writing")
+    created = datetime.datetime.now(datetime.timezone.utc).strftime("%Y-%m-%dT%H:%M:%SZ")
+    with atomic_output_dir(out, force=force, protect=inputs) as tmp, \
+            warnings.catch_warnings():
+        warnings.simplefilter("ignore")  # everything worth saying is in result.warnings already
+        write_build_numbers(result, tmp, created_utc=created)
+        if figures:
+            from .plotting import render_figures, save_figures
+            from .report import render_report
+
+            figs = render_figures(result)
+            saved = save_figures(figs, tmp)
+            svg = {name: Path(paths["svg"]).read_text(encoding="utf-8") for name, paths in saved.items()}
+            (tmp / "report.html").write_text(render_report(result, svg, created_utc=created),
+                                             encoding="utf-8")
+    progress.done()
+    return result, Path(out)
+
+
