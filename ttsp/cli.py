@@ -388,6 +388,31 @@ def history_cmd(model: Path = typer.Argument(..., help="summary.json of a build,
         typer.echo(str(out), err=True)
 
 
+@app.command("batch")
+@guarded
+def batch_cmd(manifest: Path = typer.Argument(..., help="CSV or JSON Lines with id and path "
+                                                        "columns, or a folder of campaigns."),
+              out: Path = typer.Option(..., "--out", "-o", help="Output folder of the batch."),
+              workers: Optional[int] = typer.Option(None, "--workers", min=1,
+                                                    help="Worker processes (default: all cores)."),
+              scheduler: Optional[str] = typer.Option(
+                  None, "--scheduler", help="Address of a Dask distributed scheduler."),
+              no_figures: bool = typer.Option(False, "--no-figures",
+                                              help="Numbers only: no figures, no HTML pages."),
+              force: bool = typer.Option(False, "--force", help="Rebuild finished campaigns too."),
+              quiet: bool = typer.Option(False, "--quiet", "-q", help="No progress on stderr.")):
+    """Build many campaigns in parallel; resumable; one results table for the whole batch."""
+    from .batch import batch_exit_code, run_batch
+
+    table = run_batch(manifest, out, workers=workers, figures=not no_figures, force=force,
+                      scheduler=scheduler, progress=not quiet, quiet=quiet)
+    failed = int((table["status"] != "ok").sum()) if len(table) else 0
+    typer.echo(f"{len(table) - failed} ok, {failed} failed; results: {Path(out) / 'results.csv'}")
+    code = batch_exit_code(table)
+    if code:
+        raise typer.Exit(code)
+
+
 def main():
     """Console-script entry point: usage errors become one line on stderr and exit 2.
 
