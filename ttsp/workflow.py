@@ -201,6 +201,8 @@ class BuildResult:
         }
         law_section.update({k: v for k, v in law.items() if k not in law_section})
         prony = self.series.to_dict()
+        shifting = self.shifts.to_dict()
+        shift_factors = shifting.pop("shift_factors")
         return {
             "schema_version": SCHEMA_VERSION,
             "tool_version": __version__,
@@ -213,7 +215,8 @@ class BuildResult:
             "source": self.campaign.source,
             "units_as_read": dict(self.campaign.units_as_read),
             "reference_temperature_C": self.reference_temperature_C,
-            "shift_factors": self.shifts.to_dict(),
+            "shift_factors": shift_factors,
+            "shifting": shifting,
             "shift_law": law_section,
             "prony": prony,
             "glass_transition": (self.glass_transition.to_dict()
