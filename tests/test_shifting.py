@@ -94,11 +94,12 @@ def base():
 # ---- recovery of known shifts ----------------------------------------------------------------
 def test_noise_free_campaign_is_recovered_exactly():
     # without noise the Prony campaign lies inside the spectral model's reach: only solver
-    # tolerance and the smoothness penalty remain (measured max 1.4e-6 decades)
+    # tolerance and the smoothness penalty remain (measured max 1.3e-7 decades)
     camp, true = campaign(noise=0.0)
     r = quiet(shift_isotherms, camp, 320.0)
     assert np.max(np.abs(r.log10_aT - true)) < 1e-3
     # the spline model (no physics) is exact to the same tolerance on this smooth curve
+    # (measured 1.0e-6)
     r2 = quiet(shift_isotherms, camp, 320.0, master_curve="spline")
     assert np.max(np.abs(r2.log10_aT - true)) < 1e-3
 
@@ -148,7 +149,7 @@ def test_time_domain_relaxation_modulus():
     r = quiet(shift_isotherms, camp, 320.0)
     assert r.quantities_used == ("relaxation_modulus_Pa",)
     # one function of 10 points per isotherm: about half the information of E' with E''
-    # (measured max 0.027 at the coldest isotherm, stderr 0.041)
+    # (measured max 0.027 at the coldest isotherm, stderr 0.044)
     d = r.log10_aT - true
     assert np.max(np.abs(d)) < 0.08
     m = r.log10_aT_stderr > 0
@@ -278,7 +279,7 @@ def test_outliers_are_flagged_not_deleted(base):
     assert "outliers:2" in r.flags[2] and "outliers:1" in r.flags[6]
     # the robust loss keeps the shifts where they were (measured max 0.009 decades)
     assert np.max(np.abs(r.log10_aT - true)) < 0.03
-    # plain least squares is pulled away by the same three points (measured 0.23 decades)
+    # plain least squares is pulled away by the same three points (measured 0.24 decades)
     ls = quiet(shift_isotherms, bad, 320.0, robust=False)
     assert np.max(np.abs(ls.log10_aT - true)) > 0.1
     frame = r.shifted_frame(bad)

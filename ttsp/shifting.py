@@ -1,22 +1,25 @@
 """Automatic horizontal (and vertical) shift factors by one joint fit of all isotherms.
 
-All isotherms are shifted at once onto a reference temperature in log–log coordinates. Each
-measured function q (E' and E'' together by default, or |E*| and δ, or tan δ alone, or E(t) /
-D(t) in the time domain) gets one smooth master curve F_q, a penalised cubic B-spline in the
-log10 reduced abscissa (Eilers & Marx, Statistical Science 11:89, 1996), and the model for
-point j of the isotherm at temperature T_k is::
+All isotherms are shifted at once onto a reference temperature in log–log coordinates, using
+every measured function jointly (E' and E'' by default, or |E*| and δ, or tan δ alone, or E(t)
+and/or D(t) in the time domain). The model for point j of the isotherm at temperature T_k and
+function q is::
 
     log10 y_kj = F_q(log10 x_kj ± log10 a_T(T_k)) + v_q log10 b_T(T_k)
 
 with ``+`` for frequency (reduced frequency ω·a_T) and ``−`` for time (reduced time t/a_T),
-``v_q = +1`` for a modulus, ``−1`` for a compliance and ``0`` for tan δ or δ. The spline
-coefficients and every shift are fitted together (global simultaneous optimisation, as in
-Honerkamp & Weese, Rheol. Acta 32:57, 1993, with a spline master function), so every overlap —
-not only that of neighbours — constrains every shift, and errors do not add up along a chain
-of pairwise shifts. Pairwise overlap shifts only provide the starting point. The loss is
-Huber's (Robust Statistics, 1981) on residuals scaled by a per-function noise level estimated
-from the median absolute residual, so an outlier is down-weighted and flagged but never
-deleted. See :mod:`ttsp._global_fit` for the numerics.
+``v_q = +1`` for a modulus, ``−1`` for a compliance and ``0`` for tan δ or δ. The master
+curves F_q come from one smooth relaxation spectrum shared by all functions (so E' and E''
+stay Kramers–Kronig consistent), or, on request, from an independent penalised B-spline per
+function (Eilers & Marx, Statistical Science 11:89, 1996). Curve and every shift are fitted
+together (global simultaneous optimisation; Honerkamp & Weese, Rheol. Acta 32:57, 1993,
+discuss this kind of estimate), so every overlap — not only that of neighbours — constrains
+every shift, and errors do not add up along a chain of pairwise shifts. Pairwise overlap
+shifts only provide the starting point. The loss is Huber's (Robust Statistics, 1981) on
+residuals scaled by a per-function noise level estimated from the median absolute residual,
+so an outlier is down-weighted and flagged but never deleted. :mod:`ttsp._global_fit` has the
+numerics, :mod:`ttsp._overlap` the pairwise shifts and the gap test, :mod:`ttsp._bridge` the
+small shift law used to bridge gaps.
 
 Conventions
 -----------
@@ -24,16 +27,21 @@ Conventions
 * Vertical shift b_T = T·ρ(T)/(T_ref·ρ_ref) (Ferry, Viscoelastic Properties of Polymers,
   3rd ed., 1980, ch. 11) in ``"density"`` mode with ρ(T) = ρ_ref [1 − α_v (T − T_ref)]. The
   reduced modulus is E/b_T and the reduced compliance D·b_T; tan δ and δ are not shifted.
+  ``"fit"`` mode fits a free log10 b_T per isotherm with the same convention.
 * Reference temperature anywhere. When it is not a measured temperature, the fit is first done
   with the isotherm nearest to it held at zero, and then the gauge is fixed by subtracting
   log10 a_T interpolated at T_ref: the quadratic in T through the three measured temperatures
   nearest T_ref when T_ref lies inside the measured range, the straight line through the two
   nearest when it lies outside (with an :class:`~ttsp.exceptions.ExtrapolationWarning`).
   The same linear map is applied to the covariance, so the standard errors include the
-  uncertainty of that interpolation.
+  uncertainty of that interpolation. A reference within 0.05 K of an isotherm is that isotherm.
 * Standard errors: from the Gauss–Newton curvature of the joint penalised objective (the
-  shift block of its inverse, i.e. with the master curve's own uncertainty included), scaled
-  by the residual variance per effective degree of freedom.
+  shift block of its inverse, i.e. with the master curve's own uncertainty included), times
+  Huber's variance factor. They are 0 for the measured reference isotherm (exact by
+  definition) and NaN for user-fixed shifts.
+* Gaps: neighbours whose ordinate ranges are disjoint for some function cannot overlap under
+  any horizontal shift; neither can neighbours whose reduced ranges are still apart after the
+  fit. By default that is an error naming both temperatures and the gap.
 """
 
 from __future__ import annotations
