@@ -116,19 +116,24 @@ def profile_steps(folder: Path, n: int = 5) -> dict:
     def add(step, seconds):
         totals[step] = totals.get(step, 0.0) + seconds / len(files)
 
+    marks, t = [], []
+
+    def mark(name):
+        marks.append(name)
+        t.append(time.perf_counter())
+
     for f in files:
-        marks = []
+        marks.clear()
+        t.clear()
         with warnings.catch_warnings():
             warnings.simplefilter("ignore")
             t0 = time.perf_counter()
             campaign = read_campaign([f])
             add("reading", time.perf_counter() - t0)
-            t = [time.perf_counter()]
-            result = build(campaign, BuildOptions(),
-                           progress=lambda name: (marks.append(name), t.append(time.perf_counter())))
+            result = build(campaign, BuildOptions(), progress=mark)
             t.append(time.perf_counter())
             for k, name in enumerate(marks):
-                add(name, t[k + 2] - t[k + 1])
+                add(name, t[k + 1] - t[k])
             with tempfile.TemporaryDirectory() as tmp:
                 t0 = time.perf_counter()
                 write_build_numbers(result, Path(tmp))

@@ -97,7 +97,7 @@ def first_batch(data, tmp_path_factory):
 
 # ---- a batch, its folders and its table -------------------------------------------------------
 def test_every_campaign_gets_a_build_folder_and_a_row(first_batch):
-    manifest, out, table = first_batch
+    _, out, table = first_batch
     assert list(table["id"]) == ["demo", "c0", "c1", "bad", "missing"]  # manifest order
     assert list(table["status"]) == ["ok", "ok", "ok", "failed", "failed"]
     ok = table[table["status"] == "ok"]
@@ -129,7 +129,8 @@ def test_generated_campaigns_recover_their_wlf_law(first_batch):
     t = T_REF_C + 6.0 * np.arange(-2, 3)
     for ident in ("c0", "c1"):
         row = table.loc[ident]
-        assert row["law_model"] == "wlf" and row["reference_temperature_C"] == pytest.approx(T_REF_C)
+        assert row["law_model"] == "wlf"
+        assert row["reference_temperature_C"] == pytest.approx(T_REF_C)
         fitted = log10_aT(t, row["law_C1"], row["law_C2_K"])
         # 1 % noise on 6 points per isotherm: shift errors of ~0.01 decade (the shifting
         # benchmark reaches rms 0.018 at 2 % noise); 0.03 decade leaves room for the law fit
@@ -150,8 +151,9 @@ def test_demo_campaign_recovers_its_generating_law(first_batch):
 
 def test_a_batch_folder_has_the_same_contract_as_a_build(first_batch, data, tmp_path):
     out = first_batch[1]
-    _, direct = run_build([data / "c0.csv"], BuildOptions(law="wlf", reference_temperature_C=T_REF_C),
-                          tmp_path / "direct", figures=False, force=False, quiet=True)
+    options = BuildOptions(law="wlf", reference_temperature_C=T_REF_C)
+    _, direct = run_build([data / "c0.csv"], options, tmp_path / "direct", figures=False,
+                          force=False, quiet=True)
     a = json.loads((out / "c0" / "summary.json").read_text(encoding="utf-8"))
     b = json.loads((direct / "summary.json").read_text(encoding="utf-8"))
     a.pop("created_utc"), b.pop("created_utc")
@@ -307,7 +309,8 @@ def test_progress_lines_on_stderr_and_quiet(data, tmp_path, capfd):
 def test_json_lines_manifest_with_options_and_file_lists(data, tmp_path):
     lines = [{"id": "shear", "path": str(data / "c0.csv"), "law": "wlf",
               "reference_temperature_C": T_REF_C, "modulus_kind": "shear"},
-             {"id": 7, "path": [str(data / "c1.csv")], "law": None, "prony_terms_per_decade": "1.5"},
+             {"id": 7, "path": [str(data / "c1.csv")], "law": None,
+              "prony_terms_per_decade": "1.5"},
              {"id": "rel", "path": "c2.csv"}]
     m = tmp_path / "batch.jsonl"
     (tmp_path / "c2.csv").write_bytes((data / "c2.csv").read_bytes())

@@ -73,8 +73,8 @@ from ._validation import bad_value, where
 from .exceptions import DataError, TtspError
 from .workflow import BuildOptions
 
-__all__ = ["BatchItem", "read_manifest", "run_batch", "batch_exit_code", "MANIFEST_COLUMNS",
-           "RESULT_FILES"]
+__all__ = ["MANIFEST_COLUMNS", "RESULT_FILES", "BatchItem", "batch_exit_code", "read_manifest",
+           "run_batch"]
 
 #: Per-campaign options a manifest may give, with the type of their values.
 OPTION_COLUMNS = {
@@ -442,7 +442,7 @@ def _reusable(item: BatchItem, folder: Path, sha: str, figures: bool):
             summary.get("input_sha256") != sha
             or summary.get("options") != _jsonable(item.options.to_dict())
             or summary.get("tool_version") != __version__
-            or (item.modulus_kind is not None and summary.get("modulus_kind") != item.modulus_kind)):
+            or item.modulus_kind not in (None, summary.get("modulus_kind"))):
         return None
     wanted = NUMBER_FILES + (("report.html",) if figures else ())
     if not all((folder / name).is_file() for name in wanted):
@@ -744,6 +744,13 @@ def run_batch(manifest, out_dir, *, workers: int | None = None, figures: bool = 
     pandas.DataFrame
         One row per campaign in manifest order; the columns are listed in the module docstring.
         Give it to :func:`batch_exit_code` for the command's exit code.
+
+    Notes
+    -----
+    Worker processes start from a fork server (or are spawned, on Windows), so a script that
+    calls this function must do so under ``if __name__ == "__main__":``, as every script using
+    :mod:`multiprocessing` must on Windows and macOS. The command line and notebooks need
+    nothing.
 
     Raises
     ------
