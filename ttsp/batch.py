@@ -56,6 +56,7 @@ from __future__ import annotations
 
 import contextlib
 import csv
+import io
 import json
 import math
 import os
@@ -452,13 +453,11 @@ def _reusable(item: BatchItem, folder: Path, sha: str, figures: bool):
 
 # ---- the results table ------------------------------------------------------------------------
 def _columns(rows) -> list:
-    middle = []
-    for row in rows:
-        for key in row:
-            if key not in _HEAD and key not in _TAIL and key not in middle:
-                middle.append(key)
-    law = [k for k in middle if k.startswith("law_")]
-    return [*_HEAD, *law, *_TAIL, *[k for k in middle if k not in law]]
+    """Fixed columns first, then the law parameters (sorted, each beside its stderr), then the
+    tail, then anything else; the same order whatever order the campaigns finish in."""
+    keys = set().union(*rows) - set(_HEAD) - set(_TAIL)
+    law = sorted(k for k in keys if k.startswith("law_"))
+    return [*_HEAD, *law, *_TAIL, *sorted(keys - set(law))]
 
 
 def _json_value(v):
@@ -482,42 +481,69 @@ def _frame(rows, columns):
     return frame
 
 
+def _csv_cell(value):
+    """A CSV cell as the build's CSV writers write it: 10 significant digits, empty for none."""
+    if value is None:
+        return ""
+    if isinstance(value, float):
+        return f"{value:.10g}" if math.isfinite(value) else ""
+    return value
+
+
 class _Table:
     """Rows as they arrive; written atomically to results.jsonl and results.csv.
 
-    After each completion the files are rewritten, unless the last write took more than a
-    twentieth of the time since (very large batches): then they are rewritten less often, and
-    always at the end. Nothing is lost by that: finished campaigns are found from their output
-    folders when a batch resumes.
+    Each row is formatted once (again only when a new column appears), so a rewrite costs little
+    more than the file write. After each completion the files are rewritten, unless the last
+    write took more than a twentieth of the time since (very large batches): then less often,
+    and always at the end. Nothing is lost by that: finished campaigns are found from their
+    output folders when a batch resumes.
     """
 
     def __init__(self, out: Path, order):
         self.out, self.order, self.rows = out, list(order), {}
         self._last_end, self._last_cost = 0.0, 0.0
+        self._columns, self._lines, self._keys = None, {}, {}
 
     def add(self, row: dict) -> None:
         self.rows[row["id"]] = row
+        self._keys.update(dict.fromkeys(row))
         if time.perf_counter() - self._last_end >= 20 * self._last_cost:
             self.write()
 
     def ordered(self):
         return [self.rows[i] for i in self.order if i in self.rows]
 
-    def write(self):
+    def _formatted(self, row, columns):
+        cached = self._lines.get(row["id"])
+        if cached is not None and cached[0] is row:
+            return cached[1], cached[2]
+        text = json.dumps({c: _json_value(row.get(c)) for c in columns}, ensure_ascii=False,
+                          allow_nan=False) + "\n"
+        buffer = io.StringIO()
+        csv.writer(buffer, lineterminator="\n").writerow([_csv_cell(row.get(c)) for c in columns])
+        self._lines[row["id"]] = (row, text, buffer.getvalue())
+        return text, buffer.getvalue()
+
+    def write(self) -> None:
         from .io.atomic import write_text_atomic
-        from .io.writers import frame_to_csv_text
 
         t0 = time.perf_counter()
         rows = self.ordered()
-        columns = _columns(rows)
-        jsonl = "".join(json.dumps({c: _json_value(r.get(c)) for c in columns},
-                                   ensure_ascii=False, allow_nan=False) + "\n" for r in rows)
-        frame = _frame(rows, columns)
-        write_text_atomic(self.out / "results.jsonl", jsonl)
-        write_text_atomic(self.out / "results.csv", frame_to_csv_text(frame))
+        columns = _columns([self._keys])
+        if columns != self._columns:
+            self._columns, self._lines = columns, {}
+        header = io.StringIO()
+        csv.writer(header, lineterminator="\n").writerow(columns)
+        formatted = [self._formatted(r, columns) for r in rows]
+        write_text_atomic(self.out / "results.jsonl", "".join(j for j, _ in formatted))
+        write_text_atomic(self.out / "results.csv",
+                          header.getvalue() + "".join(c for _, c in formatted))
         self._last_end = time.perf_counter()
         self._last_cost = self._last_end - t0
-        return frame
+
+    def frame(self):
+        return _frame(self.ordered(), _columns([self._keys]))
 
 
 # ---- progress on stderr -----------------------------------------------------------------------
@@ -822,8 +848,8 @@ def run_batch(manifest, out_dir, *, workers: int | None = None, figures: bool = 
                 _run_local(pending, workers or _default_workers(), task, on_done)
     finally:
         reporter.close()
-        frame = table.write()
-    return frame
+        table.write()
+    return table.frame()
 
 
 def batch_exit_code(table) -> int:
