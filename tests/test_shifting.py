@@ -27,7 +27,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from ttsp.data import Campaign, Isotherm
-from ttsp.exceptions import DataError, ExtrapolationWarning, FitQualityWarning
+from ttsp.exceptions import DataError, ExtrapolationWarning, FitError, FitQualityWarning
 from ttsp.shifting import ShiftResult, default_reference_temperature_K, shift_isotherms
 
 DATA = Path(__file__).parent / "data"
@@ -415,10 +415,43 @@ def test_errors(base):
         shift_isotherms(camp, 320.0, fixed_log10_aT={320.0: 0.3})
     with pytest.raises(DataError, match="outlier_threshold must be positive"):
         shift_isotherms(camp, outlier_threshold=0)
+    with pytest.raises(DataError, match="low_information_stderr must be positive"):
+        shift_isotherms(camp, low_information_stderr=-0.1)
+    with pytest.raises(DataError, match="smoothing must be positive"):
+        shift_isotherms(camp, smoothing=0.0)
+    with pytest.raises(DataError, match="expansion_coefficient_per_K must be non-negative"):
+        shift_isotherms(camp, vertical="density", expansion_coefficient_per_K=-1e-4)
+    with pytest.raises(DataError, match=r"fixed_log10_aT\[300\] must be finite"):
+        shift_isotherms(camp, 320.0, fixed_log10_aT={300.0: float("nan")})
+    with pytest.raises(DataError, match="fixed_log10_aT temperature_K must be positive"):
+        shift_isotherms(camp, 320.0, fixed_log10_aT={-3.0: 1.0})
+    apart = Campaign((Isotherm(300.0, [1.0, 2.0], {"storage_modulus_Pa": [1e6, 2e6]}),
+                      Isotherm(310.0, [1.0, 2.0], {"loss_modulus_Pa": [1e5, 2e5]})), "frequency")
+    with pytest.raises(DataError, match="no material function is measured in every isotherm"):
+        shift_isotherms(apart)
+    with pytest.raises(DataError, match="campaign must be a Campaign; got 'str'"):
+        r.shifted_frame("data.csv")
     with pytest.raises(DataError, match="does not match these shift factors"):
         r.shifted_frame(Campaign(camp.isotherms[:5], "frequency"))
     with pytest.raises(DataError, match="campaign must be a Campaign"):
         default_reference_temperature_K(None)
+
+
+def test_non_finite_fit_is_a_fit_error(base, monkeypatch):
+    # a numerical failure inside the solver (here simulated: the master curve returns NaN)
+    # must surface as FitError, never as silent NaN shifts
+    import ttsp._global_fit as gf
+
+    camp, _, _ = base
+
+    def broken(self, u, theta, jac=True):
+        F, dF, J = original(self, u, theta, jac)
+        return np.full_like(F, np.nan), dF, J
+
+    original = gf._SpectrumModel.evaluate
+    monkeypatch.setattr(gf._SpectrumModel, "evaluate", broken)
+    with pytest.raises(FitError, match="non-finite residuals"):
+        quiet(shift_isotherms, camp, 320.0)
 
 
 def test_bridge_needs_three_connected_isotherms():

@@ -573,6 +573,9 @@ class _Fit:
                     step *= max_shift_step / big
                     big = max_shift_step
                 trial = vec + step
+                if not np.all(np.isfinite(trial)):
+                    mu *= 4.0
+                    continue
                 trial[:nt] = self.model.project(trial[:nt])
                 th_t, s_t, c_t = self.unpack(trial)
                 if not self.model.on_grid(self.u(s_t)):
