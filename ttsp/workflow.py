@@ -109,7 +109,7 @@ def _campaign_hash(campaign: Campaign) -> str:
     return h.hexdigest()
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, repr=False)
 class BuildResult:
     """Everything a build produced. Evaluates and exports itself; no file I/O.
 
@@ -225,12 +225,36 @@ class BuildResult:
             "warnings": list(self.warnings),
         }
 
+    def __repr__(self) -> str:
+        return (f"BuildResult({len(self.campaign)} isotherms, reference "
+                f"{self.reference_temperature_C:.2f} °C, law {self.law_fit.law.model}, "
+                f"{self.series.n_terms} Prony terms, checks: "
+                + ", ".join(f"{sum(c.status == s for c in self.checks)} {s}"
+                            for s in ("pass", "warn", "fail")) + ")")
+
     def _repr_html_(self) -> str:
-        checks = "".join(f"<li><b>{c.status}</b> {c.name}: {c.message}</li>" for c in self.checks)
-        return (f"<div><b>ttsp build</b> of {self.campaign.source}: {len(self.campaign)} isotherms, "
-                f"reference {self.reference_temperature_C:.2f} °C, law {self.law_fit.law.model}, "
-                f"{self.series.n_terms} Prony terms (rms {self.prony_fit.rms_percent:.2f} %)"
-                f"<ul>{checks}</ul></div>")
+        from html import escape
+
+        law = self.law_fit
+        params = ", ".join(f"{escape(k)} = {v:.5g} ± {law.stderr.get(k) or float('nan'):.2g}"
+                           for k, v in law.params.items())
+        lo, hi = self.series.valid_reduced_time_range_s
+        rows = [("source", escape(str(self.campaign.source))),
+                ("isotherms", f"{len(self.campaign)} ({self.campaign.domain} domain, "
+                              f"{self.campaign.modulus_kind})"),
+                ("reference temperature", f"{self.reference_temperature_C:.2f} °C"),
+                ("shift law", f"{escape(law.law.model)}: {params}"),
+                ("Prony series", f"{self.series.n_terms} terms, rms {self.prony_fit.rms_percent:.2f} %, "
+                                 f"valid reduced time {lo:.3g} – {hi:.3g} s")]
+        g = self.glass_transition
+        if g is not None and g.loss_peak_from_model_K is not None:
+            rows.append(("Tg (E'' peak at 1 Hz)", f"{g.loss_peak_from_model_K - 273.15:.1f} °C"))
+        table = "".join(f"<tr><th style='text-align:left'>{k}</th><td>{v}</td></tr>" for k, v in rows)
+        checks = "".join(f"<li><b>{escape(c.status)}</b> {escape(c.name)}: {escape(c.message)}</li>"
+                         for c in self.checks)
+        warns = "".join(f"<li>{escape(w)}</li>" for w in self.warnings)
+        return (f"<div><b>ttsp build</b><table>{table}</table><b>checks</b><ul>{checks}</ul>"
+                + (f"<b>warnings</b><ul>{warns}</ul>" if warns else "") + "</div>")
 
 
 def _fit_prony(campaign: Campaign, shifts, options: BuildOptions):
@@ -291,7 +315,12 @@ def build(campaign: Campaign, options: BuildOptions | None = None, *, input_sha2
                if options.reference_temperature_C is not None
                else default_reference_temperature_K(campaign))
     step = progress or (lambda name: None)
-    with warnings.catch_warnings(record=True) as caught:
+    from threadpoolctl import threadpool_limits
+
+    # The linear algebra here is many small problems: one BLAS thread is faster than several,
+    # and much faster on a loaded machine or beside other worker processes.
+    with threadpool_limits(limits=1, user_api="blas"), \
+            warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always", TtspWarning)
         step("shift factors")
         shifts = shift_isotherms(
