@@ -332,9 +332,10 @@ def build(campaign: Campaign, options: BuildOptions | None = None, *, input_sha2
                  if options.glass_transition_C is not None and options.law == "wlf-arrhenius"
                  else None)
         step("shift law")
-        law_fit = fit_shift_law(shifts.temperature_K, shifts.log10_aT,
+        use = _law_rows(shifts)
+        law_fit = fit_shift_law(shifts.temperature_K[use], shifts.log10_aT[use],
                                 reference_temperature_K=t_ref_K, model=options.law,
-                                stderr=shifts.log10_aT_stderr, fixed=fixed)
+                                stderr=shifts.log10_aT_stderr[use], fixed=fixed)
         step("Prony series")
         prony_fit = _fit_prony(campaign, shifts, options)
         series = prony_fit.series.replace(reference_temperature_K=t_ref_K) \
@@ -362,6 +363,23 @@ def build(campaign: Campaign, options: BuildOptions | None = None, *, input_sha2
     return BuildResult(campaign, options, shifts, law_fit, prony_fit, model, checks, tuple(messages),
                        input_sha256 or _campaign_hash(campaign), tuple(str(f) for f in input_files),
                        glass)
+
+
+_NOT_FOR_THE_LAW = ("low-information", "bridged")
+
+
+def _law_rows(shifts) -> np.ndarray:
+    """Which shift factors the law is fitted to: all but the poorly determined ones (flagged
+    low-information on a plateau, or bridged across a gap by a law already), unless that would
+    leave fewer than three. Those left out are named in a warning; the law's valid range then
+    covers only the temperatures it was fitted to (common practice, no source)."""
+    flagged = np.array([any(f.startswith(_NOT_FOR_THE_LAW) for f in flags) for flags in shifts.flags])
+    if flagged.any() and (~flagged).sum() >= 3:
+        names = ", ".join(f"{t - 273.15:g} °C" for t in shifts.temperature_K[flagged])
+        warnings.warn(f"the shift law was fitted without the poorly determined shift factors at "
+                      f"{names} (low-information or bridged)", TtspWarning, stacklevel=3)
+        return ~flagged
+    return np.ones(len(shifts.temperature_K), dtype=bool)
 
 
 def _with_series(prony_fit, series):
