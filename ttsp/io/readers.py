@@ -27,6 +27,7 @@ import math
 import os
 import re
 import warnings
+from collections import Counter
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Mapping, Sequence
@@ -45,6 +46,10 @@ TEXT_SUFFIXES = (".csv", ".txt", ".tsv", ".dat", ".tab", ".asc")
 TABLE_SUFFIXES = TEXT_SUFFIXES + (".xlsx",)
 _NUMBER = re.compile(r"^[+-]?(\d+([.,]\d*)?|[.,]\d+)([eE][+-]?\d+)?$")
 _SPECIAL_NUMBERS = ("nan", "inf", "-inf", "+inf", "infinity", "-infinity", "+infinity")
+# Characters of a plain number with a decimal point. Over this alphabet Python's (and numpy's)
+# float() accepts exactly the language of _NUMBER, so a column made only of them can be converted
+# in one call; anything else takes the cell-by-cell path that names the first bad cell.
+_NOT_PLAIN_NUMBER = re.compile(r"[^0-9.eE+\-\n]")
 _KEY_VALUE = re.compile(r"^\s*#?\s*([^:=]{1,60}?)\s*[:=]\s*(.*?)\s*$")
 # a temperature in a file name: a number, then C/K/F (or °C, degC ...) not followed by a letter or
 # digit; it must start the name or follow a separator ( _ = space . , ; ( [ ) or a T/temp prefix
@@ -178,11 +183,20 @@ def read_table(path: str | os.PathLike, *, sheet: str | int | None = None) -> Ra
     with open(path, "rb") as fh:
         data = fh.read()
     text = _decode(data, path)
+    del data
     lines = text.splitlines()
+    del text
     delimiter, decimal_comma = _choose_delimiter(lines)
     if delimiter is None and not any(len(ln.split()) >= 2 for ln in lines if ln.strip()):
         raise DataError(f"{where(path)}no table found: no line has two or more columns")
-    cells = [(_split(ln, delimiter) if ln.strip() else []) for ln in lines]
+    # rows as tuples of stripped cells (the RawTable keeps them as they are: no second copy)
+    if delimiter is None:
+        cells = [tuple(ln.split()) for ln in lines]
+    else:
+        strip = str.strip
+        cells = [(tuple(_split(ln, delimiter)) if '"' in ln
+                  else tuple(map(strip, ln.split(delimiter))))
+                 if ln and not ln.isspace() else () for ln in lines]
     return _table_from_cells(path, cells, decimal_comma, raw_lines=lines,
                              whitespace=delimiter is None)
 
@@ -234,9 +248,8 @@ def _table_from_cells(path: str, cells: list, decimal_comma: bool, *, raw_lines=
     numeric lines. Lines between it and the first all-numeric line (data with a bad cell) are
     data, so the error names them."""
     n = len(cells)
-    numeric = [bool(c) and len(c) >= 2 and all(_is_number(x, decimal_comma) for x in c if x)
-               and any(x for x in c) for c in cells]
-    first_data = next((i for i in range(n) if numeric[i]), None)
+    first_data = next((i for i, c in enumerate(cells) if len(c) >= 2 and any(c)
+                       and all(_is_number(x, decimal_comma) for x in c if x)), None)
     if first_data is None:
         raise DataError(f"{where(path)}no data rows: found no line with two or more numbers")
     header_idx = None
@@ -269,16 +282,16 @@ def _table_from_cells(path: str, cells: list, decimal_comma: bool, *, raw_lines=
     trailing_blank = 0
     for i in range(data_start, n):
         c = cells[i]
-        if not c or not any(x.strip() for x in c):
+        if not any(c):  # cells are stripped: a blank line or one of empty cells
             trailing_blank += 1
             continue
-        if c[0].lstrip().startswith("#"):
+        if c[0][:1] == "#":
             dropped["comment lines"] = dropped.get("comment lines", 0) + 1
             continue
         if trailing_blank:
             dropped["blank lines"] = dropped.get("blank lines", 0) + trailing_blank
             trailing_blank = 0
-        rows.append(tuple(c))
+        rows.append(c if type(c) is tuple else tuple(c))
         numbers.append(i + 1)
     if trailing_blank:
         dropped["blank lines"] = dropped.get("blank lines", 0) + trailing_blank
@@ -342,8 +355,8 @@ def _fit_header(path, header, rows, numbers, header_line, raw_header):
     regroup its words into as many names as there are columns."""
     if not rows:
         return header
-    widths = [len([c for c in r]) for r in rows]
-    width = max(set(widths), key=widths.count)
+    counts = Counter(map(len, rows))
+    width = max(counts, key=lambda w: (counts[w], -w))  # the commonest; the narrower on a tie
     if raw_header is not None and len(header) != width:
         regrouped = _regroup_header(raw_header, width)
         if regrouped is None:
@@ -351,8 +364,11 @@ def _fit_header(path, header, rows, numbers, header_line, raw_header):
                             f"({' | '.join(header)}) but the data rows have {width} columns; "
                             f"separate the column names with tabs or two spaces")
         header = regrouped
+    named = len(header)
     for r, line in zip(rows, numbers):
-        extra = [c for c in r[len(header):] if c.strip()]
+        if len(r) <= named:
+            continue
+        extra = [c for c in r[named:] if c.strip()]
         if extra:
             raise DataError(f"{where(path, None, line)}the row has {len(header) + len(extra)} "
                             f"values but the header names {len(header)} columns; got "
@@ -410,6 +426,39 @@ def _to_float(cell: str, decimal_comma: bool) -> float:
     if not (_NUMBER.match(c) or c.lower() in _SPECIAL_NUMBERS):
         raise ValueError(cell)
     return float(c)
+
+
+def _not_a_number(cell: str) -> str:
+    """The rule a cell that is not a number broke, for the message."""
+    return f"value must be a number; got {cell!r}"
+
+
+def _column_floats(table: RawTable, j: int, header: str, *, empty_allowed: bool) -> np.ndarray:
+    """The cells of column ``j`` as floats (an empty cell is NaN), or a DataError naming the
+    first bad row. A column of plain numbers is converted in one call; anything else (signs
+    such as U+2212, nan/inf words, empty cells, bad cells) cell by cell."""
+    col = [row[j] if j < len(row) else "" for row in table.rows]
+    text = "\n".join(col)
+    if table.decimal_comma:
+        text = text.replace(",", ".")
+    values = None
+    if not _NOT_PLAIN_NUMBER.search(text):
+        try:
+            values = np.array(text.split("\n"), dtype=float) if col else np.empty(0)
+        except ValueError:
+            values = None
+    if values is None:
+        values = np.empty(len(col))
+        for i, cell in enumerate(col):
+            try:
+                values[i] = _to_float(cell, table.decimal_comma)
+            except ValueError:
+                raise DataError(f"{where(table.path, header, table.line_numbers[i])}"
+                                f"{_not_a_number(cell)}") from None
+            if not empty_allowed and cell.strip() == "":
+                raise DataError(f"{where(table.path, header, table.line_numbers[i])}value must be "
+                                f"a number; got an empty cell")
+    return values
 
 
 def _temperature_from_name(path: str) -> tuple | None:
@@ -542,17 +591,8 @@ def _table_to_frame(table: RawTable, *, columns, units, temperature_C):
             unit = parse_unit(unit_text, kind=UNIT_KIND_OF_ROLE[m.role])
         except DataError as exc:
             raise DataError(f"{where(table.path, header)}{exc}") from None
-        values = np.empty(len(table.rows))
-        for i, row in enumerate(table.rows):
-            cell = row[j] if j < len(row) else ""
-            try:
-                values[i] = _to_float(cell, table.decimal_comma)
-            except ValueError:
-                raise DataError(f"{where(table.path, header, table.line_numbers[i])}value must be "
-                                f"a number; got {cell!r}") from None
-            if cell.strip() == "" and m.role in ("temperature_K", "frequency_rad_s", "time_s"):
-                raise DataError(f"{where(table.path, header, table.line_numbers[i])}value must be "
-                                f"a number; got an empty cell")
+        values = _column_floats(table, j, header, empty_allowed=m.role not in (
+            "temperature_K", "frequency_rad_s", "time_s"))
         frame[m.role] = unit.to_si(values)
         labels[m.role] = header
         units_read[header] = unit_text
@@ -680,11 +720,13 @@ def read_campaign(paths, *, columns: Mapping[str, str] | None = None,
             raise DataError(f"{where(path)}missing a frequency or time column; columns found: "
                             f"{', '.join(table.header)}")
         file_domain = domain or ("frequency" if "frequency_rad_s" in df.columns else "time")
-        # validate each file on its own so messages name the file (one isotherm is fine here)
-        Campaign.from_frame(df, domain=file_domain, modulus_kind=modulus_kind or kind or "tensile",
-                            source=path, temperature_tolerance_K=temperature_tolerance_K,
-                            column_labels=lab, units_as_read=ur, min_isotherms=1)
         if len(files) > 1:
+            # validate each file on its own so messages name the file (one isotherm is fine
+            # here); a single file is validated once, below, with the same messages
+            Campaign.from_frame(df, domain=file_domain,
+                                modulus_kind=modulus_kind or kind or "tensile",
+                                source=path, temperature_tolerance_K=temperature_tolerance_K,
+                                column_labels=lab, units_as_read=ur, min_isotherms=1)
             df["source_file"] = path  # so a message about the merged campaign names the file
         frames.append(df)
         labels.update(lab)
