@@ -50,6 +50,14 @@ _SPECIAL_NUMBERS = ("nan", "inf", "-inf", "+inf", "infinity", "-infinity", "+inf
 # float() accepts exactly the language of _NUMBER, so a column made only of them can be converted
 # in one call; anything else takes the cell-by-cell path that names the first bad cell.
 _NOT_PLAIN_NUMBER = re.compile(r"[^0-9.eE+\-\n]")
+# a number grouped by thousands separators: 1,234.5  1.234,5  1 234,5  1'234.5  12,345,678
+_GROUPED = re.compile(r"^[+-]?\d{1,3}(?P<sep>[,.' \u00a0\u202f])\d{3}(?:(?P=sep)\d{3})*"
+                      r"(?:[.,]\d*)?(?:[eE][+-]?\d+)?$")
+# one comma or one dot followed by exactly three digits: a decimal mark or a thousands separator
+_COMMA_GROUP_CELLS = re.compile(r"(?m)^[+\-−]?[1-9]\d{0,2},\d{3}$")
+_DOT_GROUP_CELLS = re.compile(r"(?m)^[+\-−]?[1-9]\d{0,2}\.\d{3}$")
+_COMMA_DECIMAL_CELLS = re.compile(r"(?m)^[+\-−]?(?:\d+,\d*|,\d+)(?:[eE][+-]?\d+)?$")
+_DOT_DECIMAL_CELLS = re.compile(r"(?m)^[+\-−]?(?:\d+\.\d*|\.\d+)(?:[eE][+-]?\d+)?$")
 _KEY_VALUE = re.compile(r"^\s*#?\s*([^:=]{1,60}?)\s*[:=]\s*(.*?)\s*$")
 # a temperature in a file name: a number, then C/K/F (or °C, degC ...) not followed by a letter or
 # digit; it must start the name or follow a separator ( _ = space . , ; ( [ ) or a T/temp prefix
@@ -141,7 +149,8 @@ def _is_number(cell: str, decimal_comma: bool) -> bool:
 
 def _choose_delimiter(lines: Sequence[str]) -> tuple:
     """Pick the delimiter and the decimal mark that make the most lines split into the same
-    number (>= 2) of numeric fields."""
+    number (>= 2) of numeric fields: ``(delimiter, decimal_comma, found)``, where ``found`` is
+    False when no line reads as two or more numbers at all."""
     best = (None, False, -1)
     sample = [ln for ln in lines if ln.strip()][-200:]
     for delimiter, decimal_comma in (("\t", True), (";", True), (",", False), (None, True),
@@ -155,12 +164,12 @@ def _choose_delimiter(lines: Sequence[str]) -> tuple:
         if score > best[2]:
             best = (delimiter, decimal_comma, score)
     if best[2] <= 0:
-        return None, False
+        return None, False, False
     # a decimal comma is only claimed when some cell actually uses one
     delimiter, decimal_comma, _ = best
     if decimal_comma and not any("," in c for ln in sample for c in _split(ln, delimiter)):
         decimal_comma = False
-    return delimiter, decimal_comma
+    return delimiter, decimal_comma, True
 
 
 def read_table(path: str | os.PathLike, *, sheet: str | int | None = None) -> RawTable:
@@ -186,7 +195,9 @@ def read_table(path: str | os.PathLike, *, sheet: str | int | None = None) -> Ra
     del data
     lines = text.splitlines()
     del text
-    delimiter, decimal_comma = _choose_delimiter(lines)
+    delimiter, decimal_comma, found = _choose_delimiter(lines)
+    if not found:
+        _refuse_grouped_numbers(path, lines)
     if delimiter is None and not any(len(ln.split()) >= 2 for ln in lines if ln.strip()):
         raise DataError(f"{where(path)}no table found: no line has two or more columns")
     # rows as tuples of stripped cells (the RawTable keeps them as they are: no second copy)
@@ -199,6 +210,22 @@ def read_table(path: str | os.PathLike, *, sheet: str | int | None = None) -> Ra
                  if ln and not ln.isspace() else () for ln in lines]
     return _table_from_cells(path, cells, decimal_comma, raw_lines=lines,
                              whitespace=delimiter is None)
+
+
+def _refuse_grouped_numbers(path: str, lines: Sequence[str]) -> None:
+    """No line reads as numbers: say so if the numbers are written with thousands separators
+    (``1,234.5`` or ``1.234,5``), which ttsp does not guess at."""
+    for delimiter in ("\t", ";", ",", None):
+        for i, ln in enumerate(lines):
+            if not ln.strip():
+                continue
+            cells = [c for c in _split(ln, delimiter) if c]
+            if len(cells) < 2:
+                continue
+            grouped = [c for c in cells if _GROUPED.match(c) and not _is_number(c, True)]
+            if grouped and all(_is_number(c, True) or _GROUPED.match(c) for c in cells):
+                raise DataError(f"{where(path, None, i + 1)}numbers must be written without "
+                                f"thousands separators; got {grouped[0]!r}")
 
 
 def _xlsx_cells(path: str, sheet) -> list:
@@ -430,6 +457,8 @@ def _to_float(cell: str, decimal_comma: bool) -> float:
 
 def _not_a_number(cell: str) -> str:
     """The rule a cell that is not a number broke, for the message."""
+    if _GROUPED.match(cell.strip()):
+        return f"value must be a number without thousands separators; got {cell!r}"
     return f"value must be a number; got {cell!r}"
 
 
@@ -458,7 +487,33 @@ def _column_floats(table: RawTable, j: int, header: str, *, empty_allowed: bool)
             if not empty_allowed and cell.strip() == "":
                 raise DataError(f"{where(table.path, header, table.line_numbers[i])}value must be "
                                 f"a number; got an empty cell")
+    if table.decimal_comma:
+        _refuse_ambiguous_marks(table, j, header, "\n".join(col))
     return values
+
+
+def _refuse_ambiguous_marks(table: RawTable, j: int, header: str, text: str) -> None:
+    """In a file read with decimal commas, ``1,234`` may be 1.234 or 1234, and ``1.234`` may be
+    1.234 or a thousands-grouped 1234. Read them only when another number in the file shows how
+    that mark is used (``0,5`` or ``12,25`` for the comma; ``0.5`` for the dot); otherwise refuse,
+    rather than be a factor of 1000 wrong."""
+    for grouped, decimal, mark in ((_COMMA_GROUP_CELLS, _COMMA_DECIMAL_CELLS, "comma"),
+                                   (_DOT_GROUP_CELLS, _DOT_DECIMAL_CELLS, "dot")):
+        m = grouped.search(text)
+        if m is None:
+            continue
+        every_cell = "\n".join(c for row in table.rows for c in row)
+        if any(not grouped.fullmatch(d.group(0)) for d in decimal.finditer(every_cell)):
+            continue  # the file uses this mark as a decimal mark elsewhere: no ambiguity
+        cell = m.group(0)
+        i = text.count("\n", 0, m.start())
+        plain = cell.replace("−", "-")
+        as_decimal, as_grouped = float(plain.replace(",", ".")), float(re.sub("[.,]", "", plain))
+        what = "a decimal comma" if mark == "comma" else "a decimal point"
+        raise DataError(f"{where(table.path, header, table.line_numbers[i])}value must be "
+                        f"unambiguous; got {cell!r}, which is {as_decimal:g} with {what} or "
+                        f"{as_grouped:g} with a thousands separator, and no other number in the "
+                        f"file tells which (write numbers without thousands separators)")
 
 
 def _temperature_from_name(path: str) -> tuple | None:
