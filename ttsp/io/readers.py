@@ -92,6 +92,9 @@ def _decode(data: bytes, path: str) -> str:
     zero bytes), else Windows-1252 / Latin-1 (the single-byte encodings of older exports)."""
     if not data.strip():
         raise DataError(f"{where(path)}the file is empty")
+    if data.startswith(codecs.BOM_UTF32_LE) or data.startswith(codecs.BOM_UTF32_BE):
+        raise DataError(f"{where(path)}not a text table ttsp reads: the file is UTF-32 text; "
+                        f"save it as UTF-8")
     if data.startswith(codecs.BOM_UTF8):
         try:
             text = data[len(codecs.BOM_UTF8):].decode("utf-8", errors="strict")
@@ -114,7 +117,8 @@ def _decode(data: bytes, path: str) -> str:
         elif half >= 4 and zeros_even > 0.4 * half and zeros_odd == 0:
             text = _try_decode(data, "utf-16-be")
         if text is None:
-            text = _try_decode(data, "utf-8") or _try_decode(data, "cp1252") or data.decode("latin-1")
+            text = (_try_decode(data, "utf-8") or _utf8_cut_short(data)
+                    or _try_decode(data, "cp1252") or data.decode("latin-1"))
     if "\x00" in text:
         raise DataError(f"{where(path)}not a text table: the file contains binary (NUL) bytes")
     head = text[:4096]
@@ -129,6 +133,19 @@ def _try_decode(data: bytes, encoding: str):
         return data.decode(encoding)
     except UnicodeDecodeError:
         return None
+
+
+def _utf8_cut_short(data: bytes):
+    """UTF-8 text whose last character was cut in half (a truncated file): the text before it.
+
+    Without this, one broken character at the very end would send the whole file to the
+    single-byte fallback and turn every ``°C`` of the header into ``Â°C``."""
+    try:
+        data.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        if exc.reason == "unexpected end of data" and exc.end == len(data) and exc.start > 0:
+            return _try_decode(data[:exc.start], "utf-8")
+    return None
 
 
 def _split(line: str, delimiter: str | None) -> list:
@@ -253,7 +270,9 @@ def _xlsx_cells(path: str, sheet) -> list:
             ws = book[sheet]
         out = []
         for row in ws.iter_rows(values_only=True):
-            cells = ["" if v is None else (repr(v) if isinstance(v, float) else str(v)).strip()
+            # a cell wrapped over several lines (Alt+Enter) is one line here, so messages that
+            # quote it stay one line
+            cells = ["" if v is None else repr(v) if isinstance(v, float) else " ".join(str(v).split())
                      for v in row]
             while cells and cells[-1] == "":
                 cells.pop()
@@ -290,13 +309,13 @@ def _table_from_cells(path: str, cells: list, decimal_comma: bool, *, raw_lines=
     if header_idx is None:
         raise DataError(f"{where(path)}no header row: the first line with numbers (line "
                         f"{first_data + 1}) has no line of column names above it")
-    header = [c.strip() for c in cells[header_idx]]
+    header = [_printable(c.strip()) for c in cells[header_idx]]
     data_start = header_idx + 1
     names_idx = _names_above_units(cells, header_idx, whitespace)
     if names_idx is not None:  # a two-line header: names, then units
         units_row = header + [""] * (len(cells[names_idx]) - len(header))
-        header = [(f"{name.strip()} ({_bare_unit(u)})" if _bare_unit(u) else name.strip())
-                  for name, u in zip(cells[names_idx], units_row)]
+        header = [_printable(f"{name.strip()} ({_bare_unit(u)})" if _bare_unit(u)
+                             else name.strip()) for name, u in zip(cells[names_idx], units_row)]
         header_idx = names_idx
         whitespace = False
     preamble = {}
@@ -326,6 +345,13 @@ def _table_from_cells(path: str, cells: list, decimal_comma: bool, *, raw_lines=
                          raw_lines[header_idx] if (whitespace and raw_lines) else None)
     return RawTable(path, tuple(header), tuple(rows), tuple(numbers), preamble, decimal_comma,
                     dropped)
+
+
+def _printable(text: str) -> str:
+    """A header as it can be shown in a one-line message: control characters escaped."""
+    if text.isprintable():
+        return text
+    return "".join(ch if ch.isprintable() else repr(ch)[1:-1] for ch in text)
 
 
 def _bare_unit(cell: str) -> str:
@@ -390,7 +416,7 @@ def _fit_header(path, header, rows, numbers, header_line, raw_header):
             raise DataError(f"{where(path, None, header_line)}the header has {len(header)} words "
                             f"({' | '.join(header)}) but the data rows have {width} columns; "
                             f"separate the column names with tabs or two spaces")
-        header = regrouped
+        header = [_printable(h) for h in regrouped]
     named = len(header)
     for r, line in zip(rows, numbers):
         if len(r) <= named:
@@ -459,6 +485,13 @@ def _not_a_number(cell: str) -> str:
     """The rule a cell that is not a number broke, for the message."""
     if _GROUPED.match(cell.strip()):
         return f"value must be a number without thousands separators; got {cell!r}"
+    for delimiter in (",", ";", "\t"):
+        parts = cell.split(delimiter)
+        # (two parts split at a comma may be one number with a decimal comma: no hint then)
+        if (len(parts) >= (3 if delimiter == "," else 2)
+                and all(_is_number(p, delimiter != ",") for p in parts if p.strip())):
+            return (f"value must be a number; got {cell!r}, several values in one cell: is this "
+                    f"row written with another delimiter than the rest of the file?")
     return f"value must be a number; got {cell!r}"
 
 
@@ -487,6 +520,14 @@ def _column_floats(table: RawTable, j: int, header: str, *, empty_allowed: bool)
             if not empty_allowed and cell.strip() == "":
                 raise DataError(f"{where(table.path, header, table.line_numbers[i])}value must be "
                                 f"a number; got an empty cell")
+    infinite = np.flatnonzero(np.isinf(values))
+    for i in infinite:  # 1e400 becomes inf: say what was written, not "inf"
+        cell = col[i]
+        if "inf" not in cell.lower():
+            raise DataError(f"{where(table.path, header, table.line_numbers[i])}value must be a "
+                            f"finite number; got {cell!r}, beyond the largest number ttsp holds "
+                            f"(about 1.8e308)")
+        break
     if table.decimal_comma:
         _refuse_ambiguous_marks(table, j, header, "\n".join(col))
     return values
@@ -617,6 +658,9 @@ def _meanings(table: RawTable, columns: Mapping[str, str] | None) -> dict:
     for j, m in list(out.items()):
         if m.role in seen:
             first = table.header[seen[m.role]]
+            if first == table.header[j]:  # a mapping by name cannot tell these apart
+                raise DataError(f"{where(table.path, first)}the header names this column twice "
+                                f"(columns {seen[m.role] + 1} and {j + 1}); rename or remove one")
             raise DataError(f"{where(table.path, table.header[j])}two columns mean "
                             f"{m.role}: {first!r} and {table.header[j]!r}; map one explicitly "
                             f"(columns=... or --column)")
@@ -648,7 +692,16 @@ def _table_to_frame(table: RawTable, *, columns, units, temperature_C):
             raise DataError(f"{where(table.path, header)}{exc}") from None
         values = _column_floats(table, j, header, empty_allowed=m.role not in (
             "temperature_K", "frequency_rad_s", "time_s"))
-        frame[m.role] = unit.to_si(values)
+        with np.errstate(over="ignore", invalid="ignore"):
+            si = unit.to_si(values)
+        overflow = np.flatnonzero(np.isinf(si) & np.isfinite(values))
+        if overflow.size:
+            i = int(overflow[0])
+            cell = table.rows[i][j]
+            raise DataError(f"{where(table.path, header, table.line_numbers[i])}value must be a "
+                            f"finite number in SI units; got {cell!r} {unit_text}, beyond the "
+                            f"largest number ttsp holds (about 1.8e308) once converted")
+        frame[m.role] = si
         labels[m.role] = header
         units_read[header] = unit_text
         if m.modulus_kind:
