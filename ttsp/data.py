@@ -449,8 +449,10 @@ class Campaign:
             bad_mask = infinite | partly
             if bad_mask.any():
                 bad = first(bad_mask)
+                missing = (" (a missing value where the rest of its isotherm has values)"
+                           if partly[bad] else "")
                 raise DataError(f"{at(q, bad)}value must be a finite number; "
-                                f"got {shown(q, vals[bad])}")
+                                f"got {shown(q, vals[bad])}{missing}")
             if QUANTITIES[q].positive and (vals[~nan] <= 0).any():
                 bad = first(~nan & (vals <= 0))
                 raise DataError(f"{at(q, bad)}value must be positive (it is taken in a "
