@@ -56,6 +56,7 @@ from __future__ import annotations
 
 import contextlib
 import csv
+import inspect
 import io
 import json
 import math
@@ -102,7 +103,7 @@ _BLAS_VARIABLES = ("OPENBLAS_NUM_THREADS", "OMP_NUM_THREADS", "MKL_NUM_THREADS",
 # Imported once by the fork server, so that every worker starts warm.
 _PRELOAD = ("ttsp.batch", "ttsp.runner", "ttsp.workflow", "ttsp.io.readers", "ttsp.io.writers",
             "ttsp.shifting", "ttsp.laws", "ttsp.prony", "ttsp.checks", "ttsp.model",
-            "ttsp.transition", "pandas", "lmfit")
+            "ttsp.transition", "ttsp.interconvert", "pandas", "lmfit", "threadpoolctl")
 
 _HEAD = ("id", "status", "error", "skipped", "path", "input_sha256", "domain", "modulus_kind",
          "isotherms", "reference_temperature_C", "law_model")
@@ -409,10 +410,13 @@ def _build_one(payload: dict) -> dict:
 
         # an earlier build of this campaign (and only that) may be replaced
         replace = payload["force"] or (Path(payload["out"]) / "summary.json").is_file()
+        # the batch is parallel across campaigns already: no extra drawing process per build
+        extra = ({"parallel_figures": False}
+                 if "parallel_figures" in inspect.signature(run_build).parameters else {})
         _, folder = run_build([Path(p) for p in payload["paths"]],
                               BuildOptions(**payload["options"]), Path(payload["out"]),
                               figures=payload["figures"], force=replace, quiet=True,
-                              modulus_kind=payload["modulus_kind"])
+                              modulus_kind=payload["modulus_kind"], **extra)
         summary = json.loads((Path(folder) / "summary.json").read_text(encoding="utf-8"))
         return _row_from_summary(payload, summary, skipped=False,
                                  elapsed_s=time.perf_counter() - t0)
