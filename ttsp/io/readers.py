@@ -40,7 +40,8 @@ from ..exceptions import DataError, DroppedRowsWarning
 from ..units import parse_unit
 from .headers import DEFAULT_UNIT, UNIT_KIND_OF_ROLE, HeaderMeaning, interpret_header
 
-__all__ = ["read_campaign", "read_table", "RawTable", "TEXT_SUFFIXES", "TABLE_SUFFIXES"]
+__all__ = ["read_campaign", "read_table", "RawTable", "TEXT_SUFFIXES", "TABLE_SUFFIXES",
+           "DEFAULT_MAX_POINTS", "MAX_POINTS_ENV"]
 
 TEXT_SUFFIXES = (".csv", ".txt", ".tsv", ".dat", ".tab", ".asc")
 TABLE_SUFFIXES = TEXT_SUFFIXES + (".xlsx",)
@@ -58,6 +59,10 @@ _COMMA_GROUP_CELLS = re.compile(r"(?m)^[+\-−]?[1-9]\d{0,2},\d{3}$")
 _DOT_GROUP_CELLS = re.compile(r"(?m)^[+\-−]?[1-9]\d{0,2}\.\d{3}$")
 _COMMA_DECIMAL_CELLS = re.compile(r"(?m)^[+\-−]?(?:\d+,\d*|,\d+)(?:[eE][+-]?\d+)?$")
 _DOT_DECIMAL_CELLS = re.compile(r"(?m)^[+\-−]?(?:\d+\.\d*|\.\d+)(?:[eE][+-]?\d+)?$")
+# Size guard: a campaign with more points than this is refused before it fills the memory.
+DEFAULT_MAX_POINTS = 2_000_000
+MAX_POINTS_ENV = "TTSP_MAX_POINTS"
+_BYTES_PER_POINT = 256      # a file larger than max_points * this is refused unread
 _KEY_VALUE = re.compile(r"^\s*#?\s*([^:=]{1,60}?)\s*[:=]\s*(.*?)\s*$")
 # a temperature in a file name: a number, then C/K/F (or °C, degC ...) not followed by a letter or
 # digit; it must start the name or follow a separator ( _ = space . , ; ( [ ) or a T/temp prefix
@@ -189,23 +194,68 @@ def _choose_delimiter(lines: Sequence[str]) -> tuple:
     return delimiter, decimal_comma, True
 
 
-def read_table(path: str | os.PathLike, *, sheet: str | int | None = None) -> RawTable:
+def _max_points(max_points=None) -> int:
+    """The size limit: ``max_points`` if given, else $TTSP_MAX_POINTS, else the default."""
+    source, value = "max_points", max_points
+    if value is None:
+        source, value = MAX_POINTS_ENV, os.environ.get(MAX_POINTS_ENV)
+        if value is None or not str(value).strip():
+            return DEFAULT_MAX_POINTS
+    try:
+        limit = int(str(value).strip().replace("_", ""))
+    except ValueError:
+        limit = 0
+    if limit < 1 or isinstance(value, bool):
+        raise DataError(f"{source} must be a whole number of points of 1 or more; got {value!r}")
+    return limit
+
+
+def _too_large(path: str, what: str, limit: int) -> DataError:
+    return DataError(f"{where(path)}{what}; ttsp reads at most {limit:,} points at once, to stop "
+                     f"before memory runs out. Split the campaign, or raise the limit with the "
+                     f"environment variable {MAX_POINTS_ENV} (max_points= in Python)")
+
+
+def _check_size(path: str, limit: int) -> None:
+    """Refuse a file too large to hold before reading it: by its size, then by its line count
+    (counted in chunks, so a huge file is never held in memory whole)."""
+    size = os.path.getsize(path)
+    if size > limit * _BYTES_PER_POINT:
+        raise _too_large(path, f"the file is {size / 1e9:.3g} GB, larger than "
+                               f"{limit * _BYTES_PER_POINT / 1e9:.3g} GB", limit)
+    if size < 4 * limit:  # too short to hold more lines than the limit
+        return
+    lines = 0
+    with open(path, "rb") as fh:
+        for chunk in iter(lambda: fh.read(1 << 24), b""):
+            lines += chunk.count(b"\n")
+            if lines > limit + 1000:  # a preamble and a header are not points
+                raise _too_large(path, f"the file has more than {limit + 1000:,} lines", limit)
+
+
+def read_table(path: str | os.PathLike, *, sheet: str | int | None = None,
+               max_points: int | None = None) -> RawTable:
     """Read one file into a :class:`RawTable` (header row, data cells, preamble metadata).
+
+    ``max_points`` (default: ``$TTSP_MAX_POINTS``, else :data:`DEFAULT_MAX_POINTS`) bounds the
+    rows read, so that a file too large to hold is refused before memory runs out.
 
     Raises
     ------
     DataError
         For a missing file, a folder, an empty or binary file, an unreadable workbook or sheet,
-        and a file with no header row or no data rows.
+        a file with no header row or no data rows, and a file over the size limit.
     """
     path = str(path)
     if not os.path.exists(path):
         raise DataError(f"{where(path)}no such file")
     if os.path.isdir(path):
         raise DataError(f"{where(path)}is a folder, not a file")
+    limit = _max_points(max_points)
     if path.lower().endswith(".xlsx"):
-        lines_cells = _xlsx_cells(path, sheet)
+        lines_cells = _xlsx_cells(path, sheet, limit)
         return _table_from_cells(path, lines_cells, decimal_comma=False)
+    _check_size(path, limit)
     with open(path, "rb") as fh:
         data = fh.read()
     text = _decode(data, path)
@@ -245,7 +295,7 @@ def _refuse_grouped_numbers(path: str, lines: Sequence[str]) -> None:
                                 f"thousands separators; got {grouped[0]!r}")
 
 
-def _xlsx_cells(path: str, sheet) -> list:
+def _xlsx_cells(path: str, sheet, limit: int = DEFAULT_MAX_POINTS) -> list:
     try:
         import openpyxl
     except ImportError:  # pragma: no cover - openpyxl is a declared dependency
@@ -268,6 +318,9 @@ def _xlsx_cells(path: str, sheet) -> list:
                 raise DataError(f"{where(path)}sheet must be one of {', '.join(names)}; "
                                 f"got {sheet!r}")
             ws = book[sheet]
+        rows = getattr(ws, "max_row", None)
+        if isinstance(rows, int) and rows > limit + 1000:
+            raise _too_large(path, f"the sheet has {rows:,} rows", limit)
         out = []
         for row in ws.iter_rows(values_only=True):
             # a cell wrapped over several lines (Alt+Enter) is one line here, so messages that
@@ -777,7 +830,8 @@ def read_campaign(paths, *, columns: Mapping[str, str] | None = None,
                   units: Mapping[str, str] | None = None, sheet: str | int | None = None,
                   domain: str | None = None, modulus_kind: str | None = None,
                   temperature_tolerance_K: float = 0.5,
-                  temperature_C: float | Mapping[str, float] | None = None) -> Campaign:
+                  temperature_C: float | Mapping[str, float] | None = None,
+                  max_points: int | None = None) -> Campaign:
     """Read one or more files (or a folder) into a validated :class:`~ttsp.data.Campaign`.
 
     Parameters
@@ -800,6 +854,9 @@ def read_campaign(paths, *, columns: Mapping[str, str] | None = None,
         Temperature in °C of one-isotherm files. A number is used for every file that states
         no temperature (no column, preamble line or temperature in the name); a mapping from
         path or file name to °C gives each file its own, before anything the file says.
+    max_points : int, optional
+        Refuse campaigns with more data rows than this, before they fill the memory (default:
+        the environment variable ``TTSP_MAX_POINTS``, else :data:`DEFAULT_MAX_POINTS`).
 
     Returns
     -------
@@ -818,10 +875,15 @@ def read_campaign(paths, *, columns: Mapping[str, str] | None = None,
                                              allow_zero=True)
     if isinstance(temperature_C, Mapping):
         temperature_C = {str(k): v for k, v in temperature_C.items()}
+    limit = _max_points(max_points)
     files = _expand(paths)
     frames, labels, units_read, kinds, metadata, dropped, assumed = [], {}, {}, set(), {}, {}, []
+    total = 0
     for path in files:
-        table = read_table(path, sheet=sheet)
+        table = read_table(path, sheet=sheet, max_points=limit)
+        total += len(table.rows)
+        if total > limit:
+            raise _too_large(path, f"the campaign has {total:,} data rows up to this file", limit)
         df, lab, ur, kind, ass = _table_to_frame(table, columns=columns, units=units,
                                                  temperature_C=temperature_C)
         if "frequency_rad_s" not in df.columns and "time_s" not in df.columns:
