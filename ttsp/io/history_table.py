@@ -16,7 +16,7 @@ from .._validation import where
 from ..exceptions import DataError
 from ..units import parse_unit
 from .headers import split_unit
-from .readers import read_table
+from .readers import _column_floats, read_table
 
 __all__ = ["LoadingHistory", "read_history_table"]
 
@@ -69,13 +69,16 @@ def read_history_table(path) -> LoadingHistory:
     ------
     DataError
         Naming file, column and row: no time column, neither or both of strain and stress,
-        a non-numeric or non-finite cell, times that go backwards.
+        two columns of one kind, a non-numeric or non-finite cell, times that go backwards.
     """
     table = read_table(path)
     found = {}
     for j, header in enumerate(table.header):
         role, unit = _role(header)
-        if role is not None and role not in found:
+        if role is not None and role in found:  # never pick one of two silently
+            raise DataError(f"{where(table.path, header)}two columns mean {role}: "
+                            f"{found[role][1]!r} and {header!r}; keep one")
+        if role is not None:
             found[role] = (j, header, unit)
     if "time_s" not in found:
         raise DataError(f"{where(table.path)}missing a time column; columns found: "
@@ -88,18 +91,15 @@ def read_history_table(path) -> LoadingHistory:
 
     def column(role):
         j, header, unit = found[role]
-        values = np.empty(len(table.rows))
-        for i, row in enumerate(table.rows):
-            cell = (row[j] if j < len(row) else "").strip()
-            text = cell.replace(",", ".") if table.decimal_comma else cell
-            try:
-                values[i] = float(text)
-            except ValueError:
-                raise DataError(f"{where(table.path, header, table.line_numbers[i])}value must be "
-                                f"a number; got {cell!r}") from None
-            if not np.isfinite(values[i]):
-                raise DataError(f"{where(table.path, header, table.line_numbers[i])}value must be "
-                                f"finite; got {cell!r}")
+        # the campaign reader's rules: the same numbers are read (no 1_000, no thousands
+        # separators taken for decimal marks), and the first bad row is named
+        values = _column_floats(table, j, header, empty_allowed=False)
+        bad = np.flatnonzero(~np.isfinite(values))
+        if bad.size:
+            i = int(bad[0])
+            cell = table.rows[i][j].strip()
+            raise DataError(f"{where(table.path, header, table.line_numbers[i])}value must be "
+                            f"finite; got {cell!r}")
         if role == "strain":
             if unit in ("%", "pct", "percent"):
                 return values / 100.0
@@ -113,7 +113,15 @@ def read_history_table(path) -> LoadingHistory:
             u = parse_unit(unit or default, kind=kind)
         except DataError as exc:
             raise DataError(f"{where(table.path, header)}{exc}") from None
-        return u.to_si(values)
+        with np.errstate(over="ignore"):
+            si = u.to_si(values)
+        if not np.isfinite(si).all():
+            i = int(np.flatnonzero(~np.isfinite(si))[0])
+            raise DataError(f"{where(table.path, header, table.line_numbers[i])}value must be a "
+                            f"finite number in SI units; got {table.rows[i][j]!r} "
+                            f"{unit or default}, beyond the largest number ttsp holds (about "
+                            f"1.8e308) once converted")
+        return si
 
     t = column("time_s")
     if np.any(np.diff(t) < 0):
