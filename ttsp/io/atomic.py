@@ -3,13 +3,18 @@
 Everything is written into a hidden temporary folder beside the destination; only when the run
 completes is it renamed into place (a rename within one file system is atomic on POSIX). A run
 killed part-way leaves the previous complete folder, or none, plus at most a hidden
-``.ttsp-tmp-*`` folder that the next run removes.
+``.ttsp-tmp-*`` folder that the next run into the same destination removes.
+
+A temporary folder is named ``.ttsp-tmp-<destination>.<process id>.<random>``: a later run
+removes only the folders of its own destination whose process is gone, never those of a build
+still running into it or into another destination (``out1`` and ``out10`` of one batch).
 """
 
 from __future__ import annotations
 
 import contextlib
 import os
+import re
 import shutil
 import tempfile
 from pathlib import Path
@@ -19,6 +24,31 @@ from ..exceptions import DataError
 __all__ = ["atomic_output_dir", "write_text_atomic"]
 
 _PREFIX = ".ttsp-tmp-"
+
+
+def _tmp_prefix(dest: Path) -> str:
+    return f"{_PREFIX}{dest.name}.{os.getpid()}."
+
+
+def _process_alive(pid: int) -> bool:
+    if pid == os.getpid():
+        return True
+    try:
+        os.kill(pid, 0)
+    except ProcessLookupError:
+        return False
+    except (PermissionError, OSError):
+        return True  # someone else's live process, or it cannot be told: leave its folder
+    return True
+
+
+def _remove_stale(dest: Path) -> None:
+    """Remove temporary folders of earlier runs into ``dest`` whose process has ended."""
+    own = re.compile(re.escape(f"{_PREFIX}{dest.name}.") + r"(\d+)\.[^.]+$")
+    for stale in dest.parent.glob(f"{_PREFIX}*"):
+        m = own.match(stale.name)
+        if m and not _process_alive(int(m.group(1))):
+            shutil.rmtree(stale, ignore_errors=True)
 
 
 def _umask() -> int:
@@ -51,14 +81,13 @@ def atomic_output_dir(destination, *, force: bool = False, protect=()):
     if dest.exists() and any(dest.iterdir()) and not force:
         raise DataError(f"{destination}: the output folder exists; use --force to replace it")
     dest.parent.mkdir(parents=True, exist_ok=True)
-    for stale in dest.parent.glob(f"{_PREFIX}{dest.name}-*"):
-        shutil.rmtree(stale, ignore_errors=True)
-    tmp = Path(tempfile.mkdtemp(prefix=f"{_PREFIX}{dest.name}-", dir=dest.parent))
+    _remove_stale(dest)
+    tmp = Path(tempfile.mkdtemp(prefix=_tmp_prefix(dest), dir=dest.parent))
     os.chmod(tmp, 0o777 & ~_umask())  # mkdtemp makes 0700; give the folder the usual mode
     try:
         yield tmp
         if dest.exists():
-            old = Path(tempfile.mkdtemp(prefix=f"{_PREFIX}{dest.name}-old-", dir=dest.parent))
+            old = Path(tempfile.mkdtemp(prefix=_tmp_prefix(dest), dir=dest.parent))
             os.rename(dest, old / "previous")
             os.rename(tmp, dest)
             shutil.rmtree(old, ignore_errors=True)
