@@ -212,7 +212,7 @@ def _max_points(max_points=None) -> int:
 
 def _too_large(path: str, what: str, limit: int) -> DataError:
     return DataError(f"{where(path)}{what}; ttsp reads at most {limit:,} points at once, to stop "
-                     f"before memory runs out. Split the campaign, or raise the limit with the "
+                     f"before memory runs out: split the campaign, or raise the limit with the "
                      f"environment variable {MAX_POINTS_ENV} (max_points= in Python)")
 
 
@@ -883,7 +883,9 @@ def read_campaign(paths, *, columns: Mapping[str, str] | None = None,
         table = read_table(path, sheet=sheet, max_points=limit)
         total += len(table.rows)
         if total > limit:
-            raise _too_large(path, f"the campaign has {total:,} data rows up to this file", limit)
+            what = (f"the file has {total:,} data rows" if len(files) == 1 else
+                    f"the campaign has {total:,} data rows up to and including this file")
+            raise _too_large(path, what, limit)
         df, lab, ur, kind, ass = _table_to_frame(table, columns=columns, units=units,
                                                  temperature_C=temperature_C)
         if "frequency_rad_s" not in df.columns and "time_s" not in df.columns:
