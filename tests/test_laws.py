@@ -895,7 +895,7 @@ def test_fit_result_exports():
     assert len(frame) == 20
     np.testing.assert_allclose(frame["log10_aT_fitted"], fit.law.log10_aT(T), atol=1e-14)
     page = fit._repr_html_()
-    assert "why this law" in page and "+/-" in page and "C1_times_C2_K" in page
+    assert "why this law" in page and "±" in page and "C1_times_C2_K" in page
     assert fit.log10_aT(400.0) == fit.law.log10_aT(400.0)
     with pytest.warns(ExtrapolationWarning):
         fit.log10_aT(500.0)

@@ -260,9 +260,14 @@ class CheckResult:
     def _repr_html_(self) -> str:
         colour = {"pass": "#1a7f37", "warn": "#9a6700", "fail": "#cf222e"}[self.status]
         return (f"<table><tr><td><b style='color:{colour}'>{self.status}</b></td>"
-                f"<td>{html.escape(self.name)}</td><td>value {html.escape(str(self.value))}</td>"
-                f"<td>threshold {html.escape(str(self.threshold))}</td></tr>"
+                f"<td>{html.escape(self.name)}</td><td>value {html.escape(_short(self.value))}</td>"
+                f"<td>threshold {html.escape(_short(self.threshold))}</td></tr>"
                 f"<tr><td colspan='4'>{html.escape(self.message)}</td></tr></table>")
+
+
+def _short(value) -> str:
+    """A value as a person reads it: four significant digits for numbers."""
+    return f"{value:.4g}" if isinstance(value, float) else str(value)
 
 
 def worst_status(results) -> str:

@@ -497,13 +497,24 @@ class Campaign:
         return out
 
     def _repr_html_(self) -> str:
-        head = (f"<b>Campaign</b> {self.source or ''}: {len(self)} isotherms, {self.n_points} points, "
-                f"{self.domain} domain, {self.modulus_kind}")
-        rows = "".join(f"<tr><td>{r['temperature_C']:.2f}</td><td>{r['points']}</td>"
-                       f"<td>{list(r.values())[2]:.3g} – {list(r.values())[3]:.3g}</td>"
-                       f"<td>{r['quantities']}</td></tr>" for r in self.summary_rows())
-        return (f"<div>{head}<table><tr><th>T (°C)</th><th>points</th><th>{self.x_name}</th>"
+        from html import escape
+
+        unit, scale = ("Hz", 1 / (2 * np.pi)) if self.domain == "frequency" else ("s", 1.0)
+        xname = "frequency" if self.domain == "frequency" else "time"
+        head = (f"<b>Campaign</b> {escape(str(self.source or ''))}: {len(self)} isotherms, "
+                f"{self.n_points} points, {self.domain} domain, {self.modulus_kind}")
+        rows = "".join(f"<tr><td>{iso.temperature_C:.2f}</td><td>{iso.n_points}</td>"
+                       f"<td>{iso.x[0] * scale:.3g} – {iso.x[-1] * scale:.3g}</td>"
+                       f"<td>{escape(', '.join(self.symbol(q) for q in iso.values))}</td></tr>"
+                       for iso in self.isotherms)
+        return (f"<div>{head}<table><tr><th>T (°C)</th><th>points</th><th>{xname} ({unit})</th>"
                 f"<th>functions</th></tr>{rows}</table></div>")
+
+    def __repr__(self) -> str:
+        t = self.temperatures_C
+        span = f"{t.min():.4g} to {t.max():.4g} °C" if len(t) else "no isotherms"
+        return (f"Campaign({len(self)} isotherms, {span}, {self.n_points} points, {self.domain}, "
+                f"{self.modulus_kind}, source={str(self.source)!r})")
 
 
 def group_temperatures(temperature_K, tolerance_K: float) -> list:

@@ -402,7 +402,7 @@ class ShiftLaw(abc.ABC):
     def _repr_html_(self) -> str:
         rows = [("model", self.model),
                 ("reference temperature", f"{self.reference_temperature_K:.6g} K "
-                                          f"({self.reference_temperature_C:.6g} degC)")]
+                                          f"({self.reference_temperature_C:.6g} °C)")]
         for name, value in self.params.items():
             rows.append((name, f"{value:.6g} {self._unit_of(name)}".rstrip()))
         rng = self.valid_temperature_range_K
@@ -959,16 +959,16 @@ class ShiftLawFit:
         law = self.law
         rows = [("model", law.model),
                 ("reference temperature", f"{law.reference_temperature_K:.6g} K "
-                                          f"({law.reference_temperature_C:.6g} degC)")]
+                                          f"({law.reference_temperature_C:.6g} °C)")]
         for name, value in self.params.items():
             unit = law._unit_of(name)
             if name in self.fixed_parameters:
                 text = f"{value:.6g} {unit} (fixed)"
             else:
-                text = f"{value:.6g} +/- {_fmt(self.stderr[name])} {unit}"
+                text = f"{value:.6g} ± {_fmt(self.stderr[name])} {unit}"
             rows.append((name, " ".join(text.split())))
         for name, value in self.derived.items():
-            rows.append((name, f"{value:.6g} +/- {_fmt(self.derived_stderr.get(name))}"))
+            rows.append((name, f"{value:.6g} ± {_fmt(self.derived_stderr.get(name))}"))
         rng = law.valid_temperature_range_K
         rows += [("valid range", f"{rng[0]:.6g}-{rng[1]:.6g} K"),
                  ("points / free parameters", f"{self.n_points} / {self.n_free}"),

@@ -39,7 +39,7 @@ QUANTITY_COLUMNS = {
 }
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, repr=False)
 class ViscoelasticModel:
     """Prony series at the reference temperature + a shift law = the material at any temperature.
 
@@ -156,6 +156,15 @@ class ViscoelasticModel:
 
     def to_dict(self) -> dict:
         return {"prony": self.series.to_dict(), "shift_law": self.law.to_dict()}
+
+    def __repr__(self) -> str:
+        return (f"ViscoelasticModel({self.series.n_terms} Prony terms, law {self.law.model}, "
+                f"reference {self.reference_temperature_K - 273.15:.2f} °C)")
+
+    def _repr_html_(self) -> str:
+        return (f"<div><b>Viscoelastic model</b> at reference "
+                f"{self.reference_temperature_K - 273.15:.2f} °C{self.law._repr_html_()}"
+                f"{self.series._repr_html_()}</div>")
 
     @classmethod
     def from_summary(cls, summary: dict) -> "ViscoelasticModel":

@@ -78,6 +78,13 @@ class BuildOptions:
     def to_dict(self) -> dict:
         return asdict(self)
 
+    def _repr_html_(self) -> str:
+        from html import escape
+
+        rows = "".join(f"<tr><th style='text-align:left'>{escape(k)}</th><td>{escape(str(v))}</td></tr>"
+                       for k, v in self.to_dict().items())
+        return f"<div><b>Build options</b><table>{rows}</table></div>"
+
 
 def hash_inputs(paths) -> str:
     """SHA-256 over the bytes of the input files in sorted path order (folders expanded)."""
