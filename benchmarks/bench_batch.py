@@ -17,7 +17,11 @@ Rows:
   server is warmed up before by a small batch), campaigns per second, campaigns per second per
   core (per worker), and the peak resident memory of each worker process (its own
   ``getrusage`` maximum, reported back with each result);
-* ``speed-up``: time with 1 worker over time with 2;
+* ``CPU share``: CPU time of the builds over the workers' wall time (1 when every worker has a
+  core to itself; less when other programs share the machine), and the parent's CPU time per
+  campaign (the batch's own overhead: planning, results table, progress);
+* ``speed-up``: time with 1 worker over time with 2, beside the speed-up a pure-Python loop gets
+  from 2 processes on the machine at that moment (its ceiling when the cores are shared);
 * a per-step profile of one build in this process (reading, shift factors, shift law, Prony
   series, checks, writing), averaged over a few campaigns, to show where the time goes.
 
@@ -113,17 +117,20 @@ def write_campaigns(folder: Path, n: int, seed: int = 20240901) -> Path:
 
 
 def run(manifest: Path, out: Path, workers: int) -> dict:
-    t0 = time.perf_counter()
+    t0, c0 = time.perf_counter(), time.process_time()
     table = batch.run_batch(manifest, out, workers=workers, figures=False, quiet=True,
                             _task=_measured_build)
-    wall = time.perf_counter() - t0
+    wall, parent_cpu = time.perf_counter() - t0, time.process_time() - c0
     n = len(table)
     peaks = table.groupby("worker_pid")["worker_peak_MB"].max()
     return {"workers": workers, "n": n, "failed": int((table["status"] != "ok").sum()),
             "wall_s": wall, "rate": n / wall, "rate_per_core": n / wall / workers,
             "peak_MB": float(peaks.max()), "worker_processes": len(peaks),
             "build_s_median": float(table["elapsed_s"].median()),
-            "cpu_s_mean": float(table["cpu_s"].mean())}
+            "cpu_s_mean": float(table["cpu_s"].mean()),
+            # share of the workers' wall time spent on a CPU: below 1 when others share the cores
+            "cpu_share": float(table["cpu_s"].sum()) / (wall * workers),
+            "parent_ms": 1000.0 * parent_cpu / n}
 
 
 def profile_steps(folder: Path, n: int = 5) -> dict:
@@ -197,12 +204,13 @@ def main(argv=None):
           f"{' '.join(f'{x:.2f}' for x in load)} (a shared machine slows the wall times)")
     print(f"{'run':<10} {'campaigns':>9} {'failed':>6} {'wall s':>8} {'camp/s':>7} "
           f"{'camp/s/core':>11} {'median build s':>14} {'CPU s/camp':>10} "
-          f"{'peak MB/worker':>14}")
+          f"{'CPU share':>9} {'parent ms/camp':>14} {'peak MB/worker':>14}")
     for r in rows:
         print(f"{str(r['workers']) + ' worker' + ('s' if r['workers'] > 1 else ''):<10} "
               f"{r['n']:>9} {r['failed']:>6} {r['wall_s']:>8.1f} {r['rate']:>7.2f} "
               f"{r['rate_per_core']:>11.2f} {r['build_s_median']:>14.3f} "
-              f"{r['cpu_s_mean']:>10.3f} {r['peak_MB']:>14.0f}")
+              f"{r['cpu_s_mean']:>10.3f} {r['cpu_share']:>9.2f} {r['parent_ms']:>14.1f} "
+              f"{r['peak_MB']:>14.0f}")
     print(f"{'speed-up':<10} {speedup:>9.2f}x with 2 workers (a pure-Python loop gets "
           f"{ceiling:.2f}x on this machine now, mean of before and after)")
     print()
