@@ -14,6 +14,7 @@ Tidy frames use the column names of :data:`QUANTITIES` plus ``temperature_K``, `
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from itertools import pairwise
 from types import MappingProxyType
 from typing import Mapping
 
@@ -540,7 +541,7 @@ def group_temperatures(temperature_K, tolerance_K: float) -> list:
             starts.append(int(first[k]))
             start = k
     bounds = [0] + starts + [ts.size]
-    return [np.sort(order[a:b]) for a, b in zip(bounds[:-1], bounds[1:])]
+    return [np.sort(order[a:b]) for a, b in pairwise(bounds)]
 
 
 def _first_duplicate(x):

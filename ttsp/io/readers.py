@@ -97,7 +97,7 @@ def _decode(data: bytes, path: str) -> str:
     zero bytes), else Windows-1252 / Latin-1 (the single-byte encodings of older exports)."""
     if not data.strip():
         raise DataError(f"{where(path)}the file is empty")
-    if data.startswith(codecs.BOM_UTF32_LE) or data.startswith(codecs.BOM_UTF32_BE):
+    if data.startswith((codecs.BOM_UTF32_LE, codecs.BOM_UTF32_BE)):
         raise DataError(f"{where(path)}not a text table ttsp reads: the file is UTF-32 text; "
                         f"save it as UTF-8")
     if data.startswith(codecs.BOM_UTF8):
