@@ -48,10 +48,11 @@ import html
 import math
 from dataclasses import dataclass, field
 from types import MappingProxyType
-from typing import Any, Callable, Mapping
+from typing import Callable, Mapping
 
 import numpy as np
 
+from ._arrays import to_plain
 from ._validation import bad_value, check_choice
 from .data import Campaign
 from .exceptions import DataError, FitError
@@ -191,20 +192,9 @@ _RESIDUAL_ZERO_DECADES = 1e-9
 # ----------------------------------------------------------------------------------------------
 # the result
 # ----------------------------------------------------------------------------------------------
-def _plain(value: Any) -> Any:
-    """JSON-ready copy: numpy scalars to float/int/bool, arrays and tuples to lists, NaN to None."""
-    if isinstance(value, Mapping):
-        return {str(k): _plain(v) for k, v in value.items()}
-    if isinstance(value, (list, tuple, np.ndarray)):
-        return [_plain(v) for v in value]
-    if isinstance(value, (bool, np.bool_)):
-        return bool(value)
-    if isinstance(value, (int, np.integer)):
-        return int(value)
-    if isinstance(value, (float, np.floating)):
-        v = float(value)
-        return v if math.isfinite(v) else None
-    return value
+def _json_ready(value):
+    """JSON-ready copy with NaN and infinities as None."""
+    return to_plain(value, nonfinite_as_none=True)
 
 
 @dataclass(frozen=True)
@@ -244,8 +234,8 @@ class CheckResult:
         for attr in ("value", "threshold"):
             v = getattr(self, attr)
             if v is not None and not isinstance(v, str):
-                object.__setattr__(self, attr, _plain(float(v)))
-        object.__setattr__(self, "details", MappingProxyType(_plain(dict(self.details))))
+                object.__setattr__(self, attr, _json_ready(float(v)))
+        object.__setattr__(self, "details", MappingProxyType(_json_ready(dict(self.details))))
 
     @property
     def passed(self) -> bool:
@@ -255,7 +245,7 @@ class CheckResult:
         """JSON-ready: name, status, value, threshold, message, details."""
         return {"name": self.name, "status": self.status, "value": self.value,
                 "threshold": self.threshold, "message": self.message,
-                "details": _plain(dict(self.details))}
+                "details": _json_ready(dict(self.details))}
 
     def _repr_html_(self) -> str:
         colour = {"pass": "#1a7f37", "warn": "#9a6700", "fail": "#cf222e"}[self.status]
@@ -1214,8 +1204,8 @@ def check_law_residuals(law_fit, *, shifts=None) -> CheckResult:
     if status != "pass":
         if model in ("wlf", "vft", "arrhenius"):
             suggest = "wlf-arrhenius"
-            advice = (f"The temperature dependence changes inside the range, as on crossing Tg: "
-                      f"try the law across Tg (--law wlf-arrhenius), or fit only one side.")
+            advice = ("The temperature dependence changes inside the range, as on crossing Tg: "
+                      "try the law across Tg (--law wlf-arrhenius), or fit only one side.")
         else:
             advice = ("The law does not follow the shift factors; look for a transition in the "
                       "range or a wrong shift, and fit the law on a narrower range.")

@@ -266,6 +266,22 @@ def check_cmd(inputs: List[Path] = typer.Argument(..., help="Files or folders of
         raise typer.Exit(EXIT_CHECK_FAILED)
 
 
+def _emit_table(frame, out, caught_warnings) -> None:
+    """Warnings once each on stderr; the table as CSV on stdout, or atomically into ``out``."""
+    from .io.atomic import write_text_atomic
+    from .io.writers import frame_to_csv_text
+
+    for w in dict.fromkeys(str(w.message) for w in caught_warnings
+                           if issubclass(w.category, UserWarning)):
+        typer.echo(f"ttsp: warning: {w}", err=True)
+    text = frame_to_csv_text(frame)
+    if out is None:
+        typer.echo(text, nl=False)
+    else:
+        write_text_atomic(out, text)
+        typer.echo(str(out), err=True)
+
+
 def parse_grid(text: str, option: str):
     """``a:b:n`` -> n log-spaced values from a to b (both > 0, n >= 1)."""
     import numpy as np
@@ -320,7 +336,6 @@ def predict_cmd(model: Path = typer.Argument(..., help="summary.json of a build,
 
     import pandas as pd
 
-    from .io.atomic import write_text_atomic
     from .model import QUANTITY_COLUMNS, TIME_QUANTITIES
 
     if (time_grid is None) == (frequency_grid is None):
@@ -340,17 +355,10 @@ def predict_cmd(model: Path = typer.Argument(..., help="summary.json of a build,
         warnings.simplefilter("always")
         values = m.evaluate(quantity.value, t_K, **({"time_s": grid} if is_time else
                                                    {"frequency_Hz": grid}))
-    for w in {str(w.message) for w in caught if issubclass(w.category, UserWarning)}:
-        typer.echo(f"ttsp: warning: {w}", err=True)
     frame = pd.DataFrame({"temperature_C": float(temperature),
                           ("time_s" if is_time else "frequency_Hz"): grid,
                           QUANTITY_COLUMNS[quantity.value]: values})
-    text = frame.to_csv(index=False, float_format="%.10g", lineterminator="\n")
-    if out is None:
-        typer.echo(text, nl=False)
-    else:
-        write_text_atomic(out, text)
-        typer.echo(str(out), err=True)
+    _emit_table(frame, out, caught)
 
 
 @app.command("history")
@@ -364,9 +372,7 @@ def history_cmd(model: Path = typer.Argument(..., help="summary.json of a build,
     import warnings
 
     from .history import strain_under_stress, stress_under_strain
-    from .io.atomic import write_text_atomic
     from .io.history_table import read_history_table
-    from .io.writers import frame_to_csv_text
 
     m = load_model(model)
     h = read_history_table(table)
@@ -378,14 +384,7 @@ def history_cmd(model: Path = typer.Argument(..., help="summary.json of a build,
             response = stress_under_strain(m.series, h.time_s, h.values, **kwargs)
         else:
             response = strain_under_stress(m.series, h.time_s, h.values, **kwargs)
-    for w in dict.fromkeys(str(w.message) for w in caught if issubclass(w.category, UserWarning)):
-        typer.echo(f"ttsp: warning: {w}", err=True)
-    text = frame_to_csv_text(response.to_frame())
-    if out is None:
-        typer.echo(text, nl=False)
-    else:
-        write_text_atomic(out, text)
-        typer.echo(str(out), err=True)
+    _emit_table(response.to_frame(), out, caught)
 
 
 @app.command("batch")

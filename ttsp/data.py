@@ -20,6 +20,7 @@ from typing import Mapping
 
 import numpy as np
 
+from ._arrays import readonly as _readonly
 from ._validation import bad_value, check_positive, where
 from .exceptions import DataError
 from .units import kelvin_to_celsius, parse_unit
@@ -60,12 +61,6 @@ QUANTITIES: Mapping[str, Quantity] = MappingProxyType({q.name: q for q in (
     Quantity("creep_compliance_1_per_Pa", "compliance", "time", "D(t)", "J(t)", True,
              "creep compliance"),
 )})
-
-
-def _readonly(a) -> np.ndarray:
-    arr = np.array(a, dtype=float, copy=True)
-    arr.setflags(write=False)
-    return arr
 
 
 def _same_array(a, b) -> bool:

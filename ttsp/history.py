@@ -49,10 +49,11 @@ from __future__ import annotations
 import math
 import warnings
 from dataclasses import dataclass, field
-from typing import Any, Callable, Mapping
+from typing import Any, Callable
 
 import numpy as np
 
+from ._arrays import as_1d_finite
 from ._validation import bad_value, check_choice
 from .exceptions import ExtrapolationWarning
 from .interconvert import CreepSeries, creep_to_relaxation, relaxation_to_creep
@@ -69,22 +70,8 @@ __all__ = [
 # ----------------------------------------------------------------------------------------
 # validation helpers
 # ----------------------------------------------------------------------------------------
-def _finite_1d(name: str, values: Any) -> np.ndarray:
-    try:
-        a = np.atleast_1d(np.asarray(values, dtype=float))
-    except (TypeError, ValueError):
-        raise bad_value(name, "an array of numbers", values) from None
-    if a.ndim != 1 or a.size == 0:
-        raise bad_value(name, "a non-empty one-dimensional array", f"shape {a.shape}")
-    bad = ~np.isfinite(a)
-    if bad.any():
-        i = int(np.flatnonzero(bad)[0])
-        raise bad_value(f"{name}[{i}]", "finite", float(a[i]))
-    return a
-
-
 def _time(time_s: Any) -> np.ndarray:
-    t = _finite_1d("time_s", time_s)
+    t = as_1d_finite("time_s", time_s, allow_empty=False)
     back = np.diff(t) < 0
     if back.any():
         i = int(np.flatnonzero(back)[0]) + 1
@@ -94,7 +81,7 @@ def _time(time_s: Any) -> np.ndarray:
 
 
 def _same_length(name: str, values: Any, n: int) -> np.ndarray:
-    a = _finite_1d(name, values)
+    a = as_1d_finite(name, values, allow_empty=False)
     if a.size != n:
         raise bad_value(name, f"as long as time_s ({n} values)", f"{a.size} values")
     return a
@@ -102,7 +89,7 @@ def _same_length(name: str, values: Any, n: int) -> np.ndarray:
 
 def _temperatures(temperature_K: Any, n: int) -> np.ndarray:
     if np.ndim(temperature_K) == 0:
-        temp = np.full(n, _finite_1d("temperature_K", temperature_K)[0])
+        temp = np.full(n, as_1d_finite("temperature_K", temperature_K, allow_empty=False)[0])
     else:
         temp = _same_length("temperature_K", temperature_K, n)
     if (temp <= 0).any():

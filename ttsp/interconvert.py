@@ -59,8 +59,13 @@ from typing import Any, Mapping
 
 import numpy as np
 
+from ._arrays import as_1d_finite as _as_1d_finite
+from ._arrays import fmt_html as _fmt
+from ._arrays import readonly as _readonly
+from ._arrays import scalar_or_array as _shape_like
+from ._arrays import to_plain as _plain
 from ._validation import bad_value, check_choice, check_positive
-from .exceptions import DataError, FitError
+from .exceptions import FitError
 from .prony import PronySeries
 
 __all__ = [
@@ -81,47 +86,6 @@ _R_MIN = 1e-300
 # ----------------------------------------------------------------------------------------
 # small private helpers (kept local so that this module depends only on PronySeries' API)
 # ----------------------------------------------------------------------------------------
-def _readonly(a) -> np.ndarray:
-    a = np.array(a, dtype=float, copy=True)
-    a.setflags(write=False)
-    return a
-
-
-def _plain(value: Any) -> Any:
-    """Convert numpy scalars/arrays inside dicts and lists to plain JSON-ready Python."""
-    if isinstance(value, Mapping):
-        return {str(k): _plain(v) for k, v in value.items()}
-    if isinstance(value, (list, tuple)):
-        return [_plain(v) for v in value]
-    if isinstance(value, np.ndarray):
-        return [_plain(v) for v in value.tolist()]
-    if isinstance(value, np.floating):
-        return float(value)
-    if isinstance(value, np.integer):
-        return int(value)
-    if isinstance(value, np.bool_):
-        return bool(value)
-    return value
-
-
-def _fmt(x: float | None) -> str:
-    return "&ndash;" if x is None else f"{x:.6g}"
-
-
-def _as_1d_finite(name: str, values: Any) -> np.ndarray:
-    try:
-        a = np.atleast_1d(np.asarray(values, dtype=float))
-    except (TypeError, ValueError):
-        raise bad_value(name, "an array of numbers", values) from None
-    if a.ndim != 1:
-        raise bad_value(name, "one-dimensional", f"an array of shape {a.shape}")
-    bad = ~np.isfinite(a)
-    if bad.any():
-        i = int(np.flatnonzero(bad)[0])
-        raise bad_value(f"{name}[{i}]", "finite", float(a[i]))
-    return a
-
-
 def _nonnegative_argument(name: str, values: Any) -> np.ndarray:
     try:
         a = np.asarray(values, dtype=float)
@@ -144,14 +108,6 @@ def _laplace_argument(s: Any) -> np.ndarray:
         i = np.flatnonzero(bad.ravel())[0]
         raise bad_value("s", "finite with positive real part", z.ravel()[i])
     return z
-
-
-def _shape_like(out: np.ndarray, like: Any):
-    """A plain float (or complex) for a scalar argument, else the array."""
-    out = np.asarray(out)
-    if np.ndim(like) == 0:
-        return out.reshape(()).item()
-    return out
 
 
 # ----------------------------------------------------------------------------------------

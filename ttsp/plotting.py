@@ -25,6 +25,7 @@ from pathlib import Path
 
 import numpy as np
 
+from .units import DISPLAY_MODULUS_UNITS, display_modulus_unit
 from ._validation import bad_value, check_choice
 from .units import kelvin_to_celsius
 
@@ -58,7 +59,7 @@ _SINGLE_SIZE = (6.4, 4.4)      # inches: one panel plus a colour bar
 _PNG_DPI = 150
 _SVG_SALT = "ttsp"             # fixes the ids matplotlib writes into SVG files
 
-_MODULUS_UNITS = (("GPa", 1e9), ("MPa", 1e6), ("kPa", 1e3), ("Pa", 1.0))
+_MODULUS_UNITS = DISPLAY_MODULUS_UNITS
 _QUANTITY_ALIASES = {
     "storage_modulus": "storage_modulus_Pa",
     "loss_modulus": "loss_modulus_Pa",
@@ -83,20 +84,7 @@ def _letters(modulus_kind: str) -> tuple[str, str]:
     return ("G", "J") if modulus_kind == "shear" else ("E", "D")
 
 
-def _modulus_unit(values_Pa) -> tuple[str, float]:
-    """Pick Pa, kPa, MPa or GPa for moduli around the geometric median of ``values_Pa``.
-
-    Returns (unit, factor) with value_in_unit = value_Pa / factor.
-    """
-    v = np.asarray(values_Pa, dtype=float).ravel()
-    v = v[np.isfinite(v) & (v > 0)]
-    if v.size == 0:
-        return "Pa", 1.0
-    mid = 10.0 ** float(np.median(np.log10(v)))
-    for unit, factor in _MODULUS_UNITS:
-        if mid >= factor:
-            return unit, factor
-    return "Pa", 1.0
+_modulus_unit = display_modulus_unit
 
 
 def _compliance_unit(values_1_per_Pa) -> tuple[str, float]:

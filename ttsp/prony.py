@@ -34,6 +34,12 @@ from typing import Any, Mapping
 
 import numpy as np
 
+from ._arrays import as_1d_finite as _as_1d_finite
+from ._arrays import fmt_html as _fmt
+from ._arrays import nonnegative_argument as _evaluation_argument
+from ._arrays import readonly as _readonly
+from ._arrays import scalar_or_array as _scalar_or_array
+from ._arrays import to_plain as _plain
 from ._validation import bad_value, check_choice, check_positive
 from .exceptions import DataError, FitError, FitQualityWarning
 from .units import ZERO_CELSIUS_K
@@ -55,71 +61,6 @@ _CSV_MAGIC = "# ttsp Prony series"
 # ----------------------------------------------------------------------------------------
 # small private helpers
 # ----------------------------------------------------------------------------------------
-def _readonly(a: np.ndarray) -> np.ndarray:
-    a = np.array(a, dtype=float, copy=True)
-    a.setflags(write=False)
-    return a
-
-
-def _as_1d_finite(name: str, values: Any) -> np.ndarray:
-    try:
-        a = np.asarray(values, dtype=float)
-    except (TypeError, ValueError):
-        raise bad_value(name, "an array of numbers", values) from None
-    a = np.atleast_1d(a)
-    if a.ndim != 1:
-        raise bad_value(name, "one-dimensional", f"an array of shape {a.shape}")
-    bad = ~np.isfinite(a)
-    if bad.any():
-        i = int(np.flatnonzero(bad)[0])
-        raise bad_value(f"{name}[{i}]", "finite", float(a[i]))
-    return a
-
-
-def _evaluation_argument(name: str, values: Any, *, allow_zero: bool = True) -> np.ndarray:
-    """Validate an argument of an evaluation method (times, frequencies), any shape."""
-    try:
-        a = np.asarray(values, dtype=float)
-    except (TypeError, ValueError):
-        raise bad_value(name, "an array of numbers", values) from None
-    bad = ~np.isfinite(a) | (a < 0) | ((a == 0) & (not allow_zero))
-    if bad.any():
-        i = np.flatnonzero(bad.ravel())[0]
-        rule = "non-negative and finite" if allow_zero else "positive and finite"
-        raise bad_value(name, rule, float(a.ravel()[i]))
-    return a
-
-
-def _scalar_or_array(a: np.ndarray, like: np.ndarray):
-    """Return a plain float for a 0-d argument, otherwise the array."""
-    if np.ndim(like) == 0:
-        return a.item() if np.ndim(a) == 0 else a.reshape(()).item()
-    return a
-
-
-def _plain(value: Any) -> Any:
-    """Convert numpy scalars/arrays inside dicts and lists to plain JSON-ready Python."""
-    if isinstance(value, Mapping):
-        return {str(k): _plain(v) for k, v in value.items()}
-    if isinstance(value, (list, tuple)):
-        return [_plain(v) for v in value]
-    if isinstance(value, np.ndarray):
-        return [_plain(v) for v in value.tolist()]
-    if isinstance(value, (np.floating,)):
-        return float(value)
-    if isinstance(value, (np.integer,)):
-        return int(value)
-    if isinstance(value, np.bool_):
-        return bool(value)
-    return value
-
-
-def _fmt(x: float | None) -> str:
-    if x is None:
-        return "&ndash;"
-    return f"{x:.6g}"
-
-
 def log_spaced_relaxation_times(lo_s: float, hi_s: float, *, terms_per_decade: float = 2.0,
                                 margin_decades: float = 1.0) -> np.ndarray:
     """Relaxation times log-spaced over ``[lo_s, hi_s]`` widened by a margin at each end.

@@ -21,6 +21,7 @@ from importlib import resources
 import numpy as np
 from markupsafe import Markup
 
+from .units import display_modulus_unit
 from ._validation import bad_value
 from .exceptions import DataError
 from .units import kelvin_to_celsius
@@ -116,7 +117,6 @@ _OPTIONS = {
     "glass_transition_C": "Glass transition given (°C)",
 }
 
-_MODULUS_UNITS = (("GPa", 1e9), ("MPa", 1e6), ("kPa", 1e3), ("Pa", 1.0))
 
 
 # ------------------------------------------------------------------------------------------
@@ -159,17 +159,7 @@ def _superscript(n: int) -> str:
     return str(n).translate(str.maketrans("-0123456789", "⁻⁰¹²³⁴⁵⁶⁷⁸⁹"))
 
 
-def _modulus_unit(values_Pa) -> tuple[str, float]:
-    """Pa, kPa, MPa or GPa for moduli around the geometric median of ``values_Pa``."""
-    v = np.asarray([x for x in values_Pa if x is not None], dtype=float)
-    v = v[np.isfinite(v) & (v > 0)]
-    if v.size == 0:
-        return "Pa", 1.0
-    mid = 10.0 ** float(np.median(np.log10(v)))
-    for unit, factor in _MODULUS_UNITS:
-        if mid >= factor:
-            return unit, factor
-    return "Pa", 1.0
+_modulus_unit = display_modulus_unit
 
 
 def _letters(modulus_kind: str) -> tuple[str, str]:

@@ -17,6 +17,7 @@ import numpy as np
 from .exceptions import DataError
 
 __all__ = ["Unit", "parse_unit", "to_si", "from_si", "celsius_to_kelvin", "kelvin_to_celsius",
+           "display_modulus_unit", "DISPLAY_MODULUS_UNITS",
            "UNIT_KINDS"]
 
 ZERO_CELSIUS_K = 273.15
@@ -125,6 +126,28 @@ def to_si(values, unit: str):
 def from_si(values, unit: str):
     """Convert SI ``values`` to ``unit``."""
     return parse_unit(unit).from_si(values)
+
+
+# Display units for moduli, largest first: (symbol, Pa per unit)
+DISPLAY_MODULUS_UNITS = (("GPa", 1e9), ("MPa", 1e6), ("kPa", 1e3), ("Pa", 1.0))
+
+
+def display_modulus_unit(values_Pa) -> tuple:
+    """Pa, kPa, MPa or GPa for showing moduli around the geometric median of ``values_Pa``.
+
+    Returns ``(unit, factor)`` with value_in_unit = value_Pa / factor; ``None`` entries, zeros
+    and non-finite values are ignored.
+    """
+    v = np.asarray([x for x in np.ravel(np.asarray(values_Pa, dtype=object)) if x is not None],
+                   dtype=float)
+    v = v[np.isfinite(v) & (v > 0)]
+    if v.size == 0:
+        return "Pa", 1.0
+    mid = 10.0 ** float(np.median(np.log10(v)))
+    for unit, factor in DISPLAY_MODULUS_UNITS:
+        if mid >= factor:
+            return unit, factor
+    return "Pa", 1.0
 
 
 def celsius_to_kelvin(t_C):

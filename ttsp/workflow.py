@@ -7,7 +7,7 @@ from __future__ import annotations
 import hashlib
 import math
 import warnings
-from dataclasses import asdict, dataclass, field
+from dataclasses import asdict, dataclass
 from pathlib import Path
 
 import numpy as np

@@ -8,11 +8,10 @@ significant digits, so identical runs give identical bytes.
 from __future__ import annotations
 
 import json
-import math
 from pathlib import Path
 
-import numpy as np
 
+from .._arrays import to_plain
 from .atomic import write_text_atomic
 
 __all__ = ["write_build_numbers", "frame_to_csv_text", "summary_to_json_text", "NUMBER_FILES"]
@@ -21,26 +20,9 @@ NUMBER_FILES = ("summary.json", "shift_factors.csv", "master_curve.csv", "prony.
                 "prony_finite_element.csv", "material_functions.csv")
 
 
-def _plain(value):
-    if isinstance(value, dict):
-        return {str(k): _plain(v) for k, v in value.items()}
-    if isinstance(value, (list, tuple)):
-        return [_plain(v) for v in value]
-    if isinstance(value, np.ndarray):
-        return [_plain(v) for v in value.tolist()]
-    if isinstance(value, (np.bool_,)):
-        return bool(value)
-    if isinstance(value, (np.integer,)):
-        return int(value)
-    if isinstance(value, (float, np.floating)):
-        v = float(value)
-        return v if math.isfinite(v) else None
-    return value
-
-
 def summary_to_json_text(summary: dict) -> str:
     """JSON text of a summary: NaN and infinities become null (JSON has neither)."""
-    return json.dumps(_plain(summary), indent=2, ensure_ascii=False, allow_nan=False) + "\n"
+    return json.dumps(to_plain(summary, nonfinite_as_none=True), indent=2, ensure_ascii=False, allow_nan=False) + "\n"
 
 
 def frame_to_csv_text(frame) -> str:

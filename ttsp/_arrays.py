@@ -1,0 +1,87 @@
+"""Small array and export helpers shared by the computation modules (layer 0).
+
+One place for: read-only copies of arrays, validation of array arguments with the one message
+template of :mod:`ttsp._validation`, scalar-in/scalar-out evaluation, and conversion of numpy
+values to JSON-ready Python.
+"""
+
+from __future__ import annotations
+
+import math
+from typing import Any, Mapping
+
+import numpy as np
+
+from ._validation import bad_value
+
+__all__ = ["readonly", "as_1d_finite", "nonnegative_argument", "scalar_or_array", "to_plain",
+           "fmt_html"]
+
+
+def readonly(a) -> np.ndarray:
+    """A float copy of ``a`` that cannot be written to."""
+    out = np.array(a, dtype=float, copy=True)
+    out.setflags(write=False)
+    return out
+
+
+def as_1d_finite(name: str, values: Any, *, allow_empty: bool = True) -> np.ndarray:
+    """``values`` as a one-dimensional float array of finite numbers, else DataError."""
+    try:
+        a = np.atleast_1d(np.asarray(values, dtype=float))
+    except (TypeError, ValueError):
+        raise bad_value(name, "an array of numbers", values) from None
+    if a.ndim != 1 or (a.size == 0 and not allow_empty):
+        rule = "one-dimensional" if allow_empty else "a non-empty one-dimensional array"
+        raise bad_value(name, rule, f"an array of shape {a.shape}")
+    bad = ~np.isfinite(a)
+    if bad.any():
+        i = int(np.flatnonzero(bad)[0])
+        raise bad_value(f"{name}[{i}]", "finite", float(a[i]))
+    return a
+
+
+def nonnegative_argument(name: str, values: Any, *, allow_zero: bool = True) -> np.ndarray:
+    """An evaluation argument (times, frequencies) of any shape: finite and >= 0 (or > 0)."""
+    try:
+        a = np.asarray(values, dtype=float)
+    except (TypeError, ValueError):
+        raise bad_value(name, "an array of numbers", values) from None
+    bad = ~np.isfinite(a) | (a < 0) | ((a == 0) & (not allow_zero))
+    if bad.any():
+        i = np.flatnonzero(bad.ravel())[0]
+        rule = "non-negative and finite" if allow_zero else "positive and finite"
+        raise bad_value(name, rule, float(a.ravel()[i]))
+    return a
+
+
+def scalar_or_array(out, like):
+    """A plain Python number for a scalar argument ``like``, otherwise the array ``out``."""
+    out = np.asarray(out)
+    if np.ndim(like) == 0:
+        return out.reshape(()).item()
+    return out
+
+
+def to_plain(value: Any, *, nonfinite_as_none: bool = False) -> Any:
+    """A JSON-ready copy: numpy scalars to float/int/bool, arrays and tuples to lists.
+
+    With ``nonfinite_as_none``, NaN and infinities become ``None`` (JSON has neither).
+    """
+    if isinstance(value, Mapping):
+        return {str(k): to_plain(v, nonfinite_as_none=nonfinite_as_none) for k, v in value.items()}
+    if isinstance(value, (list, tuple, np.ndarray)):
+        return [to_plain(v, nonfinite_as_none=nonfinite_as_none) for v in value]
+    if isinstance(value, (bool, np.bool_)):
+        return bool(value)
+    if isinstance(value, (int, np.integer)):
+        return int(value)
+    if isinstance(value, (float, np.floating)):
+        v = float(value)
+        return None if nonfinite_as_none and not math.isfinite(v) else v
+    return value
+
+
+def fmt_html(x: float | None) -> str:
+    """A number for an HTML table (an en dash for a missing one)."""
+    return "&ndash;" if x is None else f"{x:.6g}"
