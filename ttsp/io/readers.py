@@ -548,10 +548,12 @@ def _not_a_number(cell: str) -> str:
     return f"value must be a number; got {cell!r}"
 
 
-def _column_floats(table: RawTable, j: int, header: str, *, empty_allowed: bool) -> np.ndarray:
+def _column_floats(table: RawTable, j: int, header: str, *, empty_allowed: bool,
+                   marks: dict | None = None) -> np.ndarray:
     """The cells of column ``j`` as floats (an empty cell is NaN), or a DataError naming the
     first bad row. A column of plain numbers is converted in one call; anything else (signs
-    such as U+2212, nan/inf words, empty cells, bad cells) cell by cell."""
+    such as U+2212, nan/inf words, empty cells, bad cells) cell by cell. ``marks`` caches, for
+    the columns of one table, whether the file uses each decimal mark unambiguously."""
     col = [row[j] if j < len(row) else "" for row in table.rows]
     text = "\n".join(col)
     if table.decimal_comma:
@@ -582,11 +584,13 @@ def _column_floats(table: RawTable, j: int, header: str, *, empty_allowed: bool)
                             f"(about 1.8e308)")
         break
     if table.decimal_comma:
-        _refuse_ambiguous_marks(table, j, header, "\n".join(col))
+        _refuse_ambiguous_marks(table, j, header, "\n".join(col),
+                                {} if marks is None else marks)
     return values
 
 
-def _refuse_ambiguous_marks(table: RawTable, j: int, header: str, text: str) -> None:
+def _refuse_ambiguous_marks(table: RawTable, j: int, header: str, text: str,
+                            marks: dict) -> None:
     """In a file read with decimal commas, ``1,234`` may be 1.234 or 1234, and ``1.234`` may be
     1.234 or a thousands-grouped 1234. Read them only when another number in the file shows how
     that mark is used (``0,5`` or ``12,25`` for the comma; ``0.5`` for the dot); otherwise refuse,
@@ -596,8 +600,11 @@ def _refuse_ambiguous_marks(table: RawTable, j: int, header: str, text: str) -> 
         m = grouped.search(text)
         if m is None:
             continue
-        every_cell = "\n".join(c for row in table.rows for c in row)
-        if any(not grouped.fullmatch(d.group(0)) for d in decimal.finditer(every_cell)):
+        if mark not in marks:  # does any number in the file use this mark as a decimal mark?
+            every_cell = "\n".join(c for row in table.rows for c in row)
+            marks[mark] = any(not grouped.fullmatch(d.group(0))
+                              for d in decimal.finditer(every_cell))
+        if marks[mark]:
             continue  # the file uses this mark as a decimal mark elsewhere: no ambiguity
         cell = m.group(0)
         i = text.count("\n", 0, m.start())
@@ -731,7 +738,7 @@ def _table_to_frame(table: RawTable, *, columns, units, temperature_C):
         if key not in known:
             raise DataError(f"{where(table.path)}unit override for {key!r} must name a column "
                             f"header or a role; columns found: {', '.join(table.header)}")
-    frame, labels, units_read, kinds, assumed = {}, {}, {}, set(), []
+    frame, labels, units_read, kinds, assumed, marks = {}, {}, {}, set(), [], {}
     for j, m in meanings.items():
         header = table.header[j]
         unit_text = units.get(header, units.get(m.role, m.unit))
@@ -743,7 +750,7 @@ def _table_to_frame(table: RawTable, *, columns, units, temperature_C):
             unit = parse_unit(unit_text, kind=UNIT_KIND_OF_ROLE[m.role])
         except DataError as exc:
             raise DataError(f"{where(table.path, header)}{exc}") from None
-        values = _column_floats(table, j, header, empty_allowed=m.role not in (
+        values = _column_floats(table, j, header, marks=marks, empty_allowed=m.role not in (
             "temperature_K", "frequency_rad_s", "time_s"))
         with np.errstate(over="ignore", invalid="ignore"):
             si = unit.to_si(values)
