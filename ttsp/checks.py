@@ -46,6 +46,7 @@ from __future__ import annotations
 
 import html
 import math
+import weakref
 from dataclasses import dataclass, field
 from types import MappingProxyType
 from typing import Callable, Mapping
@@ -307,7 +308,30 @@ def _log_or_linear(quantity: str, values: np.ndarray) -> np.ndarray:
         return np.where(v > 0, np.log10(np.where(v > 0, v, 1.0)), np.nan)
 
 
+# Noise estimates by campaign identity (campaigns compare by value, so they are not hashable);
+# a weak reference tells a live entry from a recycled id. Several checks need the same estimate.
+_NOISE_CACHE: dict = {}
+_NOISE_CACHE_SIZE = 16
+
+
 def estimate_noise(campaign: Campaign) -> dict:
+    """Noise of every material function of every isotherm (computed once per campaign; see
+    :func:`_estimate_noise`). Treat the returned dict as read-only."""
+    hit = _NOISE_CACHE.get(id(campaign))
+    if hit is not None and hit[0]() is campaign:
+        return hit[1]
+    noise = _estimate_noise(campaign)
+    try:
+        ref = weakref.ref(campaign)
+    except TypeError:  # not weak-referenceable: nothing to cache
+        return noise
+    if len(_NOISE_CACHE) >= _NOISE_CACHE_SIZE:
+        _NOISE_CACHE.pop(next(iter(_NOISE_CACHE)))
+    _NOISE_CACHE[id(campaign)] = (ref, noise)
+    return noise
+
+
+def _estimate_noise(campaign: Campaign) -> dict:
     """Noise of every material function of every isotherm, from third differences.
 
     The noise of a positive quantity is the standard deviation of its log10 values (decades;

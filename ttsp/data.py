@@ -242,6 +242,9 @@ class Campaign:
         """
         if self.domain != "frequency":
             return self
+        cached = self.__dict__.get("_derived")
+        if cached is not None:  # a frozen campaign derives the same functions every time
+            return cached
         new = []
         for iso in self.isotherms:
             v = dict(iso.values)
@@ -259,8 +262,11 @@ class Campaign:
                 v.setdefault("complex_modulus_Pa", np.hypot(ep, epp))
                 v.setdefault("phase_angle_rad", np.arctan2(epp, ep))
             new.append(Isotherm(iso.temperature_K, iso.x, v, iso.source_rows))
-        return Campaign(tuple(new), self.domain, self.modulus_kind, self.source,
+        derived = Campaign(tuple(new), self.domain, self.modulus_kind, self.source,
                         self.units_as_read, self.metadata, self.dropped_rows)
+        object.__setattr__(derived, "_derived", derived)
+        object.__setattr__(self, "_derived", derived)
+        return derived
 
     # ---- frames ------------------------------------------------------------------------------
     def to_frame(self):
