@@ -59,7 +59,7 @@ HERE = Path(__file__).resolve().parent
 ROOT = HERE.parent
 sys.path.insert(0, str(HERE))
 
-from generator import prony_storage_loss, spectrum  # noqa: E402
+from generator import prony_storage_loss, spectrum
 
 R_GAS = 8.314462618  # J/(mol K), CODATA 2018 (exact since the 2019 SI)
 EA_J_PER_MOL = 88e3
@@ -97,27 +97,29 @@ def run_child(args, memory_cap_gb: float, timeout_s: float) -> dict:
         resource.setrlimit(resource.RLIMIT_AS, (cap, cap))
 
     env = {**os.environ, "PYTHONPATH": str(ROOT)}
-    err = tempfile.TemporaryFile()
-    t0 = time.perf_counter()
-    proc = subprocess.Popen([sys.executable, "-m", "ttsp"] + args, stdout=subprocess.DEVNULL,
-                            stderr=err, env=env, preexec_fn=limit, start_new_session=True)
-    status, rusage, timed_out = None, None, False
-    deadline = t0 + timeout_s
-    while status is None:
-        pid, st, ru = os.wait4(proc.pid, os.WNOHANG)
-        if pid:
-            status, rusage = st, ru
-            break
-        if time.perf_counter() > deadline:
-            os.killpg(proc.pid, signal.SIGKILL)
-            _, status, rusage = os.wait4(proc.pid, 0)
-            timed_out = True
-            break
-        time.sleep(0.05)
-    wall = time.perf_counter() - t0
-    proc.returncode = os.waitstatus_to_exitcode(status)
-    err.seek(0)
-    stderr = err.read().decode("utf-8", "replace")
+    with tempfile.TemporaryFile() as err:
+        t0 = time.perf_counter()
+        # (preexec_fn is safe here: this script runs no threads)
+        proc = subprocess.Popen([sys.executable, "-m", "ttsp"] + args, stdout=subprocess.DEVNULL,
+                                stderr=err, env=env, preexec_fn=limit,  # noqa: PLW1509
+                                start_new_session=True)
+        status, rusage, timed_out = None, None, False
+        deadline = t0 + timeout_s
+        while status is None:
+            pid, st, ru = os.wait4(proc.pid, os.WNOHANG)
+            if pid:
+                status, rusage = st, ru
+                break
+            if time.perf_counter() > deadline:
+                os.killpg(proc.pid, signal.SIGKILL)
+                _, status, rusage = os.wait4(proc.pid, 0)
+                timed_out = True
+                break
+            time.sleep(0.05)
+        wall = time.perf_counter() - t0
+        proc.returncode = os.waitstatus_to_exitcode(status)
+        err.seek(0)
+        stderr = err.read().decode("utf-8", "replace")
     return {"wall_s": wall, "peak_rss_gb": rusage.ru_maxrss * 1024 / 1e9,
             "exit": proc.returncode, "timed_out": timed_out, "stderr": stderr}
 
