@@ -49,6 +49,10 @@ def guarded(func):
         except KeyboardInterrupt:
             _say_error("interrupted")
             raise typer.Exit(130) from None
+        except MemoryError:
+            _say_error("the campaign is too large for this machine's memory; split it, or thin "
+                       "each isotherm to fewer points")
+            raise typer.Exit(EXIT_BAD_INPUT) from None
         except Exception as exc:  # an internal error: ask for a report
             if hasattr(exc, "format_message") and isinstance(getattr(exc, "exit_code", None), int):
                 raise  # a usage error of the command-line framework: main() reports it

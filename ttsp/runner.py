@@ -13,6 +13,8 @@ from pathlib import Path
 
 import typer
 
+from .exceptions import DataError
+
 __all__ = ["Progress", "read_inputs", "run_build", "parse_pairs"]
 
 
@@ -105,8 +107,14 @@ def run_build(inputs, options, out: Path, *, figures: bool, force: bool, quiet: 
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
         campaign = read_inputs(inputs, column, unit, sheet, tolerance, modulus_kind)
-        result = build(campaign, options, input_sha256=hash_inputs(inputs),
-                       input_files=[Path(p).name for p in inputs], progress=progress)
+        try:
+            result = build(campaign, options, input_sha256=hash_inputs(inputs),
+                           input_files=[Path(p).name for p in inputs], progress=progress)
+        except DataError as exc:  # found while fitting: say which input it is about
+            source = str(campaign.source)
+            if source and not str(exc).startswith(source):
+                raise DataError(f"{source}: {exc}") from None
+            raise
     progress("writing")
     created = datetime.datetime.now(datetime.timezone.utc).strftime("%Y-%m-%dT%H:%M:%SZ")
     with atomic_output_dir(out, force=force, protect=inputs) as tmp, \

@@ -356,6 +356,23 @@ def _gauge_weights(temps_K, t_ref):
 
 
 # ---- the fit ----------------------------------------------------------------------------------
+#: Isotherms with more points than this are thinned for the joint fit (evenly by rank along x):
+#: a few dozen points per isotherm determine its shift to the noise limit, while the cost of the
+#: fit grows with the number of points (a 500-isotherm, 1e6-point campaign would not fit in
+#: memory). The standard errors then describe the points used, so they err on the safe side.
+MAX_FIT_POINTS_PER_ISOTHERM = 60
+#: No instrument sweeps more than this many decades of frequency or time in one isotherm; more
+#: means a wrong unit or a corrupt column (and would overflow the master-curve model).
+MAX_DECADES_PER_ISOTHERM = 30.0
+
+
+def _thinned_indices(n_points: int, limit: int) -> np.ndarray:
+    """All indices when ``n_points <= limit``, else ``limit`` indices spread evenly by rank."""
+    if n_points <= limit:
+        return np.arange(n_points)
+    return np.unique(np.round(np.linspace(0, n_points - 1, limit)).astype(int))
+
+
 def shift_isotherms(campaign: Campaign, reference_temperature_K: float | None = None, *,
                     quantities: str | Sequence[str] = "auto", vertical: str = "none",
                     expansion_coefficient_per_K: float | None = None,
@@ -498,6 +515,25 @@ def shift_isotherms(campaign: Campaign, reference_temperature_K: float | None = 
                 ly = np.where(np.isfinite(val) & (val > 0), np.log10(val), np.nan)
             cols.append(ly - v * c_known[k])
         Y.append(np.column_stack(cols))
+
+    for k, xk in enumerate(X):
+        span = float(xk.max() - xk.min()) if xk.size else 0.0
+        if span > MAX_DECADES_PER_ISOTHERM:
+            what = campaign.x_name.split("_")[0]
+            raise DataError(f"{campaign.source + ': ' if campaign.source else ''}the isotherm at "
+                            f"{kelvin_to_celsius(temps[k]):g} °C spans {span:.0f} decades of "
+                            f"{what}; a measurement spans at most {MAX_DECADES_PER_ISOTHERM:g} "
+                            f"(check the {what} column and its unit)")
+
+    # Dense isotherms are thinned for the fit (every point is still shifted and reported)
+    kept = [_thinned_indices(xk.size, MAX_FIT_POINTS_PER_ISOTHERM) for xk in X]
+    if any(kk.size < xk.size for kk, xk in zip(kept, X)):
+        notes.append(f"isotherms with more than {MAX_FIT_POINTS_PER_ISOTHERM} points were thinned "
+                     f"to {MAX_FIT_POINTS_PER_ISOTHERM} points evenly spread in "
+                     f"{campaign.x_name.split('_')[0]} for the shift fit; every point is shifted "
+                     f"and reported, outliers are looked for among the points fitted")
+        X = [xk[kk] for xk, kk in zip(X, kept)]
+        Y = [yk[kk] for yk, kk in zip(Y, kept)]
 
     def gap_view(Yk):
         if not fit_vertical:
@@ -643,10 +679,10 @@ def shift_isotherms(campaign: Campaign, reference_temperature_K: float | None = 
         for a, k in enumerate(comp):
             sel = f["iso"] == a
             pts = f["point"][sel]
-            np.logical_or.at(outlier_mask[k], pts, out[sel])
+            np.logical_or.at(outlier_mask[k], kept[k][pts], out[sel])
         for a, k in enumerate(comp):
             sel = f["iso"] == a
-            pt_out = outlier_mask[k][f["point"][sel]]
+            pt_out = outlier_mask[k][kept[k][f["point"][sel]]]
             res = sol.residual[sel][~pt_out]
             uu = sol.u[sel][~pt_out]
             sq_all += float(np.sum(res ** 2))

@@ -264,26 +264,59 @@ class BuildResult:
                 + (f"<b>warnings</b><ul>{warns}</ul>" if warns else "") + "</div>")
 
 
+#: The Prony fit uses at most this many master-curve points (evenly by rank of reduced x): a
+#: 40-term non-negative fit is fully determined by far fewer, and its cost grows with the points.
+MAX_PRONY_POINTS = 20_000
+#: The checks compare isotherms point by point; beyond this many points per isotherm they look
+#: at an even subset (their verdicts are about curves, not single points).
+MAX_CHECK_POINTS_PER_ISOTHERM = 60
+
+
+def _evenly(n: int, limit: int) -> np.ndarray:
+    return np.arange(n) if n <= limit else np.unique(np.round(np.linspace(0, n - 1, limit)).astype(int))
+
+
 def _fit_prony(campaign: Campaign, shifts, options: BuildOptions):
     from .prony import fit_prony_frequency, fit_prony_time
 
     frame = shifts.shifted_frame(campaign)
+    x_name = "reduced_frequency_rad_s" if campaign.domain == "frequency" else "reduced_time_s"
     if campaign.domain == "frequency":
-        ok = frame[["storage_modulus_Pa", "loss_modulus_Pa"]].notna().all(axis=1)
-        if "outlier" in frame:
-            ok &= ~frame["outlier"].astype(bool)
-        return fit_prony_frequency(frame.loc[ok, "reduced_frequency_rad_s"].to_numpy(),
-                                   frame.loc[ok, "storage_modulus_Pa"].to_numpy(),
-                                   frame.loc[ok, "loss_modulus_Pa"].to_numpy(),
-                                   terms_per_decade=options.prony_terms_per_decade)
-    quantity = ("relaxation_modulus" if "relaxation_modulus_Pa" in campaign.quantities
-                else "creep_compliance")
-    column = "relaxation_modulus_Pa" if quantity == "relaxation_modulus" else "creep_compliance_1_per_Pa"
-    ok = frame[column].notna()
+        columns = ["storage_modulus_Pa", "loss_modulus_Pa"]
+        quantity = None
+    else:
+        quantity = ("relaxation_modulus" if "relaxation_modulus_Pa" in campaign.quantities
+                    else "creep_compliance")
+        columns = ["relaxation_modulus_Pa" if quantity == "relaxation_modulus"
+                   else "creep_compliance_1_per_Pa"]
+    ok = frame[columns].notna().all(axis=1)
     if "outlier" in frame:
         ok &= ~frame["outlier"].astype(bool)
-    return fit_prony_time(frame.loc[ok, "reduced_time_s"].to_numpy(), frame.loc[ok, column].to_numpy(),
-                          quantity=quantity, terms_per_decade=options.prony_terms_per_decade)
+    used = frame.loc[ok].sort_values(x_name)
+    used = used.iloc[_evenly(len(used), MAX_PRONY_POINTS)]
+    if campaign.domain == "frequency":
+        return fit_prony_frequency(used[x_name].to_numpy(), used[columns[0]].to_numpy(),
+                                   used[columns[1]].to_numpy(),
+                                   terms_per_decade=options.prony_terms_per_decade)
+    return fit_prony_time(used[x_name].to_numpy(), used[columns[0]].to_numpy(), quantity=quantity,
+                          terms_per_decade=options.prony_terms_per_decade)
+
+
+def _thin_for_checks(campaign: Campaign, shifts):
+    """The campaign and shift result restricted to an even subset of each dense isotherm."""
+    import dataclasses
+
+    from .data import Isotherm
+
+    picks = [_evenly(iso.n_points, MAX_CHECK_POINTS_PER_ISOTHERM) for iso in campaign.isotherms]
+    if all(p.size == iso.n_points for p, iso in zip(picks, campaign.isotherms)):
+        return campaign, shifts
+    isos = tuple(Isotherm(iso.temperature_K, iso.x[p], {k: v[p] for k, v in iso.values.items()},
+                          iso.source_rows[p]) for iso, p in zip(campaign.isotherms, picks))
+    thin = Campaign(isos, campaign.domain, campaign.modulus_kind, campaign.source,
+                    campaign.units_as_read, campaign.metadata, campaign.dropped_rows)
+    mask = tuple(np.asarray(m)[p] for m, p in zip(shifts.outlier_mask, picks))
+    return thin, dataclasses.replace(shifts, outlier_mask=mask)
 
 
 def build(campaign: Campaign, options: BuildOptions | None = None, *, input_sha256: str | None = None,
@@ -351,7 +384,9 @@ def build(campaign: Campaign, options: BuildOptions | None = None, *, input_sha2
             prony_fit = _with_series(prony_fit, series)
         model = ViscoelasticModel(series, law_fit.law)
         step("checks")
-        checks = tuple(run_checks(campaign, shifts=shifts, law_fit=law_fit, prony_fit=prony_fit))
+        check_campaign, check_shifts = _thin_for_checks(campaign, shifts)
+        checks = tuple(run_checks(check_campaign, shifts=check_shifts, law_fit=law_fit,
+                                  prony_fit=prony_fit))
         glass = None
         if campaign.domain == "frequency":
             from .transition import estimate_glass_transition
