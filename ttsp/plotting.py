@@ -25,9 +25,8 @@ from pathlib import Path
 
 import numpy as np
 
-from .units import DISPLAY_MODULUS_UNITS, display_modulus_unit
 from ._validation import bad_value, check_choice
-from .units import kelvin_to_celsius
+from .units import DISPLAY_MODULUS_UNITS, display_modulus_unit, kelvin_to_celsius
 
 __all__ = [
     "FIGURE_NAMES",
@@ -1022,21 +1021,27 @@ def plot_frequency_functions(result, ax=None):
 # ------------------------------------------------------------------------------------------
 # all figures of a build, and saving them
 # ------------------------------------------------------------------------------------------
-def render_figures(result) -> dict:
-    """Every figure of a build as ``{name: matplotlib Figure}`` (names in :data:`FIGURE_NAMES`).
+def render_figures(result, names=None) -> dict:
+    """Every figure of a build (or those in ``names``) as ``{name: matplotlib Figure}``.
 
-    ``frequency_functions`` is made for every build: a series fitted to time-domain data has a
-    frequency response too (Ferry 1980, ch. 3), it is simply further from the measurements.
+    Names are those of :data:`FIGURE_NAMES`. ``frequency_functions`` is made for every build: a
+    series fitted to time-domain data has a frequency response too (Ferry 1980, ch. 3), it is
+    simply further from the measurements.
     """
-    figures = {}
-    figures["isotherms"] = plot_isotherms(result.campaign).figure
-    figures["master_curve"] = plot_master_curve(result).figure
-    figures["shift_factors"] = plot_shift_factors(result).figure
-    figures["prony_fit"] = plot_prony_fit(result)[0].figure
-    figures["time_functions"] = plot_time_functions(result).figure
-    figures["frequency_functions"] = plot_frequency_functions(result).figure
-    figures["superposition_check"] = plot_superposition_check(result.campaign).figure
-    return figures
+    makers = {
+        "isotherms": lambda: plot_isotherms(result.campaign).figure,
+        "master_curve": lambda: plot_master_curve(result).figure,
+        "shift_factors": lambda: plot_shift_factors(result).figure,
+        "prony_fit": lambda: plot_prony_fit(result)[0].figure,
+        "time_functions": lambda: plot_time_functions(result).figure,
+        "frequency_functions": lambda: plot_frequency_functions(result).figure,
+        "superposition_check": lambda: plot_superposition_check(result.campaign).figure,
+    }
+    wanted = FIGURE_NAMES if names is None else tuple(names)
+    unknown = [n for n in wanted if n not in makers]
+    if unknown:
+        raise bad_value("names", "figure names from FIGURE_NAMES", unknown)
+    return {name: makers[name]() for name in wanted}
 
 
 def save_figures(figures, folder) -> dict:

@@ -62,36 +62,37 @@ _FIGURE_GROUPS = (("prony_fit", "isotherms", "superposition_check"),
                   ("master_curve", "shift_factors", "time_functions", "frequency_functions"))
 
 
-def save_figures_in_parallel(figures: dict, folder, *, parallel: bool = True) -> dict:
-    """Save figures as PNG and SVG, half of them in a forked child process when the machine has
-    two or more cores (drawing dominates the wall time of a build with figures).
+def draw_figures(result, folder, *, parallel: bool = True) -> dict:
+    """Render and save every figure as PNG and SVG; with ``parallel``, half of them in a forked
+    child process when the machine has two or more cores (drawing dominates the wall time of a
+    build with figures). Returns ``{name: {"png": path, "svg": path}}``.
 
     Falls back to one process where ``os.fork`` is missing or only one core is available.
     """
     import os
 
-    from .plotting import save_figures
+    from .plotting import FIGURE_NAMES, render_figures, save_figures
 
-    first = {k: v for k, v in figures.items() if k in _FIGURE_GROUPS[0]}
-    rest = {k: v for k, v in figures.items() if k not in first}
-    if not (parallel and hasattr(os, "fork") and (os.cpu_count() or 1) > 1 and first and rest):
-        return save_figures(figures, folder)
+    first = [n for n in FIGURE_NAMES if n in _FIGURE_GROUPS[0]]
+    rest = [n for n in FIGURE_NAMES if n not in first]
+    if not (parallel and hasattr(os, "fork") and (os.cpu_count() or 1) > 1):
+        return save_figures(render_figures(result), folder)
     pid = os.fork()
     if pid == 0:  # the child draws its half and leaves at once, running no cleanup of the parent
         code = 1
         try:
-            save_figures(first, folder)
+            save_figures(render_figures(result, first), folder)
             code = 0
         finally:
             os._exit(code)
-    saved = save_figures(rest, folder)
+    saved = save_figures(render_figures(result, rest), folder)
     _, status = os.waitpid(pid, 0)
     if os.waitstatus_to_exitcode(status) != 0:  # redo the child's half here rather than fail
-        saved.update(save_figures(first, folder))
+        saved.update(save_figures(render_figures(result, first), folder))
     else:
         folder = Path(folder)
         saved.update({k: {"png": folder / f"{k}.png", "svg": folder / f"{k}.svg"} for k in first})
-    return saved
+    return {name: saved[name] for name in FIGURE_NAMES if name in saved}
 
 
 def run_build(inputs, options, out: Path, *, figures: bool, force: bool, quiet: bool,
@@ -122,11 +123,9 @@ def run_build(inputs, options, out: Path, *, figures: bool, force: bool, quiet: 
         warnings.simplefilter("ignore")  # everything worth saying is in result.warnings already
         write_build_numbers(result, tmp, created_utc=created)
         if figures:
-            from .plotting import render_figures
             from .report import render_report
 
-            figs = render_figures(result)
-            saved = save_figures_in_parallel(figs, tmp, parallel=parallel_figures)
+            saved = draw_figures(result, tmp, parallel=parallel_figures)
             svg = {name: Path(paths["svg"]).read_text(encoding="utf-8") for name, paths in saved.items()}
             (tmp / "report.html").write_text(render_report(result, svg, created_utc=created),
                                              encoding="utf-8")
