@@ -813,7 +813,7 @@ def run_batch(manifest, out_dir, *, workers: int | None = None, figures: bool = 
                             f"itself; choose another, such as {source / 'out'}")
         items = [i for i in items if i.paths[0].resolve() != out.resolve()]
     out.mkdir(parents=True, exist_ok=True)
-    from .workflow import hash_inputs
+    from .io.readers import hash_inputs
 
     table = _Table(out, [i.id for i in items])
     reporter = _Reporter(len(items), progress=progress, quiet=quiet)

@@ -101,7 +101,8 @@ def run_build(inputs, options, out: Path, *, figures: bool, force: bool, quiet: 
     """Read, build and write one campaign's outputs atomically. Returns (result, out folder)."""
     from .io.atomic import atomic_output_dir
     from .io.writers import write_build_numbers
-    from .workflow import build, hash_inputs
+    from .io.readers import hash_inputs
+    from .workflow import build
 
     progress = Progress(quiet)
     progress("reading")

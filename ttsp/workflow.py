@@ -8,7 +8,6 @@ import hashlib
 import math
 import warnings
 from dataclasses import asdict, dataclass
-from pathlib import Path
 
 import numpy as np
 
@@ -19,7 +18,7 @@ from .exceptions import DataError, TtspWarning
 from .units import celsius_to_kelvin, kelvin_to_celsius
 
 __all__ = ["BuildOptions", "BuildResult", "build", "LAW_CHOICES", "VERTICAL_CHOICES",
-           "SHIFT_ON_CHOICES", "hash_inputs", "SCHEMA_VERSION"]
+           "SHIFT_ON_CHOICES", "SCHEMA_VERSION"]
 
 SCHEMA_VERSION = "1"
 LAW_CHOICES = ("auto", "wlf", "arrhenius", "wlf-arrhenius", "vft", "polynomial")
@@ -84,25 +83,6 @@ class BuildOptions:
         rows = "".join(f"<tr><th style='text-align:left'>{escape(k)}</th><td>{escape(str(v))}</td></tr>"
                        for k, v in self.to_dict().items())
         return f"<div><b>Build options</b><table>{rows}</table></div>"
-
-
-def hash_inputs(paths) -> str:
-    """SHA-256 over the bytes of the input files in sorted path order (folders expanded)."""
-    from .io.readers import TABLE_SUFFIXES  # layer-4 constant only; no reading here
-
-    files = []
-    for p in ([paths] if isinstance(paths, (str, Path)) else paths):
-        p = Path(p)
-        if p.is_dir():
-            files += sorted(q for q in p.iterdir() if q.suffix.lower() in TABLE_SUFFIXES
-                            and not q.name.startswith("."))
-        else:
-            files.append(p)
-    h = hashlib.sha256()
-    for f in sorted(files, key=lambda q: q.name):
-        h.update(f.name.encode("utf-8") + b"\0")
-        h.update(f.read_bytes())
-    return h.hexdigest()
 
 
 def _campaign_hash(campaign: Campaign) -> str:
@@ -330,7 +310,8 @@ def build(campaign: Campaign, options: BuildOptions | None = None, *, input_sha2
     options : BuildOptions, optional
         Settings; alternatively give them as keywords (``reference_temperature_C=25``, ``law="wlf"``).
     input_sha256 : str, optional
-        Hash of the input files (the CLI passes it); default: a hash of the campaign's numbers.
+        Hash of the input files (the CLI passes :func:`ttsp.io.readers.hash_inputs`);
+        default: a hash of the campaign's numbers.
     progress : callable, optional
         Called with the name of each step as it starts (the CLI prints them).
 

@@ -40,7 +40,8 @@ from ..exceptions import DataError, DroppedRowsWarning
 from ..units import parse_unit
 from .headers import DEFAULT_UNIT, UNIT_KIND_OF_ROLE, HeaderMeaning, interpret_header
 
-__all__ = ["read_campaign", "read_table", "RawTable", "TEXT_SUFFIXES", "TABLE_SUFFIXES",
+__all__ = ["read_campaign", "hash_inputs", "read_table", "RawTable", "TEXT_SUFFIXES",
+           "TABLE_SUFFIXES",
            "DEFAULT_MAX_POINTS", "MAX_POINTS_ENV"]
 
 TEXT_SUFFIXES = (".csv", ".txt", ".tsv", ".dat", ".tab", ".asc")
@@ -831,6 +832,19 @@ def _expand(paths) -> list:
     if not files:
         raise DataError("no input files given")
     return files
+
+
+def hash_inputs(paths) -> str:
+    """SHA-256 over the names and bytes of the input files (folders expanded as
+    :func:`read_campaign` expands them), in file-name order, so the same inputs give the same
+    hash wherever they lie."""
+    import hashlib
+
+    h = hashlib.sha256()
+    for f in sorted((Path(q) for q in _expand(paths)), key=lambda q: q.name):
+        h.update(f.name.encode("utf-8") + b"\0")
+        h.update(f.read_bytes())
+    return h.hexdigest()
 
 
 def read_campaign(paths, *, columns: Mapping[str, str] | None = None,
