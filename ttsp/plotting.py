@@ -1021,6 +1021,16 @@ def plot_frequency_functions(result, ax=None):
 # ------------------------------------------------------------------------------------------
 # all figures of a build, and saving them
 # ------------------------------------------------------------------------------------------
+#: Figures that need only the measured campaign (they can be drawn before any fitting).
+CAMPAIGN_FIGURES = ("isotherms", "superposition_check")
+
+
+def render_campaign_figures(campaign) -> dict:
+    """The figures of :data:`CAMPAIGN_FIGURES`, which need no shift, law or series."""
+    return {"isotherms": plot_isotherms(campaign).figure,
+            "superposition_check": plot_superposition_check(campaign).figure}
+
+
 def render_figures(result, names=None) -> dict:
     """Every figure of a build (or those in ``names``) as ``{name: matplotlib Figure}``.
 

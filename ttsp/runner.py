@@ -57,41 +57,110 @@ class Progress:
         self.name = None
 
 
-# Figures split into two groups of about equal drawing cost, for two processes.
-_FIGURE_GROUPS = (("prony_fit", "isotherms", "superposition_check"),
-                  ("master_curve", "shift_factors", "time_functions", "frequency_functions"))
+# The figures drawn after the fit, in two groups of about equal drawing cost for two processes;
+# the figures of the measured data alone are drawn earlier, while the fit runs.
+_FIGURE_GROUPS = (("prony_fit", "time_functions"),
+                  ("master_curve", "shift_factors", "frequency_functions"))
 
 
-def draw_figures(result, folder, *, parallel: bool = True) -> dict:
-    """Render and save every figure as PNG and SVG; with ``parallel``, half of them in a forked
-    child process when the machine has two or more cores (drawing dominates the wall time of a
-    build with figures). Returns ``{name: {"png": path, "svg": path}}``.
-
-    Falls back to one process where ``os.fork`` is missing or only one core is available.
-    """
+def _can_fork() -> bool:
     import os
 
-    from .plotting import FIGURE_NAMES, render_figures, save_figures
+    return hasattr(os, "fork") and (os.cpu_count() or 1) > 1
 
-    first = [n for n in FIGURE_NAMES if n in _FIGURE_GROUPS[0]]
-    rest = [n for n in FIGURE_NAMES if n not in first]
-    if not (parallel and hasattr(os, "fork") and (os.cpu_count() or 1) > 1):
-        return save_figures(render_figures(result), folder)
+
+def _fork_drawing(render, folder: Path, *, private: bool = False) -> int:
+    """Fork a child that renders figures with ``render()`` and saves them into ``folder``;
+    returns its pid. The child leaves with ``os._exit`` and runs no cleanup of the parent; a
+    ``private`` folder it removes itself if the parent was killed meanwhile."""
+    import os
+    import shutil
+
+    from .plotting import save_figures
+
+    parent = os.getpid()
     pid = os.fork()
-    if pid == 0:  # the child draws its half and leaves at once, running no cleanup of the parent
+    if pid == 0:
         code = 1
         try:
-            save_figures(render_figures(result, first), folder)
+            save_figures(render(), folder)
             code = 0
         finally:
+            if private and os.getppid() != parent:  # orphaned: nobody will collect the files
+                shutil.rmtree(folder, ignore_errors=True)
             os._exit(code)
-    saved = save_figures(render_figures(result, rest), folder)
+    return pid
+
+
+def _child_ok(pid: int) -> bool:
+    import os
+
     _, status = os.waitpid(pid, 0)
-    if os.waitstatus_to_exitcode(status) != 0:  # redo the child's half here rather than fail
-        saved.update(save_figures(render_figures(result, first), folder))
+    return os.waitstatus_to_exitcode(status) == 0
+
+
+def start_campaign_figures(campaign, out):
+    """Start drawing the figures of the measured data in a child process (two or more cores),
+    so that they are ready when the fit ends. Returns a handle for :func:`draw_figures`, or None.
+    The child draws into a scratch folder beside ``out`` that a later run removes if this one is
+    killed.
+    """
+    if not _can_fork():
+        return None
+    from .io.atomic import scratch_dir
+    from .plotting import render_campaign_figures
+
+    folder = scratch_dir(out)
+    return _fork_drawing(lambda: render_campaign_figures(campaign), folder, private=True), folder
+
+
+def discard_campaign_figures(handle) -> None:
+    """Wait for an early drawing child and remove what it drew (the build failed)."""
+    import shutil
+
+    if handle is not None:
+        _child_ok(handle[0])
+        shutil.rmtree(handle[1], ignore_errors=True)
+
+
+def draw_figures(result, folder, *, parallel: bool = True, early=None) -> dict:
+    """Render and save every figure as PNG and SVG. Returns ``{name: {"png", "svg"}}``.
+
+    With ``parallel`` and two or more cores, one group of figures is drawn in a forked child
+    while this process draws the other (drawing dominates the wall time of a build with
+    figures); ``early`` is the handle of :func:`start_campaign_figures`, whose files are moved
+    in. Whatever a child fails to draw is drawn here, so the result never depends on forking.
+    """
+    import shutil
+
+    from .plotting import CAMPAIGN_FIGURES, FIGURE_NAMES, render_campaign_figures, \
+        render_figures, save_figures
+
+    folder = Path(folder)
+    saved = {}
+    later = [n for n in FIGURE_NAMES if n not in CAMPAIGN_FIGURES]
+    pid = None
+    if parallel and _can_fork():
+        first = [n for n in later if n in _FIGURE_GROUPS[0]]
+        later = [n for n in later if n not in first]
+        pid = _fork_drawing(lambda: render_figures(result, first), folder)
+    saved.update(save_figures(render_figures(result, later), folder))
+    if pid is not None:
+        if _child_ok(pid):
+            saved.update({k: {"png": folder / f"{k}.png", "svg": folder / f"{k}.svg"}
+                          for k in first})
+        else:
+            saved.update(save_figures(render_figures(result, first), folder))
+    if early is not None and _child_ok(early[0]) and all(
+            (early[1] / f"{k}.{e}").is_file() for k in CAMPAIGN_FIGURES for e in ("png", "svg")):
+        for k in CAMPAIGN_FIGURES:
+            for e in ("png", "svg"):
+                shutil.move(early[1] / f"{k}.{e}", folder / f"{k}.{e}")
+            saved[k] = {"png": folder / f"{k}.png", "svg": folder / f"{k}.svg"}
     else:
-        folder = Path(folder)
-        saved.update({k: {"png": folder / f"{k}.png", "svg": folder / f"{k}.svg"} for k in first})
+        saved.update(save_figures(render_campaign_figures(result.campaign), folder))
+    if early is not None:
+        shutil.rmtree(early[1], ignore_errors=True)
     return {name: saved[name] for name in FIGURE_NAMES if name in saved}
 
 
@@ -109,27 +178,38 @@ def run_build(inputs, options, out: Path, *, figures: bool, force: bool, quiet: 
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
         campaign = read_inputs(inputs, column, unit, sheet, tolerance, modulus_kind)
+        early = (start_campaign_figures(campaign, out) if figures and parallel_figures
+                 else None)
         try:
             result = build(campaign, options, input_sha256=hash_inputs(inputs),
                            input_files=[Path(p).name for p in inputs], progress=progress)
         except DataError as exc:  # found while fitting: say which input it is about
+            discard_campaign_figures(early)
             source = str(campaign.source)
             if source and not str(exc).startswith(source):
                 raise DataError(f"{source}: {exc}") from None
             raise
+        except BaseException:
+            discard_campaign_figures(early)
+            raise
     progress("writing")
     created = datetime.datetime.now(datetime.timezone.utc).strftime("%Y-%m-%dT%H:%M:%SZ")
-    with atomic_output_dir(out, force=force, protect=inputs) as tmp, \
-            warnings.catch_warnings():
-        warnings.simplefilter("ignore")  # everything worth saying is in result.warnings already
-        write_build_numbers(result, tmp, created_utc=created)
-        if figures:
-            from .report import render_report
+    try:
+        with atomic_output_dir(out, force=force, protect=inputs) as tmp, \
+                warnings.catch_warnings():
+            warnings.simplefilter("ignore")  # all worth saying is in result.warnings already
+            write_build_numbers(result, tmp, created_utc=created)
+            if figures:
+                from .report import render_report
 
-            saved = draw_figures(result, tmp, parallel=parallel_figures)
-            svg = {name: Path(paths["svg"]).read_text(encoding="utf-8") for name, paths in saved.items()}
-            (tmp / "report.html").write_text(render_report(result, svg, created_utc=created),
-                                             encoding="utf-8")
+                saved = draw_figures(result, tmp, parallel=parallel_figures, early=early)
+                early = None
+                svg = {name: Path(paths["svg"]).read_text(encoding="utf-8")
+                       for name, paths in saved.items()}
+                (tmp / "report.html").write_text(render_report(result, svg, created_utc=created),
+                                                 encoding="utf-8")
+    finally:
+        discard_campaign_figures(early)
     progress.done()
     return result, Path(out)
 

@@ -21,7 +21,7 @@ from pathlib import Path
 
 from ..exceptions import DataError
 
-__all__ = ["atomic_output_dir", "write_text_atomic"]
+__all__ = ["atomic_output_dir", "write_text_atomic", "scratch_dir"]
 
 _PREFIX = ".ttsp-tmp-"
 
@@ -49,6 +49,14 @@ def _remove_stale(dest: Path) -> None:
         m = own.match(stale.name)
         if m and not _process_alive(int(m.group(1))):
             shutil.rmtree(stale, ignore_errors=True)
+
+
+def scratch_dir(destination) -> Path:
+    """A private temporary folder beside ``destination``, named like the output's own temporary
+    folders, so that a later run removes it if this process is killed before it does."""
+    dest = Path(destination).resolve()
+    dest.parent.mkdir(parents=True, exist_ok=True)
+    return Path(tempfile.mkdtemp(prefix=_tmp_prefix(dest), dir=dest.parent))
 
 
 def _umask() -> int:
