@@ -821,3 +821,22 @@ def test_module_does_not_load_matplotlib():
     code = ("import sys, ttsp.checks; "
             "sys.exit(1 if any(m.startswith('matplotlib') for m in sys.modules) else 0)")
     assert subprocess.run([sys.executable, "-c", code], cwd=".").returncode == 0
+
+
+def test_overlap_coverage_warns_about_low_information_shifts():
+    """The invented relaxation demo has glassy-plateau isotherms at 20–40 °C whose shifts the
+    shifting flags low-information; coverage must then warn and name them, not say that the data
+    fix every shift."""
+    from pathlib import Path
+
+    import ttsp
+
+    folder = Path(ttsp.__file__).parent / "demo_data" / "adhesive_relaxation"
+    with pytest.warns(Warning):
+        result = ttsp.build(ttsp.read_campaign(folder))
+    weak = [t for t, f in zip(result.shifts.temperature_C, result.shifts.flags)
+            if "low-information" in f]
+    assert weak, "the demo's plateau isotherms should be flagged"
+    check = next(c for c in result.checks if c.name == "overlap_coverage")
+    assert check.status == "warn"
+    assert "poorly determined" in check.message and "20 °C" in check.message

@@ -1008,15 +1008,18 @@ def check_overlap_coverage(campaign: Campaign, *, shifts=None) -> CheckResult | 
         else:
             pair["verdict"] = "ok"
         pairs.append(pair)
-    bridged = []
+    bridged, weak = [], []
     if table is not None:
         bridged = [_fmt_C(t) for t, f in zip(table.temperature_K, table.flags)
                    if any("bridg" in str(x) for x in f)]
+        weak = [_fmt_C(t) for t, f in zip(table.temperature_K, table.flags)
+                if "low-information" in f]
     value = min(p["overlap_decades"] for p in pairs)
     symbol = c.symbol(quantity)
     details = {"unit": f"decades of {symbol}", "quantity": quantity, "pairs": pairs,
                "gaps": gaps, "thin": thin, "gaps_bridged_by_tan_delta": bridged_by_tan,
-               "bridged_shifts": bridged, "noise_tolerance_decades": tolerance}
+               "bridged_shifts": bridged, "low_information_shifts": weak,
+               "noise_tolerance_decades": tolerance}
     threshold = (f">= {MIN_OVERLAP_DECADES:g} decade or >= {MIN_OVERLAP_FRACTION:.0%} of the "
                  "narrower span; no gap")
     if gaps:
@@ -1025,7 +1028,7 @@ def check_overlap_coverage(campaign: Campaign, *, shifts=None) -> CheckResult | 
                "temperatures between them, widen the frequency or time range, or bridge the gap "
                "with a shift law and treat those shifts as model-based.")
         status = "fail"
-    elif thin or bridged_by_tan or bridged:
+    elif thin or bridged_by_tan or bridged or weak:
         parts = []
         if thin:
             parts.append(f"thin overlap in {symbol} between {'; '.join(thin)}")
@@ -1034,6 +1037,9 @@ def check_overlap_coverage(campaign: Campaign, *, shifts=None) -> CheckResult | 
                          "tan δ does")
         if bridged:
             parts.append(f"shifts bridged by a law at {', '.join(bridged)}")
+        if weak:
+            parts.append(f"shifts poorly determined (a plateau or little overlap) at "
+                         f"{', '.join(weak)}")
         msg = ("Coverage is marginal: " + "; ".join(parts) + ". Those shift factors rest on "
                "little data; check them or measure at intermediate temperatures.")
         status = "warn"
