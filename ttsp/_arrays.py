@@ -15,7 +15,7 @@ import numpy as np
 from ._validation import bad_value
 
 __all__ = ["readonly", "as_1d_finite", "nonnegative_argument", "scalar_or_array", "to_plain",
-           "fmt_html"]
+           "fmt_html", "evenly_spaced_indices"]
 
 
 def readonly(a) -> np.ndarray:
@@ -85,3 +85,11 @@ def to_plain(value: Any, *, nonfinite_as_none: bool = False) -> Any:
 def fmt_html(x: float | None) -> str:
     """A number for an HTML table (an en dash for a missing one)."""
     return "&ndash;" if x is None else f"{x:.6g}"
+
+
+def evenly_spaced_indices(n: int, limit: int) -> np.ndarray:
+    """All indices ``0..n-1`` when ``n <= limit``, else ``limit`` of them spread evenly by rank
+    (used to thin dense data for fits and checks without losing its range)."""
+    if n <= limit:
+        return np.arange(n)
+    return np.unique(np.round(np.linspace(0, n - 1, limit)).astype(int))

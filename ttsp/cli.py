@@ -338,9 +338,8 @@ def predict_cmd(model: Path = typer.Argument(..., help="summary.json of a build,
     """A material function at any temperature from a build's master curve and shift law."""
     import warnings
 
-    import pandas as pd
-
-    from .model import QUANTITY_COLUMNS, TIME_QUANTITIES
+    from .model import TIME_QUANTITIES
+    from .workflow import predict
 
     if (time_grid is None) == (frequency_grid is None):
         raise typer.BadParameter("give exactly one of --time a:b:n or --frequency a:b:n",
@@ -354,14 +353,10 @@ def predict_cmd(model: Path = typer.Argument(..., help="summary.json of a build,
                                  param_hint="--frequency")
     grid = parse_grid(time_grid or frequency_grid, "--time" if is_time else "--frequency")
     m = load_model(model)
-    t_K = temperature + 273.15
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always")
-        values = m.evaluate(quantity.value, t_K, **({"time_s": grid} if is_time else
-                                                   {"frequency_Hz": grid}))
-    frame = pd.DataFrame({"temperature_C": float(temperature),
-                          ("time_s" if is_time else "frequency_Hz"): grid,
-                          QUANTITY_COLUMNS[quantity.value]: values})
+        frame = predict(m, quantity.value, float(temperature),
+                        **({"time_s": grid} if is_time else {"frequency_Hz": grid}))
     _emit_table(frame, out, caught)
 
 

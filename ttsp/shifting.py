@@ -56,6 +56,7 @@ import numpy as np
 from ._bridge import fit_offset_law
 from ._global_fit import MASTER_MODELS, JointProblem, fit_joint
 from ._overlap import ordinate_gap, pair_shift
+from ._arrays import evenly_spaced_indices
 from ._validation import bad_value, check_choice, check_finite, check_positive
 from .data import QUANTITIES, Campaign
 from .exceptions import DataError, ExtrapolationWarning, FitQualityWarning
@@ -366,13 +367,6 @@ MAX_FIT_POINTS_PER_ISOTHERM = 60
 MAX_DECADES_PER_ISOTHERM = 30.0
 
 
-def _thinned_indices(n_points: int, limit: int) -> np.ndarray:
-    """All indices when ``n_points <= limit``, else ``limit`` indices spread evenly by rank."""
-    if n_points <= limit:
-        return np.arange(n_points)
-    return np.unique(np.round(np.linspace(0, n_points - 1, limit)).astype(int))
-
-
 def shift_isotherms(campaign: Campaign, reference_temperature_K: float | None = None, *,
                     quantities: str | Sequence[str] = "auto", vertical: str = "none",
                     expansion_coefficient_per_K: float | None = None,
@@ -526,7 +520,7 @@ def shift_isotherms(campaign: Campaign, reference_temperature_K: float | None = 
                             f"(check the {what} column and its unit)")
 
     # Dense isotherms are thinned for the fit (every point is still shifted and reported)
-    kept = [_thinned_indices(xk.size, MAX_FIT_POINTS_PER_ISOTHERM) for xk in X]
+    kept = [evenly_spaced_indices(xk.size, MAX_FIT_POINTS_PER_ISOTHERM) for xk in X]
     if any(kk.size < xk.size for kk, xk in zip(kept, X)):
         notes.append(f"isotherms with more than {MAX_FIT_POINTS_PER_ISOTHERM} points were thinned "
                      f"to {MAX_FIT_POINTS_PER_ISOTHERM} points evenly spread in "

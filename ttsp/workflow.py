@@ -12,6 +12,7 @@ from dataclasses import asdict, dataclass
 import numpy as np
 
 from . import __version__
+from ._arrays import evenly_spaced_indices
 from ._validation import bad_value, check_choice
 from .data import Campaign
 from .exceptions import DataError, TtspWarning
@@ -252,10 +253,6 @@ MAX_PRONY_POINTS = 20_000
 MAX_CHECK_POINTS_PER_ISOTHERM = 60
 
 
-def _evenly(n: int, limit: int) -> np.ndarray:
-    return np.arange(n) if n <= limit else np.unique(np.round(np.linspace(0, n - 1, limit)).astype(int))
-
-
 def _fit_prony(campaign: Campaign, shifts, options: BuildOptions):
     from .prony import fit_prony_frequency, fit_prony_time
 
@@ -273,7 +270,7 @@ def _fit_prony(campaign: Campaign, shifts, options: BuildOptions):
     if "outlier" in frame:
         ok &= ~frame["outlier"].astype(bool)
     used = frame.loc[ok].sort_values(x_name)
-    used = used.iloc[_evenly(len(used), MAX_PRONY_POINTS)]
+    used = used.iloc[evenly_spaced_indices(len(used), MAX_PRONY_POINTS)]
     if campaign.domain == "frequency":
         return fit_prony_frequency(used[x_name].to_numpy(), used[columns[0]].to_numpy(),
                                    used[columns[1]].to_numpy(),
@@ -288,7 +285,7 @@ def _thin_for_checks(campaign: Campaign, shifts):
 
     from .data import Isotherm
 
-    picks = [_evenly(iso.n_points, MAX_CHECK_POINTS_PER_ISOTHERM) for iso in campaign.isotherms]
+    picks = [evenly_spaced_indices(iso.n_points, MAX_CHECK_POINTS_PER_ISOTHERM) for iso in campaign.isotherms]
     if all(p.size == iso.n_points for p, iso in zip(picks, campaign.isotherms)):
         return campaign, shifts
     isos = tuple(Isotherm(iso.temperature_K, iso.x[p], {k: v[p] for k, v in iso.values.items()},
