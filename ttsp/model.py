@@ -92,9 +92,11 @@ class ViscoelasticModel:
     def creep_compliance(self, time_s, temperature_K) -> np.ndarray:
         """D(t, T) = D_ref(t / a_T) in 1/Pa, from the exact Prony interconversion."""
         t, a = self._reduced_time(time_s, temperature_K)
-        return self._creep().creep_compliance(t / a)
+        return self.creep_series.creep_compliance(t / a)
 
-    def _creep(self):
+    @property
+    def creep_series(self):
+        """The exact creep (retardation) series of the Prony series, computed once."""
         cached = self.__dict__.get("_creep_series")
         if cached is None:
             from .interconvert import relaxation_to_creep

@@ -162,7 +162,7 @@ class BuildResult:
         t = np.logspace(math.log10(lo) - 1, math.log10(hi) + 1,
                         int(round((math.log10(hi) - math.log10(lo) + 2) * points_per_decade)) + 1)
         omega = 1.0 / t
-        creep = self.model._creep()
+        creep = self.model.creep_series
         frame = pd.DataFrame({
             "time_s": t,
             "relaxation_modulus_Pa": self.series.relaxation_modulus(t),
