@@ -996,25 +996,54 @@ class _Outcome:
     notes: tuple
 
 
-def _weighted_lstsq(columns: Mapping[str, np.ndarray], y: np.ndarray, w: np.ndarray,
-                    fixed: Mapping[str, float]) -> tuple[dict, float]:
-    """Weighted linear least squares y ~ sum c_n col_n with some c_n fixed; (coefs, sse)."""
-    r = y.copy()
+def _grid_lstsq(columns: Mapping[str, np.ndarray], y: np.ndarray, w: np.ndarray,
+                fixed: Mapping[str, float]) -> tuple[dict, np.ndarray]:
+    """Weighted linear least squares y ~ Σ c_n col_n for a whole grid of trials at once.
+
+    ``columns`` maps each coefficient name to its column: shape (G, n) for one column per trial
+    (the trials differ in a nonlinear parameter held fixed on a grid), or (n,) for a column
+    shared by all trials. Coefficients named in ``fixed`` are held. Returns the coefficients,
+    name -> (G,) array, and the weighted sums of squares (G,), inf where a trial's columns are
+    not finite.
+    """
+    G = max((np.shape(c)[0] for c in columns.values() if np.ndim(c) == 2), default=1)
+    n = y.size
+    cols = {name: np.broadcast_to(np.asarray(c, dtype=float), (G, n)) for name, c in
+            columns.items()}
+    ok = np.all([np.all(np.isfinite(c), axis=1) for c in cols.values()], axis=0)
+    r = np.broadcast_to(y, (G, n)).copy()
     coefs = {}
-    for name, col in columns.items():
+    for name, col in cols.items():
         if name in fixed:
-            coefs[name] = fixed[name]
-            r = r - fixed[name] * col
-    free = [n for n in columns if n not in fixed]
+            coefs[name] = np.full(G, float(fixed[name]))
+            r -= fixed[name] * np.where(ok[:, None], col, 0.0)
+    rw = r * w
+    free = [name for name in cols if name not in fixed]
     if free:
-        A = np.column_stack([columns[n] for n in free]) * w[:, None]
-        sol, *_ = np.linalg.lstsq(A, r * w, rcond=None)
-        coefs.update(dict(zip(free, (float(v) for v in sol))))
-        resid = r * w - A @ sol
-    else:
-        resid = r * w
-    sse = float(resid @ resid)
-    return coefs, (sse if np.isfinite(sse) else np.inf)
+        A = np.stack([np.where(ok[:, None], cols[name], 0.0) for name in free], axis=-1)
+        A = A * w[None, :, None]                                    # (G, n, k)
+        sol = np.einsum("gkn,gn->gk", np.linalg.pinv(A), rw)
+        rw = rw - np.einsum("gnk,gk->gn", A, sol)
+        coefs.update({name: sol[:, i] for i, name in enumerate(free)})
+    sse = np.einsum("gn,gn->g", rw, rw)
+    sse[~(ok & np.isfinite(sse))] = np.inf
+    return coefs, sse
+
+
+def _best_trials(coefs: Mapping[str, np.ndarray], sse: np.ndarray, extra: Mapping[str, Any],
+                 ) -> list[tuple[float, dict]]:
+    """The grid's trials as (sse, {name: value}) pairs, best first; ``extra`` adds the grid's
+    own (nonlinear) parameters, each an array over the trials."""
+    order = np.argsort(sse, kind="stable")
+    merged = {**coefs, **extra}
+    return [(float(sse[g]), {k: float(v[g]) for k, v in merged.items()}) for g in order]
+
+
+def _weighted_lstsq(columns: Mapping[str, np.ndarray], y: np.ndarray, w: np.ndarray,
+                    fixed: Mapping[str, float]) -> dict:
+    """Weighted linear least squares y ~ Σ c_n col_n with some c_n fixed: the coefficients."""
+    coefs, _ = _grid_lstsq(columns, y, w, fixed)
+    return {k: float(v[0]) for k, v in coefs.items()}
 
 
 def _grid_above(lower: float, bounds: tuple[float, float]) -> np.ndarray:
@@ -1032,14 +1061,15 @@ def _grid_above(lower: float, bounds: tuple[float, float]) -> np.ndarray:
 
 
 def _start_values(cls: type, T, y, w, tr, fixed, bounds, order) -> list[dict]:
-    """Starting values, best first, from separable grids with linear inner solutions."""
+    """Starting values, best first, from separable grids: every trial of the nonlinear
+    parameter(s) on a grid, the linear ones solved for each trial (all trials in one batch)."""
     if cls is ArrheniusLaw:
         cols = {"activation_energy_kJ_per_mol": _ARRHENIUS_K_PER_KJ_MOL * (1 / T - 1 / tr)}
-        return [_weighted_lstsq(cols, y, w, fixed)[0]]
+        return [_weighted_lstsq(cols, y, w, fixed)]
     if cls is PolynomialLaw:
         x = T - tr
         cols = {_poly_name(k): x ** k for k in range(1, order + 1)}
-        return [_weighted_lstsq(cols, y, w, fixed)[0]]
+        return [_weighted_lstsq(cols, y, w, fixed)]
     if cls in (WLFLaw, VFTLaw):
         x = T - tr
         tmin = float(T.min())
@@ -1057,11 +1087,12 @@ def _start_values(cls: type, T, y, w, tr, fixed, bounds, order) -> list[dict]:
                         lo, hi = bounds["C2_K"]
                         if max(lo, tr - tmin) < c2_lin < hi:
                             c2_grid = np.append(c2_grid, c2_lin)
-            trials = []
-            for c2 in c2_grid:
-                coefs, sse = _weighted_lstsq({"C1": -x / (c2 + x)}, y, w, fixed)
-                coefs["C2_K"] = float(c2)
-                trials.append((sse, coefs))
+            if c2_grid.size == 0:
+                return []
+            with np.errstate(all="ignore"):
+                col = -x / (c2_grid[:, None] + x)
+            coefs, sse = _grid_lstsq({"C1": col}, y, w, fixed)
+            trials = _best_trials(coefs, sse, {"C2_K": c2_grid})
         else:
             if "T_inf_K" in fixed:
                 ti_grid = np.array([fixed["T_inf_K"]])
@@ -1069,38 +1100,32 @@ def _start_values(cls: type, T, y, w, tr, fixed, bounds, order) -> list[dict]:
                 top = min(tmin, tr)
                 lo, hi = bounds["T_inf_K"]
                 ti_grid = top - _grid_above(0.0, (top - hi, top - lo))
-            trials = []
-            for ti in ti_grid:
-                col = 1 / (T - ti) - 1 / (tr - ti)
-                coefs, sse = _weighted_lstsq({"B_K": col}, y, w, fixed)
-                coefs["T_inf_K"] = float(ti)
-                trials.append((sse, coefs))
-        trials.sort(key=lambda t: t[0])
-        return [trials[0][1]]
-    # the remaining law: WLF above Tg, Arrhenius below
-    tg_grid = _tg_candidates(T, fixed, bounds["glass_transition_K"])
-    trials = []
-    for tg in tg_grid:
+            if ti_grid.size == 0:
+                return []
+            with np.errstate(all="ignore"):
+                col = 1 / (T - ti_grid[:, None]) - 1 / (tr - ti_grid[:, None])
+            coefs, sse = _grid_lstsq({"B_K": col}, y, w, fixed)
+            trials = _best_trials(coefs, sse, {"T_inf_K": ti_grid})
+        return [trials[0][1]] if trials else []
+    # the remaining law: WLF above Tg, Arrhenius below; every (Tg, C2) pair in one batch
+    pairs = []
+    for tg in _tg_candidates(T, fixed, bounds["glass_transition_K"]):
         if "C2_K" in fixed:
             c2_grid = np.array([fixed["C2_K"]])
         else:
             lo, hi = bounds["C2_K"]
             c2_grid = _grid_above(tr - tg, (max(lo, tr - tg), hi))
-        for c2 in c2_grid:
-            if c2 + tg - tr <= 0:
-                continue
-            u_T = -(np.maximum(T, tg) - tr) / (c2 + np.maximum(T, tg) - tr)
-            u_r = -(max(tr, tg) - tr) / (c2 + max(tr, tg) - tr)
-            a_T = np.where(T < tg, 1 / T - 1 / tg, 0.0) * _ARRHENIUS_K_PER_KJ_MOL
-            a_r = (1 / tr - 1 / tg) * _ARRHENIUS_K_PER_KJ_MOL if tr < tg else 0.0
-            cols = {"C1": u_T - u_r, "activation_energy_kJ_per_mol": a_T - a_r}
-            coefs, sse = _weighted_lstsq(cols, y, w, fixed)
-            coefs["C2_K"] = float(c2)
-            coefs["glass_transition_K"] = float(tg)
-            trials.append((sse, coefs))
-    if not trials:
+        pairs += [(tg, c2) for c2 in c2_grid if c2 + tg - tr > 0]
+    if not pairs:
         return []
-    trials.sort(key=lambda t: t[0])
+    tg, c2 = (np.array(v)[:, None] for v in zip(*pairs))
+    t_hi = np.maximum(T, tg)                      # (G, n): the WLF branch above Tg
+    t_r = np.maximum(tr, tg)
+    cols = {"C1": -(t_hi - tr) / (c2 + t_hi - tr) + (t_r - tr) / (c2 + t_r - tr),
+            "activation_energy_kJ_per_mol": _ARRHENIUS_K_PER_KJ_MOL * (
+                np.where(T < tg, 1 / T - 1 / tg, 0.0) - np.where(tr < tg, 1 / tr - 1 / tg, 0.0))}
+    coefs, sse = _grid_lstsq(cols, y, w, fixed)
+    trials = _best_trials(coefs, sse, {"C2_K": c2[:, 0], "glass_transition_K": tg[:, 0]})
     # best start in each of the three best Tg intervals
     starts, seen = [], set()
     for _, coefs in trials:
@@ -1200,8 +1225,10 @@ def _fit_one(cls: type, T, y, w, tr, fixed, user_bounds, order) -> _Outcome:
 
     starts = _start_values(cls, T, y, w, tr, fixed, bounds, order)
     if not starts:
-        raise FitError(f"{cls.model}: no trial break temperature within the bounds of "
-                       "glass_transition_K leaves two points on each side")
+        if cls is WLFArrheniusLaw:
+            raise FitError(f"{cls.model}: no trial break temperature within the bounds of "
+                           "glass_transition_K leaves two points on each side")
+        raise FitError(f"{cls.model}: no starting value lies within the bounds")
     free = tuple(n for n in names if n not in fixed)
 
     def residual(p):

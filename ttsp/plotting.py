@@ -1025,6 +1025,17 @@ def plot_frequency_functions(result, ax=None):
 CAMPAIGN_FIGURES = ("isotherms", "superposition_check")
 
 
+def load_matplotlib() -> None:
+    """Import matplotlib's figure machinery and the PNG and SVG backends now.
+
+    About half a second of CPU; a process that forks figure drawers calls this first, so that
+    every child shares the loaded modules instead of importing them again.
+    """
+    import matplotlib.backends.backend_agg  # noqa: F401
+    import matplotlib.backends.backend_svg  # noqa: F401
+    import matplotlib.figure  # noqa: F401
+
+
 def render_campaign_figures(campaign) -> dict:
     """The figures of :data:`CAMPAIGN_FIGURES`, which need no shift, law or series."""
     return {"isotherms": plot_isotherms(campaign).figure,
@@ -1085,9 +1096,11 @@ def save_figures(figures, folder) -> dict:
                             name)
         png, svg = folder / f"{name}.png", folder / f"{name}.svg"
         # Lay the figure out once and keep that layout for both files: with a layout engine
-        # active, every savefig would draw twice (once to lay out, once to render).
+        # active, every savefig would lay out again. Running the engine alone places the axes
+        # exactly as a full draw would (same bytes), at about a third of the cost.
         engine = fig.get_layout_engine()
-        fig.draw_without_rendering()
+        if engine is not None:
+            engine.execute(fig)
         fig.set_layout_engine("none")
         try:
             with matplotlib.rc_context({"svg.hashsalt": _SVG_SALT, "svg.fonttype": "path"}):

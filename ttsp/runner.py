@@ -57,10 +57,12 @@ class Progress:
         self.name = None
 
 
-# The figures drawn after the fit, in two groups of about equal drawing cost for two processes;
-# the figures of the measured data alone are drawn earlier, while the fit runs.
-_FIGURE_GROUPS = (("prony_fit", "time_functions"),
-                  ("master_curve", "shift_factors", "frequency_functions"))
+# The figures drawn after the fit, in three groups of about equal drawing cost: two are drawn
+# by forked children while this process draws the last (three processes keep two cores busy
+# until the end, where two groups left one core idle while the slower group finished); the
+# figures of the measured data alone are drawn earlier, while the fit runs.
+_FIGURE_GROUPS = (("prony_fit",), ("master_curve", "time_functions"),
+                  ("shift_factors", "frequency_functions"))
 
 
 def _can_fork() -> bool:
@@ -108,8 +110,9 @@ def start_campaign_figures(campaign, out):
     if not _can_fork():
         return None
     from .io.atomic import scratch_dir
-    from .plotting import render_campaign_figures
+    from .plotting import load_matplotlib, render_campaign_figures
 
+    load_matplotlib()   # once here, not again in every drawing child
     folder = scratch_dir(out)
     return _fork_drawing(lambda: render_campaign_figures(campaign), folder, private=True), folder
 
@@ -126,31 +129,36 @@ def discard_campaign_figures(handle) -> None:
 def draw_figures(result, folder, *, parallel: bool = True, early=None) -> dict:
     """Render and save every figure as PNG and SVG. Returns ``{name: {"png", "svg"}}``.
 
-    With ``parallel`` and two or more cores, one group of figures is drawn in a forked child
-    while this process draws the other (drawing dominates the wall time of a build with
-    figures); ``early`` is the handle of :func:`start_campaign_figures`, whose files are moved
+    With ``parallel`` and two or more cores, two groups of figures are drawn in forked
+    children while this process draws the third (drawing dominates the wall time of a build
+    with figures); ``early`` is the handle of :func:`start_campaign_figures`, whose files are moved
     in. Whatever a child fails to draw is drawn here, so the result never depends on forking.
     """
     import shutil
 
-    from .plotting import CAMPAIGN_FIGURES, FIGURE_NAMES, render_campaign_figures, \
-        render_figures, save_figures
+    from .plotting import CAMPAIGN_FIGURES, FIGURE_NAMES, load_matplotlib, \
+        render_campaign_figures, render_figures, save_figures
 
+    load_matplotlib()   # before forking: the children share the loaded modules
     folder = Path(folder)
     saved = {}
     later = [n for n in FIGURE_NAMES if n not in CAMPAIGN_FIGURES]
-    pid = None
+    children = []   # (pid, names) of forked drawers
     if parallel and _can_fork():
-        first = [n for n in later if n in _FIGURE_GROUPS[0]]
-        later = [n for n in later if n not in first]
-        pid = _fork_drawing(lambda: render_figures(result, first), folder)
+        for group in _FIGURE_GROUPS[:-1]:
+            names = [n for n in later if n in group]
+            if names:
+                children.append((_fork_drawing(
+                    lambda names=names: render_figures(result, names), folder), names))
+        drawn = {n for _, names in children for n in names}
+        later = [n for n in later if n not in drawn]
     saved.update(save_figures(render_figures(result, later), folder))
-    if pid is not None:
+    for pid, names in children:
         if _child_ok(pid):
             saved.update({k: {"png": folder / f"{k}.png", "svg": folder / f"{k}.svg"}
-                          for k in first})
+                          for k in names})
         else:
-            saved.update(save_figures(render_figures(result, first), folder))
+            saved.update(save_figures(render_figures(result, names), folder))
     if early is not None and _child_ok(early[0]) and all(
             (early[1] / f"{k}.{e}").is_file() for k in CAMPAIGN_FIGURES for e in ("png", "svg")):
         for k in CAMPAIGN_FIGURES:
