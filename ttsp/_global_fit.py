@@ -414,6 +414,16 @@ class _SpectrumModel:
 
 
 # ---- the joint fit ----------------------------------------------------------------------------
+#: the Jacobian of the residuals in the shifts (one or two nonzeros per row) is held dense up
+#: to this many entries: small problems (most campaigns) then skip the fixed cost of sparse
+#: matrices, large ones keep the sparse products that grow linearly with the data
+_DENSE_SHIFT_JACOBIAN = 200_000
+
+
+def _dense(M) -> np.ndarray:
+    return M.toarray() if sp.issparse(M) else np.asarray(M)
+
+
 class _Fit:
     def __init__(self, prob: JointProblem, model, s0, c0):
         self.p = prob
@@ -482,8 +492,14 @@ class _Fit:
         rows.append(np.flatnonzero(fc))
         cols.append(self.c_col[p.iso][fc] - self.n_theta)
         vals.append(-self.vs[fc] / sig[fc])
-        Jsc = sp.csr_matrix((np.concatenate(vals), (np.concatenate(rows), np.concatenate(cols))),
-                            shape=(n, self.n_par - self.n_theta))
+        n_sc = self.n_par - self.n_theta
+        if n * n_sc <= _DENSE_SHIFT_JACOBIAN:
+            Jsc = np.zeros((n, n_sc))
+            for rr, cc, vv in zip(rows, cols, vals):
+                Jsc[rr, cc] += vv
+        else:
+            Jsc = sp.csr_matrix((np.concatenate(vals),
+                                 (np.concatenate(rows), np.concatenate(cols))), shape=(n, n_sc))
         if sp.issparse(Jt):
             Jt = sp.diags(-1.0 / sig) @ Jt
         else:
@@ -496,15 +512,15 @@ class _Fit:
         P = self.n_par
         nt = self.n_theta
         A = np.zeros((P, P))
-        WJsc = sp.diags(w) @ Jsc
+        WJsc = sp.diags(w) @ Jsc if sp.issparse(Jsc) else Jsc * w[:, None]
         if sp.issparse(Jt):
             A[:nt, :nt] = (Jt.T @ sp.diags(w) @ Jt).toarray()
-            A[:nt, nt:] = (Jt.T @ WJsc).toarray()
+            A[:nt, nt:] = _dense(Jt.T @ WJsc)
         else:
             A[:nt, :nt] = Jt.T @ (Jt * w[:, None])
-            A[:nt, nt:] = np.asarray((WJsc.T @ Jt).T)
+            A[:nt, nt:] = _dense(WJsc.T @ Jt).T
         A[nt:, :nt] = A[:nt, nt:].T
-        A[nt:, nt:] = (Jsc.T @ WJsc).toarray()
+        A[nt:, nt:] = _dense(Jsc.T @ WJsc)
         A[:nt, :nt] += self.model.pen
         A[np.arange(nt, P), np.arange(nt, P)] += 1.0 / _PRIOR_SD ** 2
         return A
@@ -652,18 +668,16 @@ def fit_joint(prob: JointProblem, s0, c0=None, *, model="spectrum", robust=True,
     # right units from the first joint step on
     fit.sigma = np.full(prob.n_fn, 0.01)
     fit.gauss_newton(max_iter=min(max_iter, 50), tol=1e-6, curve_only=True)
-    r, raw, _, _, _ = fit.evaluate(fit.theta, fit.s, fit.c, jac=False)
-    fit.sigma = fit.estimate_sigma(raw)
-    fit.gauss_newton(max_iter=max_iter, tol=1e-8)
-    for _ in range(3):
+    # then the joint fit, with the noise scales re-estimated from its residuals until they
+    # settle (the first round's come from the curve at the starting shifts, so at least two)
+    for round_ in range(4):
         r, raw, _, _, _ = fit.evaluate(fit.theta, fit.s, fit.c, jac=False)
         new_sigma = fit.estimate_sigma(raw)
         change = np.max(np.abs(np.log(new_sigma / fit.sigma)))
         fit.sigma = new_sigma
-        first_robust = robust and fit.huber is None
         fit.huber = huber if robust else None
         fit.gauss_newton(max_iter=max_iter)
-        if change < 0.05 and not first_robust:
+        if round_ > 0 and change < 0.05:
             break
     r, raw, dF, u, J = fit.evaluate(fit.theta, fit.s, fit.c)
     w = fit.weights(r)
