@@ -604,10 +604,11 @@ class _Fit:
                     if self.model.linear:
                         self.gauss_newton(max_iter=3, curve_only=True)
                     return self.gauss_newton(max_iter, tol, max_shift_step, curve_only)
-                r_t, _, _, _, _ = self.evaluate(th_t, s_t, c_t, jac=False)
+                # with the Jacobian at once: most trial steps are accepted, and evaluating the
+                # model a second time for it cost more than building it for a rejected step
+                r_t, _, _, _, J_t = self.evaluate(th_t, s_t, c_t)
                 phi_t = self.loss(r_t, th_t, s_t, c_t)
                 if np.isfinite(phi_t) and phi_t <= phi:
-                    r_t, _, _, _, J_t = self.evaluate(th_t, s_t, c_t)
                     dphi = phi - phi_t
                     vec, theta, s, c, r, J, phi = trial, th_t, s_t, c_t, r_t, J_t, phi_t
                     mu = max(mu / 3.0, 1e-10)
