@@ -68,10 +68,9 @@ def to_plain(value: Any, *, nonfinite_as_none: bool = False) -> Any:
 
     With ``nonfinite_as_none``, NaN and infinities become ``None`` (JSON has neither).
     """
-    if isinstance(value, Mapping):
-        return {str(k): to_plain(v, nonfinite_as_none=nonfinite_as_none) for k, v in value.items()}
-    if isinstance(value, (list, tuple, np.ndarray)):
-        return [to_plain(v, nonfinite_as_none=nonfinite_as_none) for v in value]
+    # the commonest cases first: a summary holds thousands of numbers
+    if value is None or isinstance(value, str):
+        return value
     if isinstance(value, (bool, np.bool_)):
         return bool(value)
     if isinstance(value, (int, np.integer)):
@@ -79,6 +78,15 @@ def to_plain(value: Any, *, nonfinite_as_none: bool = False) -> Any:
     if isinstance(value, (float, np.floating)):
         v = float(value)
         return None if nonfinite_as_none and not math.isfinite(v) else v
+    if isinstance(value, np.ndarray) and value.dtype.kind in "biuf":
+        plain = value.tolist()        # Python numbers, nested like the array
+        if value.dtype.kind != "f" or not nonfinite_as_none or np.all(np.isfinite(value)):
+            return plain
+        return to_plain(plain, nonfinite_as_none=True)
+    if isinstance(value, Mapping):
+        return {str(k): to_plain(v, nonfinite_as_none=nonfinite_as_none) for k, v in value.items()}
+    if isinstance(value, (list, tuple, np.ndarray)):
+        return [to_plain(v, nonfinite_as_none=nonfinite_as_none) for v in value]
     return value
 
 

@@ -253,24 +253,29 @@ class ShiftResult:
                             "temperatures and point counts must agree)")
         names = [q for q in QUANTITIES if any(q in i.values for i in campaign.isotherms)]
         xr_name = "reduced_" + campaign.x_name
-        parts = []
-        for k, iso in enumerate(campaign.isotherms):
-            n = iso.n_points
-            aT = 10.0 ** self.log10_aT[k]
-            bT = 10.0 ** self.log10_bT[k]
-            cols = {"isotherm": np.full(n, k), "temperature_K": np.full(n, iso.temperature_K),
-                    "temperature_C": np.full(n, iso.temperature_C), campaign.x_name: iso.x,
-                    xr_name: iso.x * aT if campaign.domain == "frequency" else iso.x / aT,
-                    "log10_aT": np.full(n, self.log10_aT[k]),
-                    "log10_bT": np.full(n, self.log10_bT[k])}
-            for q in names:
-                v = np.asarray(iso.values.get(q, np.full(n, np.nan)), float)
-                kind = QUANTITIES[q].unit_kind
-                cols[q] = v / bT if kind == "modulus" else (v * bT if kind == "compliance" else v)
-            cols["source_row"] = iso.source_rows
-            cols["outlier"] = np.asarray(self.outlier_mask[k], bool)
-            parts.append(pd.DataFrame(cols))
-        return pd.concat(parts, ignore_index=True)
+        isos = campaign.isotherms
+        counts = np.array([iso.n_points for iso in isos])
+
+        def per_point(values):
+            return np.repeat(np.asarray(values), counts)
+
+        x = np.concatenate([iso.x for iso in isos])
+        a_T = per_point(10.0 ** self.log10_aT)
+        b_T = per_point(10.0 ** self.log10_bT)
+        cols = {"isotherm": per_point(np.arange(len(isos))),
+                "temperature_K": per_point([iso.temperature_K for iso in isos]),
+                "temperature_C": per_point([iso.temperature_C for iso in isos]),
+                campaign.x_name: x,
+                xr_name: x * a_T if campaign.domain == "frequency" else x / a_T,
+                "log10_aT": per_point(self.log10_aT), "log10_bT": per_point(self.log10_bT)}
+        for q in names:
+            v = np.concatenate([np.asarray(iso.values.get(q, np.full(iso.n_points, np.nan)),
+                                           float) for iso in isos])
+            kind = QUANTITIES[q].unit_kind
+            cols[q] = v / b_T if kind == "modulus" else (v * b_T if kind == "compliance" else v)
+        cols["source_row"] = np.concatenate([iso.source_rows for iso in isos])
+        cols["outlier"] = np.concatenate([np.asarray(m, bool) for m in self.outlier_mask])
+        return pd.DataFrame(cols)
 
     def _repr_html_(self) -> str:
         head = (f"<b>Shift factors</b>: T<sub>ref</sub> = {self.reference_temperature_C:.2f} °C, "
