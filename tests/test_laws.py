@@ -831,10 +831,18 @@ def test_solver_failures_become_fit_errors(monkeypatch):
     monkeypatch.setattr(lmfit, "minimize", boom)
     with pytest.raises(FitError, match="wlf: the least-squares solver failed: MINPACK exploded"):
         fit_shift_law(T, y, reference_temperature_K=TG, model="wlf")
-    # in auto the failure of every law is one FitError listing them
+    # in auto a failed law is a candidate row; the linear laws need no iterative solver
+    fit = fit_shift_law(T, y, reference_temperature_K=TG)
+    assert fit.law.model in ("arrhenius", "polynomial")
+    rows = {c["model"]: c for c in fit.candidates}
+    assert "MINPACK exploded" in rows["wlf"]["detail"]
+    assert rows["arrhenius"]["status"] == rows["polynomial"]["status"] == "fitted"
+    # ... and when those cannot be fitted either, one FitError lists every law
     with pytest.raises(FitError, match=r"no shift law could be fitted: wlf: the least-squares "
                                        r"solver failed"):
-        fit_shift_law(T, y, reference_temperature_K=TG)
+        fit_shift_law(T, y, reference_temperature_K=TG,
+                      bounds={"activation_energy_kJ_per_mol": (-1e6, 1e6),
+                              "a1_per_K": (-1e3, 1e3)})
 
     monkeypatch.setattr(lmfit, "minimize", _stub({"C1": np.nan}))
     with pytest.raises(FitError, match="wlf: the fit produced no finite parameters"):
@@ -924,3 +932,27 @@ def test_computation_module_does_not_import_plotting_or_pandas():
             " print('matplotlib' in sys.modules, 'pandas' in sys.modules)")
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
     assert out.stdout.split() == ["False", "False"]
+
+
+@pytest.mark.parametrize("model, bounds", [
+    ("arrhenius", {"activation_energy_kJ_per_mol": (-1e6, 1e6)}),
+    ("polynomial", {"a1_per_K": (-1e3, 1e3), "a2_per_K2": (-1e3, 1e3)})])
+def test_linear_laws_solved_directly_agree_with_the_iterative_solver(model, bounds):
+    """Arrhenius and polynomial laws are linear in their constants and are solved directly
+    unless bounded; with (inactive) bounds they go through lmfit's Levenberg-Marquardt. Both
+    must give the same constants and the same (reduced-chi-square scaled) standard errors."""
+    rng = np.random.default_rng(5)
+    T = np.linspace(300.0, 380.0, 9)
+    y = -0.05 * (T - 340.0) + 1e-4 * (T - 340.0) ** 2 + rng.normal(0, 0.02, T.size)
+    se = np.full(T.size, 0.02)
+    direct = fit_shift_law(T, y, reference_temperature_K=340.0, model=model, stderr=se)
+    iterative = fit_shift_law(T, y, reference_temperature_K=340.0, model=model, stderr=se,
+                              bounds=bounds)
+    assert direct.message == "linear least squares, solved directly"
+    assert iterative.nfev > 0
+    for name in direct.params:
+        assert direct.params[name] == pytest.approx(iterative.params[name], rel=1e-7, abs=1e-12)
+        # lmfit's covariance comes from a finite-difference Jacobian in its bounded (transformed)
+        # coordinates, so it agrees with the exact one to about 1e-4
+        assert direct.stderr[name] == pytest.approx(iterative.stderr[name], rel=1e-3)
+    assert direct.chi_square == pytest.approx(iterative.chi_square, rel=1e-9)
