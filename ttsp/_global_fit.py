@@ -182,6 +182,14 @@ class _SplineModel:
         return F, dF, J
 
 
+def _rows_of(mask: np.ndarray):
+    """The rows where ``mask`` holds: a slice when they are contiguous (a view, no copy)."""
+    idx = np.flatnonzero(mask)
+    if idx.size and idx[-1] - idx[0] + 1 == idx.size:
+        return slice(int(idx[0]), int(idx[-1]) + 1)
+    return idx
+
+
 #: which kernel family each function belongs to and how it follows from (E1, E2)
 _SPECTRAL_KIND = {"storage_modulus_Pa": "E1", "loss_modulus_Pa": "E2",
                   "complex_modulus_Pa": "abs", "tan_delta": "tan", "phase_angle_rad": "phase",
@@ -208,6 +216,8 @@ class _SpectrumModel:
         self.lam = float(smoothing)
         self.kinds = [_SPECTRAL_KIND[f] for f in prob.functions]
         self.kind_of_row = np.array(self.kinds, dtype=object)[prob.fn]
+        self.row_groups = [(kind, _rows_of(prob.fn == q)) for q, kind in enumerate(self.kinds)
+                           if np.any(prob.fn == q)]
         self.time = prob.direction < 0
         scaled = [q for q, k in enumerate(self.kinds) if k not in ("tan", "phase")]
         sel = np.isin(prob.fn, scaled)
@@ -365,47 +375,47 @@ class _SpectrumModel:
                     J[r, 0] = 1.0 / E
                     J[r, 1:] = K * g * (1.0 / E)[:, None]
         else:
-            inv = 1.0 / (1.0 + X * X)
-            K2 = X * inv                       # ωτ/(1 + ω²τ²)
-            K1 = X * K2                        # ω²τ²/(1 + ω²τ²)
-            E1 = e0 + K1 @ g
-            E2 = K2 @ g
-            E1u = 2.0 * ((K1 * inv) @ g)       # dE'/dln ω
-            E2u = (K2 * (inv - K1)) @ g        # dE''/dln ω
-            for kind in set(kinds.tolist()):
-                r = np.flatnonzero(kinds == kind)
-                a1, a2 = E1[r], E2[r]
+            # each function on its own rows (contiguous when the problem is ordered by
+            # function), with only the kernels and derivatives that function needs
+            for kind, r in self.row_groups:
+                Xr = X[r]
+                inv = 1.0 / (1.0 + Xr * Xr)
+                K2 = Xr * inv                      # ωτ/(1 + ω²τ²)
+                K1 = Xr * K2                       # ω²τ²/(1 + ω²τ²)
                 if kind == "E1":
+                    a1 = e0 + K1 @ g
                     F[r] = np.log(a1)
-                    dF[r] = E1u[r] / a1
-                    c1, c2 = 1.0 / a1, None
-                elif kind == "E2":
+                    dF[r] = 2.0 * ((K1 * inv) @ g) / a1       # dE'/dln ω / E'
+                    if jac:
+                        J[r, 0] = 1.0 / a1
+                        J[r, 1:] = K1 * ((1.0 / a1)[:, None] * g)
+                    continue
+                if kind == "E2":
+                    a2 = K2 @ g
                     F[r] = np.log(a2)
-                    dF[r] = E2u[r] / a2
-                    c1, c2 = None, 1.0 / a2
-                elif kind == "abs":
+                    dF[r] = ((K2 * (inv - K1)) @ g) / a2      # dE''/dln ω / E''
+                    if jac:
+                        J[r, 0] = 0.0
+                        J[r, 1:] = K2 * ((1.0 / a2)[:, None] * g)
+                    continue
+                a1, a2 = e0 + K1 @ g, K2 @ g
+                E1u, E2u = 2.0 * ((K1 * inv) @ g), (K2 * (inv - K1)) @ g
+                if kind == "abs":
                     m2 = a1 * a1 + a2 * a2
                     F[r] = 0.5 * np.log(m2)
                     c1, c2 = a1 / m2, a2 / m2
-                    dF[r] = c1 * E1u[r] + c2 * E2u[r]
                 elif kind == "tan":
                     F[r] = np.log(a2 / a1)
                     c1, c2 = -1.0 / a1, 1.0 / a2
-                    dF[r] = c1 * E1u[r] + c2 * E2u[r]
                 else:  # phase angle δ = atan2(E2, E1)
                     m2 = a1 * a1 + a2 * a2
                     d = np.arctan2(a2, a1)
                     F[r] = np.log(d)
                     c1, c2 = -a2 / (m2 * d), a1 / (m2 * d)
-                    dF[r] = c1 * E1u[r] + c2 * E2u[r]
+                dF[r] = c1 * E1u + c2 * E2u
                 if jac:
-                    J[r, 0] = 0.0 if c1 is None else c1
-                    if c2 is None:
-                        J[r, 1:] = K1[r] * (c1[:, None] * g)
-                    elif c1 is None:
-                        J[r, 1:] = K2[r] * (c2[:, None] * g)
-                    else:
-                        J[r, 1:] = (c1[:, None] * K1[r] + c2[:, None] * K2[r]) * g
+                    J[r, 0] = c1
+                    J[r, 1:] = (c1[:, None] * K1 + c2[:, None] * K2) * g
         # natural log of the scaled value -> log10 of the value in SI
         F = F / _LN10 + self.offset
         if jac:

@@ -805,8 +805,10 @@ def _fit_component(comp, X, Y, pairs, functions, vsign, fit_vertical, direction,
         local_fixed = {anchor: 0.0}
     c0 -= c0[anchor]
     xs, ys, iso, fn, point = [], [], [], [], []
-    for a, k in enumerate(comp):
-        for q in range(Y[k].shape[1]):
+    # ordered by function, then isotherm: the master-curve model evaluates each function on
+    # its own block of rows
+    for q in range(len(functions)):
+        for a, k in enumerate(comp):
             ok = np.isfinite(Y[k][:, q])
             xs.append(X[k][ok])
             ys.append(Y[k][ok, q])
