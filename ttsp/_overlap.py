@@ -4,9 +4,9 @@ Pairwise shift (overlap least squares with interpolation in log–log coordinate
 practice of manual and automatic shifting): isotherm b is translated by δ decades along log x
 and compared with the piecewise-linear interpolant of isotherm a, and symmetrically a with b at
 −δ; the mean squared ordinate difference over the points that fall inside the other isotherm's
-range is minimised, first on a grid, then by a bounded scalar search. When vertical
-shifts are free, the best vertical offset is found in closed form at every δ. These shifts only
-start the joint fit; they are not the answer.
+range is minimised, first on a grid, then on a finer grid around the best point and through a
+parabola's vertex. When vertical shifts are free, the best vertical offset is found in closed
+form at every δ. These shifts only start the joint fit; they are not the answer.
 
 Gap test: a continuous function takes on two x intervals that intersect the same values there,
 so if the ordinate ranges of two isotherms are disjoint for one function, no horizontal shift
@@ -16,7 +16,6 @@ can make them overlap. The size of the gap is the distance between the ranges, i
 from __future__ import annotations
 
 import numpy as np
-from scipy.optimize import minimize_scalar
 
 __all__ = ["pair_shift", "ordinate_gap"]
 
@@ -90,14 +89,24 @@ def pair_shift(xa, Ya, xb, Yb, vsign, fit_vertical=False, *, step=0.05, min_poin
     mse = np.where(valid, ss / np.maximum(n_res, 1), np.inf)
     g = int(np.argmin(mse))
 
-    def objective(d):
-        s2, npt, nr, _ = _mismatch(np.array([d]), xa, Ya, xb, Yb, vsign, fit_vertical)
-        return float(s2[0] / nr[0]) if npt[0] >= need else np.inf
-
-    a, b = grid[g] - step, grid[g] + step
-    res = minimize_scalar(objective, bounds=(a, b), method="bounded",
-                          options={"xatol": 1e-4})
-    delta = float(res.x) if np.isfinite(res.fun) and res.fun <= mse[g] else float(grid[g])
+    # refine on a fine grid across the best coarse cell and its neighbours (one vectorised
+    # evaluation), then through the vertex of the parabola over the best fine point and its
+    # two neighbours; a seed of the joint fit needs no more than that
+    fine = np.linspace(grid[g] - step, grid[g] + step, 21)
+    s2, npt, nr, _ = _mismatch(fine, xa, Ya, xb, Yb, vsign, fit_vertical)
+    f_mse = np.where(npt >= need, s2 / np.maximum(nr, 1), np.inf)
+    j = int(np.argmin(f_mse))
+    delta = float(fine[j])
+    if 0 < j < fine.size - 1 and np.all(np.isfinite(f_mse[j - 1:j + 2])):
+        m0, m1, m2 = f_mse[j - 1:j + 2]
+        curvature = m0 - 2.0 * m1 + m2
+        if curvature > 0:
+            vertex = delta + 0.5 * (fine[1] - fine[0]) * (m0 - m2) / curvature
+            s3, n3, r3, _ = _mismatch(np.array([vertex]), xa, Ya, xb, Yb, vsign, fit_vertical)
+            if n3[0] >= need and s3[0] / max(r3[0], 1) <= f_mse[j]:
+                delta = float(vertex)
+    if not f_mse[j] <= mse[g]:
+        delta = float(grid[g])
     s2, npt, nr, off = _mismatch(np.array([delta]), xa, Ya, xb, Yb, vsign, fit_vertical)
     return {"delta": delta, "offset": float(off[0]), "points": int(npt[0]),
             "rms": float(np.sqrt(s2[0] / max(nr[0], 1)))}
