@@ -469,8 +469,13 @@ def _curve(x: np.ndarray, y: np.ndarray):
     return (x, y) if x.size >= 2 else None
 
 
-def _distances(a, b, sx, sy):
-    """Normalised distances of a's points from the polyline of b, for points inside b's x-range.
+#: largest (jobs x points x segments) computed as one array by :func:`_distances`
+_DISTANCE_BATCH = 1_000_000
+
+
+def _distances(jobs):
+    """Normalised distances of a's points from the polyline of b, for points inside b's x-range,
+    for every job ``(a, b, sx, sy)`` at once.
 
     Both coordinates are divided by their combined noise (``sx``, ``sy``: the root sum of
     squares of the two isotherms' noise), and each point of a is measured to the nearest point of
@@ -479,32 +484,49 @@ def _distances(a, b, sx, sy):
     deviate whatever the local slope, so a steep stretch (a plateau seen edge-on) is not taken for
     spread; this is the effective-variance idea of orthogonal fitting (Orear, Am. J. Phys. 50,
     912, 1982). Points whose nearest point is an end of the polyline, past that end, lie beyond
-    the curve and are left out. Returns (normalised distances, ordinate offsets to the nearest
-    point).
+    the curve and are left out. Returns, per job, (normalised distances, ordinate offsets to the
+    nearest point). The jobs are padded to a common size and computed as one array operation
+    (many small pairs cost little more than one).
     """
-    xa, ya = a
-    xb, yb = b
-    inside = (xa >= xb.min()) & (xa <= xb.max())
-    if not inside.any():
-        return np.empty(0), np.empty(0)
-    px, py = xa[inside][:, None] / sx, ya[inside][:, None] / sy
-    ax, ay = xb[:-1][None, :] / sx, yb[:-1][None, :] / sy
-    dx, dy = np.diff(xb)[None, :] / sx, np.diff(yb)[None, :] / sy
+    if not jobs:
+        return []
+    J = len(jobs)
+    ma = max(a[0].size for a, _, _, _ in jobs)
+    mb = max(b[0].size for _, b, _, _ in jobs)
+    if J > 1 and J * ma * mb > _DISTANCE_BATCH:   # keep the work arrays small: in halves
+        return _distances(jobs[:J // 2]) + _distances(jobs[J // 2:])
+    xa, ya = np.full((J, ma), np.nan), np.full((J, ma), np.nan)
+    xb, yb = np.full((J, mb), np.nan), np.full((J, mb), np.nan)
+    sx, sy = np.empty((J, 1, 1)), np.empty((J, 1, 1))
+    nb = np.empty(J, dtype=int)
+    for k, (a, b, sxk, syk) in enumerate(jobs):
+        xa[k, :a[0].size], ya[k, :a[0].size] = a
+        xb[k, :b[0].size], yb[k, :b[0].size] = b
+        sx[k], sy[k] = sxk, syk
+        nb[k] = b[0].size
+    with np.errstate(invalid="ignore"):
+        inside = (xa >= np.nanmin(xb, axis=1)[:, None]) & (xa <= np.nanmax(xb, axis=1)[:, None])
+    px, py = xa[:, :, None] / sx, ya[:, :, None] / sy              # (J, ma, 1)
+    ax, ay = xb[:, None, :-1] / sx, yb[:, None, :-1] / sy          # (J, 1, mb - 1)
+    dx, dy = np.diff(xb, axis=1)[:, None, :] / sx, np.diff(yb, axis=1)[:, None, :] / sy
     length2 = dx * dx + dy * dy
     with np.errstate(invalid="ignore", divide="ignore"):
         u = np.where(length2 > 0, ((px - ax) * dx + (py - ay) * dy) / length2, 0.0)
+    last = nb - 2                                                  # each job's last segment
     beyond = np.zeros(u.shape, dtype=bool)
-    beyond[:, 0] = u[:, 0] < 0.0
-    beyond[:, -1] |= u[:, -1] > 1.0
+    beyond[:, :, 0] = u[:, :, 0] < 0.0
+    rows = np.arange(J)
+    beyond[rows, :, last] |= u[rows, :, last] > 1.0
     u = np.clip(u, 0.0, 1.0)
     cx, cy = ax + u * dx, ay + u * dy
     d2 = (px - cx) ** 2 + (py - cy) ** 2
-    best = np.argmin(d2, axis=1)
-    rows = np.arange(best.size)
-    # a point whose nearest point is an end of b, past that end, lies beyond the curve
-    use = ~beyond[rows, best]
-    offset = (py[:, 0] - cy[rows, best]) * sy
-    return np.sqrt(d2[rows, best])[use], offset[use]
+    d2 = np.where(np.isfinite(d2), d2, np.inf)                     # padding: never the nearest
+    best = np.argmin(d2, axis=2)                                   # (J, ma)
+    jj, ii = np.indices(best.shape)
+    use = inside & ~beyond[jj, ii, best]
+    offset = (py[:, :, 0] - cy[jj, ii, best]) * sy[:, :, 0]
+    dist = np.sqrt(d2[jj, ii, best])
+    return [(dist[k][use[k]], offset[k][use[k]]) for k in range(J)]
 
 
 def _pairwise_spread(temperatures_K, curves, sx, sy, tx, ty):
@@ -524,6 +546,7 @@ def _pairwise_spread(temperatures_K, curves, sx, sy, tx, ty):
     n = len(curves)
     for d in (1 << p for p in range(max(1, (n - 1).bit_length()))):
         norms, raws = [], []
+        todo, jobs = [], []
         for i in range(n - d):
             j = i + d
             a, b = curves[i], curves[j]
@@ -532,8 +555,11 @@ def _pairwise_spread(temperatures_K, curves, sx, sy, tx, ty):
                 continue
             sxx = math.sqrt(sx[i] ** 2 + sx[j] ** 2 + tx ** 2)
             syy = math.sqrt(sy[i] ** 2 + sy[j] ** 2 + ty ** 2)
-            n_ab, r_ab = _distances(a, b, sxx, syy)
-            n_ba, r_ba = _distances(b, a, sxx, syy)
+            todo.append((i, j))
+            jobs += [(a, b, sxx, syy), (b, a, sxx, syy)]
+        found = _distances(jobs)
+        for m, (i, j) in enumerate(todo):
+            (n_ab, r_ab), (n_ba, r_ba) = found[2 * m], found[2 * m + 1]
             if n_ab.size + n_ba.size < MIN_PAIR_POINTS:
                 continue
             norm = np.concatenate([n_ab, n_ba])
