@@ -627,9 +627,9 @@ class _Fit:
                     # (< 1e-6 decades per step for three steps) while the objective only
                     # creeps (< 1e-4 of itself per step: the spectrum trading its constant
                     # against modes beyond the data along a flat valley does this)
-                    creep = big < 1e-6 and dphi <= 1e-4 * (1.0 + phi)
+                    creep = big < 1e-5 and dphi <= 1e-4 * (1.0 + phi)
                     slow = slow + 1 if creep else 0
-                    if (dphi <= tol * (1.0 + phi) and big < 1e-6) or slow >= 3:
+                    if (dphi <= tol * (1.0 + phi) and big < 1e-6) or slow >= 2:
                         converged = True
                     break
                 mu *= 4.0
@@ -678,7 +678,7 @@ def fit_joint(prob: JointProblem, s0, c0=None, *, model="spectrum", robust=True,
     # the noise scales of its residuals, so that the penalty weighs against the data in the
     # right units from the first joint step on
     fit.sigma = np.full(prob.n_fn, 0.01)
-    fit.gauss_newton(max_iter=min(max_iter, 50), tol=1e-6, curve_only=True)
+    fit.gauss_newton(max_iter=min(max_iter, 50), tol=1e-4, curve_only=True)
     # then the joint fit, with the noise scales re-estimated from its residuals until they
     # settle (the first round's come from the curve at the starting shifts, so at least two)
     for round_ in range(4):
