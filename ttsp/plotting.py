@@ -184,7 +184,9 @@ def _log_scale(ax, which: str):
 
 
 def _style(ax, *, logx=False, logy=False):
-    """Our look: thin frame, ticks inside on all four sides, a faint major grid."""
+    """Our look: thin frame, ticks inside (major ones on all four sides, minor ones on the
+    bottom and left: every tick is an artist of its own, and minor ticks on four sides made a
+    fifth of the drawing time), a faint major grid."""
     if logx:
         _log_scale(ax, "x")
     if logy:
@@ -195,7 +197,7 @@ def _style(ax, *, logx=False, logy=False):
     ax.tick_params(which="both", direction="in", top=True, right=True, colors=_INK,
                    labelsize=9)
     ax.tick_params(which="major", length=4.5, width=0.7)
-    ax.tick_params(which="minor", length=2.5, width=0.5)
+    ax.tick_params(which="minor", length=2.5, width=0.5, top=False, right=False)
     ax.grid(True, which="major", color="#e3e3e3", linewidth=0.6, zorder=0)
     ax.set_axisbelow(True)
     ax.xaxis.label.set_size(10)
