@@ -5,11 +5,14 @@ For a thermorheologically simple material (Ferry, *Viscoelastic Properties of Po
 1980, ch. 11) every material function at temperature T follows from the reference curve by the
 shift factor a_T:
 
-.. math:: E(t, T) = E_\\mathrm{ref}(t / a_T), \\qquad E'(\\omega, T) = E'_\\mathrm{ref}(\\omega a_T),
-          \\qquad D(t, T) = D_\\mathrm{ref}(t / a_T),
+.. math:: E(t, T) = b_T E_\\mathrm{ref}(t / a_T), \\qquad
+          E'(\\omega, T) = b_T E'_\\mathrm{ref}(\\omega a_T), \\qquad
+          D(t, T) = D_\\mathrm{ref}(t / a_T) / b_T,
 
-with log10 a_T > 0 below the reference temperature. Vertical shifts are not applied here: the
-series describes the reduced modulus at the reference temperature.
+with log10 a_T > 0 below the reference temperature and tan δ unchanged by b_T. The series
+describes the reduced modulus at the reference temperature; the vertical shift b_T is 1 unless
+the build used one (:class:`VerticalShift`: from density, b_T = T ρ(T)/(T_ref ρ_ref), or
+interpolated in the table of fitted b_T).
 
 Requests outside the reduced range the series was fitted to, or outside the temperature range of
 the shift law, are extrapolations and raise :class:`~ttsp.exceptions.ExtrapolationWarning`.
@@ -26,7 +29,8 @@ import numpy as np
 from ._validation import bad_value, check_choice
 from .exceptions import DataError, ExtrapolationWarning
 
-__all__ = ["ViscoelasticModel", "QUANTITY_COLUMNS", "TIME_QUANTITIES", "FREQUENCY_QUANTITIES"]
+__all__ = ["ViscoelasticModel", "VerticalShift", "QUANTITY_COLUMNS", "TIME_QUANTITIES",
+           "FREQUENCY_QUANTITIES"]
 
 TIME_QUANTITIES = ("relaxation_modulus", "creep_compliance")
 FREQUENCY_QUANTITIES = ("storage_modulus", "loss_modulus", "tan_delta")
@@ -37,6 +41,63 @@ QUANTITY_COLUMNS = {
     "loss_modulus": "loss_modulus_Pa",
     "tan_delta": "tan_delta",
 }
+
+
+@dataclass(frozen=True)
+class VerticalShift:
+    """The vertical shift factor b_T at any temperature, as the build found it.
+
+    ``mode="density"``: b_T = T ρ(T)/(T_ref ρ_ref) with ρ(T) = ρ_ref [1 − α_v (T − T_ref)]
+    (Ferry, Viscoelastic Properties of Polymers, 3rd ed., 1980, ch. 11). ``mode="fit"``:
+    log10 b_T interpolated linearly in T between the fitted isotherms and held at the end values
+    beyond them (common practice, no source; b_T varies slowly and a shift law is for a_T).
+    """
+
+    mode: str
+    reference_temperature_K: float
+    expansion_coefficient_per_K: float | None = None
+    temperature_K: tuple = ()
+    log10_bT: tuple = ()
+
+    def __post_init__(self):
+        check_choice("mode", self.mode, ("density", "fit"))
+        if self.mode == "density" and not (self.expansion_coefficient_per_K is not None
+                                           and math.isfinite(self.expansion_coefficient_per_K)):
+            raise bad_value("expansion_coefficient_per_K", "a finite number for mode 'density'",
+                            self.expansion_coefficient_per_K)
+        if self.mode == "fit" and (len(self.temperature_K) < 1
+                                   or len(self.temperature_K) != len(self.log10_bT)):
+            raise bad_value("temperature_K, log10_bT", "two tables of the same, non-zero length",
+                            (len(self.temperature_K), len(self.log10_bT)))
+
+    @classmethod
+    def from_shifts(cls, shifts) -> "VerticalShift | None":
+        """The vertical shift of a :class:`~ttsp.shifting.ShiftResult`, None for mode 'none'."""
+        mode = getattr(shifts, "vertical_mode", "none")
+        if mode == "none":
+            return None
+        order = np.argsort(shifts.temperature_K)
+        return cls(mode, float(shifts.reference_temperature_K),
+                   shifts.expansion_coefficient_per_K,
+                   tuple(float(t) for t in np.asarray(shifts.temperature_K)[order]),
+                   tuple(float(b) for b in np.asarray(shifts.log10_bT)[order]))
+
+    def factor(self, temperature_K) -> np.ndarray:
+        """b_T at ``temperature_K`` (K)."""
+        T = np.asarray(temperature_K, dtype=float)
+        if self.mode == "density":
+            tr = self.reference_temperature_K
+            return T * (1.0 - self.expansion_coefficient_per_K * (T - tr)) / tr
+        return 10.0 ** np.interp(T, self.temperature_K, self.log10_bT)
+
+    def to_dict(self) -> dict:
+        out = {"mode": self.mode, "reference_temperature_C": self.reference_temperature_K - 273.15}
+        if self.mode == "density":
+            out["expansion_coefficient_per_K"] = float(self.expansion_coefficient_per_K)
+        else:
+            out["temperature_C"] = [t - 273.15 for t in self.temperature_K]
+            out["log10_bT"] = list(self.log10_bT)
+        return out
 
 
 @dataclass(frozen=True, repr=False)
@@ -50,10 +111,13 @@ class ViscoelasticModel:
     law : shift law
         Any object with ``log10_aT(temperature_K)``, ``reference_temperature_K`` and
         ``valid_temperature_range_K`` (see :mod:`ttsp.laws`).
+    vertical : VerticalShift, optional
+        The vertical shift of the build (None: b_T = 1 at every temperature).
     """
 
     series: object
     law: object
+    vertical: VerticalShift | None = None
 
     def __post_init__(self):
         tr_law = float(self.law.reference_temperature_K)
@@ -61,6 +125,16 @@ class ViscoelasticModel:
         if tr_series is not None and abs(float(tr_series) - tr_law) > 1e-6:
             raise bad_value("series.reference_temperature_K",
                             f"equal to the law's reference temperature {tr_law:g} K", tr_series)
+        if self.vertical is not None and abs(self.vertical.reference_temperature_K - tr_law) > 1e-6:
+            raise bad_value("vertical.reference_temperature_K",
+                            f"equal to the law's reference temperature {tr_law:g} K",
+                            self.vertical.reference_temperature_K)
+
+    def vertical_factor(self, temperature_K) -> np.ndarray:
+        """b_T at ``temperature_K`` (K): 1 without a vertical shift."""
+        if self.vertical is None:
+            return np.ones(np.shape(temperature_K))
+        return self.vertical.factor(temperature_K)
 
     @property
     def reference_temperature_K(self) -> float:
@@ -85,14 +159,23 @@ class ViscoelasticModel:
 
     # ---- time domain ------------------------------------------------------------------------
     def relaxation_modulus(self, time_s, temperature_K) -> np.ndarray:
-        """E(t, T) = E_ref(t / a_T) in Pa, for times in s and temperatures in K (broadcast)."""
+        """E(t, T) = b_T E_ref(t / a_T) in Pa, for times in s and temperatures in K (broadcast)."""
         t, a = self._reduced_time(time_s, temperature_K)
-        return self.series.relaxation_modulus(t / a)
+        return self._scaled(self.series.relaxation_modulus(t / a), temperature_K, t)
 
     def creep_compliance(self, time_s, temperature_K) -> np.ndarray:
-        """D(t, T) = D_ref(t / a_T) in 1/Pa, from the exact Prony interconversion."""
+        """D(t, T) = D_ref(t / a_T) / b_T in 1/Pa, from the exact Prony interconversion."""
         t, a = self._reduced_time(time_s, temperature_K)
-        return self.creep_series.creep_compliance(t / a)
+        return self._scaled(self.creep_series.creep_compliance(t / a), temperature_K, t,
+                            inverse=True)
+
+    def _scaled(self, values, temperature_K, like, *, inverse=False):
+        """Values times b_T (divided for a compliance), broadcast like ``like``."""
+        if self.vertical is None:
+            return values
+        b = np.broadcast_to(self.vertical.factor(temperature_K), np.shape(like))
+        out = np.asarray(values) / b if inverse else np.asarray(values) * b
+        return out.reshape(()).item() if np.ndim(values) == 0 else out
 
     @property
     def creep_series(self):
@@ -125,12 +208,14 @@ class ViscoelasticModel:
         return w
 
     def storage_modulus(self, frequency_Hz, temperature_K) -> np.ndarray:
-        """E'(f, T) = E'_ref(2πf·a_T) in Pa; frequency in Hz."""
-        return self.series.storage_modulus(self._reduced_omega(frequency_Hz, temperature_K))
+        """E'(f, T) = b_T E'_ref(2πf·a_T) in Pa; frequency in Hz."""
+        w = self._reduced_omega(frequency_Hz, temperature_K)
+        return self._scaled(self.series.storage_modulus(w), temperature_K, w)
 
     def loss_modulus(self, frequency_Hz, temperature_K) -> np.ndarray:
-        """E''(f, T) = E''_ref(2πf·a_T) in Pa; frequency in Hz."""
-        return self.series.loss_modulus(self._reduced_omega(frequency_Hz, temperature_K))
+        """E''(f, T) = b_T E''_ref(2πf·a_T) in Pa; frequency in Hz."""
+        w = self._reduced_omega(frequency_Hz, temperature_K)
+        return self._scaled(self.series.loss_modulus(w), temperature_K, w)
 
     def tan_delta(self, frequency_Hz, temperature_K) -> np.ndarray:
         """tan δ(f, T) = E''/E' at the reduced frequency 2πf·a_T."""
@@ -157,7 +242,10 @@ class ViscoelasticModel:
                                        temperature_K)
 
     def to_dict(self) -> dict:
-        return {"prony": self.series.to_dict(), "shift_law": self.law.to_dict()}
+        out = {"prony": self.series.to_dict(), "shift_law": self.law.to_dict()}
+        if self.vertical is not None:
+            out["vertical_shift"] = self.vertical.to_dict()
+        return out
 
     def __repr__(self) -> str:
         return (f"ViscoelasticModel({self.series.n_terms} Prony terms, law {self.law.model}, "
@@ -177,4 +265,22 @@ class ViscoelasticModel:
         for key in ("prony", "shift_law"):
             if not isinstance(summary.get(key), dict):
                 raise DataError(f"summary has no {key!r} section; it must come from 'ttsp build'")
-        return cls(PronySeries.from_dict(summary["prony"]), ShiftLaw.from_dict(summary["shift_law"]))
+        law = ShiftLaw.from_dict(summary["shift_law"])
+        return cls(PronySeries.from_dict(summary["prony"]), law,
+                   _vertical_from_summary(summary, float(law.reference_temperature_K)))
+
+
+def _vertical_from_summary(summary: dict, reference_temperature_K: float):
+    """The build's vertical shift from its ``shifting`` section and shift table (None if none)."""
+    shifting = summary.get("shifting") or {}
+    mode = shifting.get("vertical_mode", "none")
+    if mode in (None, "none"):
+        return None
+    try:
+        rows = sorted(summary["shift_factors"], key=lambda r: r["temperature_C"])
+        return VerticalShift(mode, reference_temperature_K,
+                             shifting.get("expansion_coefficient_per_K"),
+                             tuple(float(r["temperature_C"]) + 273.15 for r in rows),
+                             tuple(float(r["log10_bT"]) for r in rows))
+    except (KeyError, TypeError, ValueError) as exc:
+        raise DataError(f"summary's vertical shift ({mode!r}) cannot be read: {exc}") from None

@@ -316,7 +316,7 @@ def build(campaign: Campaign, options: BuildOptions | None = None, *, input_sha2
     """
     from .checks import run_checks
     from .laws import fit_shift_law
-    from .model import ViscoelasticModel
+    from .model import VerticalShift, ViscoelasticModel
     from .shifting import default_reference_temperature_K, shift_isotherms
 
     if options is None:
@@ -360,7 +360,7 @@ def build(campaign: Campaign, options: BuildOptions | None = None, *, input_sha2
             if prony_fit.series.reference_temperature_K is None else prony_fit.series
         if series is not prony_fit.series:
             prony_fit = _with_series(prony_fit, series)
-        model = ViscoelasticModel(series, law_fit.law)
+        model = ViscoelasticModel(series, law_fit.law, VerticalShift.from_shifts(shifts))
         step("checks")
         check_campaign, check_shifts = _thin_for_checks(campaign, shifts)
         checks = tuple(run_checks(check_campaign, shifts=check_shifts, law_fit=law_fit,
