@@ -50,7 +50,8 @@ from dataclasses import dataclass
 
 import numpy as np
 import scipy.sparse as sp
-from scipy.linalg import LinAlgError, cho_factor, cho_solve, lu_factor, lu_solve
+from scipy.linalg import LinAlgError, lu_factor, lu_solve
+from scipy.linalg.lapack import dpotrf, dpotrs
 from scipy.optimize import nnls
 
 from .exceptions import FitError
@@ -430,6 +431,18 @@ class _SpectrumModel:
 _DENSE_SHIFT_JACOBIAN = 200_000
 
 
+def _cholesky_solve(M: np.ndarray, b: np.ndarray) -> np.ndarray:
+    """Solve M x = b for a symmetric positive definite M by Cholesky (LAPACK potrf/potrs
+    directly: the checking wrappers cost more than the factorisation at these sizes)."""
+    c, info = dpotrf(M, lower=False, clean=False)
+    if info != 0:
+        raise LinAlgError(f"matrix not positive definite (potrf info {info})")
+    x, info = dpotrs(c, b, lower=False)
+    if info != 0:
+        raise LinAlgError(f"potrs info {info}")
+    return x
+
+
 def _dense(M) -> np.ndarray:
     return M.toarray() if sp.issparse(M) else np.asarray(M)
 
@@ -588,7 +601,7 @@ class _Fit:
             for _ in range(40):
                 Mx = A + np.diag(mu * dA + 1e-12 * (dA.max() + 1.0))
                 try:
-                    sf = cho_solve(cho_factor(Mx, check_finite=False), -g_f, check_finite=False)
+                    sf = _cholesky_solve(Mx, -g_f)
                 except (LinAlgError, ValueError):
                     mu *= 10.0
                     continue
