@@ -996,6 +996,10 @@ class _Outcome:
     notes: tuple
 
 
+#: largest (trials x table rows) solved as one batch by :func:`_grid_lstsq`
+_GRID_BATCH = 200_000
+
+
 def _grid_lstsq(columns: Mapping[str, np.ndarray], y: np.ndarray, w: np.ndarray,
                 fixed: Mapping[str, float]) -> tuple[dict, np.ndarray]:
     """Weighted linear least squares y ~ Σ c_n col_n for a whole grid of trials at once.
@@ -1008,6 +1012,12 @@ def _grid_lstsq(columns: Mapping[str, np.ndarray], y: np.ndarray, w: np.ndarray,
     """
     G = max((np.shape(c)[0] for c in columns.values() if np.ndim(c) == 2), default=1)
     n = y.size
+    if G > 1 and G * n > _GRID_BATCH:   # many trials on a long table: in halves, bounded memory
+        h = G // 2
+        parts = [_grid_lstsq({k: (c[sl] if np.ndim(c) == 2 else c) for k, c in columns.items()},
+                             y, w, fixed) for sl in (slice(0, h), slice(h, G))]
+        return ({k: np.concatenate([parts[0][0][k], parts[1][0][k]]) for k in parts[0][0]},
+                np.concatenate([parts[0][1], parts[1][1]]))
     cols = {name: np.broadcast_to(np.asarray(c, dtype=float), (G, n)) for name, c in
             columns.items()}
     ok = np.all([np.all(np.isfinite(c), axis=1) for c in cols.values()], axis=0)
