@@ -145,9 +145,113 @@ def test_a_fit_mode_build_applies_its_table():
 
 
 def test_bad_vertical_shift_definitions_are_rejected():
-    with pytest.raises(DataError):
+    with pytest.raises(DataError, match="expansion_coefficient_per_K must be a finite"):
         VerticalShift("density", T_REF, None)
-    with pytest.raises(DataError):
+    with pytest.raises(DataError, match="two tables of the same, non-zero length"):
         VerticalShift("fit", T_REF, None, (300.0,), ())
-    with pytest.raises(DataError):
+    with pytest.raises(DataError, match="temperatures strictly increasing"):
+        VerticalShift("fit", T_REF, None, (310.0, 300.0), (0.0, 0.01))
+    with pytest.raises(DataError, match="mode must be"):
         VerticalShift("sideways", T_REF, 1e-4)
+    with pytest.raises(DataError, match="reference_temperature_K must be a positive"):
+        VerticalShift("density", -5.0, 1e-4)
+    # the density law has no positive density beyond T_ref + 1/alpha
+    with pytest.raises(DataError, match="below T_ref"):
+        VerticalShift("density", T_REF, 1e-2).factor(T_REF + 150.0)
+
+
+def test_model_and_vertical_shift_must_share_the_reference(density_build):
+    _, result = density_build
+    with pytest.raises(DataError, match="vertical.reference_temperature_K must be equal"):
+        ViscoelasticModel(result.series, result.law_fit.law, VerticalShift("density", 300.0, ALPHA))
+
+
+def test_unreadable_vertical_shift_in_a_summary_is_a_data_error(density_build):
+    _, result = density_build
+    summary = json.loads(json.dumps(to_plain(result.summary(), nonfinite_as_none=True)))
+    summary["shifting"]["vertical_mode"] = "fit"
+    del summary["shift_factors"][0]["log10_bT"]
+    with pytest.raises(DataError, match="vertical shift \\('fit'\\) cannot be read"):
+        ViscoelasticModel.from_summary(summary)
+
+
+def test_fit_mode_gives_b_T_1_at_an_unmeasured_reference_and_round_trips():
+    """The shift gauge puts log10 b_T = 0 at the reference temperature even when it lies between
+    or outside the isotherms; the model's table carries that node, so a prediction at T_ref is
+    the reference series itself."""
+    temps = T_REF + 5.0 * np.arange(-4, 9)                # 300 ... 360 K
+    camp = exact_campaign(temps, density_log10_bT(temps), noise=0.005, seed=3)
+    for t_ref_C in (T_REF + 2.5 - 273.15, 290.0 - 273.15):   # between isotherms; below them
+        result = quiet_build(camp, reference_temperature_C=t_ref_C, law="wlf", vertical="fit")
+        m = result.model
+        assert m.vertical_factor(result.reference_temperature_K) == pytest.approx(1.0, abs=1e-12)
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")
+            assert m.storage_modulus(1.0, result.reference_temperature_K) == pytest.approx(
+                m.series.storage_modulus(2 * np.pi), rel=1e-12)
+        summary = json.loads(json.dumps(to_plain(result.summary(), nonfinite_as_none=True)))
+        again = ViscoelasticModel.from_summary(summary)
+        T = np.linspace(280.0, 370.0, 19)
+        np.testing.assert_allclose(again.vertical_factor(T), m.vertical_factor(T), rtol=1e-12)
+
+
+def test_histories_apply_b_T_like_the_model(density_build):
+    """A step strain held at 355 K: the stress is b_T times the reduced stress, as the model's
+    E(t, T); a step stress: the strain is D(t, T) = D_ref/b_T times the stress."""
+    from ttsp.history import strain_under_stress, stress_under_strain
+
+    _, result = density_build
+    m = result.model
+    t = np.array([0.0, 1e-3, 1.0, 100.0])
+    T = 355.0
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        h = stress_under_strain(m.series, t, np.full(t.size, 0.01), T, m.log10_aT,
+                                vertical_factor=m.vertical_factor)
+        np.testing.assert_allclose(h.stress_Pa, 0.01 * m.relaxation_modulus(t, T), rtol=1e-10)
+        c = strain_under_stress(m.series, t, np.full(t.size, 1e5), T, m.log10_aT,
+                                vertical_factor=m.vertical_factor)
+        np.testing.assert_allclose(c.strain, 1e5 * m.creep_compliance(t, T), rtol=1e-9)
+        assert h.provenance["vertical_shift"] is True
+        with pytest.raises(DataError, match="temperature_K must be given when vertical_factor"):
+            stress_under_strain(m.series, t, np.full(t.size, 0.01),
+                                vertical_factor=m.vertical_factor)
+        with pytest.raises(DataError, match="vertical_factor at 355.0 K must be positive"):
+            stress_under_strain(m.series, t, np.full(t.size, 0.01), T, m.log10_aT,
+                                vertical_factor=lambda T: -1.0)
+
+
+def test_cli_history_and_predict_apply_b_T(density_build, tmp_path):
+    """'ttsp history' and 'ttsp predict' on a density build agree with the model's E(t, T)."""
+    import io
+
+    import pandas as pd
+    from typer.testing import CliRunner
+
+    from ttsp.cli import app
+    from ttsp.io.writers import write_build_numbers
+
+    _, result = density_build
+    folder = tmp_path / "built"
+    folder.mkdir()
+    write_build_numbers(result, folder)
+    t = np.array([0.0, 1e-3, 0.1, 10.0])
+    table = tmp_path / "h.csv"
+    table.write_text("time (s),T (°C),strain\n"
+                     + "".join(f"{a},{355.0 - 273.15},0.01\n" for a in t))
+    runner = CliRunner()
+    res = runner.invoke(app, ["history", str(folder), str(table)])
+    assert res.exit_code == 0, res.output
+    stress = pd.read_csv(io.StringIO(res.stdout))["stress_Pa"].to_numpy()
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        expected = 0.01 * result.model.relaxation_modulus(t, 355.0)
+    np.testing.assert_allclose(stress, expected, rtol=1e-9)
+    res = runner.invoke(app, ["predict", str(folder), "--quantity", "relaxation_modulus",
+                              "--temperature", f"{355.0 - 273.15}", "--time", "0.1:10:3"])
+    assert res.exit_code == 0, res.output
+    predicted = pd.read_csv(io.StringIO(res.stdout))["relaxation_modulus_Pa"].to_numpy()
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        np.testing.assert_allclose(predicted, result.model.relaxation_modulus(
+            np.geomspace(0.1, 10, 3), 355.0), rtol=1e-6)

@@ -378,7 +378,8 @@ def history_cmd(model: Path = typer.Argument(..., help="summary.json of a build,
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always")
         kwargs = ({} if h.temperature_K is None
-                  else {"temperature_K": h.temperature_K, "log10_aT": m.log10_aT})
+                  else {"temperature_K": h.temperature_K, "log10_aT": m.log10_aT,
+                        "vertical_factor": None if m.vertical is None else m.vertical_factor})
         if h.control == "strain":
             response = stress_under_strain(m.series, h.time_s, h.values, **kwargs)
         else:

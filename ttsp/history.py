@@ -35,6 +35,12 @@ creep series :math:`D(\\xi) = D_g + \\sum_j D_j (1 - e^{-\\xi/\\lambda_j}) + \\v
    - \\sum_j \\int_{0^-}^{\\xi} D_j e^{-(\\xi-\\xi')/\\lambda_j}\\, d\\sigma(\\xi')
    + \\varphi \\int_0^{\\xi} \\sigma(\\xi')\\, d\\xi'.
 
+Vertical shift. When the master curve is of the reduced modulus E/b_T (Ferry 1980, ch. 11: the
+reduced stress is σ/b_T), the stress under a strain history is σ(t) = b_T(T(t)) σ_r(ξ(t)) with
+σ_r the integral above, and the strain under a stress history is the creep integral of the
+reduced stress σ(t)/b_T(T(t)). Pass the build's ``vertical_factor`` (b_T as a function of T) to
+apply it; without it b_T = 1.
+
 Implementation: the linear recursion is evaluated in blocks of about √n steps. Within all
 blocks at once (vectorised across blocks) the recursion runs from a zero state; the states at
 the block boundaries are then chained, and each block's start state is propagated with the
@@ -179,6 +185,22 @@ def reduced_time(time_s, temperature_K, log10_aT: Callable, *, substeps: int = 1
     mean_rate = (0.5 * (r[:, 0] + r[:, -1]) + r[:, 1:-1].sum(axis=1)) / m
     xi = np.concatenate([[0.0], np.cumsum(np.diff(t) * mean_rate)])
     return xi
+
+
+def _vertical(vertical_factor: Callable | None, temp: np.ndarray,
+              temperature_K) -> np.ndarray | None:
+    """b_T at each sample (None without a vertical shift or at the reference temperature)."""
+    if vertical_factor is None:
+        return None
+    if temperature_K is None:
+        raise bad_value("temperature_K", "given when vertical_factor is given", None)
+    b = np.broadcast_to(np.asarray(vertical_factor(temp), dtype=float), temp.shape)
+    bad = ~(np.isfinite(b) & (b > 0))
+    if bad.any():
+        i = int(np.flatnonzero(bad)[0])
+        raise bad_value(f"vertical_factor at {float(temp[i])!r} K", "positive and finite",
+                        float(b[i]))
+    return b
 
 
 def _reduced(t: np.ndarray, temperature_K, log10_aT, series,
@@ -372,7 +394,8 @@ def _warn_span(series, xi: np.ndarray) -> None:
 
 def stress_under_strain(series, time_s, strain, temperature_K=None,
                         log10_aT: Callable | None = None, *,
-                        substeps: int = 1) -> HistoryResponse:
+                        substeps: int = 1,
+                        vertical_factor: Callable | None = None) -> HistoryResponse:
     """Stress under a strain history, optionally at a varying temperature.
 
     σ(ξ) = E_∞ ε(ξ) + Σ_i h_i(ξ) by Boltzmann superposition in reduced time with the exact
@@ -398,6 +421,10 @@ def stress_under_strain(series, time_s, strain, temperature_K=None,
     substeps : int
         Trapezoid sub-intervals per sample interval for the reduced time (see
         :func:`reduced_time`), ≥ 1; raise it when T changes by more than ~1 K between samples.
+    vertical_factor : callable, optional
+        T_K -> b_T, the vertical shift of the master curve (e.g.
+        ``ViscoelasticModel.vertical_factor``); the stress is b_T(T(t)) times the reduced stress.
+        Needs ``temperature_K``.
 
     Returns
     -------
@@ -422,17 +449,22 @@ def stress_under_strain(series, time_s, strain, temperature_K=None,
     eps = _same_length("strain", strain, t.size)
     xi, temp = _reduced(t, temperature_K, log10_aT, series, substeps)
     _warn_span(series, xi)
+    b = _vertical(vertical_factor, temp, temperature_K)
     sigma = series.equilibrium_modulus_Pa * eps + _exponential_memory(
         xi, eps, np.asarray(series.tau_s), np.asarray(series.modulus_Pa))
+    if b is not None:
+        sigma = b * sigma
     return HistoryResponse(t, xi, temp, eps, sigma, "strain", series.modulus_kind,
                            {"method": "Boltzmann superposition in reduced time, recursive "
                                       "Prony update (strain piecewise linear in reduced time)",
-                            "isothermal": temperature_K is None, "substeps": int(substeps)})
+                            "isothermal": temperature_K is None, "substeps": int(substeps),
+                            "vertical_shift": b is not None})
 
 
 def strain_under_stress(series, time_s, stress_Pa, temperature_K=None,
                         log10_aT: Callable | None = None, *,
-                        substeps: int = 1) -> HistoryResponse:
+                        substeps: int = 1,
+                        vertical_factor: Callable | None = None) -> HistoryResponse:
     """Strain under a stress history, optionally at a varying temperature.
 
     ε(ξ) = (D_g + Σ D_j) σ(ξ) − Σ_j ∫ D_j e^{−(ξ−ξ')/λ_j} dσ(ξ') + φ ∫_0^ξ σ dξ', the Boltzmann
@@ -455,6 +487,9 @@ def strain_under_stress(series, time_s, stress_Pa, temperature_K=None,
         Shift law T_K -> log10 a_T; required with ``temperature_K``.
     substeps : int
         As for :func:`stress_under_strain`.
+    vertical_factor : callable, optional
+        T_K -> b_T; the creep integral is taken of the reduced stress σ/b_T(T(t)). Needs
+        ``temperature_K``.
 
     Returns
     -------
@@ -479,14 +514,18 @@ def strain_under_stress(series, time_s, stress_Pa, temperature_K=None,
     sig = _same_length("stress_Pa", stress_Pa, t.size)
     xi, temp = _reduced(t, temperature_K, log10_aT, series, substeps)
     _warn_span(series, xi)
+    b = _vertical(vertical_factor, temp, temperature_K)
+    reduced = sig if b is None else sig / b
     lam = np.asarray(series.retardation_times_s)
     dj = np.asarray(series.compliance_1_per_Pa)
-    eps = series.glassy_compliance_1_per_Pa * sig + _exponential_memory(xi, sig, lam, dj,
-                                                                         rising=True)
+    eps = series.glassy_compliance_1_per_Pa * reduced + _exponential_memory(
+        xi, reduced, lam, dj, rising=True)
     if series.is_fluid:
-        flow = np.concatenate([[0.0], np.cumsum(0.5 * (sig[1:] + sig[:-1]) * np.diff(xi))])
+        flow = np.concatenate([[0.0], np.cumsum(0.5 * (reduced[1:] + reduced[:-1])
+                                                * np.diff(xi))])
         eps = eps + series.fluidity_1_per_Pa_s * flow
     return HistoryResponse(t, xi, temp, eps, sig, "stress", series.modulus_kind,
                            {"method": "Boltzmann superposition in reduced time, recursive "
                                       "Prony update (stress piecewise linear in reduced time)",
-                            "isothermal": temperature_K is None, "substeps": int(substeps)})
+                            "isothermal": temperature_K is None, "substeps": int(substeps),
+                            "vertical_shift": b is not None})

@@ -43,6 +43,10 @@ QUANTITY_COLUMNS = {
 }
 
 
+#: a reference temperature this close to an isotherm is that isotherm (as in ttsp.shifting)
+_REFERENCE_SNAP_K = 0.05
+
+
 @dataclass(frozen=True)
 class VerticalShift:
     """The vertical shift factor b_T at any temperature, as the build found it.
@@ -50,7 +54,9 @@ class VerticalShift:
     ``mode="density"``: b_T = T ρ(T)/(T_ref ρ_ref) with ρ(T) = ρ_ref [1 − α_v (T − T_ref)]
     (Ferry, Viscoelastic Properties of Polymers, 3rd ed., 1980, ch. 11). ``mode="fit"``:
     log10 b_T interpolated linearly in T between the fitted isotherms and held at the end values
-    beyond them (common practice, no source; b_T varies slowly and a shift law is for a_T).
+    beyond them (common practice, no source; b_T varies slowly and a shift law is for a_T). The
+    table holds the node (T_ref, 0) so that b_T(T_ref) = 1 also when the reference temperature
+    was not measured.
     """
 
     mode: str
@@ -61,14 +67,37 @@ class VerticalShift:
 
     def __post_init__(self):
         check_choice("mode", self.mode, ("density", "fit"))
-        if self.mode == "density" and not (self.expansion_coefficient_per_K is not None
-                                           and math.isfinite(self.expansion_coefficient_per_K)):
-            raise bad_value("expansion_coefficient_per_K", "a finite number for mode 'density'",
-                            self.expansion_coefficient_per_K)
-        if self.mode == "fit" and (len(self.temperature_K) < 1
-                                   or len(self.temperature_K) != len(self.log10_bT)):
+        tr = self.reference_temperature_K
+        if not (isinstance(tr, (int, float)) and math.isfinite(tr) and tr > 0):
+            raise bad_value("reference_temperature_K", "a positive temperature in kelvin", tr)
+        if self.mode == "density":
+            a = self.expansion_coefficient_per_K
+            if not (isinstance(a, (int, float)) and math.isfinite(a) and a >= 0):
+                raise bad_value("expansion_coefficient_per_K",
+                                "a finite, non-negative number for mode 'density'", a)
+            return
+        T = np.asarray(self.temperature_K, dtype=float)
+        b = np.asarray(self.log10_bT, dtype=float)
+        if T.ndim != 1 or T.size < 1 or T.shape != b.shape:
             raise bad_value("temperature_K, log10_bT", "two tables of the same, non-zero length",
-                            (len(self.temperature_K), len(self.log10_bT)))
+                            (T.size, b.size))
+        if not (np.all(np.isfinite(T)) and np.all(np.isfinite(b)) and np.all(np.diff(T) > 0)):
+            raise bad_value("temperature_K, log10_bT",
+                            "finite, with temperatures strictly increasing", (tuple(T), tuple(b)))
+
+    @classmethod
+    def from_table(cls, mode: str, reference_temperature_K: float,
+                   expansion_coefficient_per_K, temperature_K, log10_bT) -> "VerticalShift":
+        """From a shift table in any order: sorted by temperature, with the node (T_ref, 0)
+        added in mode 'fit' when no isotherm lies within 0.05 K of the reference."""
+        tr = float(reference_temperature_K)
+        T = np.asarray(temperature_K, dtype=float)
+        b = np.asarray(log10_bT, dtype=float)
+        if mode == "fit" and T.size and np.min(np.abs(T - tr)) > _REFERENCE_SNAP_K:
+            T, b = np.append(T, tr), np.append(b, 0.0)
+        order = np.argsort(T, kind="stable")
+        return cls(mode, tr, expansion_coefficient_per_K,
+                   tuple(float(v) for v in T[order]), tuple(float(v) for v in b[order]))
 
     @classmethod
     def from_shifts(cls, shifts) -> "VerticalShift | None":
@@ -76,19 +105,22 @@ class VerticalShift:
         mode = getattr(shifts, "vertical_mode", "none")
         if mode == "none":
             return None
-        order = np.argsort(shifts.temperature_K)
-        return cls(mode, float(shifts.reference_temperature_K),
-                   shifts.expansion_coefficient_per_K,
-                   tuple(float(t) for t in np.asarray(shifts.temperature_K)[order]),
-                   tuple(float(b) for b in np.asarray(shifts.log10_bT)[order]))
+        return cls.from_table(mode, shifts.reference_temperature_K,
+                              shifts.expansion_coefficient_per_K, shifts.temperature_K,
+                              shifts.log10_bT)
 
     def factor(self, temperature_K) -> np.ndarray:
         """b_T at ``temperature_K`` (K)."""
         T = np.asarray(temperature_K, dtype=float)
-        if self.mode == "density":
-            tr = self.reference_temperature_K
-            return T * (1.0 - self.expansion_coefficient_per_K * (T - tr)) / tr
-        return 10.0 ** np.interp(T, self.temperature_K, self.log10_bT)
+        if self.mode == "fit":
+            return 10.0 ** np.interp(T, self.temperature_K, self.log10_bT)
+        tr = self.reference_temperature_K
+        b = T * (1.0 - self.expansion_coefficient_per_K * (T - tr)) / tr
+        if np.any(b <= 0):
+            raise bad_value("temperature_K", f"below T_ref + 1/α_v = "
+                            f"{tr + 1.0 / self.expansion_coefficient_per_K:.6g} K (the density "
+                            "law gives no positive density beyond)", float(np.max(T)))
+        return b
 
     def to_dict(self) -> dict:
         out = {"mode": self.mode, "reference_temperature_C": self.reference_temperature_K - 273.15}
@@ -276,11 +308,14 @@ def _vertical_from_summary(summary: dict, reference_temperature_K: float):
     mode = shifting.get("vertical_mode", "none")
     if mode in (None, "none"):
         return None
+    if mode == "density":
+        return VerticalShift("density", reference_temperature_K,
+                             shifting.get("expansion_coefficient_per_K"))
     try:
-        rows = sorted(summary["shift_factors"], key=lambda r: r["temperature_C"])
-        return VerticalShift(mode, reference_temperature_K,
-                             shifting.get("expansion_coefficient_per_K"),
-                             tuple(float(r["temperature_C"]) + 273.15 for r in rows),
-                             tuple(float(r["log10_bT"]) for r in rows))
+        rows = summary["shift_factors"]
+        temps = [float(r["temperature_C"]) + 273.15 for r in rows]
+        log_b = [float(r["log10_bT"]) for r in rows]
     except (KeyError, TypeError, ValueError) as exc:
-        raise DataError(f"summary's vertical shift ({mode!r}) cannot be read: {exc}") from None
+        raise DataError(f"summary's vertical shift ({mode!r}) cannot be read: the shift table "
+                        f"has no usable temperature_C / log10_bT ({exc!r})") from None
+    return VerticalShift.from_table(mode, reference_temperature_K, None, temps, log_b)

@@ -13,13 +13,14 @@ Two estimates are made and both are reported, so that they can be compared:
 
 (a) **from the model.** For a thermorheologically simple material the isochrone at frequency f is
 
-    .. math:: E''(T) = E''_\\mathrm{ref}(2\\pi f\\, a_T(T)), \\qquad
+    .. math:: E''(T) = b_T\\, E''_\\mathrm{ref}(2\\pi f\\, a_T(T)), \\qquad
               \\tan\\delta(T) = \\tan\\delta_\\mathrm{ref}(2\\pi f\\, a_T(T)),
 
-    with the Prony series at the reference temperature and the fitted shift law
-    (:class:`ttsp.model.ViscoelasticModel`). It is evaluated on a grid of temperatures no coarser
-    than 0.1 K over the law's valid range, and the maximum of log10 E''(T) (or log10 tan δ) is
-    refined by the vertex of the parabola through the largest grid value and its two neighbours.
+    with the Prony series at the reference temperature, the fitted shift law and the build's
+    vertical shift b_T (1 without one; :class:`ttsp.model.ViscoelasticModel`). It is evaluated
+    on a grid of temperatures no coarser than 0.1 K over the law's valid range, and the maximum
+    of log10 E''(T) (or log10 tan δ) is refined by the vertex of the parabola through the
+    largest grid value and its two neighbours.
 
 (b) **from the raw isotherms.** Each isotherm whose measured frequency range contains
     ω = 2πf is interpolated at ω, linearly in log10 value against log10 ω. Across the isotherms
@@ -309,7 +310,7 @@ def estimate_glass_transition(model, campaign=None, *, frequency_Hz: float = 1.0
                               ) -> GlassTransitionEstimate:
     """Tg at a frequency as the temperature of the E'' peak and of the tan δ peak.
 
-    (a) From the model: the isochrones E''(T) = E''_ref(2πf a_T) and tan δ(T) =
+    (a) From the model: the isochrones E''(T) = b_T E''_ref(2πf a_T) and tan δ(T) =
     tan δ_ref(2πf a_T) (Ferry 1980, ch. 11) are evaluated on a grid of at most 0.1 K steps over
     the search range and their maxima (in log10 value) refined by a three-point parabola.
     (b) From the isotherms: every isotherm whose frequency range contains 2πf is interpolated
