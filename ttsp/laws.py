@@ -826,6 +826,12 @@ def vft_to_wlf(B_K: float, T_inf_K: float, reference_temperature_K: float) -> di
 # --------------------------------------------------------------------------------------
 # fitting
 # --------------------------------------------------------------------------------------
+#: the solver of the nonlinear laws, and of any law with bounds
+_LMFIT_METHOD = "lmfit.minimize, leastsq (Levenberg-Marquardt)"
+#: the solver of the linear laws without bounds
+_DIRECT_METHOD = "weighted linear least squares, solved directly (numpy lstsq)"
+
+
 @dataclass(frozen=True)
 class ShiftLawFit:
     """Result of :func:`fit_shift_law`: the fitted law, its uncertainties and the fit figures.
@@ -873,8 +879,10 @@ class ShiftLawFit:
         ``aic``, ``bic`` and ``delta_bic`` to the chosen one. Otherwise the one law fitted.
     reason : str
         One sentence saying why this law was chosen.
-    success : bool, message : str, nfev : int
-        Solver provenance (lmfit ``leastsq``, Levenberg-Marquardt).
+    success : bool, message : str, nfev : int, method : str
+        Solver provenance: lmfit ``leastsq`` (Levenberg-Marquardt) for the nonlinear laws and
+        for any law with bounds; a direct weighted linear least-squares solve (``nfev`` 0) for
+        the Arrhenius and polynomial laws without bounds.
     notes : tuple of str
         Doubts about the fit (a parameter at a bound, uncertainties not estimable); each is
         also issued as a :class:`~ttsp.exceptions.FitQualityWarning`.
@@ -903,7 +911,7 @@ class ShiftLawFit:
     message: str = ""
     nfev: int = 0
     notes: tuple = ()
-    method: str = field(default="lmfit.minimize, leastsq (Levenberg-Marquardt)")
+    method: str = field(default=_LMFIT_METHOD)
 
     @property
     def model(self) -> str:
@@ -994,6 +1002,7 @@ class _Outcome:
     message: str
     nfev: int
     notes: tuple
+    method: str = _LMFIT_METHOD
 
 
 #: largest (trials x table rows) solved as one batch by :func:`_grid_lstsq`
@@ -1106,7 +1115,7 @@ def _linear_outcome(cls: type, T, y, w, tr, fixed, names, free, order) -> _Outco
                 denom = sd[i] * sd[j]
                 corr[(a, free[j])] = float(cov[i, j] / denom) if denom > 0 else float("nan")
     return _Outcome(cls, values, stderr, corr, cov, free, chi2, True,
-                    "linear least squares, solved directly", 0, tuple(notes))
+                    "linear least squares, solved directly", 0, tuple(notes), _DIRECT_METHOD)
 
 
 #: laws linear in their constants: fitted by direct linear least squares when unbounded
@@ -1135,8 +1144,6 @@ def _start_values(cls: type, T, y, w, tr, fixed, bounds, order) -> list[dict]:
                         lo, hi = bounds["C2_K"]
                         if max(lo, tr - tmin) < c2_lin < hi:
                             c2_grid = np.append(c2_grid, c2_lin)
-            if c2_grid.size == 0:
-                return []
             with np.errstate(all="ignore"):
                 col = -x / (c2_grid[:, None] + x)
             coefs, sse = _grid_lstsq({"C1": col}, y, w, fixed)
@@ -1148,8 +1155,6 @@ def _start_values(cls: type, T, y, w, tr, fixed, bounds, order) -> list[dict]:
                 top = min(tmin, tr)
                 lo, hi = bounds["T_inf_K"]
                 ti_grid = top - _grid_above(0.0, (top - hi, top - lo))
-            if ti_grid.size == 0:
-                return []
             with np.errstate(all="ignore"):
                 col = 1 / (T - ti_grid[:, None]) - 1 / (tr - ti_grid[:, None])
             coefs, sse = _grid_lstsq({"B_K": col}, y, w, fixed)
@@ -1277,10 +1282,8 @@ def _fit_one(cls: type, T, y, w, tr, fixed, user_bounds, order) -> _Outcome:
         return _linear_outcome(cls, T, y, w, tr, fixed, names, free, order)
     starts = _start_values(cls, T, y, w, tr, fixed, bounds, order)
     if not starts:
-        if cls is WLFArrheniusLaw:
-            raise FitError(f"{cls.model}: no trial break temperature within the bounds of "
-                           "glass_transition_K leaves two points on each side")
-        raise FitError(f"{cls.model}: no starting value lies within the bounds")
+        raise FitError(f"{cls.model}: no trial break temperature within the bounds of "
+                       "glass_transition_K leaves two points on each side")
 
     def residual(p):
         values = p.valuesdict()
@@ -1430,7 +1433,7 @@ def fit_shift_law(temperature_K: Any, log10_aT: Any, *, reference_temperature_K:
     """Fit a shift law to a table of shift factors by weighted least squares.
 
     Minimises sum_i [(log10 a_T,i - law(T_i)) / s_i]^2 with lmfit's Levenberg-Marquardt
-    (``leastsq``), where s_i is the shift stderr (all 1 when none is given). Starting values
+    (``leastsq``; the linear laws without bounds directly, see below), where s_i is the shift stderr (all 1 when none is given). Starting values
     come from the separable structure of each law: for each trial of its nonlinear constant
     (WLF: C2, including the classical linearisation (T - T_ref)/log10 a_T = -C2/C1 -
     (T - T_ref)/C1; VFT: T_inf; WLF-Arrhenius: C2 and the break Tg) the linear constants are
@@ -1638,4 +1641,5 @@ def fit_shift_law(temperature_K: Any, log10_aT: Any, *, reference_temperature_K:
         message=out.message,
         nfev=out.nfev,
         notes=tuple(out.notes),
+        method=out.method,
     )
