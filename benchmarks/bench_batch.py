@@ -143,6 +143,8 @@ def profile_steps(folder: Path, n: int = 5) -> dict:
     totals: dict = {}
     every = sorted(folder.glob("campaign_*.csv"))
     files = every[:n]
+    if not files:
+        return {}
 
     def add(step, seconds):
         totals[step] = totals.get(step, 0.0) + seconds / len(files)

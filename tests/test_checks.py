@@ -840,3 +840,46 @@ def test_overlap_coverage_warns_about_low_information_shifts():
     check = next(c for c in result.checks if c.name == "overlap_coverage")
     assert check.status == "warn"
     assert "poorly determined" in check.message and "20 °C" in check.message
+
+
+def test_point_to_curve_distances_agree_with_a_direct_computation(monkeypatch):
+    """The padded, batched distances (in chunks when large) equal a plain loop over each
+    point and each segment of the other curve (common practice: the distance of a point to a
+    segment is to its nearest point, the projection clipped to the segment)."""
+    rng = np.random.default_rng(11)
+
+    def direct(a, b, sx, sy):
+        xa, ya = a[0] / sx, a[1] / sy
+        xb, yb = b[0] / sx, b[1] / sy
+        out, off = [], []
+        for px, py, rx, ry in zip(xa, ya, a[0], a[1]):
+            if not (b[0].min() <= rx <= b[0].max()):
+                continue
+            best = None
+            for k in range(xb.size - 1):
+                dx, dy = xb[k + 1] - xb[k], yb[k + 1] - yb[k]
+                L2 = dx * dx + dy * dy
+                u = ((px - xb[k]) * dx + (py - yb[k]) * dy) / L2 if L2 > 0 else 0.0
+                past = (k == 0 and u < 0) or (k == xb.size - 2 and u > 1)
+                u = min(max(u, 0.0), 1.0)
+                cx, cy = xb[k] + u * dx, yb[k] + u * dy
+                d2 = (px - cx) ** 2 + (py - cy) ** 2
+                if best is None or d2 < best[0]:
+                    best = (d2, past, (py - cy) * sy)
+            if not best[1]:
+                out.append(math.sqrt(best[0]))
+                off.append(best[2])
+        return np.array(out), np.array(off)
+
+    jobs = []
+    for _ in range(40):
+        na, nb = rng.integers(2, 15, size=2)
+        a = (np.sort(rng.uniform(0, 3, na)), rng.normal(0, 1, na))
+        b = (np.sort(rng.uniform(0, 3, nb)), rng.normal(0, 1, nb))
+        jobs.append((a, b, float(rng.uniform(0.01, 0.1)), float(rng.uniform(0.01, 0.1))))
+    expected = [direct(*job) for job in jobs]
+    for batch in (checks._DISTANCE_BATCH, 50):          # one array; many small chunks
+        monkeypatch.setattr(checks, "_DISTANCE_BATCH", batch)
+        for (d, o), (de, oe) in zip(checks._distances(jobs), expected):
+            np.testing.assert_allclose(d, de, rtol=1e-12, atol=1e-12)
+            np.testing.assert_allclose(o, oe, rtol=1e-12, atol=1e-12)

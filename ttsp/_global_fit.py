@@ -637,9 +637,10 @@ class _Fit:
                     mu = max(mu / 3.0, 1e-10)
                     accepted = True
                     # converged: the objective no longer changes, or the shifts have stopped
-                    # (< 1e-6 decades per step for three steps) while the objective only
+                    # (< 1e-5 decades per step for two steps running) while the objective only
                     # creeps (< 1e-4 of itself per step: the spectrum trading its constant
-                    # against modes beyond the data along a flat valley does this)
+                    # against modes beyond the data along a flat valley does this); with no
+                    # free shift (a curve-only pass) that is two steps of such creeping
                     creep = big < 1e-5 and dphi <= 1e-4 * (1.0 + phi)
                     slow = slow + 1 if creep else 0
                     if (dphi <= tol * (1.0 + phi) and big < 1e-6) or slow >= 2:

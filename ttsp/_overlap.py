@@ -96,17 +96,15 @@ def pair_shift(xa, Ya, xb, Yb, vsign, fit_vertical=False, *, step=0.05, min_poin
     s2, npt, nr, _ = _mismatch(fine, xa, Ya, xb, Yb, vsign, fit_vertical)
     f_mse = np.where(npt >= need, s2 / np.maximum(nr, 1), np.inf)
     j = int(np.argmin(f_mse))
-    delta = float(fine[j])
+    delta, best = (float(fine[j]), f_mse[j]) if f_mse[j] <= mse[g] else (float(grid[g]), mse[g])
     if 0 < j < fine.size - 1 and np.all(np.isfinite(f_mse[j - 1:j + 2])):
         m0, m1, m2 = f_mse[j - 1:j + 2]
         curvature = m0 - 2.0 * m1 + m2
         if curvature > 0:
-            vertex = delta + 0.5 * (fine[1] - fine[0]) * (m0 - m2) / curvature
+            vertex = fine[j] + 0.5 * (fine[1] - fine[0]) * (m0 - m2) / curvature
             s3, n3, r3, _ = _mismatch(np.array([vertex]), xa, Ya, xb, Yb, vsign, fit_vertical)
-            if n3[0] >= need and s3[0] / max(r3[0], 1) <= f_mse[j]:
+            if n3[0] >= need and s3[0] / max(r3[0], 1) <= best:
                 delta = float(vertex)
-    if not f_mse[j] <= mse[g]:
-        delta = float(grid[g])
     s2, npt, nr, off = _mismatch(np.array([delta]), xa, Ya, xb, Yb, vsign, fit_vertical)
     return {"delta": delta, "offset": float(off[0]), "points": int(npt[0]),
             "rms": float(np.sqrt(s2[0] / max(nr[0], 1)))}

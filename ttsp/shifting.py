@@ -613,6 +613,10 @@ def shift_isotherms(campaign: Campaign, reference_temperature_K: float | None = 
     bridge_note = None
     if len(comps) > 1:
         bridge_note = _bridge_groups(comps, s, cov_s, bridged, fixed, temps, t_ref)
+        if fit_vertical:
+            bridge_note += ("; the bridge places a_T only: each group keeps its own vertical "
+                            "gauge (log10 b_T = 0 at one of its isotherms), so b_T across the "
+                            "gap is not determined by the data")
         notes.append(bridge_note)
 
     comp_stderr = np.sqrt(np.clip(np.diag(cov_s), 0.0, None))   # within each group
