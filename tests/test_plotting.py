@@ -484,3 +484,34 @@ def test_save_figures_rejects_a_name_that_is_not_a_file_stem(tmp_path):
 
     with pytest.raises(DataError, match="figure name must be letters, digits"):
         plotting.save_figures({"../escape": Figure()}, tmp_path)
+
+
+def test_relaxation_spectrum_figure_shows_H_its_window_and_the_choice_of_lambda(freq_result):
+    from ttsp.spectrum import fit_relaxation_spectrum
+
+    frame = freq_result.shifts.shifted_frame(freq_result.campaign)
+    spectrum = fit_relaxation_spectrum(frame["reduced_frequency_rad_s"],
+                                       frame["storage_modulus_Pa"], frame["loss_modulus_Pa"],
+                                       reference_temperature_K=freq_result.reference_temperature_K)
+    ax, ax_sel = plotting.plot_relaxation_spectrum(spectrum, series=freq_result.series)
+    assert ax.get_xscale() == ax.get_yscale() == "log"
+    assert ax.get_ylabel().startswith("Spectrum H(τ) (")
+    # the H(τ) line, in the display unit, reproduces the spectrum inside its window
+    unit = ax.get_ylabel().split("(")[-1].rstrip(")")
+    factor = dict(plotting.DISPLAY_MODULUS_UNITS)[unit]
+    solid = [ln for ln in ax.get_lines() if ln.get_linestyle() == "-" and ln.get_color() ==
+             plotting._BLUE]
+    x = np.concatenate([ln.get_xdata() for ln in solid])
+    y = np.concatenate([ln.get_ydata() for ln in solid])
+    lo, hi = spectrum.valid_tau_range_s
+    inside = (x >= lo) & (x <= hi)
+    np.testing.assert_allclose(y[inside] * factor, spectrum.spectrum(x[inside]), rtol=1e-9)
+    # one Prony point per positive term
+    points = [ln for ln in ax.get_lines() if ln.get_marker() == "o"]
+    assert len(points) == 1
+    assert len(points[0].get_xdata()) == int(np.sum(np.asarray(freq_result.series.modulus_Pa) > 0))
+    # the chosen λ is marked on the criterion curve
+    assert ax_sel.get_xscale() == "log"
+    assert any(f"{spectrum.regularisation:.3g}" in t.get_text()
+               for t in ax_sel.get_legend().get_texts())
+    assert "GCV" in ax_sel.get_ylabel()

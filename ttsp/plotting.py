@@ -37,6 +37,7 @@ __all__ = [
     "plot_time_functions",
     "plot_frequency_functions",
     "plot_superposition_check",
+    "plot_relaxation_spectrum",
     "render_figures",
     "save_figures",
 ]
@@ -915,6 +916,97 @@ def plot_prony_fit(result, axes=None):
     ax_spec.legend(fontsize=8, frameon=False, loc="upper right")
     ax_spec.set_title("discrete relaxation spectrum", loc="left", fontsize=9, color=_INK, pad=4)
     return ax_fit, ax_res, ax_spec
+
+
+def plot_relaxation_spectrum(spectrum, axes=None, *, series=None):
+    """The continuous relaxation spectrum H(τ) and how its regularisation was chosen.
+
+    Left: H(τ) on log–log axes, solid where the data determine it (τ within [1/ω_max, 1/ω_min])
+    and dashed, on a shaded background, outside; the equilibrium modulus as a horizontal line;
+    with ``series`` the discrete Prony terms E_i / Δln τ_i at τ_i for comparison (a discrete
+    term of strength E_i spread over its share of ln τ has the same area as H there). Right: the
+    selection criterion over the regularisation strengths tried (GCV value, or the L-curve
+    corner score), the chosen one marked.
+
+    Parameters
+    ----------
+    spectrum : ttsp.spectrum.RelaxationSpectrum
+    axes : sequence of two Axes, optional
+        (spectrum, selection); a new 10 × 4.2 in figure is made when None.
+    series : ttsp.prony.PronySeries, optional
+        A Prony series at the same reference temperature, shown as points.
+
+    Returns
+    -------
+    tuple of two matplotlib Axes
+    """
+    if axes is None:
+        from matplotlib.figure import Figure
+
+        fig = Figure(figsize=(10.0, 4.2), layout="constrained")
+        grid = fig.add_gridspec(1, 2, width_ratios=(1.6, 1.0))
+        ax, ax_sel = fig.add_subplot(grid[0, 0]), fig.add_subplot(grid[0, 1])
+    else:
+        ax, ax_sel = axes
+    letter, _ = _letters(spectrum.modulus_kind)
+    tau = np.asarray(spectrum.tau_s, dtype=float)
+    H = np.asarray(spectrum.H_Pa, dtype=float)
+    lo, hi = spectrum.valid_tau_range_s
+    positive = H > 0
+    einf = float(spectrum.equilibrium_modulus_Pa)
+    shown = np.concatenate([H[positive], [einf] if einf > 0 else []])
+    unit, factor = _modulus_unit(shown if shown.size else np.array([1.0]))
+    outside = (tau < lo) | (tau > hi)
+    if positive.any():
+        _model_line(ax, tau[positive], H[positive] / factor, outside[positive], colour=_BLUE,
+                    label="H(τ), Tikhonov")
+    if einf > 0:
+        ax.axhline(einf / factor, color=_VERMILLION, lw=1.1, ls=(0, (4, 2)), zorder=2,
+                   label=f"{letter}∞ = {einf / factor:.3g} {unit}")
+    if series is not None:
+        t_i = np.asarray(series.tau_s, dtype=float)
+        e_i = np.asarray(series.modulus_Pa, dtype=float)
+        keep = e_i > 0
+        if keep.sum() >= 2:
+            ln_t = np.log(t_i[keep])
+            width = np.gradient(ln_t)          # each term's share of ln τ
+            ax.plot(t_i[keep], e_i[keep] / width / factor, ls="none", marker="o", ms=4.0,
+                    mfc="none", mec=_INK, mew=0.8, zorder=5,
+                    label=f"Prony terms {letter}ᵢ/Δln τᵢ")
+    _style(ax, logx=True, logy=True)
+    if tau.size:
+        _shade_extrapolation(ax, lo, hi, float(tau.min()), float(tau.max()))
+        ax.set_xlim(float(tau.min()), float(tau.max()))
+    if positive.any():
+        top = float(np.max(H[positive])) / factor
+        ax.set_ylim(top * 1e-4, top * 3.0)
+    ax.set_xlabel("Relaxation time τ (s), reduced")
+    ax.set_ylabel(f"Spectrum H(τ) ({unit})")
+    handles, labels = ax.get_legend_handles_labels()
+    if outside.any():
+        handles.append(_extrapolation_handle())
+        labels.append("outside the data (extrapolated)")
+    ax.legend(handles, labels, fontsize=8, frameon=False, loc="upper right")
+    ref = spectrum.reference_temperature_K
+    where = "" if ref is None else f"{_TREF} = {kelvin_to_celsius(ref):.2f} °C; "
+    ax.set_title(f"{where}continuous relaxation spectrum, fit rms {spectrum.rms_percent:.2g} %",
+                 loc="left", fontsize=9, color=_INK, pad=4)
+
+    lam = np.asarray(spectrum.lambda_grid, dtype=float)
+    crit = np.asarray(spectrum.criterion, dtype=float)
+    ok = np.isfinite(crit) & (lam > 0)
+    ax_sel.plot(lam[ok], crit[ok], color=_GREEN, lw=1.4, marker="o", ms=3.0)
+    chosen = np.isclose(lam, spectrum.regularisation, rtol=1e-12, atol=0.0) & ok
+    if chosen.any():
+        ax_sel.plot(lam[chosen], crit[chosen], ls="none", marker="o", ms=8.0, mfc="none",
+                    mec=_VERMILLION, mew=1.6, label=f"chosen λ = {spectrum.regularisation:.3g}")
+        ax_sel.legend(fontsize=8, frameon=False, loc="best")
+    _style(ax_sel, logx=True, logy=spectrum.method == "gcv" and bool(np.all(crit[ok] > 0)))
+    ax_sel.set_xlabel("Regularisation strength λ")
+    ax_sel.set_ylabel("GCV value" if spectrum.method == "gcv" else "L-curve corner score")
+    ax_sel.set_title(f"choice of λ ({spectrum.method})", loc="left", fontsize=9, color=_INK,
+                     pad=4)
+    return ax, ax_sel
 
 
 def _twin_legend(ax, twin, extra=()):
