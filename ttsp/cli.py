@@ -162,13 +162,14 @@ class Quantity(str, Enum):
 
 
 def _options(reference_temperature, law, vertical, expansion_coefficient, shift_on, gaps,
-             prony_density, glass_transition):
+             prony_density, glass_transition, spectrum=False):
     from .workflow import BuildOptions
 
     return BuildOptions(reference_temperature_C=reference_temperature, law=law.value,
                         vertical=vertical.value, expansion_coefficient_per_K=expansion_coefficient,
                         shift_on=shift_on.value, gaps=gaps.value,
-                        prony_terms_per_decade=prony_density, glass_transition_C=glass_transition)
+                        prony_terms_per_decade=prony_density, glass_transition_C=glass_transition,
+                        spectrum=spectrum)
 
 
 def _check_lines(result) -> str:
@@ -194,6 +195,9 @@ def build_cmd(inputs: List[Path] = typer.Argument(..., help="Files or folders of
                                                   help="Prony relaxation times per decade."),
               glass_transition: Optional[float] = typer.Option(
                   None, "--glass-transition", help="Tg in °C for --law wlf-arrhenius (else fitted)."),
+              spectrum: bool = typer.Option(
+                  False, "--spectrum",
+                  help="Also fit the continuous relaxation spectrum H(τ) (frequency data)."),
               out: Path = typer.Option(Path("ttsp-out"), "--out", "-o", help="Output folder."),
               force: bool = typer.Option(False, "--force", help="Replace an existing output folder."),
               no_figures: bool = typer.Option(False, "--no-figures",
@@ -205,7 +209,7 @@ def build_cmd(inputs: List[Path] = typer.Argument(..., help="Files or folders of
               modulus_kind: Optional[str] = KIND_OPT):
     """Build the master curve, shift law, Prony series, material functions, checks and report."""
     options = _options(reference_temperature, law, vertical, expansion_coefficient, shift_on, gaps,
-                       prony_density, glass_transition)
+                       prony_density, glass_transition, spectrum)
     result, folder = run_build(inputs, options, out, figures=not no_figures, force=force,
                                quiet=quiet, column=column, unit=unit, sheet=sheet,
                                tolerance=tolerance, modulus_kind=modulus_kind)

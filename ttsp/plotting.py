@@ -30,6 +30,8 @@ from .units import DISPLAY_MODULUS_UNITS, display_modulus_unit, kelvin_to_celsiu
 
 __all__ = [
     "FIGURE_NAMES",
+    "OPTIONAL_FIGURES",
+    "figure_names",
     "plot_isotherms",
     "plot_master_curve",
     "plot_shift_factors",
@@ -45,6 +47,8 @@ __all__ = [
 #: Names of the figures :func:`render_figures` makes (also the stems of the saved files).
 FIGURE_NAMES = ("isotherms", "master_curve", "shift_factors", "prony_fit", "time_functions",
                 "frequency_functions", "superposition_check")
+#: Figures a build makes only when asked (``BuildOptions.spectrum``): see :func:`figure_names`.
+OPTIONAL_FIGURES = ("relaxation_spectrum",)
 
 # Okabe & Ito (2002, "Color Universal Design") colours: distinguishable with the common forms
 # of colour-vision deficiency.
@@ -1136,10 +1140,18 @@ def render_campaign_figures(campaign) -> dict:
             "superposition_check": plot_superposition_check(campaign).figure}
 
 
+def figure_names(result) -> tuple:
+    """The names of the figures of this build: :data:`FIGURE_NAMES`, plus
+    ``relaxation_spectrum`` when the build fitted the continuous spectrum."""
+    if getattr(result, "relaxation_spectrum", None) is not None:
+        return FIGURE_NAMES + OPTIONAL_FIGURES
+    return FIGURE_NAMES
+
+
 def render_figures(result, names=None) -> dict:
     """Every figure of a build (or those in ``names``) as ``{name: matplotlib Figure}``.
 
-    Names are those of :data:`FIGURE_NAMES`. ``frequency_functions`` is made for every build: a
+    Names are those of :func:`figure_names`. ``frequency_functions`` is made for every build: a
     series fitted to time-domain data has a frequency response too (Ferry 1980, ch. 3), it is
     simply further from the measurements.
     """
@@ -1151,11 +1163,14 @@ def render_figures(result, names=None) -> dict:
         "time_functions": lambda: plot_time_functions(result).figure,
         "frequency_functions": lambda: plot_frequency_functions(result).figure,
         "superposition_check": lambda: plot_superposition_check(result.campaign).figure,
+        "relaxation_spectrum": lambda: plot_relaxation_spectrum(
+            result.relaxation_spectrum, series=result.series)[0].figure,
     }
-    wanted = FIGURE_NAMES if names is None else tuple(names)
-    unknown = [n for n in wanted if n not in makers]
+    available = figure_names(result)
+    wanted = available if names is None else tuple(names)
+    unknown = [n for n in wanted if n not in available]
     if unknown:
-        raise bad_value("names", "figure names from FIGURE_NAMES", unknown)
+        raise bad_value("names", "figure names of this build (figure_names(result))", unknown)
     return {name: makers[name]() for name in wanted}
 
 

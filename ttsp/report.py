@@ -39,6 +39,7 @@ _SECTION_OF_FIGURE = {
     "shift_factors": "shifts",
     "master_curve": "master",
     "prony_fit": "prony",
+    "relaxation_spectrum": "prony",
     "time_functions": "functions",
     "frequency_functions": "functions",
 }
@@ -64,6 +65,11 @@ FIGURE_CAPTIONS = {
         "Prony series fitted to the master curve (left, with the residuals in per cent below) "
         "and its discrete relaxation spectrum: the coefficients {E}<sub>i</sub> at the relaxation "
         "times τ<sub>i</sub> and the long-term modulus {E}<sub>∞</sub> (right)."),
+    "relaxation_spectrum": (
+        "Continuous relaxation spectrum H(τ) of the master curve by Tikhonov regularisation "
+        "(left; dashed and shaded outside the relaxation times the data determine, circles: the "
+        "Prony coefficients spread over their share of ln τ), and the choice of the "
+        "regularisation strength λ (right)."),
     "time_functions": (
         "Relaxation modulus {E}(t) and creep compliance {D}(t) at T<sub>ref</sub> = {tref} over "
         "reduced "

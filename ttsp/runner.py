@@ -62,7 +62,7 @@ class Progress:
 # until the end, where two groups left one core idle while the slower group finished); the
 # figures of the measured data alone are drawn earlier, while the fit runs.
 _FIGURE_GROUPS = (("prony_fit",), ("master_curve", "time_functions"),
-                  ("shift_factors", "frequency_functions"))
+                  ("shift_factors", "frequency_functions", "relaxation_spectrum"))
 
 
 def _can_fork() -> bool:
@@ -136,13 +136,14 @@ def draw_figures(result, folder, *, parallel: bool = True, early=None) -> dict:
     """
     import shutil
 
-    from .plotting import CAMPAIGN_FIGURES, FIGURE_NAMES, load_matplotlib, \
+    from .plotting import CAMPAIGN_FIGURES, figure_names, load_matplotlib, \
         render_campaign_figures, render_figures, save_figures
 
     load_matplotlib()   # before forking: the children share the loaded modules
     folder = Path(folder)
     saved = {}
-    later = [n for n in FIGURE_NAMES if n not in CAMPAIGN_FIGURES]
+    every = figure_names(result)
+    later = [n for n in every if n not in CAMPAIGN_FIGURES]
     children = []   # (pid, names) of forked drawers
     if parallel and _can_fork():
         for group in _FIGURE_GROUPS[:-1]:
@@ -169,7 +170,7 @@ def draw_figures(result, folder, *, parallel: bool = True, early=None) -> dict:
         saved.update(save_figures(render_campaign_figures(result.campaign), folder))
     if early is not None:
         shutil.rmtree(early[1], ignore_errors=True)
-    return {name: saved[name] for name in FIGURE_NAMES if name in saved}
+    return {name: saved[name] for name in every if name in saved}
 
 
 def run_build(inputs, options, out: Path, *, figures: bool, force: bool, quiet: bool,

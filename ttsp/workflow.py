@@ -51,6 +51,11 @@ class BuildOptions:
         Density of the relaxation times of the Prony series (default 2).
     glass_transition_C : float, optional
         Tg for the WLF/Arrhenius law (fitted when not given).
+    spectrum : bool
+        Also fit the continuous relaxation spectrum H(τ) to the master curve (frequency data
+        with E' and E''; :func:`ttsp.spectrum.fit_relaxation_spectrum`): written to
+        ``relaxation_spectrum.csv`` and drawn in the report. Off by default (it adds a
+        regularised fit with a scan of its strength to every build).
     """
 
     reference_temperature_C: float | None = None
@@ -61,9 +66,12 @@ class BuildOptions:
     gaps: str = "stop"
     prony_terms_per_decade: float = 2.0
     glass_transition_C: float | None = None
+    spectrum: bool = False
 
     def __post_init__(self):
         check_choice("law", self.law, LAW_CHOICES)
+        if not isinstance(self.spectrum, bool):
+            raise bad_value("spectrum", "True or False", self.spectrum)
         check_choice("vertical", self.vertical, VERTICAL_CHOICES)
         check_choice("shift_on", self.shift_on, SHIFT_ON_CHOICES)
         check_choice("gaps", self.gaps, GAP_CHOICES)
@@ -84,6 +92,19 @@ class BuildOptions:
         rows = "".join(f"<tr><th style='text-align:left'>{escape(k)}</th><td>{escape(str(v))}</td></tr>"
                        for k, v in self.to_dict().items())
         return f"<div><b>Build options</b><table>{rows}</table></div>"
+
+
+def _spectrum_summary(spectrum):
+    """The summary.json entry of the continuous spectrum (its table is in the CSV file)."""
+    if spectrum is None:
+        return None
+    return {"file": "relaxation_spectrum.csv", "method": spectrum.method,
+            "regularisation": float(spectrum.regularisation),
+            "equilibrium_modulus_Pa": float(spectrum.equilibrium_modulus_Pa),
+            "rms_percent": float(spectrum.rms_percent), "max_percent": float(spectrum.max_percent),
+            "effective_parameters": float(spectrum.effective_parameters),
+            "valid_tau_range_s": [float(v) for v in spectrum.valid_tau_range_s],
+            "points": int(np.asarray(spectrum.tau_s).size)}
 
 
 def _campaign_hash(campaign: Campaign) -> str:
@@ -115,6 +136,8 @@ class BuildResult:
     input_files : tuple of str
     glass_transition : ttsp.transition.GlassTransitionEstimate or None
         E'' and tan δ peak temperatures at 1 Hz (frequency data only).
+    relaxation_spectrum : ttsp.spectrum.RelaxationSpectrum or None
+        H(τ) of the master curve when ``options.spectrum`` asked for it (frequency data).
     """
 
     campaign: Campaign
@@ -128,6 +151,7 @@ class BuildResult:
     input_sha256: str
     input_files: tuple = ()
     glass_transition: object = None
+    relaxation_spectrum: object = None
 
     @property
     def reference_temperature_K(self) -> float:
@@ -209,6 +233,7 @@ class BuildResult:
             "prony": prony,
             "glass_transition": (self.glass_transition.to_dict()
                                  if self.glass_transition is not None else None),
+            "relaxation_spectrum": _spectrum_summary(self.relaxation_spectrum),
             "checks": [c.to_dict() for c in self.checks],
             "warnings": list(self.warnings),
         }
@@ -361,6 +386,10 @@ def build(campaign: Campaign, options: BuildOptions | None = None, *, input_sha2
         if series is not prony_fit.series:
             prony_fit = _with_series(prony_fit, series)
         model = ViscoelasticModel(series, law_fit.law, VerticalShift.from_shifts(shifts))
+        spectrum = None
+        if options.spectrum:
+            step("relaxation spectrum")
+            spectrum = _fit_spectrum(campaign, shifts, t_ref_K)
         step("checks")
         check_campaign, check_shifts = _thin_for_checks(campaign, shifts)
         checks = tuple(run_checks(check_campaign, shifts=check_shifts, law_fit=law_fit,
@@ -382,7 +411,33 @@ def build(campaign: Campaign, options: BuildOptions | None = None, *, input_sha2
                 messages.append(text)
     return BuildResult(campaign, options, shifts, law_fit, prony_fit, model, checks, tuple(messages),
                        input_sha256 or _campaign_hash(campaign), tuple(str(f) for f in input_files),
-                       glass)
+                       glass, spectrum)
+
+
+#: The continuous spectrum is fitted to at most this many master-curve points (evenly by rank
+#: of reduced frequency): its regularisation scan solves one problem per trial strength.
+MAX_SPECTRUM_POINTS = 400
+
+
+def _fit_spectrum(campaign, shifts, reference_temperature_K):
+    """H(τ) of the master curve (frequency data with E' and E''), or None with a warning."""
+    from .spectrum import fit_relaxation_spectrum
+
+    if campaign.domain != "frequency" or not {"storage_modulus_Pa", "loss_modulus_Pa"} <= set(
+            campaign.quantities):
+        warnings.warn("the continuous relaxation spectrum needs frequency data with E' and E''; "
+                      "it was not fitted", TtspWarning, stacklevel=3)
+        return None
+    frame = shifts.shifted_frame(campaign)
+    w = frame["reduced_frequency_rad_s"].to_numpy()
+    e1 = frame["storage_modulus_Pa"].to_numpy()
+    e2 = frame["loss_modulus_Pa"].to_numpy()
+    keep = ~frame["outlier"].to_numpy() & np.isfinite(w) & (e1 > 0) & (e2 > 0)
+    order = np.flatnonzero(keep)[np.argsort(w[keep], kind="stable")]
+    order = order[evenly_spaced_indices(order.size, MAX_SPECTRUM_POINTS)]
+    return fit_relaxation_spectrum(w[order], e1[order], e2[order],
+                                   modulus_kind=campaign.modulus_kind,
+                                   reference_temperature_K=reference_temperature_K)
 
 
 _NOT_FOR_THE_LAW = ("low-information", "bridged")

@@ -53,4 +53,7 @@ def write_build_numbers(result, folder, *, created_utc: str = "") -> dict:
     put("prony.csv", frame_to_csv_text(result.series.to_frame()))
     put("prony_finite_element.csv", frame_to_csv_text(result.series.finite_element_table()))
     put("material_functions.csv", frame_to_csv_text(result.material_functions_frame()))
+    spectrum = getattr(result, "relaxation_spectrum", None)
+    if spectrum is not None:     # optional (BuildOptions.spectrum), so not in NUMBER_FILES
+        put("relaxation_spectrum.csv", frame_to_csv_text(spectrum.to_frame()))
     return out
