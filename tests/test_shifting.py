@@ -15,6 +15,7 @@ curve cannot be tighter than that and should stay within a few reported stderr.
 from __future__ import annotations
 
 import json
+import math
 import subprocess
 import sys
 import warnings
@@ -523,3 +524,23 @@ def test_sparse_and_dense_shift_jacobians_give_the_same_shifts(monkeypatch):
         np.testing.assert_allclose(s.log10_aT, d.log10_aT, atol=1e-9)
         np.testing.assert_allclose(s.log10_bT, d.log10_bT, atol=1e-9)
         np.testing.assert_allclose(s.log10_aT_stderr, d.log10_aT_stderr, rtol=1e-6, atol=1e-12)
+
+
+def test_plateau_isotherms_report_the_data_only_stderr():
+    """On the glassy plateau of the adhesive demo (invented, Arrhenius 240 kJ/mol about 70 °C,
+    datasets/make_demo_campaigns.py) the coldest shifts are not determined by the data. Their
+    stderr must say so: the true shift lies within 2 reported stderr (before: 4 stderr off,
+    the stderr being the 1-decade prior's), capped at UNDETERMINED_STDERR."""
+    import ttsp
+    from ttsp.io.readers import read_campaign
+    from ttsp.shifting import UNDETERMINED_STDERR
+
+    camp = read_campaign([Path(ttsp.__file__).parent / "demo_data" / "adhesive_relaxation"])
+    r = quiet(shift_isotherms, camp, 343.15)
+    R_kJ = 8.314462618e-3        # gas constant, kJ/(mol K) (CODATA)
+    true = 240.0 / (math.log(10) * R_kJ) * (1 / r.temperature_K - 1 / 343.15)
+    weak = np.array(["low-information" in f for f in r.flags])
+    assert weak[:2].all()                                  # 20 and 30 °C
+    assert np.all(np.abs(r.log10_aT - true)[weak] <= 2 * r.log10_aT_stderr[weak])
+    assert np.all(r.log10_aT_stderr <= UNDETERMINED_STDERR)
+    assert r.log10_aT_stderr[0] > 1.5                      # not the prior's 1 decade

@@ -765,6 +765,8 @@ def plot_shift_factors(result, ax=None, residual_ax=None):
     bridged = np.array(["bridged" in f for f in flags], dtype=bool)
     weak = np.array(["low-information" in f for f in flags], dtype=bool) & ~bridged
     yerr = np.where(np.isfinite(se), se, 0.0)
+    # a poorly determined shift keeps its error bar only while it fits on the axis (< 1 decade)
+    yerr = np.where(weak & (yerr > 1.0), 0.0, yerr)
     groups = ((~bridged & ~weak, "o", _INK, "shift factors ± 1 s.e."),
               (weak, "D", _GREY, "poorly determined (low information)"),
               (bridged, "s", _VERMILLION, "placed across a gap by the law"))

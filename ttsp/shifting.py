@@ -38,7 +38,10 @@ Conventions
 * Standard errors: from the Gauss–Newton curvature of the joint penalised objective (the
   shift block of its inverse, i.e. with the master curve's own uncertainty included), times
   Huber's variance factor. They are 0 for the measured reference isotherm (exact by
-  definition) and NaN for user-fixed shifts.
+  definition) and NaN for user-fixed shifts. For an isotherm flagged low-information the joint
+  stderr mostly reflects the weak prior that keeps the fit stable (about 1 decade), not the
+  data, so it is replaced by the larger data-only one, sqrt(variance factor / Σ w (slope/σ)²),
+  capped at :data:`UNDETERMINED_STDERR` decades (a value that says "not determined").
 * Gaps: neighbours whose ordinate ranges are disjoint for some function cannot overlap under
   any horizontal shift; neither can neighbours whose reduced ranges are still apart after the
   fit. By default that is an error naming both temperatures and the gap.
@@ -76,6 +79,9 @@ VERTICAL_SIGN = {"storage_modulus_Pa": 1, "loss_modulus_Pa": 1, "complex_modulus
 _REFERENCE_SNAP_K = 0.05   # a reference this close to an isotherm's temperature is that isotherm
 _FIXED_MATCH_K = 0.5       # a fixed shift's temperature must be this close to an isotherm's
 _MIN_SLOPE = 0.02          # decades per decade: below this an isotherm lies on a plateau
+#: the stderr (decades) reported for a shift the data do not determine at all: wider than any
+#: physical range of shift factors
+UNDETERMINED_STDERR = 100.0
 
 
 def default_reference_temperature_K(campaign: Campaign) -> float:
@@ -730,6 +736,9 @@ def shift_isotherms(campaign: Campaign, reference_temperature_K: float | None = 
         if n_out:
             fl.append(f"outliers:{n_out}")
         flags.append(tuple(fl))
+    for k in low_info:   # the data's own uncertainty, not the prior's (module notes)
+        if k != ref_idx or not ref_measured:
+            stderr[k] = max(stderr[k], min(cond_se[k], UNDETERMINED_STDERR))
     if low_info:
         msg = ("shift poorly determined (plateau or too little overlap) for the isotherm(s) at "
                + ", ".join(f"{kelvin_to_celsius(temps[k]):g} °C" for k in low_info)
