@@ -75,14 +75,19 @@ def _fork_drawing(render, folder: Path, *, private: bool = False) -> int:
     """Fork a child that renders figures with ``render()`` and saves them into ``folder``;
     returns its pid. The child leaves with ``os._exit`` and runs no cleanup of the parent; a
     ``private`` folder it removes itself if the parent was killed meanwhile."""
+    import gc
     import os
     import shutil
 
     from .plotting import save_figures
 
     parent = os.getpid()
+    # the objects alive now move to the collector's permanent generation: the child's
+    # collections then do not walk (and so copy-on-write) the parent's whole heap
+    gc.freeze()
     pid = os.fork()
     if pid == 0:
+        gc.disable()   # a short-lived drawing process: exits long before garbage matters
         code = 1
         try:
             save_figures(render(), folder)
