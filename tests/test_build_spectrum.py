@@ -97,3 +97,16 @@ def test_time_domain_build_says_the_spectrum_needs_frequency_data():
 def test_spectrum_option_must_be_a_boolean():
     with pytest.raises(ttsp.DataError, match="spectrum must be True or False"):
         ttsp.BuildOptions(spectrum="yes")
+
+
+def test_a_spectrum_that_cannot_be_fitted_is_a_warning_not_a_failed_build(monkeypatch):
+    from ttsp import spectrum
+    from ttsp.exceptions import FitError
+
+    def fail(*args, **kwargs):
+        raise FitError("non-negative least squares did not converge")
+
+    monkeypatch.setattr(spectrum, "fit_relaxation_spectrum", fail)
+    with pytest.warns(TtspWarning, match="could not be fitted: non-negative least squares"):
+        result = ttsp.build(read_campaign([DEMO / "damping_elastomer_dma.csv"]), spectrum=True)
+    assert result.relaxation_spectrum is None and result.prony_fit is not None

@@ -15,7 +15,7 @@ from . import __version__
 from ._arrays import evenly_spaced_indices
 from ._validation import bad_value, check_choice
 from .data import Campaign
-from .exceptions import DataError, TtspWarning
+from .exceptions import DataError, FitError, TtspWarning
 from .units import celsius_to_kelvin, kelvin_to_celsius
 
 __all__ = ["BuildOptions", "BuildResult", "build", "LAW_CHOICES", "VERTICAL_CHOICES",
@@ -435,9 +435,14 @@ def _fit_spectrum(campaign, shifts, reference_temperature_K):
     keep = ~frame["outlier"].to_numpy() & np.isfinite(w) & (e1 > 0) & (e2 > 0)
     order = np.flatnonzero(keep)[np.argsort(w[keep], kind="stable")]
     order = order[evenly_spaced_indices(order.size, MAX_SPECTRUM_POINTS)]
-    return fit_relaxation_spectrum(w[order], e1[order], e2[order],
-                                   modulus_kind=campaign.modulus_kind,
-                                   reference_temperature_K=reference_temperature_K)
+    try:
+        return fit_relaxation_spectrum(w[order], e1[order], e2[order],
+                                       modulus_kind=campaign.modulus_kind,
+                                       reference_temperature_K=reference_temperature_K)
+    except (DataError, FitError) as exc:   # an extra output must not sink a good build
+        warnings.warn(f"the continuous relaxation spectrum could not be fitted: {exc}",
+                      TtspWarning, stacklevel=3)
+        return None
 
 
 _NOT_FOR_THE_LAW = ("low-information", "bridged")
