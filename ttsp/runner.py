@@ -57,12 +57,13 @@ class Progress:
         self.name = None
 
 
-# The figures drawn after the fit, in three groups of about equal drawing cost: two are drawn
-# by forked children while this process draws the last (three processes keep two cores busy
-# until the end, where two groups left one core idle while the slower group finished); the
-# figures of the measured data alone are drawn earlier, while the fit runs.
-_FIGURE_GROUPS = (("prony_fit",), ("master_curve", "time_functions"),
-                  ("shift_factors", "frequency_functions", "relaxation_spectrum"))
+# The figures drawn after the fit, in groups of about equal drawing cost: all but the last are
+# drawn by forked children while this process draws the last (three processes keep two cores
+# busy until the end, where two groups left one core idle while the slower group finished; the
+# optional spectrum figure has a group of its own); the figures of the measured data alone are
+# drawn earlier, while the fit runs.
+_FIGURE_GROUPS = (("prony_fit",), ("master_curve", "time_functions"), ("relaxation_spectrum",),
+                  ("shift_factors", "frequency_functions"))
 
 
 def _can_fork() -> bool:
@@ -82,12 +83,11 @@ def _fork_drawing(render, folder: Path, *, private: bool = False) -> int:
     from .plotting import save_figures
 
     parent = os.getpid()
-    # the objects alive now move to the collector's permanent generation: the child's
-    # collections then do not walk (and so copy-on-write) the parent's whole heap
-    gc.freeze()
     pid = os.fork()
     if pid == 0:
-        gc.disable()   # a short-lived drawing process: exits long before garbage matters
+        # a short-lived drawing process: without the cyclic collector its collections do not
+        # walk (and so copy-on-write) the heap it shares with the parent
+        gc.disable()
         code = 1
         try:
             save_figures(render(), folder)
