@@ -544,3 +544,19 @@ def test_plateau_isotherms_report_the_data_only_stderr():
     assert np.all(np.abs(r.log10_aT - true)[weak] <= 2 * r.log10_aT_stderr[weak])
     assert np.all(r.log10_aT_stderr <= UNDETERMINED_STDERR)
     assert r.log10_aT_stderr[0] > 1.5                      # not the prior's 1 decade
+
+
+def test_law_over_undetermined_shifts_weighs_them_as_one_decade_at_most():
+    """With fewer than three well-determined shifts the build fits its law to all of them; a
+    shift the data do not determine (stderr up to 100 decades) then counts as 1 decade
+    uncertain, so the law still follows them (adhesive demo, 20-60 °C: the glassy plateau and
+    the onset of the transition; invented data, Arrhenius Ea = 240 kJ/mol)."""
+    import ttsp
+    from ttsp.io.readers import read_campaign
+
+    folder = Path(ttsp.__file__).parent / "demo_data" / "adhesive_relaxation"
+    camp = read_campaign([folder / f"relax_{t}C.csv" for t in (20, 30, 40, 50, 60)])
+    result = quiet(ttsp.build, camp, reference_temperature_C=50.0)
+    assert result.law_fit.law.model == "arrhenius"
+    # measured 254 kJ/mol; weighted by the 100-decade stderrs the fit picked a polynomial
+    assert result.law_fit.params["activation_energy_kJ_per_mol"] == pytest.approx(240.0, rel=0.1)

@@ -376,9 +376,11 @@ def build(campaign: Campaign, options: BuildOptions | None = None, *, input_sha2
                  else None)
         step("shift law")
         use = _law_rows(shifts)
+        # a shift the data do not determine reports a stderr up to 100 decades; when such rows
+        # must join the law (fewer than three others), they count as at most 1 decade uncertain
         law_fit = fit_shift_law(shifts.temperature_K[use], shifts.log10_aT[use],
                                 reference_temperature_K=t_ref_K, model=options.law,
-                                stderr=shifts.log10_aT_stderr[use], fixed=fixed)
+                                stderr=np.minimum(shifts.log10_aT_stderr[use], 1.0), fixed=fixed)
         step("Prony series")
         prony_fit = _fit_prony(campaign, shifts, options)
         series = prony_fit.series.replace(reference_temperature_K=t_ref_K) \
