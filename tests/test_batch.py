@@ -375,6 +375,7 @@ def test_folder_of_campaigns_as_manifest(data, tmp_path):
      r"column 'reference_temperature_C', row 2: reference_temperature_C must be a number"),
     ("id,path,glass_transition_C\na,x.csv,nan\n", "must be a finite number"),
     ("id,path,modulus_kind\na,x.csv,bulk\n", "modulus_kind must be tensile, shear or empty"),
+    ("id,path,spectrum\na,x.csv,maybe\n", r"column 'spectrum', row 2: spectrum must be true or false"),
     ("id,path\na,x.csv,extra\n", r"row 2: 3 cells where the header has 2"),
     ("id,path,id\na,x.csv,b\n", "a manifest column appears twice"),
     ("id,path\n", "lists no campaigns"),
@@ -523,3 +524,28 @@ def test_dask_cluster_gives_the_same_table(cluster, first_batch, tmp_path):
         assert client.status == "running"  # a given client is left open
     assert failing["status"][0] == "failed"
     assert failing["error"][0].startswith("the Dask worker failed: RuntimeError")
+
+
+def test_spectrum_column_and_resume_of_builds_that_did_not_record_it(data, tmp_path):
+    """A manifest can ask for the continuous spectrum per campaign; a finished build whose
+    summary predates an option (no 'spectrum' key) is reused when the option has its default."""
+    src = tmp_path / "in"
+    write_campaign(src / "a.csv", seed=4)
+    write_campaign(src / "b.csv", seed=5)
+    manifest = write_manifest(src / "m.csv", [("a", "a.csv", "true"), ("b", "b.csv", "")],
+                              header="id,path,spectrum")
+    items = read_manifest(manifest)
+    assert [i.options.spectrum for i in items] == [True, False]
+    out = tmp_path / "out"
+    first = run_batch(manifest, out, workers=1, figures=False, quiet=True)
+    assert list(first["status"]) == ["ok", "ok"]
+    assert (out / "a" / "relaxation_spectrum.csv").is_file()
+    assert not (out / "b" / "relaxation_spectrum.csv").exists()
+    # b's summary as an earlier version wrote it: without the new option
+    path = out / "b" / "summary.json"
+    summary = json.loads(path.read_text(encoding="utf-8"))
+    del summary["options"]["spectrum"]
+    path.write_text(json.dumps(summary), encoding="utf-8")
+    again = run_batch(manifest, out, workers=1, figures=False, quiet=True)
+    assert list(again["skipped"]) == [True, True]
+

@@ -10,7 +10,7 @@ Manifest
     A CSV file (comma, semicolon or tab) or a JSON Lines file (one object per line) with the
     columns ``id`` and ``path`` and, optionally, per-campaign options: ``reference_temperature_C``,
     ``law``, ``vertical``, ``expansion_coefficient_per_K``, ``shift_on``, ``gaps``,
-    ``prony_terms_per_decade``, ``glass_transition_C`` (the fields of
+    ``prony_terms_per_decade``, ``glass_transition_C``, ``spectrum`` (true/false) (the fields of
     :class:`ttsp.workflow.BuildOptions`) and ``modulus_kind`` (``tensile`` or ``shear``). An empty
     cell (or ``null``) means the default. ``path`` is a file or a folder of one campaign, relative
     to the manifest's folder; in JSON Lines it may also be a list of files. Blank lines and lines
@@ -88,6 +88,7 @@ OPTION_COLUMNS = {
     "gaps": str,
     "prony_terms_per_decade": float,
     "glass_transition_C": float,
+    "spectrum": bool,
 }
 MANIFEST_COLUMNS = ("id", "path", *OPTION_COLUMNS, "modulus_kind")
 RESULT_FILES = ("results.jsonl", "results.csv")
@@ -275,6 +276,18 @@ def _number(name, value, file, row):
     return number
 
 
+def _flag(name, value, file, row):
+    """true/false, yes/no, 1/0 (any case) or a JSON boolean."""
+    if isinstance(value, bool):
+        return value
+    text = str(value).strip().lower()
+    if text in ("true", "yes", "1"):
+        return True
+    if text in ("false", "no", "0"):
+        return False
+    raise bad_value(name, "true or false", value, file=file, column=name, row=row)
+
+
 def _item_from_row(values: dict, base: Path, file: str, row: int) -> BatchItem:
     origin = where(file, row=row)[:-2]
     ident = values.get("id")
@@ -299,6 +312,8 @@ def _item_from_row(values: dict, base: Path, file: str, row: int) -> BatchItem:
             continue
         if kind is float:
             options[name] = _number(name, value, file, row)
+        elif kind is bool:
+            options[name] = _flag(name, value, file, row)
         elif not isinstance(value, str):
             raise bad_value(name, "a text value", value, file=file, column=name, row=row)
         else:
@@ -445,7 +460,10 @@ def _reusable(item: BatchItem, folder: Path, sha: str, figures: bool):
         return None
     if not isinstance(summary, dict) or (
             summary.get("input_sha256") != sha
-            or summary.get("options") != _jsonable(item.options.to_dict())
+            # options a build of an earlier version did not record have their defaults
+            or not isinstance(summary.get("options"), dict)
+            or {**_jsonable(BuildOptions().to_dict()), **summary["options"]}
+            != _jsonable(item.options.to_dict())
             or summary.get("tool_version") != __version__
             or item.modulus_kind not in (None, summary.get("modulus_kind"))):
         return None
