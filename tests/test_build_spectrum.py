@@ -110,3 +110,12 @@ def test_a_spectrum_that_cannot_be_fitted_is_a_warning_not_a_failed_build(monkey
     with pytest.warns(TtspWarning, match="could not be fitted: non-negative least squares"):
         result = ttsp.build(read_campaign([DEMO / "damping_elastomer_dma.csv"]), spectrum=True)
     assert result.relaxation_spectrum is None and result.prony_fit is not None
+
+
+def test_cli_says_when_a_requested_spectrum_was_not_made(tmp_path):
+    res = CliRunner().invoke(app, ["build", str(DEMO / "adhesive_relaxation"), "--out",
+                                   str(tmp_path / "o"), "--spectrum", "--no-figures", "-q"])
+    assert res.exit_code == 0, res.output
+    expected = "no relaxation_spectrum.csv: the continuous relaxation spectrum needs frequency"
+    assert expected in res.stderr
+    assert not (tmp_path / "o" / "relaxation_spectrum.csv").exists()

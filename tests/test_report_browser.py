@@ -92,7 +92,9 @@ def report_file(tmp_path_factory):
     folder = tmp_path_factory.mktemp("report")
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
-        result = build(frequency_campaign(), law="wlf", reference_temperature_C=20.0)
+        result = build(frequency_campaign(), law="wlf", reference_temperature_C=20.0,
+                       spectrum=True)
+    assert plotting.figure_names(result) == plotting.FIGURE_NAMES + plotting.OPTIONAL_FIGURES
     written = plotting.save_figures(plotting.render_figures(result), folder / "figures")
     svgs = {name: paths["svg"].read_text(encoding="utf-8") for name, paths in written.items()}
     page = report.render_report(result, svgs, created_utc="2026-01-02T03:04:05Z")
@@ -127,7 +129,7 @@ def layout(report_file: Path, tmp_path: Path, width: int) -> dict:
 def test_every_figure_and_table_is_rendered_and_visible(report_file, tmp_path):
     measured = layout(report_file, tmp_path, 1366)
     items = measured["items"]
-    for name in plotting.FIGURE_NAMES:
+    for name in plotting.FIGURE_NAMES + plotting.OPTIONAL_FIGURES:
         item = items.get(f"figure-{name}")
         assert item is not None, name
         assert item["display"] != "none" and item["visibility"] == "visible"

@@ -214,6 +214,10 @@ def build_cmd(inputs: List[Path] = typer.Argument(..., help="Files or folders of
                                quiet=quiet, column=column, unit=unit, sheet=sheet,
                                tolerance=tolerance, modulus_kind=modulus_kind)
     typer.echo(str(folder / ("report.html" if not no_figures else "summary.json")))
+    if spectrum and result.relaxation_spectrum is None:
+        why = next((w for w in result.warnings if "continuous relaxation spectrum" in w),
+                   "the continuous relaxation spectrum was not fitted")
+        typer.echo(f"ttsp: no relaxation_spectrum.csv: {why}", err=True)
     if strict and result.failed_checks:
         typer.echo("ttsp: a check failed (--strict): " +
                    ", ".join(c.name for c in result.failed_checks), err=True)

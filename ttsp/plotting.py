@@ -44,7 +44,8 @@ __all__ = [
     "save_figures",
 ]
 
-#: Names of the figures :func:`render_figures` makes (also the stems of the saved files).
+#: Names of the figures every build has (also the stems of the saved files); see
+#: :func:`figure_names` for those of one build.
 FIGURE_NAMES = ("isotherms", "master_curve", "shift_factors", "prony_fit", "time_functions",
                 "frequency_functions", "superposition_check")
 #: Figures a build makes only when asked (``BuildOptions.spectrum``): see :func:`figure_names`.
@@ -968,7 +969,7 @@ def plot_relaxation_spectrum(spectrum, axes=None, *, series=None):
                     label="H(τ), Tikhonov")
     if einf > 0:
         ax.axhline(einf / factor, color=_VERMILLION, lw=1.1, ls=(0, (4, 2)), zorder=2,
-                   label=f"{letter}∞ = {einf / factor:.3g} {unit}")
+                   label=f"{letter}∞ of the H(τ) fit = {einf / factor:.3g} {unit}")
     if series is not None:
         t_i = np.asarray(series.tau_s, dtype=float)
         e_i = np.asarray(series.modulus_Pa, dtype=float)
@@ -992,7 +993,7 @@ def plot_relaxation_spectrum(spectrum, axes=None, *, series=None):
     if outside.any():
         handles.append(_extrapolation_handle())
         labels.append("outside the data (extrapolated)")
-    ax.legend(handles, labels, fontsize=8, frameon=False, loc="upper right")
+    ax.legend(handles, labels, fontsize=8, frameon=False, loc="lower center")
     ref = spectrum.reference_temperature_K
     where = "" if ref is None else f"{_TREF} = {kelvin_to_celsius(ref):.2f} °C; "
     ax.set_title(f"{where}continuous relaxation spectrum, fit rms {spectrum.rms_percent:.2g} %",
@@ -1010,8 +1011,9 @@ def plot_relaxation_spectrum(spectrum, axes=None, *, series=None):
     _style(ax_sel, logx=True, logy=spectrum.method == "gcv" and bool(np.all(crit[ok] > 0)))
     ax_sel.set_xlabel("Regularisation strength λ")
     ax_sel.set_ylabel("GCV value" if spectrum.method == "gcv" else "L-curve corner score")
-    ax_sel.set_title(f"choice of λ ({spectrum.method})", loc="left", fontsize=9, color=_INK,
-                     pad=4)
+    how = {"gcv": "generalised cross-validation", "lcurve": "L-curve corner",
+           "fixed": "fixed by the user"}.get(spectrum.method, spectrum.method)
+    ax_sel.set_title(f"choice of λ: {how}", loc="left", fontsize=9, color=_INK, pad=4)
     return ax, ax_sel
 
 

@@ -56,7 +56,9 @@ FIGURE_CAPTIONS = {
         "Shift factors log<sub>10</sub> a<sub>T</sub> with ±1 standard error, and the fitted "
         "{law} law with its "
         "±1 standard-error band (propagated from the covariance of its parameters). Lower panel: "
-        "the residuals of the shift factors about the law."),
+        "the residuals of the shift factors about the law. Poorly determined shifts (grey "
+        "diamonds) carry their bar only when it is under one decade; in the tables a standard "
+        "error of 100 decades means the data do not determine that shift."),
     "master_curve": (
         "Master curve at T<sub>ref</sub> = {tref}: every measured point at its reduced {reduced}, "
         "coloured by its temperature; line: the fitted Prony series, dashed where it is "
@@ -68,8 +70,10 @@ FIGURE_CAPTIONS = {
     "relaxation_spectrum": (
         "Continuous relaxation spectrum H(τ) of the master curve by Tikhonov regularisation "
         "(left; dashed and shaded outside the relaxation times the data determine, circles: the "
-        "Prony coefficients spread over their share of ln τ), and the choice of the "
-        "regularisation strength λ (right)."),
+        "Prony coefficients spread over their share of ln τ; the horizontal line is the "
+        "equilibrium modulus of this fit, which differs from the Prony series' where the data "
+        "do not reach the rubbery plateau), and the choice of the regularisation strength λ "
+        "(right)."),
     "time_functions": (
         "Relaxation modulus {E}(t) and creep compliance {D}(t) at T<sub>ref</sub> = {tref} over "
         "reduced "
