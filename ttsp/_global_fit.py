@@ -9,8 +9,9 @@ The model, in log–log coordinates (decades), for point i of isotherm k and fun
 
 ``"spectrum"`` (default)
     One relaxation spectrum shared by every measured function: a generalized Maxwell model
-    E(t) = E_e + Σ g_j exp(−t/τ_j) with τ_j on a fixed grid (five per decade, three decades
-    beyond the data on each side), g_j = exp(φ_j) > 0 and E_e ≥ 0, so E', E'', |E*|, δ and
+    E(t) = E_e + Σ g_j exp(−t/τ_j) with τ_j on a fixed grid (five per decade, two decades
+    beyond the data on each side: a mode further out acts on the data only as a constant or
+    not at all, which E_e and the nearer modes carry), g_j = exp(φ_j) > 0 and E_e ≥ 0, so E', E'', |E*|, δ and
     tan δ all follow from the same parameters and are consistent with each other (the
     Kramers–Kronig relations hold by construction; Ferry, Viscoelastic Properties of Polymers,
     3rd ed., 1980, ch. 3). Creep compliance uses a retardation spectrum
@@ -209,7 +210,7 @@ class _SpectrumModel:
 
     linear = False
 
-    def __init__(self, prob, y, smoothing, spacing=0.2, order=2, margin=3.0):
+    def __init__(self, prob, y, smoothing, spacing=0.2, order=2, margin=2.0):
         self.p = prob
         self.h = float(spacing)
         self.order = int(order)
