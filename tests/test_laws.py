@@ -973,3 +973,21 @@ def test_start_grids_solved_in_chunks_agree_with_one_batch(monkeypatch):
     np.testing.assert_allclose(split[1], whole[1], rtol=1e-12)
     for name in whole[0]:
         np.testing.assert_allclose(split[0][name], whole[0][name], rtol=1e-10, atol=1e-12)
+
+
+def test_batched_start_solutions_match_lstsq_and_survive_singular_trials():
+    """Start grids are solved through their normal equations; singular or badly conditioned
+    trials fall back to the pseudo-inverse (numpy's lstsq is the reference)."""
+    rng = np.random.default_rng(8)
+    A = rng.normal(size=(6, 12, 2))
+    A[2, :, 1] = 3.0 * A[2, :, 0]                 # collinear columns: singular
+    A[4, :, 1] = A[4, :, 0] * (1 + 1e-9)          # nearly so
+    b = rng.normal(size=(6, 12))
+    got = laws._batched_lstsq(A, b)
+    for g in range(6):
+        expected = np.linalg.lstsq(A[g], b[g], rcond=None)[0]
+        # the minimum-norm solution for the singular trial, the same fitted values otherwise
+        np.testing.assert_allclose(A[g] @ got[g], A[g] @ expected, rtol=1e-6, atol=1e-9)
+    np.testing.assert_allclose(got[[0, 1, 3, 5]],
+                               [np.linalg.lstsq(A[g], b[g], rcond=None)[0] for g in (0, 1, 3, 5)],
+                               rtol=1e-9)

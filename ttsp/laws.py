@@ -1041,12 +1041,42 @@ def _grid_lstsq(columns: Mapping[str, np.ndarray], y: np.ndarray, w: np.ndarray,
     if free:
         A = np.stack([np.where(ok[:, None], cols[name], 0.0) for name in free], axis=-1)
         A = A * w[None, :, None]                                    # (G, n, k)
-        sol = np.einsum("gkn,gn->gk", np.linalg.pinv(A), rw)
+        sol = _batched_lstsq(A, rw)
         rw = rw - np.einsum("gnk,gk->gn", A, sol)
         coefs.update({name: sol[:, i] for i, name in enumerate(free)})
     sse = np.einsum("gn,gn->g", rw, rw)
     sse[~(ok & np.isfinite(sse))] = np.inf
     return coefs, sse
+
+
+def _batched_lstsq(A: np.ndarray, b: np.ndarray) -> np.ndarray:
+    """Least-squares solutions of A[g] x = b[g] for a stack of small problems (G, n, k).
+
+    A single problem goes to LAPACK's lstsq (the direct solve of a linear law is a final
+    answer). A grid of start values is solved through its k × k normal equations at once; the
+    trials whose equations are singular or badly conditioned (condition above 1e10, so that
+    squaring it loses the answer) fall back to the pseudo-inverse.
+    """
+    if A.shape[0] == 1:
+        return np.linalg.lstsq(A[0], b[0], rcond=None)[0][None, :]
+    AtA = np.einsum("gnk,gnl->gkl", A, A)
+    Atb = np.einsum("gnk,gn->gk", A, b)
+    sol = np.full(Atb.shape, np.nan)
+    with np.errstate(all="ignore"):
+        if AtA.shape[1] == 2:    # eigenvalues of a symmetric 2 x 2 matrix in closed form
+            tr = AtA[:, 0, 0] + AtA[:, 1, 1]
+            det = AtA[:, 0, 0] * AtA[:, 1, 1] - AtA[:, 0, 1] * AtA[:, 1, 0]
+            root = np.sqrt(np.maximum(tr * tr - 4.0 * det, 0.0))
+            cond = (tr + root) / (tr - root)
+        else:
+            cond = np.linalg.cond(AtA) if AtA.shape[1] > 1 else np.ones(AtA.shape[0])
+        good = np.isfinite(cond) & (cond < 1e10) & (np.abs(AtA[:, 0, 0]) > 0)
+        if good.any():
+            sol[good] = np.linalg.solve(AtA[good], Atb[good][..., None])[..., 0]
+    bad = ~(good & np.all(np.isfinite(sol), axis=1))
+    if bad.any():
+        sol[bad] = np.einsum("gkn,gn->gk", np.linalg.pinv(A[bad]), b[bad])
+    return sol
 
 
 def _best_trials(coefs: Mapping[str, np.ndarray], sse: np.ndarray, extra: Mapping[str, Any],
