@@ -1079,13 +1079,13 @@ def _batched_lstsq(A: np.ndarray, b: np.ndarray) -> np.ndarray:
     return sol
 
 
-def _best_trials(coefs: Mapping[str, np.ndarray], sse: np.ndarray, extra: Mapping[str, Any],
-                 ) -> list[tuple[float, dict]]:
-    """The grid's trials as (sse, {name: value}) pairs, best first; ``extra`` adds the grid's
-    own (nonlinear) parameters, each an array over the trials."""
-    order = np.argsort(sse, kind="stable")
+def _best_trials(coefs: Mapping[str, np.ndarray], sse: np.ndarray, extra: Mapping[str, Any]):
+    """The grid's trials as (sse, {name: value}) pairs, best first, one at a time (callers
+    take the first few of hundreds); ``extra`` adds the grid's own (nonlinear) parameters, each
+    an array over the trials."""
     merged = {**coefs, **extra}
-    return [(float(sse[g]), {k: float(v[g]) for k, v in merged.items()}) for g in order]
+    for g in np.argsort(sse, kind="stable"):
+        yield float(sse[g]), {k: float(v[g]) for k, v in merged.items()}
 
 
 def _weighted_lstsq(columns: Mapping[str, np.ndarray], y: np.ndarray, w: np.ndarray,
@@ -1189,7 +1189,8 @@ def _start_values(cls: type, T, y, w, tr, fixed, bounds, order) -> list[dict]:
                 col = 1 / (T - ti_grid[:, None]) - 1 / (tr - ti_grid[:, None])
             coefs, sse = _grid_lstsq({"B_K": col}, y, w, fixed)
             trials = _best_trials(coefs, sse, {"T_inf_K": ti_grid})
-        return [trials[0][1]] if trials else []
+        best = next(trials, None)
+        return [] if best is None else [best[1]]
     # the remaining law: WLF above Tg, Arrhenius below; every (Tg, C2) pair in one batch
     pairs = []
     for tg in _tg_candidates(T, fixed, bounds["glass_transition_K"]):
