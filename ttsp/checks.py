@@ -768,9 +768,12 @@ def check_shifted_superposition(campaign: Campaign, shifts) -> CheckResult | Non
         vertical = True
     noise = estimate_noise(c)
     sy = _typical_noise(noise, quantity)
-    # an undetermined shift reports a stderr up to 100 decades; more than a decade of abscissa
-    # noise would turn its pairs into ordinate-only comparisons, so it counts as at most that
-    sx = np.clip(np.where(np.isfinite(table.stderr), table.stderr, 0.0), NOISE_FLOOR_LOG10, 1.0)
+    # an undetermined shift reports a stderr up to 100 decades; more abscissa noise than the cap
+    # would turn its pairs into ordinate-only comparisons, so it counts as at most that
+    from .shifting import USED_STDERR_CAP
+
+    sx = np.clip(np.where(np.isfinite(table.stderr), table.stderr, 0.0), NOISE_FLOOR_LOG10,
+                 USED_STDERR_CAP)
     flagged = sum(int(m.sum()) for m in table.outliers) if table.outliers is not None else 0
     drop_outliers = 0 < flagged <= OUTLIER_WARN_PERCENT / 100.0 * c.n_points
     curves = []

@@ -31,6 +31,8 @@ __all__ = ["Quantity", "QUANTITIES", "Isotherm", "Campaign", "DOMAINS", "MODULUS
 DOMAINS = ("frequency", "time")
 MODULUS_KINDS = ("tensile", "shear")
 X_COLUMN = {"frequency": "frequency_rad_s", "time": "time_s"}
+#: a reference temperature this close (K) to an isotherm's temperature is that isotherm's
+REFERENCE_SNAP_K = 0.05
 
 
 @dataclass(frozen=True)

@@ -27,6 +27,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ._validation import bad_value, check_choice
+from .data import REFERENCE_SNAP_K
 from .exceptions import DataError, ExtrapolationWarning
 
 __all__ = ["ViscoelasticModel", "VerticalShift", "QUANTITY_COLUMNS", "TIME_QUANTITIES",
@@ -41,10 +42,6 @@ QUANTITY_COLUMNS = {
     "loss_modulus": "loss_modulus_Pa",
     "tan_delta": "tan_delta",
 }
-
-
-#: a reference temperature this close to an isotherm is that isotherm (as in ttsp.shifting)
-_REFERENCE_SNAP_K = 0.05
 
 
 @dataclass(frozen=True)
@@ -93,7 +90,7 @@ class VerticalShift:
         tr = float(reference_temperature_K)
         T = np.asarray(temperature_K, dtype=float)
         b = np.asarray(log10_bT, dtype=float)
-        if mode == "fit" and T.size and np.min(np.abs(T - tr)) > _REFERENCE_SNAP_K:
+        if mode == "fit" and T.size and np.min(np.abs(T - tr)) > REFERENCE_SNAP_K:
             T, b = np.append(T, tr), np.append(b, 0.0)
         order = np.argsort(T, kind="stable")
         return cls(mode, tr, expansion_coefficient_per_K,

@@ -61,7 +61,7 @@ from ._global_fit import MASTER_MODELS, JointProblem, fit_joint
 from ._overlap import ordinate_gap, pair_shift
 from ._arrays import evenly_spaced_indices
 from ._validation import bad_value, check_choice, check_finite, check_positive
-from .data import QUANTITIES, Campaign
+from .data import QUANTITIES, REFERENCE_SNAP_K, Campaign
 from .exceptions import DataError, ExtrapolationWarning, FitQualityWarning
 from .units import kelvin_to_celsius
 
@@ -76,12 +76,15 @@ VERTICAL_SIGN = {"storage_modulus_Pa": 1, "loss_modulus_Pa": 1, "complex_modulus
                  "relaxation_modulus_Pa": 1, "creep_compliance_1_per_Pa": -1,
                  "tan_delta": 0, "phase_angle_rad": 0}
 
-_REFERENCE_SNAP_K = 0.05   # a reference this close to an isotherm's temperature is that isotherm
 _FIXED_MATCH_K = 0.5       # a fixed shift's temperature must be this close to an isotherm's
 _MIN_SLOPE = 0.02          # decades per decade: below this an isotherm lies on a plateau
 #: the stderr (decades) reported for a shift the data do not determine at all: wider than any
 #: physical range of shift factors
 UNDETERMINED_STDERR = 100.0
+#: where an undetermined shift must still be used (a law through too few other shifts, the
+#: abscissa noise of a check), its stderr counts as at most this many decades: the width of the
+#: weak prior the joint fit puts on every shift
+USED_STDERR_CAP = 1.0
 
 
 def default_reference_temperature_K(campaign: Campaign) -> float:
@@ -488,7 +491,7 @@ def shift_isotherms(campaign: Campaign, reference_temperature_K: float | None = 
     user_fixed = set(fixed)
     n = len(temps)
     ref_idx = int(np.argmin(np.abs(temps - t_ref)))
-    ref_measured = abs(temps[ref_idx] - t_ref) <= _REFERENCE_SNAP_K
+    ref_measured = abs(temps[ref_idx] - t_ref) <= REFERENCE_SNAP_K
     if fixed and ref_measured:
         if ref_idx in fixed and abs(fixed[ref_idx]) > 0:
             raise bad_value(f"fixed_log10_aT at the reference temperature "

@@ -278,6 +278,17 @@ MAX_PRONY_POINTS = 20_000
 MAX_CHECK_POINTS_PER_ISOTHERM = 60
 
 
+def _fit_points(frame, x_name: str, columns, limit: int):
+    """The master-curve points a curve fit uses: every function in ``columns`` present, not
+    flagged as an outlier, in order of the reduced abscissa, at most ``limit`` of them (evenly
+    by rank)."""
+    ok = frame[columns].notna().all(axis=1)
+    if "outlier" in frame:
+        ok &= ~frame["outlier"].astype(bool)
+    used = frame.loc[ok].sort_values(x_name)
+    return used.iloc[evenly_spaced_indices(len(used), limit)]
+
+
 def _fit_prony(campaign: Campaign, shifts, options: BuildOptions):
     from .prony import fit_prony_frequency, fit_prony_time
 
@@ -291,11 +302,7 @@ def _fit_prony(campaign: Campaign, shifts, options: BuildOptions):
                     else "creep_compliance")
         columns = ["relaxation_modulus_Pa" if quantity == "relaxation_modulus"
                    else "creep_compliance_1_per_Pa"]
-    ok = frame[columns].notna().all(axis=1)
-    if "outlier" in frame:
-        ok &= ~frame["outlier"].astype(bool)
-    used = frame.loc[ok].sort_values(x_name)
-    used = used.iloc[evenly_spaced_indices(len(used), MAX_PRONY_POINTS)]
+    used = _fit_points(frame, x_name, columns, MAX_PRONY_POINTS)
     if campaign.domain == "frequency":
         return fit_prony_frequency(used[x_name].to_numpy(), used[columns[0]].to_numpy(),
                                    used[columns[1]].to_numpy(),
@@ -342,7 +349,7 @@ def build(campaign: Campaign, options: BuildOptions | None = None, *, input_sha2
     from .checks import run_checks
     from .laws import fit_shift_law
     from .model import VerticalShift, ViscoelasticModel
-    from .shifting import default_reference_temperature_K, shift_isotherms
+    from .shifting import USED_STDERR_CAP, default_reference_temperature_K, shift_isotherms
 
     if options is None:
         options = BuildOptions(**option_values)
@@ -377,10 +384,11 @@ def build(campaign: Campaign, options: BuildOptions | None = None, *, input_sha2
         step("shift law")
         use = _law_rows(shifts)
         # a shift the data do not determine reports a stderr up to 100 decades; when such rows
-        # must join the law (fewer than three others), they count as at most 1 decade uncertain
+        # must join the law (fewer than three others), they count as at most USED_STDERR_CAP
         law_fit = fit_shift_law(shifts.temperature_K[use], shifts.log10_aT[use],
                                 reference_temperature_K=t_ref_K, model=options.law,
-                                stderr=np.minimum(shifts.log10_aT_stderr[use], 1.0), fixed=fixed)
+                                stderr=np.minimum(shifts.log10_aT_stderr[use], USED_STDERR_CAP),
+                                fixed=fixed)
         step("Prony series")
         prony_fit = _fit_prony(campaign, shifts, options)
         series = prony_fit.series.replace(reference_temperature_K=t_ref_K) \
@@ -430,15 +438,12 @@ def _fit_spectrum(campaign, shifts, reference_temperature_K):
         warnings.warn("the continuous relaxation spectrum needs frequency data with E' and E''; "
                       "it was not fitted", TtspWarning, stacklevel=3)
         return None
-    frame = shifts.shifted_frame(campaign)
-    w = frame["reduced_frequency_rad_s"].to_numpy()
-    e1 = frame["storage_modulus_Pa"].to_numpy()
-    e2 = frame["loss_modulus_Pa"].to_numpy()
-    keep = ~frame["outlier"].to_numpy() & np.isfinite(w) & (e1 > 0) & (e2 > 0)
-    order = np.flatnonzero(keep)[np.argsort(w[keep], kind="stable")]
-    order = order[evenly_spaced_indices(order.size, MAX_SPECTRUM_POINTS)]
+    used = _fit_points(shifts.shifted_frame(campaign), "reduced_frequency_rad_s",
+                       ["storage_modulus_Pa", "loss_modulus_Pa"], MAX_SPECTRUM_POINTS)
     try:
-        return fit_relaxation_spectrum(w[order], e1[order], e2[order],
+        return fit_relaxation_spectrum(used["reduced_frequency_rad_s"].to_numpy(),
+                                       used["storage_modulus_Pa"].to_numpy(),
+                                       used["loss_modulus_Pa"].to_numpy(),
                                        modulus_kind=campaign.modulus_kind,
                                        reference_temperature_K=reference_temperature_K)
     except (DataError, FitError) as exc:   # an extra output must not sink a good build
