@@ -255,3 +255,25 @@ def test_cli_history_and_predict_apply_b_T(density_build, tmp_path):
         warnings.simplefilter("ignore")
         np.testing.assert_allclose(predicted, result.model.relaxation_modulus(
             np.geomspace(0.1, 10, 3), 355.0), rtol=1e-6)
+
+
+def test_cli_names_file_and_row_of_a_broken_vertical_shift(density_build, tmp_path):
+    from typer.testing import CliRunner
+
+    from ttsp.cli import app
+    from ttsp.io.writers import write_build_numbers
+
+    _, result = density_build
+    write_build_numbers(result, tmp_path)
+    path = tmp_path / "summary.json"
+    summary = json.loads(path.read_text(encoding="utf-8"))
+    summary["shifting"]["vertical_mode"] = "fit"
+    del summary["shift_factors"][2]["log10_bT"]
+    path.write_text(json.dumps(summary), encoding="utf-8")
+    res = CliRunner().invoke(app, ["predict", str(tmp_path), "--quantity", "storage_modulus",
+                                   "--temperature", "40", "--frequency", "1:10:2"])
+    assert res.exit_code == 2
+    assert res.stderr.strip().splitlines() == [
+        f"ttsp: error: {path}: summary's vertical shift ('fit') cannot be read: shift_factors "
+        "row 2 has no usable temperature_C / log10_bT"]
+    assert "Traceback" not in res.output

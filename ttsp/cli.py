@@ -329,7 +329,10 @@ def load_model(path: Path):
         raise DataError(f"{file}: not a ttsp summary (invalid JSON: {exc})") from None
     if not isinstance(summary, dict) or summary.get("schema_version") != "1":
         raise DataError(f"{file}: not a ttsp summary of schema version 1")
-    return ViscoelasticModel.from_summary(summary)
+    try:
+        return ViscoelasticModel.from_summary(summary)
+    except DataError as exc:   # say which file the broken section is in
+        raise DataError(f"{file}: {exc}") from None
 
 
 @app.command("predict")

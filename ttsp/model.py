@@ -308,11 +308,16 @@ def _vertical_from_summary(summary: dict, reference_temperature_K: float):
     if mode == "density":
         return VerticalShift("density", reference_temperature_K,
                              shifting.get("expansion_coefficient_per_K"))
-    try:
-        rows = summary["shift_factors"]
-        temps = [float(r["temperature_C"]) + 273.15 for r in rows]
-        log_b = [float(r["log10_bT"]) for r in rows]
-    except (KeyError, TypeError, ValueError) as exc:
-        raise DataError(f"summary's vertical shift ({mode!r}) cannot be read: the shift table "
-                        f"has no usable temperature_C / log10_bT ({exc!r})") from None
+    rows = summary.get("shift_factors")
+    if not isinstance(rows, list):
+        raise DataError(f"summary's vertical shift ({mode!r}) cannot be read: it has no "
+                        "shift_factors table")
+    temps, log_b = [], []
+    for i, row in enumerate(rows):
+        try:
+            temps.append(float(row["temperature_C"]) + 273.15)
+            log_b.append(float(row["log10_bT"]))
+        except (KeyError, TypeError, ValueError):
+            raise DataError(f"summary's vertical shift ({mode!r}) cannot be read: shift_factors "
+                            f"row {i} has no usable temperature_C / log10_bT") from None
     return VerticalShift.from_table(mode, reference_temperature_K, None, temps, log_b)
