@@ -22,7 +22,7 @@ from ttsp.exceptions import DataError
 from ttsp.model import VerticalShift, ViscoelasticModel
 
 T_REF = 320.0
-ALPHA = 6e-4          # volumetric expansion coefficient, 1/K (a typical polymer melt value)
+ALPHA = 6e-4          # volumetric expansion coefficient, 1/K (a typical polymer melt value, from memory)
 
 
 def density_log10_bT(T, alpha=ALPHA, t_ref=T_REF):
