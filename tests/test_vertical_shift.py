@@ -22,7 +22,8 @@ from ttsp.exceptions import DataError
 from ttsp.model import VerticalShift, ViscoelasticModel
 
 T_REF = 320.0
-ALPHA = 6e-4          # volumetric expansion coefficient, 1/K (a typical polymer melt value, from memory)
+#: volumetric expansion coefficient, 1/K: a typical polymer melt value, recalled from memory
+ALPHA = 6e-4
 
 
 def density_log10_bT(T, alpha=ALPHA, t_ref=T_REF):
