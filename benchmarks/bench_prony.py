@@ -178,7 +178,7 @@ def accuracy_rows() -> None:
         row(f"{label}: E' / E'' / E(t) rms over 12 cases",
             f"{pooled[0]:.2f} / {pooled[1]:.2f} / {pooled[2]:.2f} %", "1.5/1.5/1 %",
             ("ok" if ok else "MISS") if label == "ttsp shifting" else "")
-        row(f"   worst case E' / E'' / E(t)",
+        row("   worst case E' / E'' / E(t)",
             f"{v[:, 0].max():.2f} / {v[:, 1].max():.2f} / {v[:, 2].max():.2f} %", "", "")
     row("   (time of shift_isotherms per case, median)", f"{1e3 * np.median(timings):.0f} ms",
         "", "")
@@ -193,7 +193,7 @@ def extra_rows() -> None:
         "")
     row("   time", f"{1e3 * t:.0f} ms", "", "")
     t, hn = best_of(lambda: fit_havriliak_negami(w, e1, e2), 1)
-    row(f"Havriliak-Negami closed form on a Prony-spectrum curve: rms", f"{hn.rms_percent:.2f} %",
+    row("Havriliak-Negami closed form on a Prony-spectrum curve: rms", f"{hn.rms_percent:.2f} %",
         "", "")
     row("   time", f"{1e3 * t:.0f} ms", "", "")
 

@@ -47,7 +47,7 @@ sys.path.insert(0, str(HERE))
 sys.path.insert(0, str(HERE.parent))
 
 from generator import (benchmark_cases, case_campaign, make_campaign,  # noqa: E402
-                       prony_storage_loss, wlf_log10_aT)
+                       prony_storage_loss)
 
 from ttsp.data import Campaign  # noqa: E402
 from ttsp.shifting import shift_isotherms  # noqa: E402

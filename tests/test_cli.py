@@ -10,7 +10,6 @@ from __future__ import annotations
 
 import hashlib
 import json
-import math
 import subprocess
 import sys
 from pathlib import Path

@@ -15,7 +15,6 @@ import math
 import subprocess
 import sys
 import warnings
-from types import SimpleNamespace
 
 import numpy as np
 import pandas as pd
@@ -26,7 +25,6 @@ from hypothesis import strategies as st
 from ttsp import plotting
 from ttsp.data import Campaign
 from ttsp.exceptions import DataError
-from ttsp.laws import WLFLaw
 from ttsp.workflow import build
 
 R_J_PER_MOL_K = 8.314462618  # CODATA 2018 molar gas constant
@@ -198,31 +196,6 @@ def test_power_labels_are_plain_unicode():
     assert plotting._power_label(1e12) == "10¹²"
     assert plotting._power_label(2e5) == "2×10⁵"
     assert plotting._plain_label(0.5) == "0.5" and plotting._plain_label(2e-5) == "2×10⁻⁵"
-
-
-def test_law_band_matches_the_analytic_propagation_for_wlf():
-    """σ² = g C gᵀ with the analytic WLF gradient (GUM, JCGM 100:2008, eq. 13):
-    ∂/∂C1 = −x/(C2+x), ∂/∂C2 = C1 x/(C2+x)², x = T − Tr."""
-    tr, c1, c2 = 293.15, 9.0, 100.0
-    s1, s2, r = 0.2, 3.0, 0.93
-    fit = SimpleNamespace(law=WLFLaw(tr, {"C1": c1, "C2_K": c2}, (250.0, 330.0)),
-                          stderr={"C1": s1, "C2_K": s2}, correlation={("C1", "C2_K"): r},
-                          fixed_parameters=())
-    t = np.linspace(250.0, 330.0, 9)
-    x = t - tr
-    g = np.stack([-x / (c2 + x), c1 * x / (c2 + x) ** 2], axis=1)
-    cov = np.array([[s1 ** 2, r * s1 * s2], [r * s1 * s2, s2 ** 2]])
-    exact = np.sqrt(np.einsum("ti,ij,tj->t", g, cov, g))
-    # central differences with steps of 1e-3 s.e. on a rational function: error ~1e-9 relative
-    assert plotting._law_band(fit, t) == pytest.approx(exact, rel=1e-7, abs=1e-12)
-    assert plotting._law_band(fit, np.array([tr]))[0] == pytest.approx(0.0, abs=1e-12)
-
-
-def test_law_band_is_none_without_uncertainties():
-    fit = SimpleNamespace(law=WLFLaw(293.15, {"C1": 9.0, "C2_K": 100.0}),
-                          stderr={"C1": float("nan"), "C2_K": 0.0}, correlation={},
-                          fixed_parameters=())
-    assert plotting._law_band(fit, np.array([280.0])) is None
 
 
 # ----------------------------------------------------------------------------------------------

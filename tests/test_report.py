@@ -193,6 +193,9 @@ def test_law_table_has_parameters_with_standard_errors(page, result):
     shown = re.search(r"at the reference temperature</td><td class=\"num\">([^<]+)<",
                       body).group(1)
     assert float(shown) == pytest.approx(ea, rel=1e-3)
+    # every shift of this campaign is well determined: the law saw their full covariance
+    assert fit.weighting == "covariance"
+    assert "generalised least squares with the full covariance" in page
 
 
 def test_prony_tables_carry_every_term(page, result):

@@ -12,7 +12,6 @@ Needs the Debian package ``chromium``; skipped, with the reason printed, where i
 from __future__ import annotations
 
 import json
-import math
 import os
 import re
 import shutil

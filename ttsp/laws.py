@@ -883,6 +883,13 @@ class ShiftLawFit:
         Solver provenance: lmfit ``leastsq`` (Levenberg-Marquardt) for the nonlinear laws and
         for any law with bounds; a direct weighted linear least-squares solve (``nfev`` 0) for
         the Arrhenius and polynomial laws without bounds.
+    weighting : str
+        ``"covariance"`` (generalised least squares with the shifts' covariance), ``"stderr"``
+        (each residual over its stderr) or ``"none"``.
+    degrees_of_freedom : int
+        Weighted residuals minus free parameters (at least 1): the divisor of the reduced
+        chi-square. A covariance with a gauge direction of zero variance counts one residual
+        fewer than ``n_points``.
     notes : tuple of str
         Doubts about the fit (a parameter at a bound, uncertainties not estimable); each is
         also issued as a :class:`~ttsp.exceptions.FitQualityWarning`.
@@ -912,6 +919,8 @@ class ShiftLawFit:
     nfev: int = 0
     notes: tuple = ()
     method: str = field(default=_LMFIT_METHOD)
+    weighting: str = "stderr"
+    degrees_of_freedom: int = 1
 
     @property
     def model(self) -> str:
@@ -944,8 +953,9 @@ class ShiftLawFit:
         }
         out["selection"] = {"candidates": [dict(c) for c in self.candidates],
                             "reason": self.reason}
-        out["solver"] = {"method": self.method, "success": bool(self.success),
-                         "message": self.message, "nfev": int(self.nfev)}
+        out["solver"] = {"method": self.method, "weighting": self.weighting,
+                         "success": bool(self.success), "message": self.message,
+                         "nfev": int(self.nfev)}
         out["notes"] = list(self.notes)
         return out
 
@@ -1005,11 +1015,55 @@ class _Outcome:
     method: str = _LMFIT_METHOD
 
 
+class _Weighting:
+    """How residuals r of the shift table are weighed: r_i/s_i, or whitened by a covariance.
+
+    With a covariance C of the shifts (correlated, as shifts found along a chain of
+    overlapping isotherms are) the fit minimises rᵀC⁻¹r, generalised least squares (Aitken,
+    Proc. R. Soc. Edinburgh 55, 42, 1935): r ↦ W r with WᵀW = C⁺ from the eigen-decomposition
+    of C. Directions of zero variance (a gauge condition such as log10 a_T = 0 interpolated at
+    the reference) carry no information about the law and are dropped, so W has
+    ``size`` ≤ n rows.
+    """
+
+    def __init__(self, w: np.ndarray | None = None, covariance: np.ndarray | None = None):
+        self.w = w
+        self.W = None
+        if covariance is not None:
+            vals, vecs = np.linalg.eigh(0.5 * (covariance + covariance.T))
+            keep = vals > _COVARIANCE_RANK_TOLERANCE * max(float(vals.max()), 0.0)
+            self.W = (vecs[:, keep] / np.sqrt(vals[keep])).T
+
+    @property
+    def size(self) -> int:
+        """Number of weighted residuals."""
+        return self.w.size if self.W is None else self.W.shape[0]
+
+    @property
+    def total(self) -> float:
+        """Σ of squared weights (the trace of WᵀW)."""
+        return float(np.sum((self.w if self.W is None else self.W) ** 2))
+
+    def __call__(self, a: np.ndarray, axis: int = -1) -> np.ndarray:
+        """Weighted ``a`` along the table axis ``axis``."""
+        if np.ndim(a) == 1:     # one residual vector: the solver's inner loop
+            return a * self.w if self.W is None else self.W @ a
+        if self.W is None:
+            shape = [1] * np.ndim(a)
+            shape[axis] = -1
+            return a * self.w.reshape(shape)
+        return np.moveaxis(np.tensordot(self.W, np.moveaxis(a, axis, 0), axes=1), 0, axis)
+
+
+#: eigenvalues of a shift covariance below this fraction of the largest count as zero
+_COVARIANCE_RANK_TOLERANCE = 1e-10
+
+
 #: largest (trials x table rows) solved as one batch by :func:`_grid_lstsq`
 _GRID_BATCH = 200_000
 
 
-def _grid_lstsq(columns: Mapping[str, np.ndarray], y: np.ndarray, w: np.ndarray,
+def _grid_lstsq(columns: Mapping[str, np.ndarray], y: np.ndarray, weigh: _Weighting,
                 fixed: Mapping[str, float]) -> tuple[dict, np.ndarray]:
     """Weighted linear least squares y ~ Σ c_n col_n for a whole grid of trials at once.
 
@@ -1024,7 +1078,7 @@ def _grid_lstsq(columns: Mapping[str, np.ndarray], y: np.ndarray, w: np.ndarray,
     if G > 1 and G * n > _GRID_BATCH:   # many trials on a long table: in halves, bounded memory
         h = G // 2
         parts = [_grid_lstsq({k: (c[sl] if np.ndim(c) == 2 else c) for k, c in columns.items()},
-                             y, w, fixed) for sl in (slice(0, h), slice(h, G))]
+                             y, weigh, fixed) for sl in (slice(0, h), slice(h, G))]
         return ({k: np.concatenate([parts[0][0][k], parts[1][0][k]]) for k in parts[0][0]},
                 np.concatenate([parts[0][1], parts[1][1]]))
     cols = {name: np.broadcast_to(np.asarray(c, dtype=float), (G, n)) for name, c in
@@ -1036,11 +1090,11 @@ def _grid_lstsq(columns: Mapping[str, np.ndarray], y: np.ndarray, w: np.ndarray,
         if name in fixed:
             coefs[name] = np.full(G, float(fixed[name]))
             r -= fixed[name] * np.where(ok[:, None], col, 0.0)
-    rw = r * w
+    rw = weigh(r)
     free = [name for name in cols if name not in fixed]
     if free:
         A = np.stack([np.where(ok[:, None], cols[name], 0.0) for name in free], axis=-1)
-        A = A * w[None, :, None]                                    # (G, n, k)
+        A = weigh(A, axis=1)                                        # (G, n, k)
         sol = _batched_lstsq(A, rw)
         rw = rw - np.einsum("gnk,gk->gn", A, sol)
         coefs.update({name: sol[:, i] for i, name in enumerate(free)})
@@ -1088,10 +1142,10 @@ def _best_trials(coefs: Mapping[str, np.ndarray], sse: np.ndarray, extra: Mappin
         yield float(sse[g]), {k: float(v[g]) for k, v in merged.items()}
 
 
-def _weighted_lstsq(columns: Mapping[str, np.ndarray], y: np.ndarray, w: np.ndarray,
+def _weighted_lstsq(columns: Mapping[str, np.ndarray], y: np.ndarray, weigh: _Weighting,
                     fixed: Mapping[str, float]) -> dict:
     """Weighted linear least squares y ~ Σ c_n col_n with some c_n fixed: the coefficients."""
-    coefs, _ = _grid_lstsq(columns, y, w, fixed)
+    coefs, _ = _grid_lstsq(columns, y, weigh, fixed)
     return {k: float(v[0]) for k, v in coefs.items()}
 
 
@@ -1116,24 +1170,24 @@ def _linear_columns(cls: type, T, tr, order) -> dict:
     return {_poly_name(k): (T - tr) ** k for k in range(1, order + 1)}
 
 
-def _linear_outcome(cls: type, T, y, w, tr, fixed, names, free, order) -> _Outcome:
+def _linear_outcome(cls: type, T, y, weigh, tr, fixed, names, free, order) -> _Outcome:
     """Weighted linear least squares, solved directly, for a law linear in its constants.
 
     The covariance is the one lmfit reports for the same problem: (AᵀA)⁻¹ of the weighted
     design matrix A scaled by the reduced chi-square χ²/max(1, n − k).
     """
     cols = _linear_columns(cls, T, tr, order)
-    coefs = _weighted_lstsq(cols, y, w, fixed)
+    coefs = _weighted_lstsq(cols, y, weigh, fixed)
     values = {n: float(coefs[n]) for n in names}
     with np.errstate(all="ignore"):
-        r = (cls._evaluate(values, T, tr) - y) * w
+        r = weigh(cls._evaluate(values, T, tr) - y)
     chi2 = float(r @ r)
-    A = np.column_stack([cols[n] for n in free]) * w[:, None]
+    A = weigh(np.column_stack([cols[n] for n in free]), axis=0)
     stderr = {n: 0.0 for n in names}
     corr: dict = {}
     notes = []
     try:
-        cov = np.linalg.inv(A.T @ A) * (chi2 / max(1, y.size - len(free)))
+        cov = np.linalg.inv(A.T @ A) * (chi2 / max(1, weigh.size - len(free)))
     except np.linalg.LinAlgError:
         cov = None
         notes.append("parameter uncertainties could not be estimated (singular covariance)")
@@ -1152,11 +1206,11 @@ def _linear_outcome(cls: type, T, y, w, tr, fixed, names, free, order) -> _Outco
 _LINEAR_LAWS = (ArrheniusLaw, PolynomialLaw)
 
 
-def _start_values(cls: type, T, y, w, tr, fixed, bounds, order) -> list[dict]:
+def _start_values(cls: type, T, y, weigh, tr, fixed, bounds, order) -> list[dict]:
     """Starting values, best first, from separable grids: every trial of the nonlinear
     parameter(s) on a grid, the linear ones solved for each trial (all trials in one batch)."""
     if cls in _LINEAR_LAWS:
-        return [_weighted_lstsq(_linear_columns(cls, T, tr, order), y, w, fixed)]
+        return [_weighted_lstsq(_linear_columns(cls, T, tr, order), y, weigh, fixed)]
     if cls in (WLFLaw, VFTLaw):
         x = T - tr
         tmin = float(T.min())
@@ -1176,7 +1230,7 @@ def _start_values(cls: type, T, y, w, tr, fixed, bounds, order) -> list[dict]:
                             c2_grid = np.append(c2_grid, c2_lin)
             with np.errstate(all="ignore"):
                 col = -x / (c2_grid[:, None] + x)
-            coefs, sse = _grid_lstsq({"C1": col}, y, w, fixed)
+            coefs, sse = _grid_lstsq({"C1": col}, y, weigh, fixed)
             trials = _best_trials(coefs, sse, {"C2_K": c2_grid})
         else:
             if "T_inf_K" in fixed:
@@ -1187,7 +1241,7 @@ def _start_values(cls: type, T, y, w, tr, fixed, bounds, order) -> list[dict]:
                 ti_grid = top - _grid_above(0.0, (top - hi, top - lo))
             with np.errstate(all="ignore"):
                 col = 1 / (T - ti_grid[:, None]) - 1 / (tr - ti_grid[:, None])
-            coefs, sse = _grid_lstsq({"B_K": col}, y, w, fixed)
+            coefs, sse = _grid_lstsq({"B_K": col}, y, weigh, fixed)
             trials = _best_trials(coefs, sse, {"T_inf_K": ti_grid})
         best = next(trials, None)
         return [] if best is None else [best[1]]
@@ -1208,7 +1262,7 @@ def _start_values(cls: type, T, y, w, tr, fixed, bounds, order) -> list[dict]:
     cols = {"C1": -(t_hi - tr) / (c2 + t_hi - tr) + (t_r - tr) / (c2 + t_r - tr),
             "activation_energy_kJ_per_mol": _ARRHENIUS_K_PER_KJ_MOL * (
                 np.where(T < tg, 1 / T - 1 / tg, 0.0) - np.where(tr < tg, 1 / tr - 1 / tg, 0.0))}
-    coefs, sse = _grid_lstsq(cols, y, w, fixed)
+    coefs, sse = _grid_lstsq(cols, y, weigh, fixed)
     trials = _best_trials(coefs, sse, {"C2_K": c2[:, 0], "glass_transition_K": tg[:, 0]})
     # best start in each of the three best Tg intervals
     starts, seen = [], set()
@@ -1285,7 +1339,11 @@ def _into_bounds(value: float, lo: float, hi: float) -> float:
     return hi - max(1e-3 * abs(hi), 1e-3)
 
 
-def _fit_one(cls: type, T, y, w, tr, fixed, user_bounds, order) -> _Outcome:
+#: solver evaluations per free parameter (+1): for each of several starts, and for the last one
+_START_BUDGET, _FULL_BUDGET = 100, 4000
+
+
+def _fit_one(cls: type, T, y, weigh, tr, fixed, user_bounds, order) -> _Outcome:
     """Fit one law by Levenberg-Marquardt from the best separable-grid starts."""
     names = cls._expected_names({_poly_name(k): 0 for k in range(1, order + 1)})
     defaults = _default_bounds(cls, T, tr, fixed, order)
@@ -1310,8 +1368,8 @@ def _fit_one(cls: type, T, y, w, tr, fixed, user_bounds, order) -> _Outcome:
     free = tuple(n for n in names if n not in fixed)
     if (cls in _LINEAR_LAWS and free
             and all(not np.any(np.isfinite(bounds[n])) for n in free)):
-        return _linear_outcome(cls, T, y, w, tr, fixed, names, free, order)
-    starts = _start_values(cls, T, y, w, tr, fixed, bounds, order)
+        return _linear_outcome(cls, T, y, weigh, tr, fixed, names, free, order)
+    starts = _start_values(cls, T, y, weigh, tr, fixed, bounds, order)
     if not starts:
         raise FitError(f"{cls.model}: no trial break temperature within the bounds of "
                        "glass_transition_K leaves two points on each side")
@@ -1319,10 +1377,22 @@ def _fit_one(cls: type, T, y, w, tr, fixed, user_bounds, order) -> _Outcome:
     def residual(p):
         values = p.valuesdict()
         with np.errstate(all="ignore"):
-            r = (cls._evaluate(values, T, tr) - y) * w
+            r = weigh(cls._evaluate(values, T, tr) - y)
         return np.where(np.isfinite(r), r, 1e10)
 
     import lmfit  # lazily: lmfit loads matplotlib and pandas at import
+
+    def solve(params, budget):
+        try:
+            res = lmfit.minimize(residual, params, method="leastsq", xtol=1e-12, ftol=1e-12,
+                                 max_nfev=budget * (len(free) + 1))
+        except Exception as exc:  # lmfit/MINPACK failures become FitError
+            raise FitError(f"{cls.model}: the least-squares solver failed: {exc}") from exc
+        chi2 = float(np.sum(np.asarray(res.residual) ** 2))
+        values = [res.params[n].value for n in free]
+        if not (np.isfinite(chi2) and np.all(np.isfinite(values))):
+            return None
+        return (chi2, res.params, res)
 
     best = None
     for start in starts:
@@ -1337,17 +1407,15 @@ def _fit_one(cls: type, T, y, w, tr, fixed, user_bounds, order) -> _Outcome:
             r = residual(params)
             best = (float(r @ r), params, None)
             break
-        try:
-            res = lmfit.minimize(residual, params, method="leastsq", xtol=1e-12, ftol=1e-12,
-                                 max_nfev=4000 * (len(free) + 1))
-        except Exception as exc:  # lmfit/MINPACK failures become FitError
-            raise FitError(f"{cls.model}: the least-squares solver failed: {exc}") from exc
-        chi2 = float(np.sum(np.asarray(res.residual) ** 2))
-        values = [res.params[n].value for n in free]
-        if not (np.isfinite(chi2) and np.all(np.isfinite(values))):
-            continue
-        if best is None or chi2 < best[0]:
-            best = (chi2, res.params, res)
+        # every start on a small budget (a start that wanders off towards a degenerate corner
+        # would otherwise cost thousands of evaluations); the best one, if still unconverged,
+        # continues with the full budget
+        out = solve(params, _START_BUDGET if len(starts) > 1 else _FULL_BUDGET)
+        if out is not None and (best is None or out[0] < best[0]):
+            best = out
+    if best is not None and best[2] is not None and not best[2].success \
+            and len(starts) > 1:
+        best = solve(best[1], _FULL_BUDGET) or best
     if best is None:
         raise FitError(f"{cls.model}: the fit produced no finite parameters")
     chi2, p, res = best
@@ -1456,14 +1524,81 @@ def _evidence_word(delta: float) -> str:
     return "very strong evidence"
 
 
+def law_prediction_stderr(law_fit: Any, temperature_K: Any) -> np.ndarray | None:
+    """Standard error of a fitted law's log10 a_T at ``temperature_K``, or None.
+
+    First-order propagation of the parameter covariance, var f = J C Jᵀ, with the Jacobian J
+    by central differences (steps of 10⁻³ standard errors) and C rebuilt from the parameter
+    standard errors and their correlation coefficients (JCGM 100:2008, GUM, eq. 13).
+    ``law_fit`` is a :class:`ShiftLawFit` or anything with its ``law``, ``stderr``,
+    ``correlation`` and ``fixed_parameters``. None when no free parameter has a finite
+    positive stderr, or when a step leaves the law's domain.
+    """
+    law = law_fit.law
+    stderr = dict(law_fit.stderr)
+    fixed = set(getattr(law_fit, "fixed_parameters", ()) or ())
+    free = [n for n in law.params if n not in fixed and stderr.get(n) is not None
+            and np.isfinite(stderr[n]) and stderr[n] > 0]
+    if not free:
+        return None
+    s = np.array([float(stderr[n]) for n in free])
+    cov = np.diag(s ** 2)
+    for (a, b), r in dict(getattr(law_fit, "correlation", {}) or {}).items():
+        if a in free and b in free and r is not None and np.isfinite(r):
+            i, j = free.index(a), free.index(b)
+            cov[i, j] = cov[j, i] = float(r) * s[i] * s[j]
+    t = np.atleast_1d(np.asarray(temperature_K, dtype=float))
+    jac = np.empty((t.size, len(free)))
+    try:
+        for k, name in enumerate(free):
+            h = 1e-3 * s[k]
+            vals = []
+            for sign in (1.0, -1.0):
+                p = dict(law.params)
+                p[name] = p[name] + sign * h
+                moved = type(law)(law.reference_temperature_K, p, None)
+                vals.append(np.asarray(moved.log10_aT(t), dtype=float))
+            jac[:, k] = (vals[0] - vals[1]) / (2.0 * h)
+    except Exception:  # a step left the law's domain (e.g. C2 <= 0): no band rather than a wrong one
+        return None
+    var = np.einsum("ti,ij,tj->t", jac, cov, jac)
+    return np.sqrt(np.clip(var, 0.0, None))
+
+
+def _checked_covariance(covariance: Any, n: int) -> np.ndarray:
+    """A shift covariance as a float (n, n) array: finite, symmetric, non-negative diagonal;
+    rows of zero variance get the smallest positive variance (unknown, not exact)."""
+    try:
+        C = np.array(covariance, dtype=float)
+    except (TypeError, ValueError):
+        raise bad_value("covariance", "a square array of numbers", covariance) from None
+    if C.shape != (n, n):
+        raise bad_value("covariance", f"shape ({n}, {n}), one row per shift", f"shape {C.shape}")
+    if not np.all(np.isfinite(C)):
+        raise bad_value("covariance", "finite", float(C[~np.isfinite(C)][0]))
+    d = np.diag(C).copy()
+    scale = max(float(np.abs(C).max()), 1e-300)
+    if np.any(d < 0):
+        raise bad_value("covariance", "a non-negative diagonal (variances)", float(d[d < 0][0]))
+    if np.max(np.abs(C - C.T)) > 1e-8 * scale:
+        raise bad_value("covariance", "symmetric", "an asymmetric matrix")
+    zero = d <= 0
+    if zero.any():
+        if zero.all():
+            return np.eye(n)
+        C[zero, zero] = d[~zero].min()
+    return C
+
+
 def fit_shift_law(temperature_K: Any, log10_aT: Any, *, reference_temperature_K: float,
-                  model: str = "auto", stderr: Any = None,
+                  model: str = "auto", stderr: Any = None, covariance: Any = None,
                   fixed: Mapping[str, float] | None = None,
                   bounds: Mapping[str, tuple[float, float]] | None = None,
                   polynomial_order: int = 2) -> ShiftLawFit:
     """Fit a shift law to a table of shift factors by weighted least squares.
 
-    Minimises sum_i [(log10 a_T,i - law(T_i)) / s_i]^2 with lmfit's Levenberg-Marquardt
+    Minimises sum_i [(log10 a_T,i - law(T_i)) / s_i]^2 (or rᵀC⁻¹r with a ``covariance`` C of
+    the shifts, generalised least squares) with lmfit's Levenberg-Marquardt
     (``leastsq``; the linear laws without bounds directly, see below), where s_i is the shift stderr (all 1 when none is given). Starting values
     come from the separable structure of each law: for each trial of its nonlinear constant
     (WLF: C2, including the classical linearisation (T - T_ref)/log10 a_T = -C2/C1 -
@@ -1492,6 +1627,15 @@ def fit_shift_law(temperature_K: Any, log10_aT: Any, *, reference_temperature_K:
         Standard error of each log10 a_T (decades). Zero or missing (NaN/None) entries are
         unknown, not exact: they get the smallest positive stderr of the table. When no
         entry is positive the fit is unweighted.
+    covariance : array_like, optional
+        Covariance matrix of the log10 a_T (n × n, decades²), e.g.
+        ``ShiftResult.log10_aT_covariance``. Shifts found jointly are correlated (an error in
+        one overlap moves every shift beyond it); weighing residuals by the inverse covariance
+        (Aitken 1935) lets the law average out that common drift instead of following it.
+        Rows with zero variance get the smallest positive variance (unknown, as for
+        ``stderr``); a direction of zero variance shared by several rows (a gauge condition)
+        is left out. Takes precedence over ``stderr`` for the weights; ``stderr`` defaults to
+        the square root of its diagonal.
     fixed : mapping, optional
         Parameters held at given values, e.g. ``{"C1": 17.44, "C2_K": 51.6}`` or
         ``{"glass_transition_K": 373.15}``.
@@ -1558,13 +1702,20 @@ def fit_shift_law(temperature_K: Any, log10_aT: Any, *, reference_temperature_K:
             w = np.ones(T.shape)
         else:
             w = 1.0 / np.where(s > 0, s, positive.min())
+    C = None if covariance is None else _checked_covariance(covariance, T.size)
+    if C is not None and stderr is None:
+        s = np.sqrt(np.diag(C))
 
     informative = ~((np.abs(T - tr) <= _RANGE_TOLERANCE_K) & (y == 0))
-    Tf, yf, wf = T[informative], y[informative], w[informative]
+    Tf, yf = T[informative], y[informative]
     n = int(Tf.size)
     if n == 0:
         raise FitError("the shift table has no point away from the reference temperature")
-    floor = float(np.sum((wf * _RESIDUAL_FLOOR_DECADES * max(1.0, float(np.abs(yf).max()))) ** 2))
+    if C is None:
+        weigh, weighting = _Weighting(w[informative]), "none" if stderr is None else "stderr"
+    else:
+        weigh, weighting = _Weighting(covariance=C[np.ix_(informative, informative)]), "covariance"
+    floor = weigh.total * (_RESIDUAL_FLOOR_DECADES * max(1.0, float(np.abs(yf).max()))) ** 2
     models = AUTO_MODELS if model == "auto" else (model,)
 
     def names_of(m: str) -> tuple:
@@ -1596,7 +1747,7 @@ def fit_shift_law(temperature_K: Any, log10_aT: Any, *, reference_temperature_K:
             rows.append(row)
             continue
         try:
-            out = _fit_one(cls, Tf, yf, wf, tr, fx, bd, order)
+            out = _fit_one(cls, Tf, yf, weigh, tr, fx, bd, order)
             if not out.success:
                 raise FitError(f"{m}: the solver did not converge ({out.message})")
             try:
@@ -1610,7 +1761,7 @@ def fit_shift_law(temperature_K: Any, log10_aT: Any, *, reference_temperature_K:
             row.update(status="failed", detail=str(exc))
             rows.append(row)
             continue
-        aic, bic = _information(out.chi_square, n, k_free, floor)
+        aic, bic = _information(out.chi_square, weigh.size, k_free, floor)
         row.update(chi_square=out.chi_square, aic=aic, bic=bic)
         rows.append(row)
         outcomes[m] = (out, aic, bic)
@@ -1658,7 +1809,8 @@ def fit_shift_law(temperature_K: Any, log10_aT: Any, *, reference_temperature_K:
         log10_aT_data=frozen(y),
         log10_aT_stderr=frozen(s),
         chi_square=float(out.chi_square),
-        reduced_chi_square=float(out.chi_square / (n - len(out.free_names))),
+        reduced_chi_square=float(out.chi_square / max(1, weigh.size - len(out.free_names))),
+        degrees_of_freedom=max(1, weigh.size - len(out.free_names)),
         aic=float(aic),
         bic=float(bic),
         n_points=n,
@@ -1673,4 +1825,5 @@ def fit_shift_law(temperature_K: Any, log10_aT: Any, *, reference_temperature_K:
         nfev=out.nfev,
         notes=tuple(out.notes),
         method=out.method,
+        weighting=weighting,
     )

@@ -26,6 +26,7 @@ from pathlib import Path
 import numpy as np
 
 from ._validation import bad_value, check_choice
+from .laws import law_prediction_stderr
 from .units import DISPLAY_MODULUS_UNITS, display_modulus_unit, kelvin_to_celsius
 
 __all__ = [
@@ -652,44 +653,6 @@ def plot_master_curve(result, ax=None):
     return ax
 
 
-def _law_band(law_fit, temperature_K):
-    """Standard error of the fitted law's log10 a_T at ``temperature_K``, or None.
-
-    First-order propagation of the parameter covariance, var f = J C Jᵀ, with the Jacobian J
-    by central differences (steps of 10⁻³ standard errors) and C rebuilt from the parameter
-    standard errors and their correlation coefficients (JCGM 100:2008, GUM, eq. 13).
-    """
-    law = law_fit.law
-    stderr = dict(law_fit.stderr)
-    fixed = set(getattr(law_fit, "fixed_parameters", ()) or ())
-    free = [n for n in law.params if n not in fixed and stderr.get(n) is not None
-            and np.isfinite(stderr[n]) and stderr[n] > 0]
-    if not free:
-        return None
-    s = np.array([float(stderr[n]) for n in free])
-    cov = np.diag(s ** 2)
-    for (a, b), r in dict(getattr(law_fit, "correlation", {}) or {}).items():
-        if a in free and b in free and r is not None and np.isfinite(r):
-            i, j = free.index(a), free.index(b)
-            cov[i, j] = cov[j, i] = float(r) * s[i] * s[j]
-    t = np.atleast_1d(np.asarray(temperature_K, dtype=float))
-    jac = np.empty((t.size, len(free)))
-    try:
-        for k, name in enumerate(free):
-            h = 1e-3 * s[k]
-            vals = []
-            for sign in (1.0, -1.0):
-                p = dict(law.params)
-                p[name] = p[name] + sign * h
-                moved = type(law)(law.reference_temperature_K, p, None)
-                vals.append(np.asarray(moved.log10_aT(t), dtype=float))
-            jac[:, k] = (vals[0] - vals[1]) / (2.0 * h)
-    except Exception:  # a step left the law's domain (e.g. C2 <= 0): no band rather than a wrong one
-        return None
-    var = np.einsum("ti,ij,tj->t", jac, cov, jac)
-    return np.sqrt(np.clip(var, 0.0, None))
-
-
 _LAW_NAMES = {"wlf": "WLF", "arrhenius": "Arrhenius", "wlf-arrhenius": "WLF/Arrhenius",
               "vft": "VFT", "polynomial": "Polynomial"}
 
@@ -755,7 +718,7 @@ def plot_shift_factors(result, ax=None, residual_ax=None):
     rng = law.valid_temperature_range_K or (float(t_K.min()), float(t_K.max()))
     grid_K = np.linspace(rng[0], rng[1], 241)
     curve = np.asarray(law.log10_aT(grid_K), dtype=float)
-    band = _law_band(law_fit, grid_K)
+    band = law_prediction_stderr(law_fit, grid_K)
     grid_C = kelvin_to_celsius(grid_K)
     name = _LAW_NAMES.get(law.model, law.model)
     if band is not None:

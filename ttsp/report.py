@@ -384,9 +384,19 @@ def _law(result) -> dict:
         "rms": _num(stats.get("rms_residual_log10_aT"), 3),
         "reduced_chi_square": _num(getattr(fit, "reduced_chi_square", None), 3),
         "reason": _sentence(str(getattr(fit, "reason", "") or "")),
+        "weighting": _LAW_WEIGHTING.get(str(getattr(fit, "weighting", "")), ""),
         "notes": [str(n) for n in getattr(fit, "notes", ()) or ()],
         "candidates": candidates if len(candidates) > 1 else [],
     }
+
+
+#: how the law weighed the shift table, in words for the report
+_LAW_WEIGHTING = {
+    "covariance": "The law was fitted by generalised least squares with the full covariance of "
+                  "the shift factors, which are correlated along the chain of overlaps.",
+    "stderr": "The law was fitted with each shift factor weighted by its standard error.",
+    "none": "The law was fitted without weights.",
+}
 
 
 def _prony(result) -> dict:

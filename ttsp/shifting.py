@@ -154,6 +154,11 @@ class ShiftResult:
         Robust noise scale of each function, decades.
     warnings : tuple of str
         Everything the caller should know (also emitted as Python warnings).
+    log10_aT_covariance : array
+        Covariance matrix of ``log10_aT`` (decades²) in the reference's gauge, from the same
+        curvature as the stderr. Shifts found together along a chain of overlaps are
+        correlated; a shift law fitted with this matrix (``fit_shift_law(covariance=...)``)
+        averages out their common drift. The low-information floor of the stderr is not in it.
     """
 
     reference_temperature_K: float
@@ -176,6 +181,7 @@ class ShiftResult:
     converged: bool = True
     iterations: int = 0
     warnings: tuple = ()
+    log10_aT_covariance: np.ndarray | None = None
 
     # ---- views -------------------------------------------------------------------------------
     @property
@@ -773,7 +779,7 @@ def shift_isotherms(campaign: Campaign, reference_temperature_K: float | None = 
         vertical_mode=vertical, method=method, objective=float(objective),
         rms_residual=rms_residual, domain=campaign.domain, residual_scale_log10=scale,
         expansion_coefficient_per_K=alpha, converged=bool(converged), iterations=iterations,
-        warnings=tuple(notes))
+        warnings=tuple(notes), log10_aT_covariance=_ro(cov_s))
 
 
 def _bridge_groups(comps, s, cov_s, bridged, fixed, temps, t_ref) -> str:
