@@ -30,6 +30,7 @@ from ttsp.laws import (
     ArrheniusLaw,
     ShiftLaw,
     ShiftLawFit,
+    WLFArrheniusLaw,
     WLFLaw,
     fit_shift_law,
     law_prediction_stderr,
@@ -1198,3 +1199,20 @@ def test_the_build_falls_back_to_stderr_weights_when_the_law_misses_far_beyond_t
     fit = _fit_law(shifts(bent), tr, "wlf", None)
     assert fit.weighting == "stderr"
     assert "missed them by far more than their noise" in fit.notes[-1]
+
+
+def test_starts_on_a_small_budget_still_reach_the_same_optimum(monkeypatch):
+    """Several starts each get a small solver budget; the best one continues with the full
+    budget when unconverged, so even a budget of one step per start ends at the optimum."""
+    rng = np.random.default_rng(12)
+    tr = 350.0
+    T = tr + 6.0 * np.arange(-7, 6)
+    truth = WLFArrheniusLaw(tr, {"C1": 10.0, "C2_K": 80.0, "glass_transition_K": 325.0,
+                                 "activation_energy_kJ_per_mol": 300.0})
+    y = truth.log10_aT(T) + rng.normal(0.0, 0.01, T.size)
+    full = fit_shift_law(T, y, reference_temperature_K=tr, model="wlf-arrhenius")
+    monkeypatch.setattr(laws, "_START_BUDGET", 1)
+    short = fit_shift_law(T, y, reference_temperature_K=tr, model="wlf-arrhenius")
+    assert short.chi_square == pytest.approx(full.chi_square, rel=1e-6)
+    for name in full.params:
+        assert short.params[name] == pytest.approx(full.params[name], rel=1e-4)
