@@ -188,7 +188,7 @@ def test_reference_between_isotherms(base):
     r = quiet(shift_isotherms, camp, t_ref)
     truth = true - wlf(t_ref)
     d = r.log10_aT - truth
-    # the gauge is interpolated (quadratic in T through 315, 320, 325 K); its error is part of
+    # the gauge is interpolated (cubic in T through 315, 320, 325, 330 K); its error is part of
     # the stderr, which is no longer zero for any isotherm
     assert np.max(np.abs(d)) < 0.03
     assert np.all(r.log10_aT_stderr > 0)
@@ -560,3 +560,32 @@ def test_law_over_undetermined_shifts_weighs_them_as_one_decade_at_most():
     assert result.law_fit.law.model == "arrhenius"
     # measured 254 kJ/mol; weighted by the 100-decade stderrs the fit picked a polynomial
     assert result.law_fit.params["activation_energy_kJ_per_mol"] == pytest.approx(240.0, rel=0.1)
+
+
+def test_gauge_interpolation_is_exact_for_cubics_and_close_on_a_steep_wlf_curve():
+    """Lagrange interpolation through four points reproduces any cubic exactly (a textbook
+    property); on a WLF curve near Tg sampled every 12 K (C1 = 17.44, C2 = 51.6 K about
+    Tg = 300 K, the universal constants of Williams, Landel & Ferry 1955; reference 25 K above
+    Tg, midway between two isotherms) the cubic gauge misses log10 a_T by 0.004 decade, where a
+    quadratic through the three nearest misses by 0.022."""
+    from ttsp.shifting import _gauge_weights
+
+    temps = 283.15 + 12.0 * np.arange(7)
+    t_ref = 0.5 * (temps[3] + temps[4])
+    w, inside = _gauge_weights(temps, t_ref)
+    assert inside and np.count_nonzero(w) == 4 and w.sum() == pytest.approx(1.0, abs=1e-12)
+    cubic = lambda t: 0.3 - 0.02 * (t - 300) + 1e-3 * (t - 300) ** 2 - 4e-5 * (t - 300) ** 3
+    assert w @ cubic(temps) == pytest.approx(cubic(t_ref), abs=1e-10)
+    tg, c1, c2 = 300.0, 17.44, 51.6
+    law = lambda t: -c1 * (t - tg) / (c2 + t - tg)
+    cubic_error = abs(w @ law(temps) - law(t_ref))
+    near3 = np.argsort(np.abs(temps - t_ref), kind="stable")[:3]
+    q = np.zeros(temps.size)
+    for a in near3:
+        q[a] = np.prod([(t_ref - temps[b]) / (temps[a] - temps[b]) for b in near3 if b != a])
+    quadratic_error = abs(q @ law(temps) - law(t_ref))
+    assert cubic_error < 0.006 and quadratic_error > 0.02
+    # outside the range: the straight line through the two nearest
+    w_out, inside = _gauge_weights(temps, temps[-1] + 5.0)
+    assert not inside and np.count_nonzero(w_out) == 2
+
