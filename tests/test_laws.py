@@ -1128,8 +1128,12 @@ def test_gls_is_more_accurate_than_per_shift_weights_on_chained_errors():
 
 def test_a_gauge_direction_of_zero_variance_is_left_out():
     """Shifts gauged by log10 a_T = 0 interpolated at a reference between two isotherms have a
-    covariance M C Mᵀ of rank n − 1 (M = I − 1 wᵀ); the fit drops that direction and recovers an
-    exact law."""
+    covariance M C Mᵀ of rank n − 1 (M = I − 1 wᵀ). The fit minimises rᵀC⁺r over the other
+    directions: the same minimum as an independent route (numpy's pseudo-inverse and a
+    quasi-Newton minimiser of scipy), with n − 1 − 2 degrees of freedom."""
+    from scipy.optimize import minimize
+
+    rng = np.random.default_rng(21)
     tr = 342.5
     T = 340.0 + 5.0 * np.arange(-5, 6)
     law = WLFLaw(tr, {"C1": 14.0, "C2_K": 70.0})
@@ -1138,9 +1142,49 @@ def test_a_gauge_direction_of_zero_variance_is_left_out():
     M = np.eye(T.size) - np.outer(np.ones(T.size), w)
     C = M @ (_chain_covariance(T.size, 5, 0.02) + 1e-4 * np.eye(T.size)) @ M.T
     assert np.linalg.matrix_rank(C) == T.size - 1
-    fit = fit_shift_law(T, law.log10_aT(T), reference_temperature_K=tr, model="wlf", covariance=C)
-    assert fit.params["C1"] == pytest.approx(14.0, rel=1e-6)
-    assert fit.params["C2_K"] == pytest.approx(70.0, rel=1e-6)
+    y = M @ (law.log10_aT(T) + rng.multivariate_normal(np.zeros(T.size), C))
+    fit = fit_shift_law(T, y, reference_temperature_K=tr, model="wlf", covariance=C)
+    assert fit.degrees_of_freedom == T.size - 1 - 2
+    P = np.linalg.pinv(C, hermitian=True)
+
+    def objective(p):
+        r = y + p[0] * (T - tr) / (p[1] + T - tr)
+        return r @ P @ r
+
+    ref = minimize(objective, [fit.params["C1"] * 1.05, fit.params["C2_K"] * 0.95],
+                   method="BFGS", options={"gtol": 1e-12})
+    assert fit.params["C1"] == pytest.approx(ref.x[0], rel=1e-4)
+    assert fit.params["C2_K"] == pytest.approx(ref.x[1], rel=1e-4)
+    assert fit.chi_square == pytest.approx(ref.fun, rel=1e-6)
+
+
+def test_a_very_precise_shift_is_not_mistaken_for_a_gauge_direction():
+    """The rank cut works on the correlation matrix: a shift 3e5 times more precise than the
+    others is kept (the fit passes through it, as the stderr fit does)."""
+    T = np.array([300.0, 310.0, 320.0, 330.0, 340.0])
+    y = np.array([2.1, 1.0, 0.0, -0.9, -1.75])
+    C = np.diag([1e-2, 1e-2, 0.0, 1e-2, 1e-13])
+    gls = fit_shift_law(T, y, reference_temperature_K=320.0, model="arrhenius", covariance=C)
+    plain = fit_shift_law(T, y, reference_temperature_K=320.0, model="arrhenius",
+                          stderr=np.sqrt(np.diag(C)))
+    assert gls.degrees_of_freedom == plain.degrees_of_freedom == 3
+    assert abs(gls.residuals[-1]) < 1e-9
+    assert gls.params["activation_energy_kJ_per_mol"] == pytest.approx(
+        plain.params["activation_energy_kJ_per_mol"], rel=1e-9)
+    np.testing.assert_allclose(gls.log10_aT_stderr, np.sqrt(np.diag(C)))
+
+
+def test_too_few_independent_residuals_are_too_few_points():
+    """Three shifts with a gauge interpolated between two of them leave two independent
+    residuals: not enough for WLF's two constants (else it would fit them exactly and claim a
+    perfect fit)."""
+    T = np.array([330.0, 340.0, 350.0])
+    w = np.array([0.0, 0.5, 0.5])
+    M = np.eye(3) - np.outer(np.ones(3), w)
+    C = M @ np.diag([4e-4, 4e-4, 4e-4]) @ M.T
+    y = M @ np.array([1.2, 0.1, -0.8])
+    with pytest.raises(FitError, match="of which 2 independent of the reference's gauge"):
+        fit_shift_law(T, y, reference_temperature_K=345.0, model="wlf", covariance=C)
 
 
 @pytest.mark.parametrize("cov, words", [
@@ -1148,6 +1192,8 @@ def test_a_gauge_direction_of_zero_variance_is_left_out():
     (np.diag([1.0, -1.0, 1.0, 1.0]), "non-negative diagonal"),
     (np.triu(np.ones((4, 4))), "symmetric"),
     (np.full((4, 4), np.nan), "finite"),
+    (np.array([[1.0, 2.0, 0, 0], [2.0, 1.0, 0, 0], [0, 0, 1.0, 0], [0, 0, 0, 1.0]]),
+     "positive semi-definite"),
     ("abc", "square array")])
 def test_bad_covariance_is_named(cov, words):
     T = np.array([300.0, 310.0, 320.0, 330.0])
@@ -1186,9 +1232,9 @@ def test_the_build_falls_back_to_stderr_weights_when_the_law_misses_far_beyond_t
     C[4, :] = C[:, 4] = 0.0
     rng = np.random.default_rng(9)
 
-    def shifts(y):
+    def shifts(y, cov=C):
         return SimpleNamespace(temperature_K=T, log10_aT=y, log10_aT_stderr=np.sqrt(np.diag(C)),
-                               log10_aT_covariance=C, flags=[()] * T.size)
+                               log10_aT_covariance=cov, flags=[()] * T.size)
 
     noisy = law.log10_aT(T) + rng.multivariate_normal(np.zeros(T.size), C)
     noisy[4] = 0.0
@@ -1196,9 +1242,35 @@ def test_the_build_falls_back_to_stderr_weights_when_the_law_misses_far_beyond_t
     assert fit.weighting == "covariance" and not fit.notes
     assert math.isclose(fit.degrees_of_freedom, T.size - 1 - 2)
     bent = law.log10_aT(T) + 0.08 * np.sin((T - tr) / 6.0)      # 0.08 decade off a WLF shape
-    fit = _fit_law(shifts(bent), tr, "wlf", None)
+    with pytest.warns(FitQualityWarning, match="missed them by far more than their noise"):
+        fit = _fit_law(shifts(bent), tr, "wlf", None)
     assert fit.weighting == "stderr"
     assert "missed them by far more than their noise" in fit.notes[-1]
+    # a reference outside the measured range: its extrapolated gauge moves every shift alike,
+    # which inflates the chi-square; only the covariance fit leaves that direction out
+    outside = tr + 40.0
+    fit = _fit_law(shifts(bent - law.log10_aT(outside)), outside, "wlf", None)
+    assert fit.weighting == "covariance" and not fit.notes
+    # no covariance (a result made before it existed): per-shift stderr, no complaint
+    assert _fit_law(shifts(noisy, cov=None), tr, "wlf", None).weighting == "stderr"
+
+
+def test_the_build_fits_with_stderr_weights_when_the_covariance_leaves_too_few_residuals():
+    """Three isotherms and a reference between two of them: the covariance leaves two
+    independent residuals, too few for WLF; the build fits the law to the three shifts with
+    their stderr and says why."""
+    from ttsp.workflow import _fit_law
+
+    T = np.array([330.0, 340.0, 350.0])
+    w = np.array([0.0, 0.5, 0.5])
+    M = np.eye(3) - np.outer(np.ones(3), w)
+    C = M @ np.diag([4e-4, 4e-4, 4e-4]) @ M.T
+    shifts = SimpleNamespace(temperature_K=T, log10_aT=M @ np.array([1.2, 0.1, -0.8]),
+                             log10_aT_stderr=np.sqrt(np.diag(C)), log10_aT_covariance=C,
+                             flags=[()] * 3)
+    with pytest.warns(FitQualityWarning, match="could not be fitted with the covariance"):
+        fit = _fit_law(shifts, 345.0, "wlf", None)
+    assert fit.weighting == "stderr" and "independent of the reference's gauge" in fit.notes[-1]
 
 
 def test_starts_on_a_small_budget_still_reach_the_same_optimum(monkeypatch):

@@ -46,6 +46,20 @@ def test_kelvin_column_gets_its_celsius_twin_unless_present():
     assert frame_to_csv_text(frame).splitlines()[0] == "temperature_C,temperature_K"
 
 
+@pytest.mark.parametrize("frame", [
+    pd.DataFrame({"a": [1.0, np.nan]}),                                 # one column, an empty field
+    pd.DataFrame({"a": ["x", ""]}),
+    pd.DataFrame([[1.0, 2.0]], columns=["a", "a"]),                     # a repeated name
+    pd.DataFrame({"c": pd.Categorical([1 / 3, 0.5]), "v": [1.0, 2.0]}),  # an extension dtype
+    pd.DataFrame({"n": pd.array([1, None], dtype="Int64"), "v": [1.0, 2.0]}),
+    pd.DataFrame({"s": ["carriage\rreturn", "x"], "v": [1.0, 2.0]}),
+    pd.DataFrame({"a": np.array([], dtype=float), "b": np.array([], dtype=float)}),
+    pd.DataFrame({"f32": np.array([1 / 3, 2e-8], dtype=np.float32), "v": [1.0, 2.0]}),
+])
+def test_edge_cases_match_pandas(frame):
+    assert frame_to_csv_text(frame) == pandas_text(frame)
+
+
 def test_a_column_kind_it_does_not_handle_goes_to_pandas():
     frame = pd.DataFrame({"when": pd.to_datetime(["2026-12-02", "2026-12-03"]),
                           "v": [1.0, 2.0]})

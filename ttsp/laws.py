@@ -53,6 +53,7 @@ __all__ = [
     "ShiftLawFit",
     "make_shift_law",
     "fit_shift_law",
+    "law_prediction_stderr",
     "wlf_at_reference",
     "wlf_to_vft",
     "vft_to_wlf",
@@ -887,8 +888,8 @@ class ShiftLawFit:
         ``"covariance"`` (generalised least squares with the shifts' covariance), ``"stderr"``
         (each residual over its stderr) or ``"none"``.
     degrees_of_freedom : int
-        Weighted residuals minus free parameters (at least 1): the divisor of the reduced
-        chi-square. A covariance with a gauge direction of zero variance counts one residual
+        Weighted residuals minus free parameters (at least 1, or the law is not fitted): the
+        divisor of the reduced chi-square. A covariance with a gauge direction of zero variance counts one residual
         fewer than ``n_points``.
     notes : tuple of str
         Doubts about the fit (a parameter at a bound, uncertainties not estimable); each is
@@ -948,6 +949,7 @@ class ShiftLawFit:
             "n_points": int(self.n_points), "n_free": int(self.n_free),
             "chi_square": _plain(self.chi_square),
             "reduced_chi_square": _plain(self.reduced_chi_square),
+            "degrees_of_freedom": int(self.degrees_of_freedom),
             "aic": _plain(self.aic), "bic": _plain(self.bic),
             "rms_residual_log10_aT": _plain(np.sqrt(np.mean(self.residuals ** 2))),
         }
@@ -1021,18 +1023,27 @@ class _Weighting:
     With a covariance C of the shifts (correlated, as shifts found along a chain of
     overlapping isotherms are) the fit minimises rᵀC⁻¹r, generalised least squares (Aitken,
     Proc. R. Soc. Edinburgh 55, 42, 1935): r ↦ W r with WᵀW = C⁺ from the eigen-decomposition
-    of C. Directions of zero variance (a gauge condition such as log10 a_T = 0 interpolated at
-    the reference) carry no information about the law and are dropped, so W has
-    ``size`` ≤ n rows.
+    of the correlation matrix D⁻¹CD⁻¹ (D the standard deviations, so that the cut does not
+    depend on how precise each shift is). Directions of zero variance (a gauge condition such as
+    log10 a_T = 0 interpolated at the reference) carry no information about the law and are
+    dropped, so W has ``size`` ≤ n rows.
     """
 
     def __init__(self, w: np.ndarray | None = None, covariance: np.ndarray | None = None):
         self.w = w
         self.W = None
         if covariance is not None:
-            vals, vecs = np.linalg.eigh(0.5 * (covariance + covariance.T))
-            keep = vals > _COVARIANCE_RANK_TOLERANCE * max(float(vals.max()), 0.0)
-            self.W = (vecs[:, keep] / np.sqrt(vals[keep])).T
+            # on the correlation matrix, so that a very precise shift is not mistaken for a
+            # direction of zero variance: C = D R D with D the standard deviations
+            d = np.sqrt(np.diag(covariance))
+            R = covariance / np.outer(d, d)
+            vals, vecs = np.linalg.eigh(0.5 * (R + R.T))
+            tol = _COVARIANCE_RANK_TOLERANCE * R.shape[0]
+            if vals.min() < -tol:
+                raise bad_value("covariance", "positive semi-definite (a covariance matrix)",
+                                f"an eigenvalue {vals.min():.3g} of its correlation matrix")
+            keep = vals > tol
+            self.W = (vecs[:, keep] / np.sqrt(vals[keep])).T / d
 
     @property
     def size(self) -> int:
@@ -1055,7 +1066,7 @@ class _Weighting:
         return np.moveaxis(np.tensordot(self.W, np.moveaxis(a, axis, 0), axes=1), 0, axis)
 
 
-#: eigenvalues of a shift covariance below this fraction of the largest count as zero
+#: eigenvalues of a shift correlation matrix below this (times its size) count as zero
 _COVARIANCE_RANK_TOLERANCE = 1e-10
 
 
@@ -1382,12 +1393,15 @@ def _fit_one(cls: type, T, y, weigh, tr, fixed, user_bounds, order) -> _Outcome:
 
     import lmfit  # lazily: lmfit loads matplotlib and pandas at import
 
+    evaluations = [0]    # over every start and the continuation (reported as nfev)
+
     def solve(params, budget):
         try:
             res = lmfit.minimize(residual, params, method="leastsq", xtol=1e-12, ftol=1e-12,
                                  max_nfev=budget * (len(free) + 1))
         except Exception as exc:  # lmfit/MINPACK failures become FitError
             raise FitError(f"{cls.model}: the least-squares solver failed: {exc}") from exc
+        evaluations[0] += int(res.nfev)
         chi2 = float(np.sum(np.asarray(res.residual) ** 2))
         values = [res.params[n].value for n in free]
         if not (np.isfinite(chi2) and np.all(np.isfinite(values))):
@@ -1446,7 +1460,7 @@ def _fit_one(cls: type, T, y, weigh, tr, fixed, user_bounds, order) -> _Outcome:
     return _Outcome(cls, values, stderr, corr, cov, free, chi2,
                     True if res is None else bool(res.success),
                     "all parameters fixed; nothing was fitted" if res is None else str(res.message),
-                    0 if res is None else int(res.nfev), tuple(notes))
+                    evaluations[0], tuple(notes))
 
 
 def _information(chi2: float, n: int, k: int, floor: float) -> tuple[float, float]:
@@ -1704,7 +1718,7 @@ def fit_shift_law(temperature_K: Any, log10_aT: Any, *, reference_temperature_K:
             w = 1.0 / np.where(s > 0, s, positive.min())
     C = None if covariance is None else _checked_covariance(covariance, T.size)
     if C is not None and stderr is None:
-        s = np.sqrt(np.diag(C))
+        s = np.sqrt(np.clip(np.diag(np.asarray(covariance, dtype=float)), 0.0, None))
 
     informative = ~((np.abs(T - tr) <= _RANGE_TOLERANCE_K) & (y == 0))
     Tf, yf = T[informative], y[informative]
@@ -1737,10 +1751,12 @@ def fit_shift_law(temperature_K: Any, log10_aT: Any, *, reference_temperature_K:
         row = {"model": m, "n_free": k_free, "status": "fitted", "detail": "",
                "chi_square": None, "aic": None, "bic": None, "delta_bic": None}
         need_sides = cls is WLFArrheniusLaw and "glass_transition_K" not in fx
-        if n <= k_free or (need_sides and n < 4):
+        if weigh.size <= k_free or (need_sides and n < 4):
             msg = (f"the {m} law has {k_free} free parameters and needs more points than that"
                    + (" (and two on each side of Tg)" if need_sides else "")
-                   + f"; the table has {n}")
+                   + f"; the table has {n}"
+                   + (f", of which {weigh.size} independent of the reference's gauge"
+                      if weigh.size < n else ""))
             if model != "auto":
                 raise FitError(msg)
             row.update(status="skipped", detail=msg)
@@ -1809,8 +1825,8 @@ def fit_shift_law(temperature_K: Any, log10_aT: Any, *, reference_temperature_K:
         log10_aT_data=frozen(y),
         log10_aT_stderr=frozen(s),
         chi_square=float(out.chi_square),
-        reduced_chi_square=float(out.chi_square / max(1, weigh.size - len(out.free_names))),
-        degrees_of_freedom=max(1, weigh.size - len(out.free_names)),
+        reduced_chi_square=float(out.chi_square / (weigh.size - len(out.free_names))),
+        degrees_of_freedom=weigh.size - len(out.free_names),
         aic=float(aic),
         bic=float(bic),
         n_points=n,

@@ -159,8 +159,9 @@ class ShiftResult:
     warnings : tuple of str
         Everything the caller should know (also emitted as Python warnings).
     log10_aT_covariance : array
-        Covariance matrix of ``log10_aT`` (decades²) in the reference's gauge, from the same
-        curvature as the stderr. Shifts found together along a chain of overlaps are
+        Covariance matrix of ``log10_aT`` (decades²) from the same curvature as the stderr, in
+        the reference's gauge; with ``fixed_log10_aT`` the fixed shifts are the gauge and their
+        rows and columns are zero. Shifts found together along a chain of overlaps are
         correlated; a shift law fitted with this matrix (``fit_shift_law(covariance=...)``)
         averages out their common drift. The low-information floor of the stderr is not in it.
     """

@@ -14,8 +14,8 @@ import numpy as np
 from . import __version__
 from ._arrays import evenly_spaced_indices
 from ._validation import bad_value, check_choice
-from .data import Campaign
-from .exceptions import DataError, FitError, TtspWarning
+from .data import REFERENCE_SNAP_K, Campaign
+from .exceptions import DataError, FitError, FitQualityWarning, TtspWarning
 from .units import celsius_to_kelvin, kelvin_to_celsius
 
 __all__ = ["BuildOptions", "BuildResult", "build", "LAW_CHOICES", "VERTICAL_CHOICES",
@@ -457,15 +457,18 @@ def _fit_law(shifts, t_ref_K: float, model: str, fixed):
 
     The covariance describes the noise of the shifts, correlated along the chain of overlaps;
     fitting with it lets the law average out a common drift (on the benchmark campaigns the
-    worst law error fell from 0.12 to 0.08 decade). It is used only where it describes the
-    misfit: all shifts used are well determined, and the law fits them within their noise
-    (chi-square probability ≥ LACK_OF_FIT_PROBABILITY). When a law misses the shifts by far
-    more than that (real materials that are not quite thermorheologically simple: reduced
-    chi-square in the hundreds), the misfit is the material's, not the chain's noise, and the
-    law is fitted to each shift weighed by its stderr instead, which stays closer to the shifts
-    themselves; a note says so. A shift the data do not determine reports a stderr up to 100
-    decades; when such rows must join the law (fewer than three others), it counts with its
-    stderr capped at USED_STDERR_CAP.
+    worst law error fell from 0.12 to 0.08 decade). It is used where it describes the misfit:
+    all shifts used are well determined and the law fits them within their noise (chi-square
+    probability ≥ LACK_OF_FIT_PROBABILITY). When the law misses them by far more than that
+    (real binders that are not quite thermorheologically simple give reduced chi-squares in the
+    hundreds), the misfit is the material's, not the chain's noise, and the law is fitted to
+    each shift weighed by its stderr instead, which stays closer to the shifts themselves; a
+    note and a FitQualityWarning say so. Not when the reference lies outside the measured range:
+    its gauge is extrapolated, which moves every shift by the same unknown amount; that inflates
+    the chi-square, and only the covariance fit (which leaves the gauge direction out) is immune
+    to it. A shift the data do not determine reports a stderr up to 100 decades; when such rows
+    must join the law (fewer than three others), it counts with its stderr capped at
+    USED_STDERR_CAP.
     """
     from scipy.special import chdtrc
 
@@ -476,18 +479,27 @@ def _fit_law(shifts, t_ref_K: float, model: str, fixed):
     args = (shifts.temperature_K[use], shifts.log10_aT[use])
     kwargs = {"reference_temperature_K": t_ref_K, "model": model, "fixed": fixed,
               "stderr": np.minimum(shifts.log10_aT_stderr[use], USED_STDERR_CAP)}
-    if determined:
-        fit = fit_shift_law(*args, covariance=shifts.log10_aT_covariance[np.ix_(use, use)],
-                            **kwargs)
+    cov = shifts.log10_aT_covariance
+    if not determined or cov is None:
+        return fit_shift_law(*args, **kwargs)
+    temps = shifts.temperature_K
+    extrapolated = not temps.min() - REFERENCE_SNAP_K <= t_ref_K <= temps.max() + REFERENCE_SNAP_K
+    try:
+        fit = fit_shift_law(*args, covariance=cov[np.ix_(use, use)], **kwargs)
+    except FitError as exc:
+        note = (f"the shift law could not be fitted with the covariance of the shift factors "
+                f"({exc}); it was fitted with each shift weighted by its stderr")
+    else:
         p = float(chdtrc(fit.degrees_of_freedom, fit.chi_square))
-        if p >= LACK_OF_FIT_PROBABILITY:
+        if p >= LACK_OF_FIT_PROBABILITY or extrapolated:
             return fit
-        note = (f"with the covariance of the shift factors the {fit.law.model} law missed them "
-                f"by far more than their noise (reduced chi-square {fit.reduced_chi_square:.3g}, "
-                f"probability {p:.1e}); it was fitted with each shift weighted by its stderr "
-                f"instead")
+        note = (f"with the covariance of the shift factors the best law ({fit.law.model}) "
+                f"missed them by far more than their noise (reduced chi-square "
+                f"{fit.reduced_chi_square:.3g}, probability {p:.1e}); the law was fitted with "
+                f"each shift weighted by its stderr instead")
+    warnings.warn(note, FitQualityWarning, stacklevel=3)
     fit = fit_shift_law(*args, **kwargs)
-    return replace(fit, notes=fit.notes + (note,)) if determined else fit
+    return replace(fit, notes=fit.notes + (note,))
 
 
 def _law_rows(shifts) -> tuple[np.ndarray, bool]:

@@ -10,6 +10,7 @@ from __future__ import annotations
 import json
 from pathlib import Path
 
+import numpy as np
 
 from .._arrays import to_plain
 from .atomic import write_text_atomic
@@ -31,18 +32,22 @@ def frame_to_csv_text(frame) -> str:
 
     The bytes are those of ``DataFrame.to_csv(index=False, float_format="%.10g")`` (checked in
     the tests), written column by column instead of value by value."""
-    columns = {}
-    for name in frame.columns:
-        if name.endswith("temperature_K") and name[:-1] + "C" not in frame.columns:
-            columns[name[:-1] + "C"] = frame[name].to_numpy() - 273.15
-        columns[name] = frame[name].to_numpy()
-    cells = [_csv_cells(values) for values in columns.values()]
-    if any(c is None for c in cells):   # a kind of column not handled here: pandas writes it
-        import pandas as pd
-
-        return pd.DataFrame(columns).to_csv(index=False, float_format="%.10g",
-                                            lineterminator="\n")
-    lines = [",".join(_csv_quote(str(n)) for n in columns)]
+    frame = frame.copy()
+    for col in [c for c in frame.columns if str(c).endswith("temperature_K")]:
+        twin = col[:-1] + "C"
+        if twin not in frame.columns:
+            frame.insert(list(frame.columns).index(col), twin, frame[col] - 273.15)
+    names = list(frame.columns)
+    cells = None
+    # plain numpy columns under distinct names, more than one: written here; anything else
+    # (extension dtypes such as categoricals, repeated names, the single-column quoting of an
+    # empty field) by pandas itself
+    if len(names) > 1 and len(set(names)) == len(names) and all(
+            isinstance(t, np.dtype) for t in frame.dtypes):
+        cells = [_csv_cells(frame[name].to_numpy()) for name in names]
+    if cells is None or any(c is None for c in cells):
+        return frame.to_csv(index=False, float_format="%.10g", lineterminator="\n")
+    lines = [",".join(_csv_quote(str(n)) for n in names)]
     lines += map(",".join, zip(*cells))
     return "\n".join(lines) + "\n"
 
@@ -60,8 +65,8 @@ def _csv_cells(values):
 
 
 def _csv_quote(text: str) -> str:
-    """A field quoted as the csv module's QUOTE_MINIMAL does (RFC 4180)."""
-    if any(ch in text for ch in ',"\n\r'):
+    """A field quoted as pandas' writer does (QUOTE_MINIMAL with the line terminator "\\n")."""
+    if any(ch in text for ch in ',"\n'):
         return '"' + text.replace('"', '""') + '"'
     return text
 
