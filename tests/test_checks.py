@@ -634,6 +634,26 @@ def test_noise_estimate_recovers_known_noise():
             assert typical[q] * math.log(10) == pytest.approx(sigma, rel=0.25)
 
 
+def test_noise_estimates_of_ragged_sequences_match_one_at_a_time():
+    """The third-difference estimator applied to sequences of different lengths, with NaN and
+    infinities dropped, equals the same formula applied to each sequence alone."""
+    rng = np.random.default_rng(33)
+    seqs = [rng.normal(size=n) for n in (3, 4, 5, 5, 9, 12, 12, 40)]
+    seqs[4][2] = np.nan
+    seqs[6][[0, 7]] = np.inf
+
+    def one(y):
+        y = y[np.isfinite(y)]
+        if y.size < 5:
+            return math.nan
+        d3 = np.diff(y, 3)
+        return np.median(np.abs(d3 - np.median(d3))) / (0.6744897501960817 * math.sqrt(20.0))
+
+    got = checks._d3_sigmas(seqs)
+    np.testing.assert_allclose(got, [one(y) for y in seqs], rtol=1e-12, equal_nan=True)
+    assert np.isnan(got[:2]).all() and np.isfinite(got[2:]).all()
+
+
 def test_noisy_isotherm_is_named():
     camp = frequency_campaign(SIMPLE_TEMPS_C, [(TAU_S, MOD_PA, simple_law)], E_RUBBERY_PA,
                               noise=0.01, seed=8, points=16)

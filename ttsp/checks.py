@@ -281,23 +281,28 @@ def _fmt_C(temperature_K: float) -> str:
 # ----------------------------------------------------------------------------------------------
 # noise
 # ----------------------------------------------------------------------------------------------
-def _d3_sigma(y: np.ndarray) -> float:
-    """Noise standard deviation of a sequence from its third differences (NaN below 5 values).
+def _d3_sigmas(sequences) -> np.ndarray:
+    """Noise standard deviation of each sequence from its third differences (NaN below 5
+    finite values).
 
     For y = smooth + ε with independent ε of variance σ², Δ³y = Δ³smooth + Δ³ε and
     Var(Δ³ε) = 20σ². Δ³smooth varies slowly along a densely sampled curve, so the median
     absolute deviation of Δ³y about its median, divided by 0.6745·√20, estimates σ robustly
     (von Neumann et al., Ann. Math. Stat. 12, 153, 1941, introduced variance estimates from
     successive differences; the median absolute deviation is Hampel's, J. Am. Stat. Assoc. 69,
-    383, 1974). Points are taken in order, as if equally spaced in log x.
+    383, 1974). Points are taken in order, as if equally spaced in log x; non-finite values are
+    dropped. Sequences of one length are computed together as the rows of one array.
     """
-    y = np.asarray(y, dtype=float)
-    y = y[np.isfinite(y)]
-    if y.size < 5:
-        return math.nan
-    d3 = np.diff(y, 3)
-    mad = float(np.median(np.abs(d3 - np.median(d3))))
-    return mad / (_MAD_NORMAL * math.sqrt(_D3_VARIANCE_FACTOR))
+    cleaned = [np.asarray(y, dtype=float) for y in sequences]
+    cleaned = [y[np.isfinite(y)] for y in cleaned]
+    out = np.full(len(cleaned), math.nan)
+    lengths = np.array([y.size for y in cleaned])
+    for size in np.unique(lengths[lengths >= 5]):
+        rows = np.flatnonzero(lengths == size)
+        d3 = np.diff(np.stack([cleaned[k] for k in rows]), 3, axis=1)
+        mad = np.median(np.abs(d3 - np.median(d3, axis=1, keepdims=True)), axis=1)
+        out[rows] = mad / (_MAD_NORMAL * math.sqrt(_D3_VARIANCE_FACTOR))
+    return out
 
 
 def _log_or_linear(quantity: str, values: np.ndarray) -> np.ndarray:
@@ -336,7 +341,7 @@ def _estimate_noise(campaign: Campaign) -> dict:
 
     The noise of a positive quantity is the standard deviation of its log10 values (decades;
     multiply by ln 10 for the relative noise), that of the phase angle δ in radians. See
-    :func:`_d3_sigma` for the estimator.
+    :func:`_d3_sigmas` for the estimator.
 
     Parameters
     ----------
@@ -351,14 +356,14 @@ def _estimate_noise(campaign: Campaign) -> dict:
         median over isotherms floored at :data:`NOISE_FLOOR_LOG10` or :data:`NOISE_FLOOR_RAD`.
     """
     campaign = _as_campaign(campaign).with_derived()
-    per, pooled = [], {}
-    for iso in campaign.isotherms:
-        row = {"temperature_K": iso.temperature_K}
-        for q, v in iso.values.items():
-            s = _d3_sigma(_log_or_linear(q, v))
-            row[q] = s
-            pooled.setdefault(q, []).append(s)
-        per.append(row)
+    cells = [(k, q, _log_or_linear(q, v)) for k, iso in enumerate(campaign.isotherms)
+             for q, v in iso.values.items()]
+    sigmas = _d3_sigmas([y for _, _, y in cells])
+    per = [{"temperature_K": iso.temperature_K} for iso in campaign.isotherms]
+    pooled = {}
+    for (k, q, _), sd in zip(cells, sigmas):
+        per[k][q] = float(sd)
+        pooled.setdefault(q, []).append(float(sd))
     typical = {}
     for q, vals in pooled.items():
         vals = np.asarray(vals, dtype=float)
