@@ -1240,12 +1240,16 @@ def test_the_build_falls_back_to_stderr_weights_when_the_law_misses_far_beyond_t
     noisy[4] = 0.0
     fit = _fit_law(shifts(noisy), tr, "wlf", None)
     assert fit.weighting == "covariance" and not fit.notes
-    # a covariance three times too optimistic (reduced chi-square about 3) changes nothing:
-    # generalised least squares does not depend on the covariance's scale
-    tight = _fit_law(shifts(noisy, cov=C / 3.0), tr, "wlf", None)
+    # a covariance eight times too optimistic (reduced chi-square 5.6, a chi-square probability
+    # of 7e-6) changes nothing: generalised least squares does not depend on the covariance's
+    # scale; twenty times (reduced chi-square 14) is beyond the threshold of 10
+    tight = _fit_law(shifts(noisy, cov=C / 8.0), tr, "wlf", None)
     assert tight.weighting == "covariance"
     assert tight.params["C1"] == pytest.approx(fit.params["C1"], rel=1e-6)
-    assert tight.reduced_chi_square == pytest.approx(3.0 * fit.reduced_chi_square, rel=1e-6)
+    assert tight.reduced_chi_square == pytest.approx(8.0 * fit.reduced_chi_square, rel=1e-6)
+    assert 5.0 < tight.reduced_chi_square < 10.0
+    with pytest.warns(FitQualityWarning, match="above 10"):
+        assert _fit_law(shifts(noisy, cov=C / 20.0), tr, "wlf", None).weighting == "stderr"
     assert math.isclose(fit.degrees_of_freedom, T.size - 1 - 2)
     bent = law.log10_aT(T) + 0.08 * np.sin((T - tr) / 6.0)      # 0.08 decade off a WLF shape
     with pytest.warns(FitQualityWarning, match="missed them by far more than their noise"):

@@ -528,3 +528,41 @@ def test_minor_ticks_merged_for_saving_look_the_same():
     # of a few dozen pixels)
     differ = np.any(pixels(plain) != pixels(merged), axis=-1)
     assert differ.mean() < 0.002
+
+
+def test_merged_minor_ticks_on_shared_hidden_and_labelled_axes():
+    """Axes sharing an x axis share its locator: both panels keep their minor marks. A hidden
+    axis gets none, and an axis whose minor ticks carry labels keeps its own ticks."""
+    from matplotlib.figure import Figure
+    from matplotlib.ticker import NullLocator
+
+    def marks(ax):
+        return [a for a in ax.get_children() if getattr(a, "get_linestyle", None)
+                and a.get_linestyle() == "None" and a.get_label() == "_nolegend_"]
+
+    fig = Figure(figsize=(3.0, 4.0))
+    top = plotting._style(fig.add_subplot(2, 1, 1), logx=True)
+    bottom = plotting._style(fig.add_subplot(2, 1, 2, sharex=top), logx=True)
+    for ax in (top, bottom):
+        ax.plot([1.0, 1e4], [0.0, 1.0])
+    expected = np.asarray(bottom.xaxis.get_minorticklocs())
+    lo, hi = sorted(bottom.xaxis.get_view_interval())
+    expected = np.sort(expected[(expected >= lo) & (expected <= hi)])
+    hidden = plotting._style(fig.add_axes((0.8, 0.8, 0.1, 0.1)), logy=True)
+    hidden.plot([0, 1], [1.0, 1e3])
+    hidden.set_axis_off()
+    plotting._merge_minor_ticks(fig)
+    for ax in (top, bottom):
+        assert any(np.array_equal(np.sort(m.get_xdata()), expected) for m in marks(ax))
+    assert isinstance(bottom.xaxis.get_minor_locator(), NullLocator)
+    assert not marks(hidden)
+
+    labelled = Figure(figsize=(3.0, 2.5))
+    ax = plotting._style(labelled.add_subplot(), logy=True)
+    ax.plot([0, 1], [2.0, 6.0])
+    plotting._tidy_log_axis(ax.yaxis)                 # under a decade: plain labels
+    from matplotlib.ticker import ScalarFormatter
+
+    ax.yaxis.set_minor_formatter(ScalarFormatter())
+    plotting._merge_minor_ticks(labelled)
+    assert not marks(ax) and not isinstance(ax.yaxis.get_minor_locator(), NullLocator)

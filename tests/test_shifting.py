@@ -588,4 +588,11 @@ def test_gauge_interpolation_is_exact_for_cubics_and_close_on_a_steep_wlf_curve(
     # outside the range: the straight line through the two nearest
     w_out, inside = _gauge_weights(temps, temps[-1] + 5.0)
     assert not inside and np.count_nonzero(w_out) == 2
+    # a cluster on one side: the four nearest by distance alone (306, 312, 313, 314 K) would
+    # extrapolate the cubic with weights up to 6.4; two on each side keep them small
+    clustered = np.array([300.0, 306.0, 312.0, 313.0, 314.0, 315.0, 321.0, 327.0])
+    w, _ = _gauge_weights(clustered, 309.0)
+    used = clustered[w != 0]
+    assert list(used) == [300.0, 306.0, 312.0, 313.0]
+    assert np.abs(w).max() < 2.0 and w @ cubic(clustered) == pytest.approx(cubic(309.0), abs=1e-9)
 

@@ -30,15 +30,16 @@ Conventions
   ``"fit"`` mode fits a free log10 b_T per isotherm with the same convention.
 * Reference temperature anywhere. When it is not a measured temperature, the fit is first done
   with the isotherm nearest to it held at zero, and then the gauge is fixed by subtracting
-  log10 a_T interpolated at T_ref: the cubic in T through the four measured temperatures
-  nearest T_ref when T_ref lies inside the measured range (Lagrange form; fewer when there are
-  fewer isotherms), the straight line through the two nearest when it lies outside (with an
+  log10 a_T interpolated at T_ref: the cubic in T through four consecutive measured
+  temperatures around T_ref, two on each side where possible, when T_ref lies inside the
+  measured range (Lagrange form; all isotherms when there are fewer than four), the straight
+  line through the two nearest when it lies outside (with an
   :class:`~ttsp.exceptions.ExtrapolationWarning`). log10 a_T curves strongly near Tg: with
   isotherms 12 K apart a quadratic missed the real binders' shift at an unmeasured reference by
   0.03–0.07 decade, the cubic by 0.01–0.03, and for a reference midway between evenly spaced
   isotherms its weights (−1/16, 9/16, 9/16, −1/16) also pass on less noise.
-  The same linear map is applied to the covariance, so the standard errors include the
-  uncertainty of that interpolation. A reference within 0.05 K of an isotherm is that isotherm.
+  The same linear map is applied to the covariance, so the standard errors include the noise
+  that the interpolation passes on (not its approximation error, which the cubic keeps small). A reference within 0.05 K of an isotherm is that isotherm.
 * Standard errors: from the Gauss–Newton curvature of the joint penalised objective (the
   shift block of its inverse, i.e. with the master curve's own uncertainty included), times
   Huber's variance factor. They are 0 for the measured reference isotherm (exact by
@@ -368,14 +369,22 @@ def _match_fixed(fixed, temps_K) -> dict:
 
 
 def _gauge_weights(temps_K, t_ref):
-    """Weights w with w·f ≈ f(T_ref): Lagrange cubic through the four nearest temperatures
-    inside the range (all of them when fewer), linear through the two nearest outside."""
+    """Weights w with w·f ≈ f(T_ref): inside the range, the Lagrange cubic through the four
+    consecutive temperatures around T_ref (two on each side where there are two, else the
+    four nearest consecutive ones; all of them when fewer); outside, the straight line
+    through the two nearest. Four nearest by distance alone could put three on one side of a
+    cluster, where the cubic extrapolates with weights of 5 and more."""
     n = temps_K.size
     w = np.zeros(n)
-    order = np.argsort(np.abs(temps_K - t_ref), kind="stable")
     inside = temps_K.min() <= t_ref <= temps_K.max()
-    m = min(4, n) if inside else 2
-    idx = order[:m]
+    if inside:
+        order = np.argsort(temps_K, kind="stable")
+        k = int(np.clip(np.searchsorted(temps_K[order], t_ref) - 1, 0, n - 2))  # lower neighbour
+        lo, hi = max(0, k - 1), min(n, k + 3)
+        lo, hi = max(0, min(lo, hi - 4)), min(n, max(hi, lo + 4))
+        idx = order[lo:hi]
+    else:
+        idx = np.argsort(np.abs(temps_K - t_ref), kind="stable")[:2]
     for a in idx:
         others = [b for b in idx if b != a]
         w[a] = np.prod([(t_ref - temps_K[b]) / (temps_K[a] - temps_K[b]) for b in others])
