@@ -800,6 +800,9 @@ def test_too_few_points_raise_fit_error():
     with pytest.raises(FitError, match=r"the wlf law has 2 free parameters and needs more points "
                                        r"than that; the table has 2"):
         fit_shift_law(T, universal().log10_aT(T), reference_temperature_K=TG, model="wlf")
+    with pytest.raises(FitError, match=r"the table has 2 besides the reference's own shift"):
+        fit_shift_law(np.array([380.0, TG, 400.0]), universal().log10_aT([380.0, TG, 400.0]),
+                      reference_temperature_K=TG, model="wlf")
     T4 = np.array([380.0, 390.0, 400.0, 410.0])
     with pytest.raises(FitError, match=r"wlf-arrhenius law has 3 free parameters .* \(and two "
                                        r"on each side of Tg\); the table has 3"):

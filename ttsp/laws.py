@@ -1756,7 +1756,9 @@ def fit_shift_law(temperature_K: Any, log10_aT: Any, *, reference_temperature_K:
                    + (" (and two on each side of Tg)" if need_sides else "")
                    + f"; the table has {n}"
                    + (f", of which {weigh.size} independent of the reference's gauge"
-                      if weigh.size < n else ""))
+                      if weigh.size < n else "")
+                   + (" besides the reference's own shift (0 by definition, it carries no "
+                      "information)" if n < T.size else ""))
             if model != "auto":
                 raise FitError(msg)
             row.update(status="skipped", detail=msg)
