@@ -1797,13 +1797,13 @@ def fit_shift_law(temperature_K: Any, log10_aT: Any, *, reference_temperature_K:
     if model != "auto":
         reason = f"the {chosen} law was requested"
     elif len(ranking) == 1:
-        reason = f"{chosen} was the only law that could be fitted to {n} points"
+        reason = f"the {chosen} law was the only one that could be fitted to {n} points"
     else:
         runner = ranking[1]
         delta = outcomes[runner][2] - bic
-        reason = (f"{chosen} has the lowest BIC ({bic:.2f}), {delta:.2f} below the runner-up "
-                  f"{runner} ({outcomes[runner][2]:.2f}): {_evidence_word(delta)} on the scale "
-                  f"of Kass & Raftery (1995)")
+        reason = (f"the {chosen} law has the lowest BIC ({bic:.2f}), {delta:.2f} below the "
+                  f"runner-up {runner} ({outcomes[runner][2]:.2f}): {_evidence_word(delta)} on "
+                  f"the scale of Kass & Raftery (1995)")
 
     law = out.cls(tr, out.params, (float(T.min()), float(T.max())))
     fitted = law._evaluate(law.params, T, tr)
