@@ -889,8 +889,8 @@ class ShiftLawFit:
         (each residual over its stderr) or ``"none"``.
     degrees_of_freedom : int
         Weighted residuals minus free parameters (at least 1, or the law is not fitted): the
-        divisor of the reduced chi-square. A covariance with a gauge direction of zero variance counts one residual
-        fewer than ``n_points``.
+        divisor of the reduced chi-square. A covariance with a gauge direction of zero variance
+        counts one residual fewer than ``n_points``.
     notes : tuple of str
         Doubts about the fit (a parameter at a bound, uncertainties not estimable); each is
         also issued as a :class:`~ttsp.exceptions.FitQualityWarning`.
@@ -1181,11 +1181,22 @@ def _linear_columns(cls: type, T, tr, order) -> dict:
     return {_poly_name(k): (T - tr) ** k for k in range(1, order + 1)}
 
 
+def _correlations(cov: np.ndarray, free) -> dict:
+    """Correlation coefficient of each pair of free parameters, NaN where a variance is 0."""
+    sd = np.sqrt(np.clip(np.diag(cov), 0.0, None))
+    corr = {}
+    for i, a in enumerate(free):
+        for j in range(i + 1, len(free)):
+            denom = sd[i] * sd[j]
+            corr[(a, free[j])] = float(cov[i, j] / denom) if denom > 0 else float("nan")
+    return corr
+
+
 def _linear_outcome(cls: type, T, y, weigh, tr, fixed, names, free, order) -> _Outcome:
     """Weighted linear least squares, solved directly, for a law linear in its constants.
 
     The covariance is the one lmfit reports for the same problem: (AᵀA)⁻¹ of the weighted
-    design matrix A scaled by the reduced chi-square χ²/max(1, n − k).
+    design matrix A scaled by the reduced chi-square χ²/max(1, m − k), m weighted residuals.
     """
     cols = _linear_columns(cls, T, tr, order)
     coefs = _weighted_lstsq(cols, y, weigh, fixed)
@@ -1205,10 +1216,7 @@ def _linear_outcome(cls: type, T, y, weigh, tr, fixed, names, free, order) -> _O
     if cov is not None:
         sd = np.sqrt(np.clip(np.diag(cov), 0.0, None))
         stderr.update({n: float(v) for n, v in zip(free, sd)})
-        for i, a in enumerate(free):
-            for j in range(i + 1, len(free)):
-                denom = sd[i] * sd[j]
-                corr[(a, free[j])] = float(cov[i, j] / denom) if denom > 0 else float("nan")
+        corr = _correlations(cov, free)
     return _Outcome(cls, values, stderr, corr, cov, free, chi2, True,
                     "linear least squares, solved directly", 0, tuple(notes), _DIRECT_METHOD)
 
@@ -1446,11 +1454,7 @@ def _fit_one(cls: type, T, y, weigh, tr, fixed, user_bounds, order) -> _Outcome:
         if cov is None:
             notes.append("parameter uncertainties could not be estimated (singular covariance)")
         else:
-            sd = np.sqrt(np.diag(cov))
-            for i, a in enumerate(free):
-                for j in range(i + 1, len(free)):
-                    denom = sd[i] * sd[j]
-                    corr[(a, free[j])] = float(cov[i, j] / denom) if denom > 0 else float("nan")
+            corr = _correlations(cov, free)
         for n in free:
             lo, hi = bounds[n]
             for side, b in (("lower", lo), ("upper", hi)):
@@ -1612,8 +1616,9 @@ def fit_shift_law(temperature_K: Any, log10_aT: Any, *, reference_temperature_K:
     """Fit a shift law to a table of shift factors by weighted least squares.
 
     Minimises sum_i [(log10 a_T,i - law(T_i)) / s_i]^2 (or rᵀC⁻¹r with a ``covariance`` C of
-    the shifts, generalised least squares) with lmfit's Levenberg-Marquardt
-    (``leastsq``; the linear laws without bounds directly, see below), where s_i is the shift stderr (all 1 when none is given). Starting values
+    the shifts, generalised least squares) with lmfit's Levenberg-Marquardt (``leastsq``; the
+    linear laws without bounds directly, see below), where s_i is the shift stderr (all 1 when
+    none is given). Starting values
     come from the separable structure of each law: for each trial of its nonlinear constant
     (WLF: C2, including the classical linearisation (T - T_ref)/log10 a_T = -C2/C1 -
     (T - T_ref)/C1; VFT: T_inf; WLF-Arrhenius: C2 and the break Tg) the linear constants are

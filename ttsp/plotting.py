@@ -32,6 +32,7 @@ from .units import DISPLAY_MODULUS_UNITS, display_modulus_unit, kelvin_to_celsiu
 __all__ = [
     "FIGURE_NAMES",
     "OPTIONAL_FIGURES",
+    "figure_files",
     "figure_names",
     "plot_isotherms",
     "plot_master_curve",
@@ -1192,6 +1193,12 @@ def _merge_minor_ticks(fig) -> None:
         axis.set_minor_locator(NullLocator())
 
 
+def figure_files(folder, name: str) -> dict:
+    """``{"png": Path, "svg": Path}``: where :func:`save_figures` writes the figure ``name``."""
+    folder = Path(folder)
+    return {"png": folder / f"{name}.png", "svg": folder / f"{name}.svg"}
+
+
 def save_figures(figures, folder) -> dict:
     """Write each figure as ``<name>.png`` (150 dpi) and ``<name>.svg`` into ``folder``.
 
@@ -1221,7 +1228,8 @@ def save_figures(figures, folder) -> dict:
         if not isinstance(name, str) or not re.fullmatch(r"[A-Za-z0-9_\-]+", name):
             raise bad_value("figure name", "letters, digits, '_' or '-' (it becomes a file name)",
                             name)
-        png, svg = folder / f"{name}.png", folder / f"{name}.svg"
+        files = figure_files(folder, name)
+        png, svg = files["png"], files["svg"]
         # Lay the figure out once and keep that layout for both files: with a layout engine
         # active, every savefig would lay out again. Running the engine alone places the axes
         # exactly as a full draw would (same bytes), at about a third of the cost.
@@ -1238,5 +1246,5 @@ def save_figures(figures, folder) -> dict:
                             facecolor="white")
         finally:
             fig.set_layout_engine(engine)
-        written[name] = {"png": png, "svg": svg}
+        written[name] = files
     return written

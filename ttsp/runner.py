@@ -141,7 +141,7 @@ def draw_figures(result, folder, *, parallel: bool = True, early=None) -> dict:
     """
     import shutil
 
-    from .plotting import CAMPAIGN_FIGURES, figure_names, load_matplotlib, \
+    from .plotting import CAMPAIGN_FIGURES, figure_files, figure_names, load_matplotlib, \
         render_campaign_figures, render_figures, save_figures
 
     load_matplotlib()   # before forking: the children share the loaded modules
@@ -161,8 +161,7 @@ def draw_figures(result, folder, *, parallel: bool = True, early=None) -> dict:
     saved.update(save_figures(render_figures(result, later), folder))
     for pid, names in children:
         if _child_ok(pid):
-            saved.update({k: {"png": folder / f"{k}.png", "svg": folder / f"{k}.svg"}
-                          for k in names})
+            saved.update({k: figure_files(folder, k) for k in names})
         else:
             saved.update(save_figures(render_figures(result, names), folder))
     if early is not None and _child_ok(early[0]) and all(
@@ -170,7 +169,7 @@ def draw_figures(result, folder, *, parallel: bool = True, early=None) -> dict:
         for k in CAMPAIGN_FIGURES:
             for e in ("png", "svg"):
                 shutil.move(early[1] / f"{k}.{e}", folder / f"{k}.{e}")
-            saved[k] = {"png": folder / f"{k}.png", "svg": folder / f"{k}.svg"}
+            saved[k] = figure_files(folder, k)
     else:
         saved.update(save_figures(render_campaign_figures(result.campaign), folder))
     if early is not None:

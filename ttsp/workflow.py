@@ -313,8 +313,6 @@ def _fit_prony(campaign: Campaign, shifts, options: BuildOptions):
 
 def _thin_for_checks(campaign: Campaign, shifts):
     """The campaign and shift result restricted to an even subset of each dense isotherm."""
-    import dataclasses
-
     from .data import Isotherm
 
     picks = [evenly_spaced_indices(iso.n_points, MAX_CHECK_POINTS_PER_ISOTHERM) for iso in campaign.isotherms]
@@ -325,7 +323,7 @@ def _thin_for_checks(campaign: Campaign, shifts):
     thin = Campaign(isos, campaign.domain, campaign.modulus_kind, campaign.source,
                     campaign.units_as_read, campaign.metadata, campaign.dropped_rows)
     mask = tuple(np.asarray(m)[p] for m, p in zip(shifts.outlier_mask, picks))
-    return thin, dataclasses.replace(shifts, outlier_mask=mask)
+    return thin, replace(shifts, outlier_mask=mask)
 
 
 def build(campaign: Campaign, options: BuildOptions | None = None, *, input_sha256: str | None = None,
