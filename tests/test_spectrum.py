@@ -6,6 +6,7 @@ or computed independently by scipy.integrate.quad (log-normal spectrum).
 
 from __future__ import annotations
 
+import dataclasses
 import json
 
 import numpy as np
@@ -148,7 +149,10 @@ def test_exports(cole_cole_data):
     assert len(d["selection"]["regularisation"]) == 8
     frame = sp.to_frame()
     assert list(frame.columns) == ["tau_s", "H_Pa", "in_valid_range"]
-    assert frame["in_valid_range"].sum() == np.sum((sp.tau_s >= 1e-5) & (sp.tau_s <= 1e5))
+    # the window is 1/omega_max .. 1/omega_min = 1e-5 .. 1e5 s; the nodes at the ends count as
+    # inside however the two ends were rounded (1 / 1e-5 == 99999.99999999999)
+    in_window = np.abs(np.log10(sp.tau_s)) <= 5 + 1e-9
+    assert frame["in_valid_range"].sum() == np.sum(in_window)
     sel = sp.selection_frame()
     assert sel["chosen"].sum() == 1
     assert sp.params["regularisation"] == sp.regularisation and sp.stderr["regularisation"] is None
@@ -199,3 +203,14 @@ def test_zero_spectrum_is_a_fit_error(monkeypatch):
     w = np.logspace(-1, 1, 5)
     with pytest.raises(FitError, match="spectrum is zero everywhere"):
         fit_relaxation_spectrum(w, np.ones(5), np.ones(5), regularisation=1.0)
+
+
+def test_valid_range_ends_are_inside_up_to_rounding(cole_cole_data):
+    """A grid node one ulp past an end of the valid window counts as inside: the ends are
+    computed as 1/omega and the nodes as 10**x, and the two routes round differently
+    (1 / 1e-5 == 99999.99999999999 while the node is 1e5; a fresh-machine failure once)."""
+    w, _, e1, e2 = cole_cole_data
+    sp = fit_relaxation_spectrum(w, e1, e2, n_lambda=5, regularisation=1.0)
+    lo, hi = np.nextafter(sp.tau_s[2], np.inf), np.nextafter(sp.tau_s[-3], 0)
+    frame = dataclasses.replace(sp, valid_tau_range_s=(lo, hi)).to_frame()
+    assert frame["in_valid_range"].sum() == sp.tau_s.size - 4

@@ -15,7 +15,13 @@ import numpy as np
 from ._validation import bad_value
 
 __all__ = ["readonly", "as_1d_finite", "nonnegative_argument", "scalar_or_array", "to_plain",
-           "fmt_html", "evenly_spaced_indices"]
+           "fmt_html", "evenly_spaced_indices", "outside_log_range", "LOG_RANGE_RTOL"]
+
+#: Relative tolerance for membership in a range of times or frequencies. Range ends such as
+#: ``1 / omega_max`` and grid nodes such as ``10**k`` are computed by different roundings and
+#: can differ by a few ulp (``1 / 1e-5 == 99999.99999999999``); a node one ulp past an end is
+#: inside. 1e-9 is far below any measured resolution and far above rounding.
+LOG_RANGE_RTOL = 1e-9
 
 
 def readonly(a) -> np.ndarray:
@@ -101,3 +107,14 @@ def evenly_spaced_indices(n: int, limit: int) -> np.ndarray:
     if n <= limit:
         return np.arange(n)
     return np.unique(np.round(np.linspace(0, n - 1, limit)).astype(int))
+
+
+def outside_log_range(values: Any, lo: float, hi: float, rtol: float = LOG_RANGE_RTOL) -> np.ndarray:
+    """Boolean mask of ``values`` below ``lo`` or above ``hi`` beyond a relative ``rtol``.
+
+    For positive quantities on a log scale (times, frequencies, relaxation times), where the
+    ends of a range and the values tested against it come from different floating-point
+    routes: equality up to rounding counts as inside.
+    """
+    v = np.asarray(values, dtype=float)
+    return (v < lo * (1 - rtol)) | (v > hi * (1 + rtol))

@@ -59,7 +59,7 @@ from typing import Any, Callable
 
 import numpy as np
 
-from ._arrays import as_1d_finite
+from ._arrays import LOG_RANGE_RTOL, as_1d_finite
 from ._validation import bad_value, check_choice
 from .exceptions import ExtrapolationWarning
 from .interconvert import CreepSeries, creep_to_relaxation, relaxation_to_creep
@@ -386,7 +386,7 @@ class HistoryResponse:
 def _warn_span(series, xi: np.ndarray) -> None:
     rng = series.valid_reduced_time_range_s
     span = float(xi[-1] - xi[0])
-    if rng is not None and span > rng[1]:
+    if rng is not None and span > rng[1] * (1 + LOG_RANGE_RTOL):
         warnings.warn(f"the history spans {span:.4g} s of reduced time, beyond the valid reduced "
                       f"time range of the series (up to {rng[1]:.4g} s): the response at late "
                       "times is extrapolated", ExtrapolationWarning, stacklevel=3)

@@ -26,6 +26,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from ._arrays import outside_log_range
 from ._validation import bad_value, check_choice
 from .data import REFERENCE_SNAP_K
 from .exceptions import DataError, ExtrapolationWarning
@@ -180,7 +181,7 @@ class ViscoelasticModel:
             return
         lo, hi = rng
         r = np.asarray(reduced_time_s, dtype=float)
-        outside = (r < lo * (1 - 1e-9)) | (r > hi * (1 + 1e-9))
+        outside = outside_log_range(r, lo, hi)
         if np.any(outside):
             warnings.warn(f"{int(outside.sum())} of {r.size} requested {what} lie outside the "
                           f"reduced-time range the series was fitted to ({lo:.3g}–{hi:.3g} s): "

@@ -25,6 +25,7 @@ from pathlib import Path
 
 import numpy as np
 
+from ._arrays import outside_log_range
 from ._validation import bad_value, check_choice
 from .laws import law_prediction_stderr
 from .units import DISPLAY_MODULUS_UNITS, display_modulus_unit, kelvin_to_celsius
@@ -927,7 +928,7 @@ def plot_relaxation_spectrum(spectrum, axes=None, *, series=None):
     einf = float(spectrum.equilibrium_modulus_Pa)
     shown = np.concatenate([H[positive], [einf] if einf > 0 else []])
     unit, factor = _modulus_unit(shown if shown.size else np.array([1.0]))
-    outside = (tau < lo) | (tau > hi)
+    outside = outside_log_range(tau, lo, hi)
     if positive.any():
         _model_line(ax, tau[positive], H[positive] / factor, outside[positive], colour=_BLUE,
                     label="H(τ), Tikhonov")

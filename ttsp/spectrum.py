@@ -30,6 +30,7 @@ from typing import Mapping
 
 import numpy as np
 
+from ._arrays import outside_log_range
 from ._validation import bad_value, check_choice, check_positive
 from .exceptions import FitError
 from .prony import (PronySeries, _abscissa, _evaluation_argument, _fmt, _frozen_map, _log_grid,
@@ -164,7 +165,7 @@ class RelaxationSpectrum:
 
         lo, hi = self.valid_tau_range_s
         return pd.DataFrame({"tau_s": self.tau_s, "H_Pa": self.H_Pa,
-                             "in_valid_range": (self.tau_s >= lo) & (self.tau_s <= hi)})
+                             "in_valid_range": ~outside_log_range(self.tau_s, lo, hi)})
 
     def selection_frame(self):
         """The λ scan as a table (for an L-curve or GCV plot): ``regularisation``,

@@ -12,7 +12,7 @@ from dataclasses import asdict, dataclass, replace
 import numpy as np
 
 from . import __version__
-from ._arrays import evenly_spaced_indices
+from ._arrays import evenly_spaced_indices, outside_log_range
 from ._validation import bad_value, check_choice
 from .data import REFERENCE_SNAP_K, Campaign
 from .exceptions import DataError, FitError, FitQualityWarning, TtspWarning
@@ -195,7 +195,7 @@ class BuildResult:
             "storage_modulus_Pa": self.series.storage_modulus(omega),
             "loss_modulus_Pa": self.series.loss_modulus(omega),
             "tan_delta": self.series.tan_delta(omega),
-            "extrapolated": (t < lo * (1 - 1e-12)) | (t > hi * (1 + 1e-12)),
+            "extrapolated": outside_log_range(t, lo, hi),
         })
         frame.attrs["reference_temperature_C"] = self.reference_temperature_C
         return frame
