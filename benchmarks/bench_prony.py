@@ -34,6 +34,7 @@ if str(ROOT) not in sys.path:
 from benchmarks.generator import benchmark_cases, case_campaign, wlf_log10_aT  # noqa: E402
 from ttsp.closed_forms import fit_havriliak_negami  # noqa: E402
 from ttsp.exceptions import FitQualityWarning  # noqa: E402
+from ttsp.pairwise import chained_pairwise_log10_aT  # noqa: E402
 from ttsp.prony import PronySeries, fit_prony_frequency  # noqa: E402
 from ttsp.spectrum import fit_relaxation_spectrum  # noqa: E402
 
@@ -75,45 +76,6 @@ def speed_rows() -> None:
 
 
 # --------------------------------------------------------------------------- baseline shift
-def chained_pairwise_log10_aT(campaign, reference_temperature_K) -> np.ndarray:
-    """Plain sequential pairwise shifting (the baseline): starting at the isotherm nearest the
-    reference, each neighbour is shifted onto the previous one by minimising the mean squared
-    difference of log10 E' and log10 E'' on their overlap (linear interpolation in log-log),
-    and the shifts are chained; a reference between isotherms gets its shift by linear
-    interpolation. No global fit, no uncertainty."""
-    from scipy.optimize import minimize_scalar
-
-    isos = campaign.isotherms
-    temps = np.array([i.temperature_K for i in isos])
-    lx = [np.log10(i.x) for i in isos]
-    ly = [np.vstack([np.log10(i.values["storage_modulus_Pa"]),
-                     np.log10(i.values["loss_modulus_Pa"])]) for i in isos]
-
-    def pair_shift(a, b):  # log10 a_T of b relative to a
-        def cost(d):
-            xb = lx[b] + d
-            lo, hi = max(lx[a].min(), xb.min()), min(lx[a].max(), xb.max())
-            if hi - lo < 0.2:
-                return 1e3 + abs(d)
-            grid = np.linspace(lo, hi, 25)
-            diff = [np.interp(grid, lx[a], ly[a][k]) - np.interp(grid, xb, ly[b][k])
-                    for k in range(2)]
-            return float(np.mean(np.square(diff)))
-        ds = np.linspace(-8, 8, 161)
-        d0 = ds[int(np.argmin([cost(d) for d in ds]))]
-        return minimize_scalar(cost, bounds=(d0 - 0.1, d0 + 0.1), method="bounded").x
-
-    k0 = int(np.argmin(np.abs(temps - reference_temperature_K)))
-    out = np.zeros(temps.size)
-    for k in range(k0 + 1, temps.size):
-        out[k] = out[k - 1] + pair_shift(k - 1, k)
-    for k in range(k0 - 1, -1, -1):
-        out[k] = out[k + 1] + pair_shift(k + 1, k)
-    # gauge: log10 a_T = 0 at the reference, interpolated between the neighbouring isotherms
-    return out - float(np.interp(reference_temperature_K, temps, out))
-
-
-# --------------------------------------------------------------------------- accuracy
 def master_curve(campaign, log10_aT):
     w, e1, e2 = [], [], []
     for iso, la in zip(campaign.isotherms, log10_aT):

@@ -50,43 +50,16 @@ from generator import (benchmark_cases, case_campaign, make_campaign,  # noqa: E
                        prony_storage_loss)
 
 from ttsp.data import Campaign  # noqa: E402
+from ttsp.pairwise import chained_pairwise_log10_aT, neighbour_mismatch  # noqa: E402
 from ttsp.shifting import shift_isotherms  # noqa: E402
 
 FUNCS = ("storage_modulus_Pa", "loss_modulus_Pa")
 
 
 # ---- the sequential pairwise baseline ---------------------------------------------------------
-def _pair_delta(xa, Ya, xb, Yb):
-    """δ such that isotherm b at x + δ lies on a (mean squared log difference, both ways)."""
-    def cost(d, both=True):
-        tot, cnt = 0.0, 0
-        for xs, Ys, xr, Yr, sgn in ((xb + d, Yb, xa, Ya, 1), (xa - d, Ya, xb, Yb, -1)):
-            inside = (xs >= xr[0]) & (xs <= xr[-1])
-            for q in range(Ys.shape[1]):
-                diff = Ys[inside, q] - np.interp(xs[inside], xr, Yr[:, q])
-                tot += float(np.sum(diff ** 2))
-                cnt += diff.size
-        return tot / cnt if cnt >= 6 else np.inf
-
-    grid = np.arange(xa[0] - xb[-1], xa[-1] - xb[0], 0.05)
-    vals = np.array([cost(d) for d in grid])
-    g = int(np.argmin(vals))
-    res = minimize_scalar(cost, bounds=(grid[g] - 0.05, grid[g] + 0.05), method="bounded")
-    return float(res.x) if res.fun <= vals[g] else float(grid[g])
-
-
 def pairwise_baseline(campaign: Campaign, reference_K: float):
-    X = [np.log10(i.x) for i in campaign.isotherms]
-    Y = [np.log10(np.column_stack([i.values[q] for q in FUNCS])) for i in campaign.isotherms]
-    n = len(X)
-    steps = [_pair_delta(X[k], Y[k], X[k + 1], Y[k + 1]) for k in range(n - 1)]
-    s = np.concatenate([[0.0], np.cumsum(steps)])      # frequency: s_{k+1} = s_k + δ
-    temps = campaign.temperatures_K
-    ref = int(np.argmin(np.abs(temps - reference_K)))
-    if abs(temps[ref] - reference_K) < 1e-6:
-        return s - s[ref]
-    # reference between isotherms: linear interpolation of the chained shifts
-    return s - np.interp(reference_K, temps, s)
+    """Chained pairwise shifts on E' and E'' (the plain route, :mod:`ttsp.pairwise`)."""
+    return chained_pairwise_log10_aT(campaign, reference_K, FUNCS)
 
 
 # ---- the oracle -------------------------------------------------------------------------------
@@ -136,21 +109,6 @@ def _real_rows():
         dev = np.abs(r.log10_aT - p.log10_aT.to_numpy()).max()
         rows.append((lane, ours, theirs, dev, dt))
     return rows
-
-
-def neighbour_mismatch(campaign: Campaign, log10_aT):
-    """rms of log10 G' and G'' differences between neighbouring shifted isotherms where they
-    overlap (linear interpolation in log–log, both directions)."""
-    X = [np.log10(i.x) + s for i, s in zip(campaign.isotherms, log10_aT)]
-    Y = [np.log10(np.column_stack([i.values[q] for q in FUNCS])) for i in campaign.isotherms]
-    d = []
-    for k in range(len(X) - 1):
-        for xa, Ya, xb, Yb in ((X[k], Y[k], X[k + 1], Y[k + 1]), (X[k + 1], Y[k + 1], X[k], Y[k])):
-            inside = (xb >= xa[0]) & (xb <= xa[-1])
-            for q in range(2):
-                d.append(Yb[inside, q] - np.interp(xb[inside], xa, Ya[:, q]))
-    d = np.concatenate(d)
-    return float(np.sqrt(np.mean(d ** 2)))
 
 
 # ---- timing -----------------------------------------------------------------------------------
