@@ -153,6 +153,12 @@ class Gaps(str, Enum):
     bridge = "bridge"
 
 
+class MasterCurve(str, Enum):
+    auto = "auto"
+    spectrum = "spectrum"
+    splines = "splines"
+
+
 class Quantity(str, Enum):
     relaxation_modulus = "relaxation_modulus"
     creep_compliance = "creep_compliance"
@@ -162,14 +168,16 @@ class Quantity(str, Enum):
 
 
 def _options(reference_temperature, law, vertical, expansion_coefficient, shift_on, gaps,
-             prony_density, glass_transition, spectrum=False):
+             prony_density, glass_transition, spectrum=False, master_curve=MasterCurve.auto,
+             cross_validation=True):
     from .workflow import BuildOptions
 
     return BuildOptions(reference_temperature_C=reference_temperature, law=law.value,
                         vertical=vertical.value, expansion_coefficient_per_K=expansion_coefficient,
                         shift_on=shift_on.value, gaps=gaps.value,
                         prony_terms_per_decade=prony_density, glass_transition_C=glass_transition,
-                        spectrum=spectrum)
+                        spectrum=spectrum, master_curve=master_curve.value,
+                        cross_validation=cross_validation)
 
 
 def _check_lines(result) -> str:
@@ -198,6 +206,15 @@ def build_cmd(inputs: List[Path] = typer.Argument(..., help="Files or folders of
               spectrum: bool = typer.Option(
                   False, "--spectrum",
                   help="Also fit the continuous relaxation spectrum H(τ) (frequency data)."),
+              master_curve: MasterCurve = typer.Option(
+                  MasterCurve.auto, "--master-curve",
+                  help="Model the shifts are fitted with: one shared relaxation spectrum, a "
+                       "smooth curve per function, or auto (the one that lays neighbouring "
+                       "isotherms better on each other)."),
+              cross_validation: bool = typer.Option(
+                  True, "--cross-validation/--no-cross-validation",
+                  help="Predict interior isotherms from builds without them (the build's "
+                       "own accuracy figure)."),
               out: Path = typer.Option(Path("ttsp-out"), "--out", "-o", help="Output folder."),
               force: bool = typer.Option(False, "--force", help="Replace an existing output folder."),
               no_figures: bool = typer.Option(False, "--no-figures",
@@ -209,7 +226,7 @@ def build_cmd(inputs: List[Path] = typer.Argument(..., help="Files or folders of
               modulus_kind: Optional[str] = KIND_OPT):
     """Build the master curve, shift law, Prony series, material functions, checks and report."""
     options = _options(reference_temperature, law, vertical, expansion_coefficient, shift_on, gaps,
-                       prony_density, glass_transition, spectrum)
+                       prony_density, glass_transition, spectrum, master_curve, cross_validation)
     result, folder = run_build(inputs, options, out, figures=not no_figures, force=force,
                                quiet=quiet, column=column, unit=unit, sheet=sheet,
                                tolerance=tolerance, modulus_kind=modulus_kind)
@@ -267,7 +284,8 @@ def check_cmd(inputs: List[Path] = typer.Argument(..., help="Files or folders of
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
         campaign = read_inputs(inputs, column, unit, sheet, tolerance, modulus_kind)
-        result = build(campaign, BuildOptions(reference_temperature_C=reference_temperature))
+        result = build(campaign, BuildOptions(reference_temperature_C=reference_temperature,
+                                              cross_validation=False))
     if as_json:
         from .io.writers import summary_to_json_text
 

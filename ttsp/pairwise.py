@@ -76,6 +76,27 @@ def _pair_mismatch(ua, Ya, ub, Yb) -> tuple[float, int]:
     return total, count
 
 
+def _grid_costs(ua, Ya, ub, Yb, grid) -> np.ndarray:
+    """Mean squared mismatch of the pair at every trial δ of ``grid`` at once (the scan of
+    :func:`_pair_step`; one interpolation per function and direction for all trials)."""
+    total = np.zeros(grid.size)
+    count = np.zeros(grid.size)
+    for us, Ys, ur, Yr, sign in ((ub, Yb, ua, Ya, 1.0), (ua, Ya, ub, Yb, -1.0)):
+        moved = us[None, :] + sign * grid[:, None]                  # (G, m)
+        inside = (moved >= ur[0]) & (moved <= ur[-1])
+        for q in range(Ys.shape[1]):
+            ref_ok = np.isfinite(Yr[:, q])
+            if ref_ok.sum() < 2:
+                continue
+            ok = inside & np.isfinite(Ys[None, :, q])
+            d = Ys[None, :, q] - np.interp(moved, ur[ref_ok], Yr[ref_ok, q])
+            d = np.where(ok, d, 0.0)
+            total += np.sum(d * d, axis=1)
+            count += ok.sum(axis=1)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        return np.where(count >= _MIN_OVERLAP_VALUES, total / count, np.inf)
+
+
 def _pair_step(ua, Ya, ub, Yb) -> float:
     """δ such that isotherm b at u + δ lies best on a (least squares, both directions)."""
     def cost(delta):
@@ -83,7 +104,7 @@ def _pair_step(ua, Ya, ub, Yb) -> float:
         return total / count if count >= _MIN_OVERLAP_VALUES else math.inf
 
     grid = np.arange(ua[0] - ub[-1], ua[-1] - ub[0] + _GRID_STEP, _GRID_STEP)
-    values = np.array([cost(d) for d in grid])
+    values = _grid_costs(ua, Ya, ub, Yb, grid)
     if not np.isfinite(values).any():
         return math.nan
     g = int(np.nanargmin(values))

@@ -43,6 +43,7 @@ __all__ = [
     "plot_frequency_functions",
     "plot_superposition_check",
     "plot_relaxation_spectrum",
+    "plot_cross_validation",
     "render_figures",
     "save_figures",
 ]
@@ -51,8 +52,9 @@ __all__ = [
 #: :func:`figure_names` for those of one build.
 FIGURE_NAMES = ("isotherms", "master_curve", "shift_factors", "prony_fit", "time_functions",
                 "frequency_functions", "superposition_check")
-#: Figures a build makes only when asked (``BuildOptions.spectrum``): see :func:`figure_names`.
-OPTIONAL_FIGURES = ("relaxation_spectrum",)
+#: Figures a build makes only when asked (``BuildOptions.spectrum``) or when it has what they
+#: show (held-out isotherms): see :func:`figure_names`.
+OPTIONAL_FIGURES = ("relaxation_spectrum", "cross_validation")
 
 # Okabe & Ito (2002, "Color Universal Design") colours: distinguishable with the common forms
 # of colour-vision deficiency.
@@ -777,6 +779,47 @@ def plot_shift_factors(result, ax=None, residual_ax=None):
     return ax
 
 
+def plot_cross_validation(result, ax=None):
+    """The held-out isotherms: rms prediction error (%) of each, left out of the build, at
+    the shift its law gives and at its best shift, against temperature.
+
+    The gap between the two markers of an isotherm is what the shift law costs there; the
+    lower one is the error of the master curve itself (:mod:`ttsp.crossval`).
+
+    Returns
+    -------
+    matplotlib Axes
+        Temperature in °C on x, rms relative error in per cent on y (logarithmic).
+    """
+    ax = _new_axes(ax, size=(6.0, 3.8))
+    cv = result.cross_validation
+    rows = [(h.temperature_C, h.rms_percent_at_law_aT.get("all", np.nan),
+             h.rms_percent_at_best_aT.get("all", np.nan)) for h in cv.per_isotherm]
+    t, at_law, at_best = (np.array(v, dtype=float) for v in zip(*rows))
+    ok = np.isfinite(at_law) & np.isfinite(at_best)
+    for ti, a, b in zip(t[ok], at_law[ok], at_best[ok]):
+        ax.plot([ti, ti], [b, a], color=_GREY, lw=0.9, zorder=1)
+    ax.plot(t[ok], at_law[ok], "o", color=_VERMILLION, ms=5.5, zorder=3,
+            label="at the law's a$_T$ (the prediction)")
+    ax.plot(t[ok], at_best[ok], "s", color=_BLUE, mfc="white", mew=1.2, ms=5.5, zorder=3,
+            label="at the best a$_T$ (the master curve alone)")
+    failed = ~ok
+    if failed.any():
+        for ti in t[failed]:
+            ax.axvline(ti, color=_GREY, lw=0.8, ls=(0, (2, 2)), zorder=0)
+    _style(ax, logy=True)
+    ax.set_xlabel("Temperature of the held-out isotherm T (°C)")
+    ax.set_ylabel("rms prediction error (%)")
+    params = cv.params
+    _note(ax, f"median {params['median_rms_percent_at_law_aT']:.3g} % at the law's a$_T$, "
+              f"{params['median_rms_percent_at_best_aT']:.3g} % at the best", loc="upper left")
+    ax.legend(fontsize=8.5, frameon=False, loc="lower right")
+    lo = float(np.nanmin(at_best[ok])) if ok.any() else 1.0
+    hi = float(np.nanmax(at_law[ok])) if ok.any() else 10.0
+    ax.set_ylim(lo / 2.5, hi * 3.0)
+    return ax
+
+
 def plot_prony_fit(result, axes=None):
     """The Prony fit: master-curve data with the fitted series, the residuals in per cent, and
     the discrete spectrum (stems E_i at τ_i) with the long-term modulus.
@@ -1111,10 +1154,16 @@ def render_campaign_figures(campaign) -> dict:
 
 def figure_names(result) -> tuple:
     """The names of the figures of this build: :data:`FIGURE_NAMES`, plus
-    ``relaxation_spectrum`` when the build fitted the continuous spectrum."""
+    ``relaxation_spectrum`` when the build fitted the continuous spectrum and
+    ``cross_validation`` when it predicted at least one held-out isotherm."""
+    extra = []
     if getattr(result, "relaxation_spectrum", None) is not None:
-        return FIGURE_NAMES + OPTIONAL_FIGURES
-    return FIGURE_NAMES
+        extra.append("relaxation_spectrum")
+    cv = getattr(result, "cross_validation", None)
+    if cv is not None and any(np.isfinite(h.rms_percent_at_law_aT.get("all", np.nan))
+                              for h in cv.per_isotherm):
+        extra.append("cross_validation")
+    return FIGURE_NAMES + tuple(extra)
 
 
 def render_figures(result, names=None) -> dict:
@@ -1134,6 +1183,7 @@ def render_figures(result, names=None) -> dict:
         "superposition_check": lambda: plot_superposition_check(result.campaign).figure,
         "relaxation_spectrum": lambda: plot_relaxation_spectrum(
             result.relaxation_spectrum, series=result.series)[0].figure,
+        "cross_validation": lambda: plot_cross_validation(result).figure,
     }
     available = figure_names(result)
     wanted = available if names is None else tuple(names)

@@ -42,6 +42,7 @@ _SECTION_OF_FIGURE = {
     "relaxation_spectrum": "prony",
     "time_functions": "functions",
     "frequency_functions": "functions",
+    "cross_validation": "cross_validation",
 }
 
 #: Captions by figure name (HTML); ``{E}``, ``{D}``, ``{law}``, ``{tref}``, ... are filled in,
@@ -83,6 +84,11 @@ FIGURE_CAPTIONS = {
         "Storage modulus {E}′, loss modulus {E}″ and tan δ at T<sub>ref</sub> = {tref} over reduced "
         "frequency, computed from the Prony series; shaded and dashed where extrapolated beyond "
         "the data."),
+    "cross_validation": (
+        "Interior isotherms, each predicted by a build without it: rms relative error of the "
+        "predicted moduli at the shift factor the law gives (filled circles) and at the best "
+        "shift factor (open squares). The gap between the two is what the shift law costs at "
+        "that temperature; dashed lines mark isotherms whose build without them failed."),
 }
 
 _CHECK_TITLES = {
@@ -313,6 +319,43 @@ def _shift_rows(result) -> dict:
                              else "")}
 
 
+_MASTER_CURVE_NAMES = {"spectrum": "one relaxation spectrum shared by all functions",
+                       "splines": "a smooth curve per function (penalised splines)"}
+
+
+def _master_curve(result) -> dict | None:
+    choice = getattr(result, "master_curve", None)
+    if choice is None:
+        return None
+    ratio = choice.collapse_ratio
+    return {"name": _MASTER_CURVE_NAMES.get(choice.chosen, choice.chosen),
+            "reason": _sentence(choice.reason),
+            "mismatch": _num(choice.neighbour_mismatch.get(choice.chosen), 3),
+            "collapse": _fixed(ratio, 2) if ratio == ratio else ""}
+
+
+def _cross_validation(result) -> dict | None:
+    cv = getattr(result, "cross_validation", None)
+    if cv is None or not cv.per_isotherm:
+        return None
+    p = cv.params
+    letter, _ = _letters(result.campaign.modulus_kind)
+    names = {"storage_modulus_Pa": f"{letter}′", "loss_modulus_Pa": f"{letter}″",
+             "complex_modulus_Pa": f"|{letter}*|", "tan_delta": "tan δ",
+             "relaxation_modulus_Pa": f"{letter}(t)", "creep_compliance_1_per_Pa":
+             ("J(t)" if letter == "G" else "D(t)")}
+    rows = [{"temperature": _fixed(h.temperature_C, 2), "law_shift": _fixed(h.law_log10_aT, 3),
+             "best_shift": _fixed(h.best_log10_aT, 3),
+             "at_law": _fixed(h.rms_percent_at_law_aT.get("all"), 2),
+             "at_best": _fixed(h.rms_percent_at_best_aT.get("all"), 2),
+             "note": _sentence(h.error) if h.error else ""} for h in cv.per_isotherm]
+    return {"rows": rows, "functions": " and ".join(names.get(f, f) for f in cv.functions),
+            "median_law": _fixed(p["median_rms_percent_at_law_aT"], 2),
+            "worst_law": _fixed(p["worst_rms_percent_at_law_aT"], 2),
+            "median_best": _fixed(p["median_rms_percent_at_best_aT"], 2),
+            "worst_best": _fixed(p["worst_rms_percent_at_best_aT"], 2)}
+
+
 def _param_row(name, value, stderr, fixed=False):
     label, unit, celsius = _PARAMETERS.get(name, (name, "", False))
     if name.startswith("a") and "_per_K" in name:
@@ -526,7 +569,8 @@ def _figures(result, figures_svg) -> dict:
     number = 0
     order = list(_SECTION_OF_FIGURE)
     names = sorted(figures_svg, key=lambda n: (order.index(n) if n in order else len(order), n))
-    by_section_order = ["data", "shifts", "master", "prony", "functions", "other"]
+    by_section_order = ["data", "shifts", "master", "prony", "functions", "cross_validation",
+                        "other"]
     ordered = sorted(names, key=lambda n: by_section_order.index(_SECTION_OF_FIGURE.get(n, "other")))
     for name in ordered:
         if not isinstance(name, str) or not re.fullmatch(r"[A-Za-z0-9_\-]+", name):
@@ -597,6 +641,8 @@ def render_report(result, figures_svg: dict, *, created_utc: str) -> str:
         "glass_transition": _glass_transition(result),
         "prony": _prony(result),
         "checks": _checks(result),
+        "master_curve": _master_curve(result),
+        "cross_validation": _cross_validation(result),
         "warnings": [str(w) for w in result.warnings],
         "caution": CAUTION,
         "figures": figures,

@@ -15,6 +15,7 @@ from . import __version__
 from ._arrays import evenly_spaced_indices, outside_log_range
 from ._validation import bad_value, check_choice
 from .data import REFERENCE_SNAP_K, Campaign
+from .master_choice import MASTER_CURVE_CHOICES, choose_master_curve
 from .exceptions import DataError, FitError, FitQualityWarning, TtspWarning
 from .units import celsius_to_kelvin, kelvin_to_celsius
 
@@ -51,6 +52,14 @@ class BuildOptions:
         Density of the relaxation times of the Prony series (default 2).
     glass_transition_C : float, optional
         Tg for the WLF/Arrhenius law (fitted when not given).
+    master_curve : str
+        Model of the master curve the shifts are fitted with: ``spectrum`` (one relaxation
+        spectrum shared by all functions), ``splines`` (a smooth curve per function) or
+        ``auto`` (both fitted, the one whose shifts lay neighbouring isotherms better on each
+        other kept; :mod:`ttsp.master_choice`).
+    cross_validation : bool
+        Leave interior isotherms out in turn (at most 8), rebuild from the others and predict them
+        (:mod:`ttsp.crossval`): the build's own accuracy figure on its data. On by default.
     spectrum : bool
         Also fit the continuous relaxation spectrum H(τ) to the master curve (frequency data
         with E' and E''; :func:`ttsp.spectrum.fit_relaxation_spectrum`): written to
@@ -67,11 +76,15 @@ class BuildOptions:
     prony_terms_per_decade: float = 2.0
     glass_transition_C: float | None = None
     spectrum: bool = False
+    master_curve: str = "auto"
+    cross_validation: bool = True
 
     def __post_init__(self):
         check_choice("law", self.law, LAW_CHOICES)
-        if not isinstance(self.spectrum, bool):
-            raise bad_value("spectrum", "True or False", self.spectrum)
+        check_choice("master_curve", self.master_curve, MASTER_CURVE_CHOICES)
+        for name in ("spectrum", "cross_validation"):
+            if not isinstance(getattr(self, name), bool):
+                raise bad_value(name, "True or False", getattr(self, name))
         check_choice("vertical", self.vertical, VERTICAL_CHOICES)
         check_choice("shift_on", self.shift_on, SHIFT_ON_CHOICES)
         check_choice("gaps", self.gaps, GAP_CHOICES)
@@ -138,6 +151,10 @@ class BuildResult:
         E'' and tan δ peak temperatures at 1 Hz (frequency data only).
     relaxation_spectrum : ttsp.spectrum.RelaxationSpectrum or None
         H(τ) of the master curve when ``options.spectrum`` asked for it (frequency data).
+    master_curve : ttsp.master_choice.MasterCurveChoice or None
+        Which model of the master curve the shifts were fitted with, and why.
+    cross_validation : ttsp.crossval.CrossValidation or None
+        Held-out isotherm predictions (None when ``options.cross_validation`` is off).
     """
 
     campaign: Campaign
@@ -152,6 +169,8 @@ class BuildResult:
     input_files: tuple = ()
     glass_transition: object = None
     relaxation_spectrum: object = None
+    master_curve: object = None
+    cross_validation: object = None
 
     @property
     def reference_temperature_K(self) -> float:
@@ -234,6 +253,9 @@ class BuildResult:
             "glass_transition": (self.glass_transition.to_dict()
                                  if self.glass_transition is not None else None),
             "relaxation_spectrum": _spectrum_summary(self.relaxation_spectrum),
+            "master_model": self.master_curve.to_dict() if self.master_curve is not None else None,
+            "cross_validation": (self.cross_validation.to_dict()
+                                 if self.cross_validation is not None else None),
             "checks": [c.to_dict() for c in self.checks],
             "warnings": list(self.warnings),
         }
@@ -345,8 +367,7 @@ def build(campaign: Campaign, options: BuildOptions | None = None, *, input_sha2
     Warnings raised by the steps are collected into ``result.warnings`` (and re-emitted).
     """
     from .checks import run_checks
-    from .model import VerticalShift, ViscoelasticModel
-    from .shifting import default_reference_temperature_K, shift_isotherms
+    from .shifting import default_reference_temperature_K
 
     if options is None:
         options = BuildOptions(**option_values)
@@ -369,24 +390,9 @@ def build(campaign: Campaign, options: BuildOptions | None = None, *, input_sha2
     with threadpool_limits(limits=1, user_api="blas"), \
             warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always", TtspWarning)
-        step("shift factors")
-        shifts = shift_isotherms(
-            campaign, t_ref_K,
-            quantities="tan_delta" if options.shift_on == "tan_delta" else "auto",
-            vertical=options.vertical, expansion_coefficient_per_K=options.expansion_coefficient_per_K,
-            gaps=options.gaps)
-        fixed = ({"glass_transition_K": float(celsius_to_kelvin(options.glass_transition_C))}
-                 if options.glass_transition_C is not None and options.law == "wlf-arrhenius"
-                 else None)
-        step("shift law")
-        law_fit = _fit_law(shifts, t_ref_K, options.law, fixed)
-        step("Prony series")
-        prony_fit = _fit_prony(campaign, shifts, options)
-        series = prony_fit.series.replace(reference_temperature_K=t_ref_K) \
-            if prony_fit.series.reference_temperature_K is None else prony_fit.series
-        if series is not prony_fit.series:
-            prony_fit = _with_series(prony_fit, series)
-        model = ViscoelasticModel(series, law_fit.law, VerticalShift.from_shifts(shifts))
+        fitted = fit_steps(campaign, options, t_ref_K, step)
+        shifts, law_fit, prony_fit, model = (fitted.shifts, fitted.law_fit, fitted.prony_fit,
+                                             fitted.model)
         spectrum = None
         if options.spectrum:
             step("relaxation spectrum")
@@ -400,6 +406,12 @@ def build(campaign: Campaign, options: BuildOptions | None = None, *, input_sha2
             from .transition import estimate_glass_transition
 
             glass = estimate_glass_transition(model, campaign, frequency_Hz=1.0)
+        held_out = None
+        if options.cross_validation:
+            from .crossval import cross_validate
+
+            step("cross-validation")
+            held_out = cross_validate(campaign, options, t_ref_K, full=fitted)
     messages = []
     for w in caught:
         text = str(w.message)
@@ -412,7 +424,65 @@ def build(campaign: Campaign, options: BuildOptions | None = None, *, input_sha2
                 messages.append(text)
     return BuildResult(campaign, options, shifts, law_fit, prony_fit, model, checks, tuple(messages),
                        input_sha256 or _campaign_hash(campaign), tuple(str(f) for f in input_files),
-                       glass, spectrum)
+                       glass, spectrum, fitted.master_curve, held_out)
+
+
+@dataclass(frozen=True)
+class FittedSteps:
+    """The fitted parts of a build that predictions need (no checks, no extras)."""
+
+    shifts: object
+    master_curve: object
+    law_fit: object
+    prony_fit: object
+    model: object
+
+
+def fit_steps(campaign: Campaign, options: BuildOptions, t_ref_K: float, step=None, *,
+              measure_collapse: bool = True) -> FittedSteps:
+    """Shift factors (with the master-curve model chosen), shift law, Prony series and the
+    model they make, for a campaign already checked and with its derived functions.
+
+    The build and each fold of the cross-validation run exactly these steps; a fold does not
+    measure the collapse of its shifts against chained pairwise shifts
+    (``measure_collapse=False``), which only the build reports.
+    """
+    from .model import VerticalShift, ViscoelasticModel
+    from .shifting import shift_isotherms
+
+    step = step or (lambda name: None)
+    step("shift factors")
+
+    def fit_shifts(model_name):
+        return shift_isotherms(
+            campaign, t_ref_K,
+            quantities="tan_delta" if options.shift_on == "tan_delta" else "auto",
+            vertical=options.vertical,
+            expansion_coefficient_per_K=options.expansion_coefficient_per_K,
+            gaps=options.gaps, master_curve=model_name)
+
+    requested = options.master_curve
+    if requested == "auto" and options.shift_on != "tan_delta" and {
+            "relaxation_modulus_Pa", "creep_compliance_1_per_Pa"} <= set(campaign.quantities):
+        requested = "splines"   # no one spectrum model carries E(t) and D(t) together here
+    shifts, choice = choose_master_curve(campaign, requested, fit_shifts, t_ref_K,
+                                         measure=measure_collapse)
+    if choice.requested != options.master_curve:
+        choice = replace(choice, requested=options.master_curve,
+                         reason=choice.reason.replace(
+                             "was asked for", "is the one that carries E(t) and D(t) together"))
+    fixed = ({"glass_transition_K": float(celsius_to_kelvin(options.glass_transition_C))}
+             if options.glass_transition_C is not None and options.law == "wlf-arrhenius"
+             else None)
+    step("shift law")
+    law_fit = _fit_law(shifts, t_ref_K, options.law, fixed)
+    step("Prony series")
+    prony_fit = _fit_prony(campaign, shifts, options)
+    if prony_fit.series.reference_temperature_K is None:
+        prony_fit = _with_series(prony_fit,
+                                 prony_fit.series.replace(reference_temperature_K=t_ref_K))
+    model = ViscoelasticModel(prony_fit.series, law_fit.law, VerticalShift.from_shifts(shifts))
+    return FittedSteps(shifts, choice, law_fit, prony_fit, model)
 
 
 #: The continuous spectrum is fitted to at most this many master-curve points (evenly by rank

@@ -1,0 +1,99 @@
+"""Real-data benchmark: master curves on measured campaigns, judged the way a user can see.
+
+Data: the asphalt binders of ``tests/data`` (lanes 1–5, MIT licence, TFHRC ABML; see
+tests/data/README.md) and, when the project's shared copy is present, lanes 6–10 of the same
+source (held out of all tuning). Replicate 1 of each binder: seven isotherms 10–82 °C, G′ and
+G″ from 0.1 to 100 rad/s. Every campaign is built as ``ttsp build FILE -T 58`` would build it
+(all defaults: ``--law auto``, ``--master-curve auto``, cross-validation on).
+
+Columns:
+
+* ``model``: the master-curve model the build chose;
+* ``collapse``: neighbour mismatch of the build's shifts over that of chained pairwise shifts
+  (:mod:`ttsp.pairwise`; pairwise shifts minimise it pair by pair, so ≈ 1 is as good as the
+  data allow; exact shifts of synthetic campaigns at 2 % noise score 1.02–1.07);
+* ``law``: the shift law chosen;
+* ``CV law`` / ``CV best``: the build's own cross-validation, median over its held-out
+  isotherms of the rms error (%) of G′ and G″ at the law's a_T / at the best a_T;
+* ``34 / 46 / 70 °C``: the same errors at those held-out temperatures (at the law's a_T),
+  and ``plain``: the plain route on the same held-out isotherms (chained pairwise shifts, an
+  unweighted WLF law, a default non-negative Prony fit), median over the three.
+
+Targets (issue 18): collapse ≤ 1.10 on every campaign; held-out binder isotherms of lanes
+6–10 at 34/46/70 °C: median ≤ 6.5 %, worst ≤ 9 %, each within 1.15× its best-a_T error;
+cross-validation at most twice the cost of the build. The synthetic suite's rows stay in
+``bench_shifting.py``.
+
+Run: ``python benchmarks/bench_real.py``. Prints a table; asserts nothing.
+"""
+
+from __future__ import annotations
+
+import statistics
+import sys
+import time
+import warnings
+from pathlib import Path
+
+import numpy as np
+
+ROOT = Path(__file__).resolve().parents[1]
+sys.path.insert(0, str(ROOT))
+sys.path.insert(0, str(ROOT / "benchmarks"))
+
+import ttsp  # noqa: E402
+from bench_binders import baseline_prediction, campaign, load  # noqa: E402
+
+TREF_C = 58.0
+HELD_OUT_C = (34.0, 46.0, 70.0)
+
+
+def main() -> None:
+    warnings.simplefilter("ignore")
+    data, _ = load()
+    print(f"{'binder':>6}{'model':>10}{'collapse':>9}{'law':>15}{'CV law':>8}{'CV best':>8}"
+          + "".join(f"{t:>7.0f}°C" for t in HELD_OUT_C) + f"{'plain':>8}{'build s':>9}"
+          f"{'CV s':>7}")
+    collapse, held, held_best, plain = [], [], [], []
+    for lane, rows in data.groupby("lane"):
+        camp = campaign(rows)
+        t0 = time.process_time()
+        quick = ttsp.build(camp, reference_temperature_C=TREF_C, cross_validation=False)
+        t1 = time.process_time()
+        r = ttsp.build(camp, reference_temperature_C=TREF_C)
+        t2 = time.process_time()
+        cv = r.cross_validation
+        p = cv.params
+        by_T = {round(h.temperature_C): h for h in cv.per_isotherm}
+        cells, base = [], []
+        for t in HELD_OUT_C:
+            h = by_T.get(round(t))
+            e = h.rms_percent_at_law_aT["all"] if h is not None else float("nan")
+            cells.append(e)
+            if lane >= 6 and h is not None and np.isfinite(e):
+                held.append(e)
+                held_best.append(e / h.rms_percent_at_best_aT["all"])
+                train = campaign(rows[rows["T_C"] != t])
+                base.append(baseline_prediction(train, rows[rows["T_C"] == t], t,
+                                                TREF_C + 273.15))
+        plain += base
+        ratio = r.master_curve.collapse_ratio
+        collapse.append(ratio)
+        print(f"{lane:>6}{r.master_curve.chosen:>10}{ratio:>9.3f}{r.law_fit.law.model:>15}"
+              f"{p['median_rms_percent_at_law_aT']:>8.2f}{p['median_rms_percent_at_best_aT']:>8.2f}"
+              + "".join(f"{e:>9.2f}" for e in cells)
+              + (f"{statistics.median(base):>8.2f}" if base else f"{'':>8}")
+              + f"{t1 - t0:>9.2f}{(t2 - t1) - (t1 - t0):>7.2f}")
+        del quick
+    print(f"collapse ratio: worst {max(collapse):.3f} (target <= 1.10)")
+    if held:
+        print(f"held-out lanes 6-10 at 34/46/70 °C through the law: median "
+              f"{statistics.median(held):.2f} %, worst {max(held):.2f} % (targets <= 6.5, <= 9); "
+              f"worst ratio to the best-a_T error {max(held_best):.2f} (target <= 1.15); "
+              f"plain route median {statistics.median(plain):.2f} %, worst {max(plain):.2f} %")
+    else:
+        print("lanes 6-10 not present (../shared/data): held-out targets not measured")
+
+
+if __name__ == "__main__":
+    main()
