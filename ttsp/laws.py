@@ -1618,10 +1618,10 @@ def _held_out_score(cls, T, y, scale, weighting_without, tr, fixed, bounds, orde
         try:
             with warnings.catch_warnings():
                 warnings.simplefilter("ignore")
-                refit = _fit_one(cls, T[keep], y[keep], weighting_without(keep), tr, fixed,
-                                 bounds, order, start=full.params)
+                params = _refit_from(cls, T[keep], y[keep], weighting_without(keep), tr, fixed,
+                                     bounds, order, full)
             with np.errstate(all="ignore"):
-                pred = float(cls._evaluate(refit.params, np.array([T[i]]), tr)[0])
+                pred = float(cls._evaluate(params, np.array([T[i]]), tr)[0])
         except (FitError, DataError):
             return math.inf
         if not math.isfinite(pred):
@@ -1633,6 +1633,39 @@ def _held_out_score(cls, T, y, scale, weighting_without, tr, fixed, bounds, orde
             e = 0.0
         errs.append(e / scale[i])
     return float(np.mean(np.square(errs)))
+
+
+def _refit_from(cls, T, y, weigh, tr, fixed, bounds, order, full: "_Outcome") -> dict:
+    """The law's constants refitted to a slightly changed table, from those of ``full``.
+
+    Linear laws are solved directly. The others take a few trust-region steps (scipy's
+    ``least_squares``, method "trf", which keeps the bounds without transforming them) from
+    the full fit's constants: a table less one row moves them little, and this costs a
+    fraction of a millisecond where a fresh fit with its start grid costs several."""
+    from scipy.optimize import least_squares
+
+    names = cls._expected_names({_poly_name(k): 0 for k in range(1, order + 1)})
+    free = tuple(n for n in names if n not in fixed)
+    defaults = _default_bounds(cls, T, tr, fixed, order)
+    lims = {n: _merge_bounds(n, defaults[n], bounds.get(n)) for n in names}
+    if cls in _LINEAR_LAWS and not any(np.any(np.isfinite(lims[n])) for n in free):
+        return _linear_outcome(cls, T, y, weigh, tr, fixed, names, free, order).params
+    lo = np.array([lims[n][0] for n in free])
+    hi = np.array([lims[n][1] for n in free])
+    x0 = np.array([_into_bounds(float(full.params[n]), lims[n][0], lims[n][1]) for n in free])
+
+    def residual(x):
+        p = dict(fixed)
+        p.update(zip(free, x))
+        with np.errstate(all="ignore"):
+            r = weigh(cls._evaluate(p, T, tr) - y)
+        return np.where(np.isfinite(r), r, 1e10)
+
+    res = least_squares(residual, x0, bounds=(lo, hi), method="trf", x_scale="jac",
+                        max_nfev=50 * (len(free) + 1))
+    out = dict(fixed)
+    out.update(zip(free, (float(v) for v in res.x)))
+    return out
 
 
 def _choose_by_held_out(outcomes: Mapping, held_out: Mapping[str, float], models: tuple,
