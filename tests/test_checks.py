@@ -25,6 +25,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from ttsp import checks
+from ttsp._noise import third_difference_sigmas
 from ttsp.checks import CheckResult, run_checks
 from ttsp.data import Campaign
 from ttsp.exceptions import DataError
@@ -649,7 +650,7 @@ def test_noise_estimates_of_ragged_sequences_match_one_at_a_time():
         d3 = np.diff(y, 3)
         return np.median(np.abs(d3 - np.median(d3))) / (0.6744897501960817 * math.sqrt(20.0))
 
-    got = checks._d3_sigmas(seqs)
+    got = third_difference_sigmas(seqs)
     np.testing.assert_allclose(got, [one(y) for y in seqs], rtol=1e-12, equal_nan=True)
     assert np.isnan(got[:2]).all() and np.isfinite(got[2:]).all()
 

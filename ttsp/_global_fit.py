@@ -86,6 +86,7 @@ class JointProblem:
     s_fixed: dict          # isotherm -> fixed log10 aT (includes the gauge anchor)
     fit_vertical: bool = False
     c_fixed: dict = None   # isotherm -> fixed log10 bT (the vertical gauge anchor)
+    relative_noise: np.ndarray = None   # per function: its point-to-point noise, any unit
 
     @property
     def n_fn(self) -> int:
@@ -659,7 +660,10 @@ class _Fit:
 
     def estimate_sigma(self, r_raw, floor=1e-5):
         """Noise scale per function: one pooled scale for all moduli and compliances (their
-        log residuals are relative errors of the same kind), an own one for tan δ and δ.
+        log residuals are relative errors of the same kind), an own one for tan δ and δ;
+        within the pool, each function's share follows its point-to-point noise
+        (``JointProblem.relative_noise``), so that a function that is really noisier counts
+        less, while a function that merely fits the master curve worse does not.
 
         Scales estimated from the residuals about the master curve measure the curve's misfit
         as much as the noise. On real campaigns the misfit dominates, and it differs between
@@ -673,10 +677,14 @@ class _Fit:
         pooled = [q for q in range(self.p.n_fn) if self.p.vertical_sign[q] != 0]
         if len(pooled) > 1:
             groups = [pooled] + [[q] for q in range(self.p.n_fn) if q not in pooled]
+        rel = (np.ones(self.p.n_fn) if self.p.relative_noise is None
+               else np.asarray(self.p.relative_noise, dtype=float))
         sig = np.empty(self.p.n_fn)
         for group in groups:
-            rq = r_raw[np.isin(fn, group)]
-            sig[group] = max(_MAD_TO_SIGMA * np.median(np.abs(rq - np.median(rq))), floor)
+            mask = np.isin(fn, group)
+            rq = r_raw[mask] / rel[fn[mask]]
+            base = max(_MAD_TO_SIGMA * np.median(np.abs(rq - np.median(rq))), floor)
+            sig[group] = base * rel[group]
         return sig
 
 

@@ -54,6 +54,8 @@ from typing import Callable, Mapping
 import numpy as np
 
 from ._arrays import to_plain
+from ._noise import NOISE_FLOOR_LOG10 as _NOISE_FLOOR_LOG10
+from ._noise import third_difference_sigmas
 from ._validation import bad_value, check_choice
 from .data import Campaign
 from .exceptions import DataError, FitError
@@ -84,10 +86,8 @@ STATUSES = ("pass", "warn", "fail")
 # Thresholds. Each is a named constant with the reason for its value.
 # ----------------------------------------------------------------------------------------------
 
-#: Smallest noise (decades of log10) assumed for a logarithmic quantity. Exact or smoothed data
-#: would otherwise give a zero noise and turn interpolation error into "spread". 0.002 decade is
-#: 0.46 %, below the 1-2 % repeatability usual for DMA moduli [common practice, no source].
-NOISE_FLOOR_LOG10 = 0.002
+#: Smallest noise (decades of log10) assumed for a logarithmic quantity (see ttsp._noise).
+NOISE_FLOOR_LOG10 = _NOISE_FLOOR_LOG10
 #: Smallest noise (rad) assumed for the phase angle δ: what 0.46 % noise on E' and E'' gives at
 #: δ = 45° (σ_δ = sin δ cos δ · √2 · ln 10 · 0.002 ≈ 0.0033 rad), rounded down.
 NOISE_FLOOR_RAD = 0.003
@@ -183,10 +183,6 @@ NOISE_FAIL_PERCENT = 15.0
 NOISE_ISOTHERM_RATIO = 3.0
 
 _LN10 = math.log(10.0)
-#: Normal-consistency factor of the median absolute deviation: median |Z| = 0.6745 for Z ~ N(0,1).
-_MAD_NORMAL = 0.6744897501960817
-#: Var(Δ³ε) = 20 σ² for independent ε of variance σ² (binomial coefficients 1, −3, 3, −1).
-_D3_VARIANCE_FACTOR = 20.0
 _RESIDUAL_ZERO_DECADES = 1e-9
 
 
@@ -281,30 +277,6 @@ def _fmt_C(temperature_K: float) -> str:
 # ----------------------------------------------------------------------------------------------
 # noise
 # ----------------------------------------------------------------------------------------------
-def _d3_sigmas(sequences) -> np.ndarray:
-    """Noise standard deviation of each sequence from its third differences (NaN below 5
-    finite values).
-
-    For y = smooth + ε with independent ε of variance σ², Δ³y = Δ³smooth + Δ³ε and
-    Var(Δ³ε) = 20σ². Δ³smooth varies slowly along a densely sampled curve, so the median
-    absolute deviation of Δ³y about its median, divided by 0.6745·√20, estimates σ robustly
-    (von Neumann et al., Ann. Math. Stat. 12, 153, 1941, introduced variance estimates from
-    successive differences; the median absolute deviation is Hampel's, J. Am. Stat. Assoc. 69,
-    383, 1974). Points are taken in order, as if equally spaced in log x; non-finite values are
-    dropped. Sequences of one length are computed together as the rows of one array.
-    """
-    cleaned = [np.asarray(y, dtype=float) for y in sequences]
-    cleaned = [y[np.isfinite(y)] for y in cleaned]
-    out = np.full(len(cleaned), math.nan)
-    lengths = np.array([y.size for y in cleaned])
-    for size in np.unique(lengths[lengths >= 5]):
-        rows = np.flatnonzero(lengths == size)
-        d3 = np.diff(np.stack([cleaned[k] for k in rows]), 3, axis=1)
-        mad = np.median(np.abs(d3 - np.median(d3, axis=1, keepdims=True)), axis=1)
-        out[rows] = mad / (_MAD_NORMAL * math.sqrt(_D3_VARIANCE_FACTOR))
-    return out
-
-
 def _log_or_linear(quantity: str, values: np.ndarray) -> np.ndarray:
     v = np.asarray(values, dtype=float)
     if quantity == "phase_angle_rad":
@@ -341,7 +313,7 @@ def _estimate_noise(campaign: Campaign) -> dict:
 
     The noise of a positive quantity is the standard deviation of its log10 values (decades;
     multiply by ln 10 for the relative noise), that of the phase angle δ in radians. See
-    :func:`_d3_sigmas` for the estimator.
+    :func:`ttsp._noise.third_difference_sigmas` for the estimator.
 
     Parameters
     ----------
@@ -358,7 +330,7 @@ def _estimate_noise(campaign: Campaign) -> dict:
     campaign = _as_campaign(campaign).with_derived()
     cells = [(k, q, _log_or_linear(q, v)) for k, iso in enumerate(campaign.isotherms)
              for q, v in iso.values.items()]
-    sigmas = _d3_sigmas([y for _, _, y in cells])
+    sigmas = third_difference_sigmas([y for _, _, y in cells])
     per = [{"temperature_K": iso.temperature_K} for iso in campaign.isotherms]
     pooled = {}
     for (k, q, _), sd in zip(cells, sigmas):
