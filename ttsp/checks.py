@@ -136,13 +136,13 @@ KK_NOISE_FACTOR = 2.5
 #: frequency): there a predicted function depends on the spectrum outside the data.
 KK_EDGE_DECADES = 0.5
 #: Density of the relaxation-time grid of the Kramers–Kronig fits (per decade): two per decade
-#: keep the ripple of E'' near 0.15 % (REFERENCE §10.18).
+#: keep the ripple of E'' near 0.15 % (docs/methods.md §8).
 KK_TERMS_PER_DECADE = 2.0
 
 #: Overlap coverage: an overlap of at least 0.1 decade in the ordinate, or at least a quarter of
 #: the narrower isotherm's ordinate span (isotherms on a plateau span little), lets a horizontal
 #: shift be found from the data [common practice, no source]. A negative overlap (disjoint
-#: ordinate ranges) is a gap: no horizontal shift can make the isotherms meet (REFERENCE §2.8).
+#: ordinate ranges) is a gap: no horizontal shift can make the isotherms meet (docs/methods.md §2.5).
 MIN_OVERLAP_DECADES = 0.1
 MIN_OVERLAP_FRACTION = 0.25
 #: Disjoint ordinate ranges closer than this many noise standard deviations count as touching
@@ -157,8 +157,8 @@ MONOTONIC_SIGMA = 2.0
 #: half of it, Bonferroni).
 LAW_PATTERN_ALPHA = 0.05
 #: Residuals whose rms is below this (decades) carry no pattern worth a warning: 0.02 decade is
-#: about the accuracy of good automatic shifts at 2 % noise (REFERENCE issue benchmark target
-#: rms 0.018 decade).
+#: about the accuracy of good automatic shifts at 2 % noise (rms 0.017 decade on
+#: benchmarks/bench_shifting.py).
 LAW_RESIDUAL_FLOOR_DECADES = 0.02
 #: A law that misses the shift factors by more than this rms (decades; a factor 2 in time) fails.
 LAW_RESIDUAL_FAIL_DECADES = 0.3
@@ -711,7 +711,7 @@ def check_shifted_superposition(campaign: Campaign, shifts) -> CheckResult | Non
     """Superposition error after shifting: spread of overlapping shifted isotherms.
 
     Frequency data: log10 tan δ against log10(ω·a_T). tan δ is unchanged by a vertical shift, so
-    this tests the horizontal shifts alone (REFERENCE §1.3; common practice). Time data: log10 of
+    this tests the horizontal shifts alone (docs/methods.md §6.1; common practice). Time data: log10 of
     the measured function divided by b_T (times b_T for a compliance) against log10(t/a_T).
     Every pair of isotherms whose reduced ranges overlap is compared as in
     :func:`check_van_gurp_palmen`, the shift standard errors entering as noise of the abscissa.
@@ -860,9 +860,9 @@ def check_kramers_kronig(campaign: Campaign | None = None, *, shifts=None,
     """Kramers–Kronig consistency of E' and E'' of the master curve.
 
     For a causal linear material E' and E'' are the two faces of one relaxation spectrum
-    (Booij & Thoone, Rheol. Acta 21, 15-24, 1982; REFERENCE §5.5). E' alone is fitted with a
+    (Booij & Thoone, Rheol. Acta 21, 15-24, 1982; docs/methods.md §6.2). E' alone is fitted with a
     non-negative Prony series and E'' predicted from it, and E'' alone is fitted and E' predicted
-    (common practice, REFERENCE §5.5). The value is the larger rms relative disagreement (%)
+    (common practice, docs/methods.md §6.2). The value is the larger rms relative disagreement (%)
     between a prediction and the measured function, over the master curve without its outer
     :data:`KK_EDGE_DECADES` (there a prediction depends on the spectrum beyond the data).
 
@@ -965,7 +965,7 @@ def check_overlap_coverage(campaign: Campaign, *, shifts=None) -> CheckResult | 
 
     A horizontal shift moves an isotherm along log x only, so two isotherms of a monotonic
     function (E', |E*|, E(t), D(t)) can be made to meet only if their ordinate ranges intersect
-    (REFERENCE §2.8; the area-between-curves method of Gergesova et al., J. Rheol. 55, 1, 2011,
+    (docs/methods.md §2.5; the area-between-curves method of Gergesova et al., J. Rheol. 55, 1, 2011,
     works on exactly that common ordinate range). For each neighbouring pair the overlap is
     min(upper ends) − max(lower ends) of log10 of the function. A pair overlaps enough with
     ≥ :data:`MIN_OVERLAP_DECADES` or ≥ :data:`MIN_OVERLAP_FRACTION` of the narrower span; with
@@ -1189,7 +1189,7 @@ def check_law_residuals(law_fit, *, shifts=None) -> CheckResult:
     both :data:`LAW_RESIDUAL_FLOOR_DECADES` and twice the typical shift standard error. A
     pattern in a single law suggests the temperature dependence changes inside the range, most
     often on crossing the glass transition: WLF above Tg, Arrhenius below (Struik 1978;
-    REFERENCE §1.4, §3.4), so the law across Tg ('wlf-arrhenius') is suggested.
+    docs/methods.md §6.4, §3.1), so the law across Tg ('wlf-arrhenius') is suggested.
 
     Parameters
     ----------
@@ -1309,7 +1309,7 @@ def check_master_curve_range(prony_fit) -> CheckResult:
 
     At a data end where the local slope |d ln E/d ln x| of the fitted curve exceeds the plateau
     criterion of the fit, the glassy (instantaneous) or rubbery (equilibrium) modulus is not
-    measured but extrapolated by the series (REFERENCE §4.5, §9.10). Predictions beyond the
+    measured but extrapolated by the series (docs/methods.md §4.4). Predictions beyond the
     valid reduced-time range are extrapolations too.
 
     Parameters

@@ -4,12 +4,12 @@ For users who prefer a handful of parameters to a Prony series, and as an indepe
 one. The models live in a registry (:data:`MODELS`), each with its equation and source:
 
 * ``sigmoid`` - the sigmoidal model of the dynamic modulus used for asphalt mixes
-  (Pellinen & Witczak 2002; REFERENCE §7):
+  (Pellinen & Witczak 2002; docs/methods.md §8):
   log10|E*| = δ + α/(1 + exp(β + γ·log10 f_r)), f_r = ω_r/(2π) the reduced frequency in Hz.
   δ is the lower (equilibrium) and δ + α the upper (glassy) log10 modulus (log10 Pa); the
   inflection lies at log10 f_r = −β/γ; γ < 0 in this frequency form.
 * ``havriliak_negami`` - E*(ω) = E_r + ΔE[1 − (1 + (iωτ)^α)^(−β)], 0 < α ≤ 1, 0 < αβ ≤ 1
-  (Havriliak & Negami, Polymer 8:161, 1967, transcribed to the modulus; REFERENCE §8).
+  (Havriliak & Negami, Polymer 8:161, 1967, transcribed to the modulus; docs/methods.md §8).
 * ``cole_cole`` - the case β = 1: E* = E_r + ΔE (iωτ)^α/(1 + (iωτ)^α)
   (Cole & Cole, J. Chem. Phys. 9:341, 1941).
 * ``cole_davidson`` - the case α = 1: E* = E_r + ΔE[1 − (1 + iωτ)^(−β)]
@@ -43,7 +43,7 @@ __all__ = ["ClosedFormModel", "MODELS", "ClosedFormFit", "FitComparison",
 def sigmoid_log10_modulus(omega_rad_s, delta, alpha, beta, gamma):
     """log10|E*| = δ + α/(1 + exp(β + γ log10 f_r)) with f_r = ω/(2π) (Hz).
 
-    Pellinen & Witczak 2002 (REFERENCE §7). δ, α in log10 Pa (δ + α is the glassy plateau),
+    Pellinen & Witczak 2002 (docs/methods.md §8). δ, α in log10 Pa (δ + α is the glassy plateau),
     β and γ dimensionless; ``omega_rad_s`` in rad/s.
     """
     logf = np.log10(np.asarray(omega_rad_s, dtype=float) / (2 * np.pi))
@@ -54,7 +54,7 @@ def havriliak_negami_modulus(omega_rad_s, relaxed_modulus_Pa, relaxation_strengt
                              alpha, beta):
     """E*(ω) = E_r + ΔE[1 − (1 + (iωτ)^α)^(−β)] (Pa, complex).
 
-    Havriliak & Negami 1967 in modulus form (REFERENCE §8): E_r relaxed modulus (Pa),
+    Havriliak & Negami 1967 in modulus form (docs/methods.md §8): E_r relaxed modulus (Pa),
     ΔE = E_u − E_r relaxation strength (Pa), τ (s), 0 < α ≤ 1, 0 < αβ ≤ 1; ω in rad/s.
     β = 1 is Cole-Cole, α = 1 Cole-Davidson, α = β = 1 the standard linear solid.
     """
@@ -66,7 +66,7 @@ def havriliak_negami_modulus(omega_rad_s, relaxed_modulus_Pa, relaxation_strengt
 def hn_loss_peak_omega_tau(alpha: float, beta: float) -> float:
     """ω_max·τ of the Havriliak-Negami loss peak,
     [sin(απ/(2β+2)) / sin(αβπ/(2β+2))]^(1/α) (Díaz-Calleja, Macromolecules 33:8924, 2000;
-    REFERENCE §8, verified numerically there)."""
+    docs/methods.md §8, verified numerically there)."""
     a, b = float(alpha), float(beta)
     ratio = math.sin(a * math.pi / (2 * b + 2)) / math.sin(a * b * math.pi / (2 * b + 2))
     return ratio ** (1 / a)

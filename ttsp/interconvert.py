@@ -34,7 +34,7 @@ eigenvalue updates (Golub, SIAM Review 15:318, 1973; Bunch, Nielsen & Sorensen, 
    \\qquad D_g + \\sum_j D_j = 1/E_\\infty,
 
 and for a liquid (:math:`E_\\infty = 0`) the missing root becomes the flow term
-:math:`t/\\eta_0` with :math:`\\eta_0 = \\sum_i E_i\\tau_i` (REFERENCE §5.2; the same algebra is
+:math:`t/\\eta_0` with :math:`\\eta_0 = \\sum_i E_i\\tau_i` (docs/methods.md §5.2; the same algebra is
 given for Prony series by Luk-Cyr, Crochon, Li & Lévesque, Mech. Time-Depend. Mater. 17:53,
 2013). The reverse conversion solves the same kind of equation on the compliance side.
 
@@ -267,7 +267,7 @@ class CreepSeries:
         """Complex compliance D*(ω) = D'(ω) − i D''(ω) (1/Pa, complex).
 
         D*(ω) = D_g + Σ D_j/(1 + iωλ_j) + φ/(iω), the Carson transform sD̄(s) at s = iω, so that
-        E*(ω)·D*(ω) = 1 with E* = E' + iE'' (Ferry 1980, ch. 1; REFERENCE §5.1).
+        E*(ω)·D*(ω) = 1 with E* = E' + iE'' (Ferry 1980, ch. 1; docs/methods.md §5.1).
 
         Parameters
         ----------
@@ -526,7 +526,7 @@ def relaxation_to_creep(series: PronySeries) -> CreepSeries:
        D_g = 1/E_0,\\quad D_j = \\Big[\\lambda_j \\sum_i \\frac{E_i\\tau_i}{(\\lambda_j-\\tau_i)^2}
        \\Big]^{-1},\\quad \\varphi = 1/\\eta_0 = 1/\\sum_i E_i\\tau_i \\text{ if } E_\\infty = 0.
 
-    Ferry 1980, ch. 3; Tschoegl 1989, ch. 4; REFERENCE §5.2 (derivation in the module
+    Ferry 1980, ch. 3; Tschoegl 1989, ch. 4; docs/methods.md §5.2 (derivation in the module
     docstring). Terms with E_i = 0 carry no relaxation and are left out; terms with equal τ_i
     are merged (sum of E_i): the function E(t) is unchanged.
 
@@ -589,7 +589,7 @@ def creep_to_relaxation(creep: CreepSeries) -> PronySeries:
        + \\varphi\\Big)\\Big]^{-1},\\qquad E_\\infty = 1/(D_g + \\textstyle\\sum_j D_j)
        \\text{ (solid) or } 0 \\text{ (liquid)}.
 
-    Tschoegl 1989, ch. 4; REFERENCE §5.2 (derived here in the same way as the forward
+    Tschoegl 1989, ch. 4; docs/methods.md §5.2 (derived here in the same way as the forward
     conversion). Zero D_j are left out and equal λ_j merged.
 
     Parameters

@@ -66,7 +66,7 @@ def log_spaced_relaxation_times(lo_s: float, hi_s: float, *, terms_per_decade: f
     """Relaxation times log-spaced over ``[lo_s, hi_s]`` widened by a margin at each end.
 
     The grid runs from ``lo_s / 10**margin_decades`` to ``hi_s * 10**margin_decades`` with a
-    spacing of at most ``1/terms_per_decade`` decades (REFERENCE §4.2; Park & Schapery,
+    spacing of at most ``1/terms_per_decade`` decades (docs/methods.md §4.2; Park & Schapery,
     Int. J. Solids Struct. 36:1653, 1999, use the same construction).
 
     Parameters
@@ -383,7 +383,7 @@ class PronySeries:
     def creep_series(self):
         """The equivalent retardation (creep) series, by exact interconversion.
 
-        Delegates to :func:`ttsp.interconvert.relaxation_to_creep` (REFERENCE §5.2).
+        Delegates to :func:`ttsp.interconvert.relaxation_to_creep` (docs/methods.md §5.2).
         """
         from .interconvert import relaxation_to_creep
 
@@ -982,7 +982,7 @@ def fit_prony_frequency(omega_rad_s, storage_modulus_Pa, loss_modulus_Pa, *,
     The E' and E'' rows are stacked and each row is divided by its measured value
     (relative residuals), so every decade of modulus counts and E'' is not swamped by E'
     when tan δ is small; the problem min ||W(Ax − y)||, x ≥ 0 is solved by non-negative least
-    squares (Lawson & Hanson 1974; REFERENCE §4.2). The grid spans
+    squares (Lawson & Hanson 1974; docs/methods.md §4.2). The grid spans
     [1/ω_max, 1/ω_min] widened by ``margin_decades`` at each end; the default two terms per
     decade keeps the ripple of a uniform series in E'' near 0.15 % (one per decade: ≈ 12 %).
 
@@ -1132,12 +1132,12 @@ def fit_prony_time(time_s, values, *, quantity: str = "relaxation_modulus",
     ``quantity="relaxation_modulus"``: with τ_i fixed on a log-spaced grid from
     t_min/10^short_time_margin_decades to t_max·10^margin_decades, E(t_j) = E_∞ + Σ E_i exp(−t_j/τ_i) is linear
     in (E_∞, E_i) and is solved by non-negative least squares with relative residuals
-    (Lawson & Hanson 1974; REFERENCE §4.2).
+    (Lawson & Hanson 1974; docs/methods.md §4.2).
 
     ``quantity="creep_compliance"``: a retardation series
     D(t) = D_g + Σ D_j (1 − exp(−t/λ_j)) [+ φ t if ``fluid``], all coefficients ≥ 0, is fitted
     the same way on a log-spaced λ grid, then converted exactly into the relaxation series by
-    :func:`ttsp.interconvert.creep_to_relaxation` (REFERENCE §5.1-5.2; Tschoegl 1989, ch. 4).
+    :func:`ttsp.interconvert.creep_to_relaxation` (docs/methods.md §5.1-5.2; Tschoegl 1989, ch. 4).
     The fitted creep series is kept in ``PronyFit.creep``.
 
     Parameters
@@ -1155,7 +1155,7 @@ def fit_prony_time(time_s, values, *, quantity: str = "relaxation_modulus",
     short_time_margin_decades : float
         Extension of the grid below the shortest time (decades), default 0.25. A term with
         τ well below t_min is not determined by the data, since exp(−t_min/τ) vanishes,
-        and only adds arbitrary stiffness to E_0 (REFERENCE §4.5): with a full decade of
+        and only adds arbitrary stiffness to E_0 (docs/methods.md §4.4): with a full decade of
         margin, 2 % noise made E_0 several times too large in trials.
     equilibrium_modulus_Pa : float, optional
         Fix E_∞ (Pa) of a relaxation fit instead of fitting it (relaxation data only).
@@ -1281,7 +1281,7 @@ def _creep_to_relaxation(glassy_compliance: float, fluidity: float, compliance: 
                          retardation_s: np.ndarray, series_kwargs: dict):
     """Exact conversion of the fitted retardation series into a relaxation series.
 
-    Delegates to :func:`ttsp.interconvert.creep_to_relaxation` (REFERENCE §5.1-5.2).
+    Delegates to :func:`ttsp.interconvert.creep_to_relaxation` (docs/methods.md §5.1-5.2).
     """
     from .interconvert import CreepSeries, creep_to_relaxation
 

@@ -1,6 +1,6 @@
 """Continuous relaxation spectrum H(τ) from a frequency master curve, by Tikhonov regularisation.
 
-The spectrum is defined by (Ferry 1980, ch. 3-4; REFERENCE §4.1)
+The spectrum is defined by (Ferry 1980, ch. 3-4; docs/methods.md §4.1)
 
 .. math::
    E'(\\omega) = E_e + \\int H(\\tau) \\frac{\\omega^2\\tau^2}{1+\\omega^2\\tau^2}\\, d\\ln\\tau, \\qquad
@@ -67,7 +67,7 @@ class RelaxationSpectrum:
     effective_parameters : float
         Trace of the influence matrix at the chosen λ (effective number of parameters).
     valid_tau_range_s : (float, float)
-        [1/ω_max, 1/ω_min]: H is determined by the data only inside this window (REFERENCE §4.3).
+        [1/ω_max, 1/ω_min]: H is determined by the data only inside this window (docs/methods.md §4.3).
     modulus_kind : str
         "tensile" or "shear".
     reference_temperature_K : float or None
@@ -264,7 +264,7 @@ def fit_relaxation_spectrum(omega_rad_s, storage_modulus_Pa, loss_modulus_Pa, *,
 
     Solves min ||W(Kx − y)||² + λ²||L h/E_ref||² with x = (E_e, h) ≥ 0, W = diag(1/y) (E' and
     E'' rows stacked), L the second-difference operator and h = H(τ_k) on a log grid with
-    trapezoid weights in ln τ (REFERENCE §4.3; Honerkamp & Weese 1989). λ is chosen by
+    trapezoid weights in ln τ (docs/methods.md §4.3; Honerkamp & Weese 1989). λ is chosen by
     generalized cross-validation (Golub, Heath & Wahba 1979) or by the L-curve corner
     (log penalty versus log residual, Hansen 1992; the corner is the point farthest from the
     chord joining the curve's ends, robust to the flat stretches the positivity constraint
@@ -278,7 +278,7 @@ def fit_relaxation_spectrum(omega_rad_s, storage_modulus_Pa, loss_modulus_Pa, *,
     storage_modulus_Pa, loss_modulus_Pa : array_like
         Measured E'(ω) and E''(ω) (Pa), > 0.
     points_per_decade : float
-        Density of the τ grid (points per decade), default 8 (REFERENCE §4.3: 5-10).
+        Density of the τ grid (points per decade), default 8 (docs/methods.md §4.3: 5-10).
     margin_decades : float
         Extension of the grid beyond [1/ω_max, 1/ω_min] at each end (decades), default 1.
     method : {"gcv", "lcurve"}
