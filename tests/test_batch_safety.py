@@ -231,3 +231,23 @@ def test_frame_writer_neutralises_text_cells_but_not_numbers():
     assert text == "source,value\n\"'=HYPERLINK(\"\"x\"\")\",-1.5\nok.csv,2\n"
     single = frame_to_csv_text(pd.DataFrame({"source": ["@x", "y"]}))   # pandas' own path
     assert single == "source\n'@x\ny\n"
+
+
+def test_a_batch_tidies_what_killed_runs_left_in_its_folder(campaigns, tmp_path):
+    """Leftovers of builds killed in an earlier run (temporary folders of ended processes, lock
+    files, a half-written copy of the results table) go; a moved-aside previous output of a
+    campaign whose folder is missing comes back."""
+    from test_output_safety import made_output
+
+    out = tmp_path / "out"
+    manifest = manifest_of(campaigns, 2, tmp_path / "m.csv")
+    run_batch(manifest, out, workers=1, quiet=True)
+    dead = int(subprocess.run([sys.executable, "-c", "import os; print(os.getpid())"],
+                              capture_output=True, text=True, check=True).stdout)
+    (out / f".ttsp-tmp-c0.{dead}.abcd").mkdir()
+    (out / ".ttsp-lock-c0").write_text(str(dead))
+    (out / ".results.csv.x1y2").write_text("half")
+    (out / "c1").rename(out / f".ttsp-old-c1.{dead}.ef01")    # killed between two renames
+    table = run_batch(manifest, out, workers=1, quiet=True)
+    assert table["skipped"].all()                             # c1 came back whole: reused
+    assert [p.name for p in out.iterdir() if p.name.startswith(".")] == [".ttsp-output"]

@@ -38,6 +38,16 @@ Resuming
     (:func:`ttsp.io.atomic.atomic_output_dir`); the results table is replaced atomically as
     campaigns finish.
 
+Safety
+    The batch folder is locked for the run (a second batch into it fails at once) and carries a
+    ``.ttsp-output`` marker of kind ``batch`` with the hashes of the results files: a
+    ``results.csv`` or ``results.jsonl`` that ttsp did not write, or that was edited since, is
+    never overwritten (the batch stops before any work). A campaign folder that is not an
+    untouched ttsp output is a ``failed`` row, never replaced. SIGTERM kills the workers at once,
+    records the finished campaigns and raises :class:`ttsp._lifetime.Terminated` (exit 143 on
+    the command line); workers also end when the batch's process dies (``kill -9``). Text cells
+    of ``results.csv`` that a spreadsheet would run as formulas get a leading ``'``.
+
 Results table columns
     ``id``, ``status`` (``ok`` | ``failed``), ``error`` (empty when ok), ``skipped``, ``path``,
     ``input_sha256``, ``domain``, ``modulus_kind``, ``isotherms``, ``reference_temperature_C``,
@@ -883,6 +893,7 @@ def run_batch(manifest, out_dir, *, workers: int | None = None, figures: bool = 
     try:
         with sigterm_raises(), folder_lock(out.resolve(), out):
             _check_results_files(out)
+            _tidy(out)
             return _run_items(items, out, workers=workers, figures=figures, force=force,
                               scheduler=scheduler, client=client, progress=progress, quiet=quiet,
                               task=_task or _build_one)
@@ -909,6 +920,19 @@ def _check_results_files(out: Path) -> None:
             raise DataError(f"{path}: exists and is not a results table that ttsp batch wrote "
                             f"(or it was changed since); ttsp will not overwrite it: move it or "
                             f"choose another --out")
+
+
+def _tidy(out: Path) -> None:
+    """Remove what killed runs of this batch left in its folder (the caller holds its lock):
+    the hidden temporary folders and lock files of killed builds (their previous outputs
+    recovered), and half-written copies of the results table."""
+    from .io.atomic import tidy_leftovers
+
+    tidy_leftovers(out)
+    for name in RESULT_FILES:
+        for stale in out.glob(f".{name}.*"):
+            with contextlib.suppress(OSError):
+                stale.unlink()
 
 
 def _run_items(items, out: Path, *, workers, figures, force, scheduler, client, progress, quiet,

@@ -92,6 +92,27 @@ def _recover(dest: Path, kinds) -> None:
         shutil.rmtree(stale, ignore_errors=True)
 
 
+_LEFTOVER = re.compile(r"^\.ttsp-(?:(?:tmp|old)-(.+)\.\d+\.[^.]+|lock-(.+))$")
+
+
+def tidy_leftovers(folder, kinds=("build", "demo")) -> None:
+    """Tidy what killed runs left in ``folder`` for any destination in it (a batch's folder):
+    for each destination no live run holds, the recovery of :func:`atomic_output_dir`, and its
+    stale lock file removed. Destinations a live run is writing are left alone."""
+    folder = Path(folder)
+    names = set()
+    for entry in folder.glob(".ttsp-*"):
+        m = _LEFTOVER.match(entry.name)
+        if m:
+            names.add(m.group(1) or m.group(2))
+    for name in sorted(names):
+        try:
+            with folder_lock(folder.resolve() / name, folder / name):
+                _recover(folder.resolve() / name, kinds)
+        except DataError:   # a live run holds it
+            continue
+
+
 def scratch_dir(destination) -> Path:
     """A private temporary folder beside ``destination``, named like the output's own temporary
     folders, so that a later run removes it if this process is killed before it does."""
@@ -254,4 +275,4 @@ def write_text_atomic(path, text: str) -> None:
         raise
 
 
-__all__ += ["output_kind", "MARKER"]
+__all__ += ["output_kind", "tidy_leftovers", "MARKER"]
