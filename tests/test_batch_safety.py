@@ -247,6 +247,7 @@ def test_a_batch_tidies_what_killed_runs_left_in_its_folder(campaigns, tmp_path)
     (out / f".ttsp-tmp-c0.{dead}.abcd").mkdir()
     (out / ".ttsp-lock-c0").write_text(str(dead))
     (out / ".results.csv.x1y2").write_text("half")
+    (out / "..ttsp-output.x1y2").write_text("half")
     (out / "c1").rename(out / f".ttsp-old-c1.{dead}.ef01")    # killed between two renames
     table = run_batch(manifest, out, workers=1, quiet=True)
     assert table["skipped"].all()                             # c1 came back whole: reused

@@ -925,11 +925,12 @@ def _check_results_files(out: Path) -> None:
 def _tidy(out: Path) -> None:
     """Remove what killed runs of this batch left in its folder (the caller holds its lock):
     the hidden temporary folders and lock files of killed builds (their previous outputs
-    recovered), and half-written copies of the results table."""
+    recovered), and half-written copies of the results table and of the marker."""
     from .io.atomic import tidy_leftovers
+    from .io.marker import MARKER
 
     tidy_leftovers(out)
-    for name in RESULT_FILES:
+    for name in (*RESULT_FILES, MARKER):   # write_text_atomic's temporary copies
         for stale in out.glob(f".{name}.*"):
             with contextlib.suppress(OSError):
                 stale.unlink()

@@ -85,8 +85,11 @@ def protected_place(folder) -> str | None:
     """Why ``folder`` may never be replaced (the current folder or one holding it, the home
     folder, the file-system root), or None."""
     folder = Path(folder).resolve()
-    cwd = Path.cwd().resolve()
-    if folder == cwd or folder in cwd.parents:
+    try:
+        cwd = Path.cwd().resolve()
+    except OSError:   # the current folder was removed: nothing to protect there
+        cwd = None
+    if cwd is not None and (folder == cwd or folder in cwd.parents):
         return "it is the current folder or holds it"
     home = Path(os.path.expanduser("~"))
     if home.is_absolute() and folder == home.resolve():
