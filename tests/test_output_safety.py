@@ -361,3 +361,33 @@ def test_killed_build_leaves_one_hidden_folder_and_the_next_run_tidies(tmp_path)
     res = invoke("build", campaign, "--out", out, "--force", "--no-figures", "-q")
     assert res.exit_code == 0, res.output
     assert not list(tmp_path.glob(".ttsp-*"))
+
+
+def test_sigterm_during_a_build_exits_143_and_leaves_nothing_hidden(tmp_path):
+    """SIGTERM unwinds the build like Ctrl-C: the previous output stays, the temporary folder,
+    the lock file and the drawing processes go."""
+    from test_batch_safety import tagged_processes, wait_gone
+
+    campaign = write_campaign(tmp_path / "c.csv")
+    out = made_output(tmp_path / "out")
+    before = tree_hash(out)
+    tag = f"sigterm-build-{os.getpid()}"
+    env = {**os.environ, "PYTHONPATH": str(ROOT), "TTSP_TEST_TAG": tag}
+    proc = subprocess.Popen([sys.executable, "-m", "ttsp", "build", str(campaign), "--out",
+                             str(out), "--force", "-q"], env=env, stdout=subprocess.DEVNULL,
+                            stderr=subprocess.PIPE, text=True)
+    try:
+        deadline = time.monotonic() + 120
+        while not list(tmp_path.glob(".ttsp-tmp-out.*/summary.json")) and proc.poll() is None \
+                and time.monotonic() < deadline:
+            time.sleep(0.01)
+        assert proc.poll() is None, "the build ended before it could be stopped"
+        proc.send_signal(signal.SIGTERM)
+        _, err = proc.communicate(timeout=60)
+    finally:
+        if proc.poll() is None:
+            proc.kill()
+    assert proc.returncode == 143 and err == "ttsp: error: terminated (SIGTERM)\n"
+    assert wait_gone(tag, 5) == []
+    assert tree_hash(out) == before
+    assert not list(tmp_path.glob(".ttsp-*"))

@@ -149,7 +149,9 @@ def draw_figures(result, folder, *, parallel: bool = True, early=None) -> dict:
     with figures); ``early`` is the handle of :func:`start_campaign_figures`, whose files are moved
     in. Whatever a child fails to draw is drawn here, so the result never depends on forking.
     """
+    import os
     import shutil
+    import signal
 
     from .plotting import CAMPAIGN_FIGURES, figure_files, figure_names, load_matplotlib, \
         render_campaign_figures, render_figures, save_figures
@@ -160,20 +162,30 @@ def draw_figures(result, folder, *, parallel: bool = True, early=None) -> dict:
     every = figure_names(result)
     later = [n for n in every if n not in CAMPAIGN_FIGURES]
     children = []   # (pid, names) of forked drawers
-    if parallel and _can_fork():
-        for group in _FIGURE_GROUPS[:-1]:
-            names = [n for n in later if n in group]
-            if names:
-                children.append((_fork_drawing(
-                    lambda names=names: render_figures(result, names), folder), names))
-        drawn = {n for _, names in children for n in names}
-        later = [n for n in later if n not in drawn]
-    saved.update(save_figures(render_figures(result, later), folder))
-    for pid, names in children:
-        if _child_ok(pid):
-            saved.update({k: figure_files(folder, k) for k in names})
-        else:
-            saved.update(save_figures(render_figures(result, names), folder))
+    try:
+        if parallel and _can_fork():
+            for group in _FIGURE_GROUPS[:-1]:
+                names = [n for n in later if n in group]
+                if names:
+                    children.append((_fork_drawing(
+                        lambda names=names: render_figures(result, names), folder), names))
+            drawn = {n for _, names in children for n in names}
+            later = [n for n in later if n not in drawn]
+        saved.update(save_figures(render_figures(result, later), folder))
+        for pid, names in list(children):
+            ok = _child_ok(pid)
+            children.remove((pid, names))
+            if ok:
+                saved.update({k: figure_files(folder, k) for k in names})
+            else:
+                saved.update(save_figures(render_figures(result, names), folder))
+    except BaseException:   # Ctrl-C, SIGTERM: no drawing process goes on writing
+        for pid, _ in children:
+            with contextlib.suppress(OSError):
+                os.kill(pid, signal.SIGKILL)
+            with contextlib.suppress(OSError):
+                _child_ok(pid)
+        raise
     if early is not None and _child_ok(early[0]) and all(
             (early[1] / f"{k}.{e}").is_file() for k in CAMPAIGN_FIGURES for e in ("png", "svg")):
         for k in CAMPAIGN_FIGURES:
