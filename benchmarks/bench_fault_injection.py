@@ -45,7 +45,8 @@ def main() -> int:
             durations.setdefault((command, trial.figures), trial.full_s)
             trials.append(trial)
             print(f"{i:3d} {command:5s} figures={trial.figures!s:5s} {trial.signal_name:7s} "
-                  f"after {trial.delay_s:5.2f} s of {trial.full_s:5.2f} s: exit {trial.exit_status:4d}, "
+                  f"after {trial.delay_s:5.2f} s of {trial.full_s:5.2f} s: "
+                  f"exit {trial.exit_status:4d}, "
                   f"processes left {trial.processes_left}, hidden left {trial.hidden_left}, "
                   f"{'ok' if trial.ok else 'PROBLEMS: ' + '; '.join(trial.problems)}", flush=True)
     print()

@@ -210,7 +210,8 @@ def run_trial(work: Path, command: str, seed: int, *, full_s=None) -> Trial:
     rerun_ok = rerun.returncode == 0 and not _hidden(command, out) and not _output_problems(
         command, out) and _hashes(user) == before
     if not rerun_ok:
+        hidden_now = [p.name for p in _hidden(command, out)]
         problems.append(f"the rerun did not finish cleanly (exit {rerun.returncode}: "
-                        f"{rerun.stderr.strip()[:200]}; hidden {[p.name for p in _hidden(command, out)]})")
+                        f"{rerun.stderr.strip()[:200]}; hidden {hidden_now})")
     return Trial(command, seed, figures, signal.Signals(sig).name, delay, full_s, status,
                  len(left), intact, not output, len(hidden), rerun_ok, problems)

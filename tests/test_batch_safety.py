@@ -237,13 +237,12 @@ def test_a_batch_tidies_what_killed_runs_left_in_its_folder(campaigns, tmp_path)
     """Leftovers of builds killed in an earlier run (temporary folders of ended processes, lock
     files, a half-written copy of the results table) go; a moved-aside previous output of a
     campaign whose folder is missing comes back."""
-    from test_output_safety import made_output
+    from test_output_safety import dead_pid
 
     out = tmp_path / "out"
     manifest = manifest_of(campaigns, 2, tmp_path / "m.csv")
     run_batch(manifest, out, workers=1, quiet=True)
-    dead = int(subprocess.run([sys.executable, "-c", "import os; print(os.getpid())"],
-                              capture_output=True, text=True, check=True).stdout)
+    dead = dead_pid()
     (out / f".ttsp-tmp-c0.{dead}.abcd").mkdir()
     (out / ".ttsp-lock-c0").write_text(str(dead))
     (out / ".results.csv.x1y2").write_text("half")

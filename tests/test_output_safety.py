@@ -38,6 +38,15 @@ ROOT = Path(__file__).resolve().parents[1]
 runner = CliRunner()
 
 
+def dead_pid() -> int:
+    """A process id no process has: above the kernel's largest (a pid of a process that ended
+    may be reused at once on a busy machine)."""
+    try:
+        return int(Path("/proc/sys/kernel/pid_max").read_text()) + 1
+    except OSError:
+        return 2 ** 22 + 1   # Linux's largest pid_max, 4194304; a common fact, from memory
+
+
 def made_output(folder: Path, kind="build", files=("summary.json",)) -> Path:
     """A folder as ttsp writes it: its files and a marker vouching for them."""
     with atomic_output_dir(folder, kind=kind) as tmp:
@@ -318,15 +327,32 @@ def test_replace_swaps_in_one_step(tmp_path, monkeypatch):
 def test_recovery_keeps_a_moved_aside_folder_holding_user_files(tmp_path):
     """A ``.ttsp-old-*`` folder of a dead run whose destination is back in place is removed only
     when it holds nothing but ttsp's files; otherwise it is kept, visible."""
-    dead = subprocess.run([sys.executable, "-c", "import os; print(os.getpid())"],
-                          capture_output=True, text=True, check=True)
+    dead = dead_pid()
     out = made_output(tmp_path / "out")
-    old = made_output(tmp_path / f".ttsp-old-out.{int(dead.stdout)}.abcd")
+    old = made_output(tmp_path / f".ttsp-old-out.{dead}.abcd")
     (old / "notes.txt").write_text("mine", encoding="utf-8")
     with atomic_output_dir(out, force=True) as tmp:
         (tmp / "summary.json").write_text("new", encoding="utf-8")
-    kept = tmp_path / f"out.kept-by-ttsp-{int(dead.stdout)}"
+    kept = tmp_path / f"out.kept-by-ttsp-{dead}"
     assert (kept / "notes.txt").read_text() == "mine"
+
+
+def test_recovery_of_temporary_folders_of_dead_runs(tmp_path):
+    """A dead run's temporary folder without a marker (cut short) is removed; one with a marker
+    (an old output swapped out in the run's last instant) is removed when it holds only ttsp's
+    files, and kept, visible, when it holds the user's."""
+    dead = dead_pid()
+    out = made_output(tmp_path / "out")
+    partial = tmp_path / f".ttsp-tmp-out.{dead}.aaaa"
+    partial.mkdir()
+    (partial / "summary.json").write_text("half", encoding="utf-8")
+    swapped = made_output(tmp_path / f".ttsp-tmp-out.{dead}.bbbb")
+    (swapped / "notes.txt").write_text("mine", encoding="utf-8")
+    with pytest.raises(DataError, match="use --force"):
+        with atomic_output_dir(out):
+            pass
+    assert not partial.exists() and not swapped.exists()
+    assert (tmp_path / f"out.kept-by-ttsp-{dead}" / "notes.txt").read_text() == "mine"
 
 
 def test_noreplace_rename_never_replaces(tmp_path):

@@ -80,16 +80,26 @@ def _recover(dest: Path, kinds) -> None:
     """
     for old in _leftovers(dest, _OLD_PREFIX):
         if not os.path.lexists(dest):
-            with contextlib.suppress(OSError):
+            with contextlib.suppress(OSError):   # failing, it stays where it is
                 rename_noreplace(old, dest)
-                continue
-        if why_not_replaceable(old, kinds) is None:
-            shutil.rmtree(old, ignore_errors=True)
-        else:
-            with contextlib.suppress(OSError):
-                rename_noreplace(old, dest.parent / f"{dest.name}.kept-by-ttsp-{old.name.split('.')[-2]}")
+            continue
+        _remove_or_keep(old, dest, kinds)
     for stale in _leftovers(dest, _PREFIX):
-        shutil.rmtree(stale, ignore_errors=True)
+        if read_marker(stale) is None:   # a new output cut short: all of it ttsp's
+            shutil.rmtree(stale, ignore_errors=True)
+        else:   # complete: a new one not yet renamed, or an old one swapped out
+            _remove_or_keep(stale, dest, kinds)
+
+
+def _remove_or_keep(folder: Path, dest: Path, kinds) -> None:
+    """Remove a left-over output folder that holds only what ttsp wrote; rename one holding
+    anything else to ``<name>.kept-by-ttsp-<pid>`` beside ``dest``, visible."""
+    if why_not_replaceable(folder, kinds) is None:
+        shutil.rmtree(folder, ignore_errors=True)
+        return
+    pid = folder.name.split(".")[-2]
+    with contextlib.suppress(OSError):
+        rename_noreplace(folder, dest.parent / f"{dest.name}.kept-by-ttsp-{pid}")
 
 
 _LEFTOVER = re.compile(r"^\.ttsp-(?:(?:tmp|old)-(.+)\.\d+\.[^.]+|lock-(.+))$")
@@ -135,14 +145,19 @@ def _is_empty_dir(path: Path) -> bool:
         return False
 
 
-def _check_start(dest: Path, shown, force: bool, kinds, kind: str) -> None:
-    """Refuse a destination that this run may not write, naming why (see the module rules)."""
+def _check_place(dest: Path, shown) -> None:
+    """Refuse a file, and the places no output folder may take (see :func:`protected_place`)."""
     if os.path.lexists(dest) and not dest.is_dir():
         raise DataError(f"{shown}: exists and is not a folder")
     place = protected_place(dest)
     if place:
         raise DataError(f"{shown}: ttsp never writes an output folder here: {place}; "
                         f"choose another --out")
+
+
+def _check_start(dest: Path, shown, force: bool, kinds, kind: str) -> None:
+    """Refuse a destination that this run may not write, naming why (see the module rules)."""
+    _check_place(dest, shown)
     if not dest.exists() or _is_empty_dir(dest):
         return
     why = why_not_replaceable(dest, kinds)
@@ -197,10 +212,7 @@ def _put_in_place(tmp: Path, dest: Path, shown, was: str, kinds) -> None:
         with contextlib.suppress(OSError):
             rename_noreplace(old, dest)
         raise
-    if why_not_replaceable(old, kinds) is None:
-        shutil.rmtree(old, ignore_errors=True)
-    else:
-        os.rename(old, dest.parent / f"{dest.name}.kept-by-ttsp-{os.getpid()}")
+    _remove_or_keep(old, dest, kinds)
 
 
 @contextlib.contextmanager
@@ -236,11 +248,11 @@ def atomic_output_dir(destination, *, force: bool = False, protect=(), kind: str
         p = Path(p).resolve()
         if p == dest or dest in p.parents:
             raise DataError(f"{destination}: the output folder must not contain the input {p.name}")
-    _check_start(dest, destination, force, kinds, kind)
+    _check_place(dest, destination)
     dest.parent.mkdir(parents=True, exist_ok=True)
     with folder_lock(dest, destination):
-        _recover(dest, kinds)
-        _check_start(dest, destination, force, kinds, kind)   # again: another run may have ended
+        _recover(dest, kinds)   # first: a killed replace may have left the old folder aside
+        _check_start(dest, destination, force, kinds, kind)
         was = _state(dest)
         tmp = Path(tempfile.mkdtemp(prefix=_tmp_prefix(dest), dir=dest.parent))
         os.chmod(tmp, 0o777 & ~_umask())  # mkdtemp makes 0700; give the folder the usual mode
