@@ -25,11 +25,11 @@ import pandas as pd
 import pytest
 from typer.testing import CliRunner
 
+from ttsp import batch
 from ttsp.batch import run_batch
 from ttsp.cli import app
 from ttsp.exceptions import DataError
 from ttsp.io.marker import read_marker
-from ttsp.io.renames import folder_lock
 from ttsp.io.writers import frame_to_csv_text, neutralise_formula
 
 from test_batch import write_campaign, write_manifest
@@ -80,6 +80,29 @@ def test_own_results_are_rewritten_edited_ones_are_not(campaigns, tmp_path):
     assert (out / "results.csv").read_text().endswith("my,note\n")
 
 
+def test_a_batch_into_the_current_folder_writes_nothing_above_it(campaigns, tmp_path,
+                                                                 monkeypatch):
+    """``--out .`` (a home folder, say) needs no write access to the folder above it: the
+    batch's lock file is inside the batch folder."""
+    from ttsp.io import renames
+
+    here = tmp_path / "home"
+    here.mkdir()
+    manifest = manifest_of(campaigns, 1, tmp_path / "m.csv")
+    monkeypatch.chdir(here)
+    locks = []
+    real_open = os.open
+
+    def recording_open(path, flags, *args):
+        locks.append(Path(path).resolve())
+        return real_open(path, flags, *args)
+
+    monkeypatch.setattr(renames.os, "open", recording_open)
+    assert (run_batch(manifest, ".", workers=1, quiet=True)["status"] == "ok").all()
+    assert locks and all(here.resolve() in p.parents for p in locks)
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["home", "m.csv"]
+
+
 def test_a_build_output_is_not_a_batch_folder(campaigns, tmp_path):
     out = tmp_path / "out"
     res = runner.invoke(app, ["build", str(campaigns / "c0.csv"), "--out", str(out), "-q",
@@ -102,7 +125,7 @@ def test_a_user_folder_with_a_campaign_id_is_a_failed_row_not_a_loss(campaigns, 
 def test_one_batch_at_a_time_per_folder(campaigns, tmp_path):
     out = tmp_path / "out"
     out.mkdir()
-    with folder_lock(out):      # as a running batch holds it
+    with batch._batch_lock(out):      # as a running batch holds it
         with pytest.raises(DataError, match=r"another ttsp run \(process \d+\) is writing"):
             run_batch(manifest_of(campaigns, 1, tmp_path / "m.csv"), out, workers=1, quiet=True)
 

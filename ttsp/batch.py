@@ -888,10 +888,8 @@ def run_batch(manifest, out_dir, *, workers: int | None = None, figures: bool = 
                             f"itself; choose another, such as {source / 'out'}")
         items = [i for i in items if i.paths[0].resolve() != out.resolve()]
     out.mkdir(parents=True, exist_ok=True)
-    from .io.renames import folder_lock
-
     try:
-        with sigterm_raises(), folder_lock(out.resolve(), out):
+        with sigterm_raises(), _batch_lock(out):
             _check_results_files(out)
             _tidy(out)
             return _run_items(items, out, workers=workers, figures=figures, force=force,
@@ -900,6 +898,14 @@ def run_batch(manifest, out_dir, *, workers: int | None = None, figures: bool = 
     except Terminated:
         raise Terminated(f"terminated (SIGTERM); the campaigns finished so far are in "
                          f"{out / 'results.csv'}: run the same command again to resume") from None
+
+
+def _batch_lock(out: Path):
+    """The lock of a batch folder: a ``.ttsp-lock`` file inside it (the batch writes there
+    anyway; the folder above may not be writable, as when ``--out .`` is the home folder)."""
+    from .io.renames import folder_lock
+
+    return folder_lock(out.resolve(), out, lock_file=out / ".ttsp-lock")
 
 
 def _check_results_files(out: Path) -> None:

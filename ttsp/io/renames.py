@@ -85,17 +85,17 @@ def lock_path(destination) -> Path:
 
 
 @contextlib.contextmanager
-def folder_lock(destination, shown=None):
+def folder_lock(destination, shown=None, lock_file=None):
     """Hold an exclusive lock on the output folder ``destination`` (not the folder itself: a lock
-    file beside it) for the duration of the block; a second ttsp run into the same folder fails
-    at once with a :class:`DataError` naming the process that holds it.
+    file beside it, or ``lock_file``) for the duration of the block; a second ttsp run into the
+    same folder fails at once with a :class:`DataError` naming the process that holds it.
 
     The lock is an ``flock`` (the kernel releases it when its process dies, so a killed run never
     leaves the folder locked); the lock file is removed on leaving, and a leftover of a killed
     run is taken over and removed by the next one. Where there is no ``fcntl`` (Windows) the
     lock file is created exclusively instead, holding the process id.
     """
-    path = lock_path(destination)
+    path = Path(lock_file) if lock_file is not None else lock_path(destination)
     shown = shown if shown is not None else destination
     try:
         import fcntl
