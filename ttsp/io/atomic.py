@@ -22,7 +22,8 @@ A run killed part-way leaves the previous complete folder (or none), at most one
 one instead), and an empty ``.ttsp-lock-*`` file. The next run into the same destination removes
 the temporary folder of a process that has ended, renames a ``.ttsp-old-*`` folder back when
 its destination is missing (and removes it when the new output is in place), and takes over the
-lock file. It never touches the temporary folders of a live run, nor those of other
+lock file. A left-over folder that holds anything ttsp did not write is never removed: it is
+renamed ``<name>.kept-by-ttsp-<pid>``, visible, beside the destination. It never touches the temporary folders of a live run, nor those of other
 destinations (``out1`` and ``out10`` of one batch).
 """
 
