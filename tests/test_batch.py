@@ -121,7 +121,7 @@ def test_every_campaign_gets_a_build_folder_and_a_row(first_batch):
                                                 if c["status"] == "fail")
         assert row["elapsed_s"] > 0
     # nothing half-written: no temporary folders or files are left beside the outputs
-    assert not [p.name for p in out.iterdir() if p.name.startswith(".")]
+    assert [p.name for p in out.iterdir() if p.name.startswith(".")] == [".ttsp-output"]
 
 
 def test_generated_campaigns_recover_their_wlf_law(first_batch):
@@ -271,7 +271,7 @@ def test_interrupted_batch_continues_where_it_stopped(data, tmp_path, monkeypatc
     written = pd.read_json(out / "results.jsonl", lines=True)
     done = set(written["id"])
     assert 1 <= len(done) < 4 and (written["status"] == "ok").all()
-    assert not [p.name for p in out.iterdir() if p.name.startswith(".")]
+    assert [p.name for p in out.iterdir() if p.name.startswith(".")] == [".ttsp-output"]
     table = run_batch(manifest, out, workers=1, quiet=True)
     assert (table["status"] == "ok").all()
     assert set(table.loc[table["skipped"], "id"]) == done

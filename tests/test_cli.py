@@ -148,6 +148,8 @@ def test_build_is_deterministic_but_for_the_timestamp(campaign_file, tmp_path):
         assert res.exit_code == 0, res.output
         outs.append(out)
     for f in outs[0].iterdir():
+        if f.name == ".ttsp-output":  # the marker holds summary.json's hash (timestamp and all)
+            continue
         a, b = f.read_text("utf-8"), (outs[1] / f.name).read_text("utf-8")
         if f.name == "summary.json":
             a, b = json.loads(a), json.loads(b)

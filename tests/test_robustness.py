@@ -430,27 +430,30 @@ def test_sigkill_during_a_build_leaves_the_previous_output_or_none(previous, tmp
     assert (out / "summary.json").is_file() and (out / "master_curve.csv").is_file()
 
 
-def test_failure_between_the_two_renames_leaves_no_half_output(tmp_path, monkeypatch):
-    """Replacing an output renames the old folder away, then the new one in. A crash between
-    the two leaves no output (allowed), never a mix of old and new files."""
+def test_failure_between_the_two_renames_leaves_the_old_output(tmp_path, monkeypatch):
+    """Where the system cannot swap two folders in one step, a replace renames the old folder
+    away, then the new one in. A failure between the two puts the old folder back, never a mix
+    of old and new files, never nothing (issue 17)."""
     from ttsp.io import atomic
+    from ttsp.io.marker import write_marker
 
     out = tmp_path / "out"
     out.mkdir()
     (out / "old.txt").write_text("old")
-    real_rename = os.rename
-    calls = []
+    write_marker(out, "build")
+    real = atomic.rename_noreplace
+    monkeypatch.setattr(atomic, "exchange", lambda a, b: False)
 
-    def rename(src, dst):
-        calls.append((src, dst))
-        if len(calls) == 2:
+    def rename_noreplace(src, dst):
+        if Path(src).name.startswith(".ttsp-tmp-"):
             raise OSError("planted crash between the renames")
-        return real_rename(src, dst)
+        return real(src, dst)
 
-    monkeypatch.setattr(atomic.os, "rename", rename)
+    monkeypatch.setattr(atomic, "rename_noreplace", rename_noreplace)
     with pytest.raises(OSError, match="planted"), atomic.atomic_output_dir(out, force=True) as tmp:
         (tmp / "new.txt").write_text("new")
-    assert not out.exists() or sorted(p.name for p in out.iterdir()) == ["old.txt"]
+    assert sorted(p.name for p in out.iterdir()) == [".ttsp-output", "old.txt"]
+    assert not list(tmp_path.glob(".ttsp-*"))
 
 
 def test_stale_folders_of_other_builds_are_left_alone(tmp_path):

@@ -38,6 +38,16 @@ Resuming
     (:func:`ttsp.io.atomic.atomic_output_dir`); the results table is replaced atomically as
     campaigns finish.
 
+Safety
+    The batch folder is locked for the run (a second batch into it fails at once) and carries a
+    ``.ttsp-output`` marker of kind ``batch`` with the hashes of the results files: a
+    ``results.csv`` or ``results.jsonl`` that ttsp did not write, or that was edited since, is
+    never overwritten (the batch stops before any work). A campaign folder that is not an
+    untouched ttsp output is a ``failed`` row, never replaced. SIGTERM kills the workers at once,
+    records the finished campaigns and raises :class:`ttsp._lifetime.Terminated` (exit 143 on
+    the command line); workers also end when the batch's process dies (``kill -9``). Text cells
+    of ``results.csv`` that a spreadsheet would run as formulas get a leading ``'``.
+
 Results table columns
     ``id``, ``status`` (``ok`` | ``failed``), ``error`` (empty when ok), ``skipped``, ``path``,
     ``input_sha256``, ``domain``, ``modulus_kind``, ``isotherms``, ``reference_temperature_C``,
@@ -56,6 +66,7 @@ from __future__ import annotations
 
 import contextlib
 import csv
+import hashlib
 import inspect
 import io
 import json
@@ -71,8 +82,10 @@ from dataclasses import dataclass, field
 from pathlib import Path
 
 from . import __version__
+from ._lifetime import Terminated, sigterm_raises
 from ._validation import bad_value, where
 from .exceptions import DataError, TtspError
+from .io.writers import neutralise_formula
 from .workflow import BuildOptions
 
 __all__ = ["MANIFEST_COLUMNS", "RESULT_FILES", "BatchItem", "batch_exit_code", "read_manifest",
@@ -339,7 +352,7 @@ def _read_folder(folder: Path) -> list:
         if q.name.startswith((".", "~$")):
             continue
         if q.is_dir():
-            if any((q / n).exists() for n in (*RESULT_FILES, "summary.json")):
+            if any((q / n).exists() for n in (*RESULT_FILES, "summary.json", ".ttsp-output")):
                 continue  # a batch's or a build's output, not a campaign
             ident = q.name
         elif q.suffix.lower() in TABLE_SUFFIXES:
@@ -439,10 +452,18 @@ def _build_one(payload: dict) -> dict:
         return _failed_row(payload, _error_text(exc), time.perf_counter() - t0)
 
 
-def _worker_init() -> None:
-    """Workers leave Ctrl-C to the parent, which lets running builds finish and stops the rest."""
+def _worker_init(batch_pid: int | None = None) -> None:
+    """Workers leave Ctrl-C to the parent, which lets running builds finish and stops the rest;
+    they end with the batch's main process ``batch_pid`` however it ends (``kill -9`` included):
+    the kernel's parent-death signal (Linux) follows the fork server between them, a watch
+    thread follows the main process itself."""
+    from ._lifetime import end_with_parent, watch_process
+
     with contextlib.suppress(ValueError, OSError):
         signal.signal(signal.SIGINT, signal.SIG_IGN)
+    end_with_parent()
+    if batch_pid is not None:
+        watch_process(batch_pid)
 
 
 # ---- planning: what is done already -----------------------------------------------------------
@@ -504,12 +525,23 @@ def _frame(rows, columns):
 
 
 def _csv_cell(value):
-    """A CSV cell as the build's CSV writers write it: 10 significant digits, empty for none."""
+    """A CSV cell as the build's CSV writers write it: 10 significant digits, empty for none;
+    text that a spreadsheet would run as a formula (an id, a path or a message quoting it)
+    gets a leading ``'`` (:func:`ttsp.io.writers.neutralise_formula`)."""
     if value is None:
         return ""
     if isinstance(value, float):
         return f"{value:.10g}" if math.isfinite(value) else ""
+    if isinstance(value, str):
+        return neutralise_formula(value)
     return value
+
+
+def _result_hashes(out: Path) -> dict:
+    """SHA-256 of the results files now in ``out`` (checked to be ttsp's before the run)."""
+    from .io.marker import file_sha256
+
+    return {name: file_sha256(out / name) for name in RESULT_FILES if (out / name).is_file()}
 
 
 class _Table:
@@ -526,6 +558,7 @@ class _Table:
         self.out, self.order, self.rows = out, list(order), {}
         self._last_end, self._last_cost = 0.0, 0.0
         self._columns, self._lines, self._keys = None, {}, {}
+        self._hashes = _result_hashes(out)
 
     def add(self, row: dict) -> None:
         self.rows[row["id"]] = row
@@ -549,6 +582,7 @@ class _Table:
 
     def write(self) -> None:
         from .io.atomic import write_text_atomic
+        from .io.marker import write_marker
 
         t0 = time.perf_counter()
         rows = self.ordered()
@@ -558,9 +592,17 @@ class _Table:
         header = io.StringIO()
         csv.writer(header, lineterminator="\n").writerow(columns)
         formatted = [self._formatted(r, columns) for r in rows]
-        write_text_atomic(self.out / "results.jsonl", "".join(j for j, _ in formatted))
-        write_text_atomic(self.out / "results.csv",
-                          header.getvalue() + "".join(c for _, c in formatted))
+        texts = {"results.jsonl": "".join(j for j, _ in formatted),
+                 "results.csv": header.getvalue() + "".join(c for _, c in formatted)}
+        # the marker first, vouching for the files as they are and as they are about to be,
+        # so that a run killed between the writes still finds both to be its own
+        new = {name: hashlib.sha256(text.encode("utf-8")).hexdigest()
+               for name, text in texts.items()}
+        write_marker(self.out, "batch", {name: list(dict.fromkeys(
+            [h for h in (self._hashes.get(name), new[name]) if h])) for name in texts})
+        for name, text in texts.items():
+            write_text_atomic(self.out / name, text)
+        self._hashes = new
         self._last_end = time.perf_counter()
         self._last_cost = self._last_end - t0
 
@@ -664,7 +706,8 @@ def _run_local(payloads, workers: int, task, on_done) -> None:
 
     while queue:
         pool = cf.ProcessPoolExecutor(max_workers=max(1, min(workers, len(queue))),
-                                      mp_context=ctx, initializer=_worker_init)
+                                      mp_context=ctx, initializer=_worker_init,
+                                      initargs=(os.getpid(),))
         inflight, suspects, broken = {}, [], False
         try:
             while (queue or inflight) and not suspects and not broken:
@@ -681,7 +724,9 @@ def _run_local(payloads, workers: int, task, on_done) -> None:
             # a broken pool resolves every future it holds: collect them all
             for fut in cf.wait(inflight).done:
                 settle(fut, inflight.pop(fut), suspects)
-        except BaseException:  # Ctrl-C: let running builds finish, record them, stop the rest
+        except BaseException as exc:  # Ctrl-C: let running builds finish, record them, stop
+            if isinstance(exc, Terminated):  # the rest; SIGTERM: stop every worker now
+                _stop_workers(pool)
             pool.shutdown(wait=True, cancel_futures=True)
             for fut, payload in inflight.items():
                 if fut.done() and not fut.cancelled() and fut.exception() is None:
@@ -692,14 +737,26 @@ def _run_local(payloads, workers: int, task, on_done) -> None:
             on_done(_run_isolated(payload, task, ctx))
 
 
+def _stop_workers(pool) -> None:
+    """Kill the worker processes of a pool (their unfinished builds leave hidden temporary
+    folders, which the next run removes)."""
+    for process in list((getattr(pool, "_processes", None) or {}).values()):
+        with contextlib.suppress(OSError, AttributeError, ValueError):
+            process.kill()
+
+
 def _run_isolated(payload: dict, task, ctx) -> dict:
     import concurrent.futures as cf
     from concurrent.futures.process import BrokenProcessPool
 
     t0 = time.perf_counter()
-    with cf.ProcessPoolExecutor(max_workers=1, mp_context=ctx, initializer=_worker_init) as pool:
+    with cf.ProcessPoolExecutor(max_workers=1, mp_context=ctx, initializer=_worker_init,
+                                initargs=(os.getpid(),)) as pool:
         try:
             return pool.submit(task, payload).result()
+        except Terminated:
+            _stop_workers(pool)
+            raise
         except BrokenProcessPool:
             return _failed_row(payload, "the worker process died while building this campaign "
                                         "(a crash or the memory limit); the batch went on",
@@ -831,6 +888,63 @@ def run_batch(manifest, out_dir, *, workers: int | None = None, figures: bool = 
                             f"itself; choose another, such as {source / 'out'}")
         items = [i for i in items if i.paths[0].resolve() != out.resolve()]
     out.mkdir(parents=True, exist_ok=True)
+    try:
+        with sigterm_raises(), _batch_lock(out):
+            _check_results_files(out)
+            _tidy(out)
+            return _run_items(items, out, workers=workers, figures=figures, force=force,
+                              scheduler=scheduler, client=client, progress=progress, quiet=quiet,
+                              task=_task or _build_one)
+    except Terminated:
+        raise Terminated(f"terminated (SIGTERM); the campaigns finished so far are in "
+                         f"{out / 'results.csv'}: run the same command again to resume") from None
+
+
+def _batch_lock(out: Path):
+    """The lock of a batch folder: a ``.ttsp-lock`` file inside it (the batch writes there
+    anyway; the folder above may not be writable, as when ``--out .`` is the home folder)."""
+    from .io.renames import folder_lock
+
+    return folder_lock(out.resolve(), out, lock_file=out / ".ttsp-lock")
+
+
+def _check_results_files(out: Path) -> None:
+    """Refuse a batch folder whose results table ttsp did not write (or that was changed since):
+    it is the user's, and the batch would overwrite it."""
+    from .io.atomic import output_kind
+    from .io.marker import file_sha256, read_marker
+
+    kind = output_kind(out)
+    if kind not in (None, "batch"):
+        raise DataError(f"{out}: is the output folder of a ttsp {kind}, not of a batch; choose "
+                        f"another --out")
+    listed = (read_marker(out) or {}).get("files", {})
+    for name in RESULT_FILES:
+        path = out / name
+        if os.path.lexists(path) and (not path.is_file() or path.is_symlink() or not isinstance(
+                listed.get(name), list) or file_sha256(path) not in listed[name]):
+            raise DataError(f"{path}: exists and is not a results table that ttsp batch wrote "
+                            f"(or it was changed since); ttsp will not overwrite it: move it or "
+                            f"choose another --out")
+
+
+def _tidy(out: Path) -> None:
+    """Remove what killed runs of this batch left in its folder (the caller holds its lock):
+    the hidden temporary folders and lock files of killed builds (their previous outputs
+    recovered), and half-written copies of the results table and of the marker."""
+    from .io.atomic import tidy_leftovers
+    from .io.marker import MARKER
+
+    tidy_leftovers(out)
+    for name in (*RESULT_FILES, MARKER):   # write_text_atomic's temporary copies
+        for stale in out.glob(f".{name}.*"):
+            with contextlib.suppress(OSError):
+                stale.unlink()
+
+
+def _run_items(items, out: Path, *, workers, figures, force, scheduler, client, progress, quiet,
+               task):
+    """Plan (reuse what is done) and run the campaigns of a batch; the caller holds the lock."""
     from .io.readers import hash_inputs
 
     table = _Table(out, [i.id for i in items])
@@ -862,7 +976,6 @@ def run_batch(manifest, out_dir, *, workers: int | None = None, figures: bool = 
                                           elapsed_s=time.perf_counter() - t0))
             else:
                 pending.append(payload)
-        task = _task or _build_one
         if pending and (scheduler is not None or client is not None):
             _run_dask(pending, scheduler, client, task, on_done)
         elif pending:

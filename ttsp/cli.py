@@ -46,9 +46,9 @@ def guarded(func):
         except (FileNotFoundError, IsADirectoryError, PermissionError) as exc:
             _say_error(f"{exc.filename}: {exc.strerror}")
             raise typer.Exit(EXIT_BAD_INPUT) from None
-        except KeyboardInterrupt:
-            _say_error("interrupted")
-            raise typer.Exit(130) from None
+        except KeyboardInterrupt as exc:  # Ctrl-C, or SIGTERM (ttsp._lifetime.Terminated)
+            _say_error(str(exc) or "interrupted")
+            raise typer.Exit(getattr(exc, "exit_code", 130)) from None
         except MemoryError:
             _say_error("the campaign is too large for this machine's memory; split it, or thin "
                        "each isotherm to fewer points")
@@ -253,13 +253,10 @@ def demo_cmd(out: Path = typer.Option(Path("ttsp-demo"), "--out", "-o", help="Ou
     """Build the bundled (invented) demo campaign and print where the report is."""
     from .workflow import BuildOptions
 
-    out = Path(out)
-    own = out.exists() and (out / "summary.json").is_file()
-    if out.exists() and any(out.iterdir()) and not own:
-        raise typer.BadParameter(f"{out} exists and is not a previous demo output; choose another",
-                                 param_hint="--out")
-    result, folder = run_build([demo_input()], BuildOptions(), out, figures=True, force=own,
-                               quiet=quiet)
+    # a previous demo output is replaced, under the rules of every output folder (only what
+    # ttsp wrote there, nothing the user added; see ttsp.io.atomic); anything else is refused
+    result, folder = run_build([demo_input()], BuildOptions(), Path(out), figures=True, force=True,
+                               quiet=quiet, kind="demo", replaces=("demo",))
     typer.echo(f"ttsp demo: {len(result.campaign)} isotherms of an invented damping elastomer; "
                f"master curve at {result.reference_temperature_C:.1f} °C, law "
                f"{result.law_fit.law.model}, {result.series.n_terms} Prony terms.")
@@ -447,11 +444,14 @@ def main():
     Typer's own exception classes live in click or in typer's vendored copy of it, depending on
     the version, so they are recognised by their interface (``format_message`` and ``exit_code``).
     """
+    from ._lifetime import sigterm_raises
+
     try:
-        code = app(prog_name="ttsp", standalone_mode=False)
-    except KeyboardInterrupt:
-        _say_error("interrupted")
-        sys.exit(130)
+        with sigterm_raises():  # SIGTERM unwinds like Ctrl-C: temporary folders are removed
+            code = app(prog_name="ttsp", standalone_mode=False)
+    except KeyboardInterrupt as exc:
+        _say_error(str(exc) or "interrupted")
+        sys.exit(getattr(exc, "exit_code", 130))
     except Exception as exc:
         if hasattr(exc, "format_message") and isinstance(getattr(exc, "exit_code", None), int):
             ctx = getattr(exc, "ctx", None)

@@ -6,6 +6,7 @@ and writes numbers, figures and the HTML page into an atomic output folder.
 
 from __future__ import annotations
 
+import contextlib
 import datetime
 import time
 import warnings
@@ -82,6 +83,8 @@ def _fork_drawing(render, folder: Path, *, private: bool = False) -> int:
 
     from .plotting import save_figures
 
+    from ._lifetime import end_with_parent
+
     parent = os.getpid()
     pid = os.fork()
     if pid == 0:
@@ -90,6 +93,9 @@ def _fork_drawing(render, folder: Path, *, private: bool = False) -> int:
         gc.disable()
         code = 1
         try:
+            end_with_parent()   # a killed build leaves no drawing process behind
+            if os.getppid() != parent:  # it died before the line above
+                os._exit(1)
             save_figures(render(), folder)
             code = 0
         finally:
@@ -106,27 +112,31 @@ def _child_ok(pid: int) -> bool:
     return os.waitstatus_to_exitcode(status) == 0
 
 
-def start_campaign_figures(campaign, out):
+def start_campaign_figures(campaign, tmp):
     """Start drawing the figures of the measured data in a child process (two or more cores),
     so that they are ready when the fit ends. Returns a handle for :func:`draw_figures`, or None.
-    The child draws into a scratch folder beside ``out`` that a later run removes if this one is
-    killed.
+    The child draws into a hidden sub-folder of the output's temporary folder ``tmp``, so a build
+    killed meanwhile leaves one temporary folder, not two.
     """
     if not _can_fork():
         return None
-    from .io.atomic import scratch_dir
     from .plotting import load_matplotlib, render_campaign_figures
 
     load_matplotlib()   # once here, not again in every drawing child
-    folder = scratch_dir(out)
+    folder = Path(tmp) / ".early-figures"
+    folder.mkdir()
     return _fork_drawing(lambda: render_campaign_figures(campaign), folder, private=True), folder
 
 
 def discard_campaign_figures(handle) -> None:
-    """Wait for an early drawing child and remove what it drew (the build failed)."""
+    """Stop an early drawing child and remove what it drew (the build failed)."""
+    import os
     import shutil
+    import signal
 
     if handle is not None:
+        with contextlib.suppress(OSError):
+            os.kill(handle[0], signal.SIGKILL)
         _child_ok(handle[0])
         shutil.rmtree(handle[1], ignore_errors=True)
 
@@ -139,7 +149,9 @@ def draw_figures(result, folder, *, parallel: bool = True, early=None) -> dict:
     with figures); ``early`` is the handle of :func:`start_campaign_figures`, whose files are moved
     in. Whatever a child fails to draw is drawn here, so the result never depends on forking.
     """
+    import os
     import shutil
+    import signal
 
     from .plotting import CAMPAIGN_FIGURES, figure_files, figure_names, load_matplotlib, \
         render_campaign_figures, render_figures, save_figures
@@ -150,20 +162,30 @@ def draw_figures(result, folder, *, parallel: bool = True, early=None) -> dict:
     every = figure_names(result)
     later = [n for n in every if n not in CAMPAIGN_FIGURES]
     children = []   # (pid, names) of forked drawers
-    if parallel and _can_fork():
-        for group in _FIGURE_GROUPS[:-1]:
-            names = [n for n in later if n in group]
-            if names:
-                children.append((_fork_drawing(
-                    lambda names=names: render_figures(result, names), folder), names))
-        drawn = {n for _, names in children for n in names}
-        later = [n for n in later if n not in drawn]
-    saved.update(save_figures(render_figures(result, later), folder))
-    for pid, names in children:
-        if _child_ok(pid):
-            saved.update({k: figure_files(folder, k) for k in names})
-        else:
-            saved.update(save_figures(render_figures(result, names), folder))
+    try:
+        if parallel and _can_fork():
+            for group in _FIGURE_GROUPS[:-1]:
+                names = [n for n in later if n in group]
+                if names:
+                    children.append((_fork_drawing(
+                        lambda names=names: render_figures(result, names), folder), names))
+            drawn = {n for _, names in children for n in names}
+            later = [n for n in later if n not in drawn]
+        saved.update(save_figures(render_figures(result, later), folder))
+        for pid, names in list(children):
+            ok = _child_ok(pid)
+            children.remove((pid, names))
+            if ok:
+                saved.update({k: figure_files(folder, k) for k in names})
+            else:
+                saved.update(save_figures(render_figures(result, names), folder))
+    except BaseException:   # Ctrl-C, SIGTERM: no drawing process goes on writing
+        for pid, _ in children:
+            with contextlib.suppress(OSError):
+                os.kill(pid, signal.SIGKILL)
+            with contextlib.suppress(OSError):
+                _child_ok(pid)
+        raise
     if early is not None and _child_ok(early[0]) and all(
             (early[1] / f"{k}.{e}").is_file() for k in CAMPAIGN_FIGURES for e in ("png", "svg")):
         for k in CAMPAIGN_FIGURES:
@@ -179,8 +201,13 @@ def draw_figures(result, folder, *, parallel: bool = True, early=None) -> dict:
 
 def run_build(inputs, options, out: Path, *, figures: bool, force: bool, quiet: bool,
               column=None, unit=None, sheet=None, tolerance=0.5, modulus_kind=None,
-              parallel_figures: bool = True):
-    """Read, build and write one campaign's outputs atomically. Returns (result, out folder)."""
+              parallel_figures: bool = True, kind: str = "build", replaces=None):
+    """Read, build and write one campaign's outputs atomically. Returns (result, out folder).
+
+    The output folder is checked (and locked) before the fit starts, so a folder that may not be
+    written is refused before any time is spent; ``kind`` and ``replaces`` are passed to
+    :func:`ttsp.io.atomic.atomic_output_dir`.
+    """
     from .io.atomic import atomic_output_dir
     from .io.writers import write_build_numbers
     from .io.readers import hash_inputs
@@ -191,26 +218,21 @@ def run_build(inputs, options, out: Path, *, figures: bool, force: bool, quiet: 
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
         campaign = read_inputs(inputs, column, unit, sheet, tolerance, modulus_kind)
-        early = (start_campaign_figures(campaign, out) if figures and parallel_figures
-                 else None)
-        try:
-            result = build(campaign, options, input_sha256=hash_inputs(inputs),
-                           input_files=[Path(p).name for p in inputs], progress=progress)
-        except DataError as exc:  # found while fitting: say which input it is about
-            discard_campaign_figures(early)
-            source = str(campaign.source)
-            if source and not str(exc).startswith(source):
-                raise DataError(f"{source}: {exc}") from None
-            raise
-        except BaseException:
-            discard_campaign_figures(early)
-            raise
-    progress("writing")
     created = datetime.datetime.now(datetime.timezone.utc).strftime("%Y-%m-%dT%H:%M:%SZ")
-    try:
-        with atomic_output_dir(out, force=force, protect=inputs) as tmp, \
-                warnings.catch_warnings():
-            warnings.simplefilter("ignore")  # all worth saying is in result.warnings already
+    with atomic_output_dir(out, force=force, protect=inputs, kind=kind,
+                           replaces=replaces) as tmp, warnings.catch_warnings():
+        warnings.simplefilter("ignore")  # all worth saying is in result.warnings already
+        early = start_campaign_figures(campaign, tmp) if figures and parallel_figures else None
+        try:
+            try:
+                result = build(campaign, options, input_sha256=hash_inputs(inputs),
+                               input_files=[Path(p).name for p in inputs], progress=progress)
+            except DataError as exc:  # found while fitting: say which input it is about
+                source = str(campaign.source)
+                if source and not str(exc).startswith(source):
+                    raise DataError(f"{source}: {exc}") from None
+                raise
+            progress("writing")
             write_build_numbers(result, tmp, created_utc=created)
             if figures:
                 from .report import render_report
@@ -221,9 +243,7 @@ def run_build(inputs, options, out: Path, *, figures: bool, force: bool, quiet: 
                        for name, paths in saved.items()}
                 (tmp / "report.html").write_text(render_report(result, svg, created_utc=created),
                                                  encoding="utf-8")
-    finally:
-        discard_campaign_figures(early)
+        finally:
+            discard_campaign_figures(early)
     progress.done()
     return result, Path(out)
-
-

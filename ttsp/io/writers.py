@@ -1,5 +1,8 @@
 """Write the numbers of a build: summary.json and the CSV tables of the output contract.
 
+Text cells that a spreadsheet would execute as a formula are written with a leading ``'``
+(:func:`neutralise_formula`).
+
 Temperatures are written in °C (users' unit) beside kelvin where a table carries both; moduli in
 Pa, times in s, frequencies in Hz or rad/s as the column name says. Floats are written with 10
 significant digits, so identical runs give identical bytes.
@@ -15,10 +18,34 @@ import numpy as np
 from .._arrays import to_plain
 from .atomic import write_text_atomic
 
-__all__ = ["write_build_numbers", "frame_to_csv_text", "summary_to_json_text", "NUMBER_FILES"]
+__all__ = ["write_build_numbers", "frame_to_csv_text", "summary_to_json_text", "NUMBER_FILES",
+           "neutralise_formula"]
 
 NUMBER_FILES = ("summary.json", "shift_factors.csv", "master_curve.csv", "prony.csv",
                 "prony_finite_element.csv", "material_functions.csv")
+
+
+#: First characters that make a spreadsheet read a cell as a formula (or, tab and carriage
+#: return, hide such a start); common practice of spreadsheet programs, from memory.
+FORMULA_STARTS = ("=", "+", "-", "@", "\t", "\r")
+
+
+def neutralise_formula(text: str) -> str:
+    """A text cell a spreadsheet will not execute: ``'`` before text that starts like a formula.
+
+    ``=1+2.csv`` becomes ``'=1+2.csv``; numbers (``-1.5``, ``+3e-4``, ``-inf``) and every other
+    text are returned as they are. Used for every CSV cell ttsp writes from text a user gave
+    (file names, ids, messages quoting them).
+    """
+    if not text or not text.startswith(FORMULA_STARTS):
+        return text
+    if text == text.strip() and "_" not in text:
+        try:
+            float(text)
+            return text
+        except ValueError:
+            pass
+    return "'" + text
 
 
 def summary_to_json_text(summary: dict) -> str:
@@ -46,8 +73,13 @@ def frame_to_csv_text(frame) -> str:
             isinstance(t, np.dtype) for t in frame.dtypes):
         cells = [_csv_cells(frame[name].to_numpy()) for name in names]
     if cells is None or any(c is None for c in cells):
+        frame.columns = [neutralise_formula(n) if isinstance(n, str) else n for n in names]
+        for i, dtype in enumerate(frame.dtypes):
+            if getattr(dtype, "kind", "") in ("O", "U"):   # object, str and string dtypes
+                frame.isetitem(i, frame.iloc[:, i].map(
+                    lambda v: neutralise_formula(v) if isinstance(v, str) else v))
         return frame.to_csv(index=False, float_format="%.10g", lineterminator="\n")
-    lines = [",".join(_csv_quote(str(n)) for n in names)]
+    lines = [",".join(_csv_quote(neutralise_formula(str(n))) for n in names)]
     lines += map(",".join, zip(*cells))
     return "\n".join(lines) + "\n"
 
@@ -60,7 +92,7 @@ def _csv_cells(values):
     if kind in "iub":
         return [str(v) for v in values.tolist()]
     if kind in "OU" and all(v is None or isinstance(v, str) for v in values.tolist()):
-        return ["" if v is None else _csv_quote(v) for v in values.tolist()]
+        return ["" if v is None else _csv_quote(neutralise_formula(v)) for v in values.tolist()]
     return None
 
 
