@@ -87,6 +87,8 @@ SHEET_OPT = typer.Option(None, "--sheet", help="Sheet of an .xlsx workbook (defa
 TOL_OPT = typer.Option(0.5, "--temperature-tolerance", min=0.0,
                        help="Points within this many kelvin form one isotherm.")
 KIND_OPT = typer.Option(None, "--modulus-kind", help="tensile or shear (default: from the headers).")
+NAME_T_OPT = typer.Option(False, "--temperature-from-name",
+                          help="Read a file name's one unitless number (sweep_130.csv) as °C.")
 
 
 def describe(campaign) -> str:
@@ -100,6 +102,8 @@ def describe(campaign) -> str:
         lines.append(f"assumed units (no unit in the header): {campaign.metadata['assumed units']}")
     if campaign.dropped_rows:
         lines.append("rows left out: " + ", ".join(f"{v} {k}" for k, v in campaign.dropped_rows.items()))
+    if campaign.metadata.get("skipped rows"):
+        lines.append(f"skipped rows: {campaign.metadata['skipped rows']}")
     x = "frequency (Hz)" if campaign.domain == "frequency" else "time (s)"
     lines.append(f"{'T (°C)':>9}  {'points':>6}  {x + ' from':>20}  {'to':>10}")
     import math
@@ -117,13 +121,15 @@ def describe(campaign) -> str:
 def inspect_cmd(inputs: List[Path] = typer.Argument(..., help="Files or folders of one campaign."),
                 column: Optional[List[str]] = COLUMN_OPT, unit: Optional[List[str]] = UNIT_OPT,
                 sheet: Optional[str] = SHEET_OPT, tolerance: float = TOL_OPT,
-                modulus_kind: Optional[str] = KIND_OPT):
+                modulus_kind: Optional[str] = KIND_OPT,
+                temperature_from_name: bool = NAME_T_OPT):
     """Show what the reader understood (isotherms, ranges, units, dropped rows), fitting nothing."""
     import warnings
 
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
-        campaign = read_inputs(inputs, column, unit, sheet, tolerance, modulus_kind)
+        campaign = read_inputs(inputs, column, unit, sheet, tolerance, modulus_kind,
+                               temperature_from_name)
     typer.echo(describe(campaign))
 
 
@@ -206,13 +212,15 @@ def build_cmd(inputs: List[Path] = typer.Argument(..., help="Files or folders of
               quiet: bool = typer.Option(False, "--quiet", "-q", help="No progress on stderr."),
               column: Optional[List[str]] = COLUMN_OPT, unit: Optional[List[str]] = UNIT_OPT,
               sheet: Optional[str] = SHEET_OPT, tolerance: float = TOL_OPT,
-              modulus_kind: Optional[str] = KIND_OPT):
+              modulus_kind: Optional[str] = KIND_OPT,
+              temperature_from_name: bool = NAME_T_OPT):
     """Build the master curve, shift law, Prony series, material functions, checks and report."""
     options = _options(reference_temperature, law, vertical, expansion_coefficient, shift_on, gaps,
                        prony_density, glass_transition, spectrum)
     result, folder = run_build(inputs, options, out, figures=not no_figures, force=force,
                                quiet=quiet, column=column, unit=unit, sheet=sheet,
-                               tolerance=tolerance, modulus_kind=modulus_kind)
+                               tolerance=tolerance, modulus_kind=modulus_kind,
+                               temperature_from_name=temperature_from_name)
     typer.echo(str(folder / ("report.html" if not no_figures else "summary.json")))
     if spectrum and result.relaxation_spectrum is None:
         why = next((w for w in result.warnings if "continuous relaxation spectrum" in w),
@@ -258,7 +266,8 @@ def check_cmd(inputs: List[Path] = typer.Argument(..., help="Files or folders of
               as_json: bool = typer.Option(False, "--json", help="Print the checks as JSON."),
               column: Optional[List[str]] = COLUMN_OPT, unit: Optional[List[str]] = UNIT_OPT,
               sheet: Optional[str] = SHEET_OPT, tolerance: float = TOL_OPT,
-              modulus_kind: Optional[str] = KIND_OPT):
+              modulus_kind: Optional[str] = KIND_OPT,
+              temperature_from_name: bool = NAME_T_OPT):
     """Does superposition hold? Run the checks and print a verdict for each."""
     import warnings
 
@@ -266,7 +275,8 @@ def check_cmd(inputs: List[Path] = typer.Argument(..., help="Files or folders of
 
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
-        campaign = read_inputs(inputs, column, unit, sheet, tolerance, modulus_kind)
+        campaign = read_inputs(inputs, column, unit, sheet, tolerance, modulus_kind,
+                               temperature_from_name)
         result = build(campaign, BuildOptions(reference_temperature_C=reference_temperature))
     if as_json:
         from .io.writers import summary_to_json_text

@@ -31,14 +31,16 @@ def parse_pairs(values, option: str) -> dict:
     return out
 
 
-def read_inputs(inputs, column, unit, sheet, tolerance, modulus_kind):
+def read_inputs(inputs, column, unit, sheet, tolerance, modulus_kind,
+                temperature_from_name=False):
     from .io.readers import read_campaign
 
     if modulus_kind not in (None, "tensile", "shear"):
         raise typer.BadParameter("must be tensile or shear", param_hint="--modulus-kind")
     return read_campaign([str(p) for p in inputs], columns=parse_pairs(column, "--column"),
                          units=parse_pairs(unit, "--unit"), sheet=sheet,
-                         temperature_tolerance_K=tolerance, modulus_kind=modulus_kind)
+                         temperature_tolerance_K=tolerance, modulus_kind=modulus_kind,
+                         temperature_from_name=temperature_from_name)
 
 
 class Progress:
@@ -179,7 +181,7 @@ def draw_figures(result, folder, *, parallel: bool = True, early=None) -> dict:
 
 def run_build(inputs, options, out: Path, *, figures: bool, force: bool, quiet: bool,
               column=None, unit=None, sheet=None, tolerance=0.5, modulus_kind=None,
-              parallel_figures: bool = True):
+              parallel_figures: bool = True, temperature_from_name: bool = False):
     """Read, build and write one campaign's outputs atomically. Returns (result, out folder)."""
     from .io.atomic import atomic_output_dir
     from .io.writers import write_build_numbers
@@ -190,7 +192,8 @@ def run_build(inputs, options, out: Path, *, figures: bool, force: bool, quiet: 
     progress("reading")
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
-        campaign = read_inputs(inputs, column, unit, sheet, tolerance, modulus_kind)
+        campaign = read_inputs(inputs, column, unit, sheet, tolerance, modulus_kind,
+                               temperature_from_name)
         early = (start_campaign_figures(campaign, out) if figures and parallel_figures
                  else None)
         try:

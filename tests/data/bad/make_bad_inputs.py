@@ -26,6 +26,7 @@ TEXT = {
     # ---- columns
     "no_frequency_or_time.csv": "Temp (°C),E' (MPa)\n20,100\n40,50\n",
     "no_temperature.csv": "Freq (Hz),E' (MPa)\n0.5,100\n5,200\n",
+    "sweep_130.csv": "Freq (Hz),E' (MPa)\n0.5,100\n5,200\n",
     "no_material_function.csv": "Temp (°C),Freq (Hz),Force (N)\n20,0.5,1\n20,5,2\n40,0.5,1\n40,5,2\n",
     "duplicated_header.csv": ("Temp (°C),Freq (Hz),E' (MPa),E' (MPa)\n"
                               "20,0.5,100,101\n20,5,200,201\n40,0.5,50,51\n40,5,100,101\n"),
@@ -39,7 +40,8 @@ TEXT = {
     "more_values_than_names.csv": H + "20,0.5,100,7\n20,5,200,7\n40,0.5,50,7\n40,5,100,7\n",
     "mixed_delimiters.csv": "Temp (°C);Freq (Hz);E' (MPa)\n20;0.5;100\n20;5;200\n40,0.5,50\n40;5;100\n",
     # ---- cells
-    "text_in_a_cell.csv": H + "20,0.5,100\n20,5,abc\n40,0.5,50\n40,5,100\n",
+    # (one word in a number column, as "overload", is skipped and listed: tests/data/readable)
+    "mostly_text_column.csv": H + "20,0.5,100\n20,5,abc\n40,0.5,high\n40,5,100\n",
     "empty_frequency_cell.csv": H + "20,0.5,100\n20,,200\n40,0.5,50\n40,5,100\n",
     "nan_modulus.csv": H + "20,0.5,100\n20,5,NaN\n40,0.5,50\n40,5,100\n",
     "infinite_modulus.csv": H + "20,0.5,100\n20,5,inf\n40,0.5,50\n40,5,100\n",
@@ -60,7 +62,6 @@ TEXT = {
                                        "20\t10\t2,000\n40\t1\t1,100\n40\t10\t1,500\n"),
     "thousands_dot_with_decimal_comma.csv": ("Temp (°C);Freq (Hz);E' (MPa)\n20;0,5;950\n"
                                              "20;5;1.234\n40;0,5;480\n40;5;990\n"),
-    "text_after_the_data.csv": H + OK + "End of data\n",
     "truncated_row.csv": H + "20,0.5,100\n20,5,200\n40,0.5,50\n40,",
     # ---- rows and isotherms
     "duplicate_point.csv": H + "20,0.5,100\n20,5,200\n40,0.5,50\n40,0.5,100\n",
