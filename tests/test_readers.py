@@ -527,9 +527,14 @@ def test_mixed_domains_and_kinds_across_files(tmp_path):
     f = write(tmp_path, "f_20C.csv", SWEEP)
     t = write(tmp_path, "t_40C.csv", "time (s),E(t) (MPa)\n1,1\n10,2\n")
     g = write(tmp_path, "g_40C.csv", "Freq (Hz),G' (MPa)\n0.5,1\n5,2\n")
-    with pytest.raises(DataError, match=r"the files mix frequency sweeps and time-domain tests"):
+    # each message names the two files (issue 17, point 10: some messages named no file)
+    with pytest.raises(DataError, match=rf"^{re.escape(str(t))}: a time-domain test, but "
+                                        rf"{re.escape(str(f))} holds frequency sweeps: the files "
+                                        r"mix the two; read them separately$"):
         read_campaign([f, t])
-    with pytest.raises(DataError, match=r"the files mix tensile \(E, D\) and shear \(G, J\) data"):
+    with pytest.raises(DataError, match=rf"^{re.escape(str(g))}: shear \(G, J\) data, but "
+                                        rf"{re.escape(str(f))} holds tensile \(E, D\) data: the "
+                                        r"files mix the two; give the modulus kind"):
         read_campaign([f, g])
 
 

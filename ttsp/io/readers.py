@@ -37,7 +37,7 @@ from typing import Mapping, Sequence
 
 import numpy as np
 
-from .._validation import check_positive, where
+from .._validation import check_positive, printable, where
 from ..data import QUANTITIES, Campaign
 from ..exceptions import DataError, DroppedRowsWarning
 from ..units import parse_unit
@@ -921,7 +921,22 @@ def _expand(paths) -> list:
             files.append(p)
     if not files:
         raise DataError("no input files given")
-    return files
+    # one file named twice (data/a.csv and /home/me/data/a.csv) is read once
+    seen, unique = set(), []
+    for f in files:
+        key = os.path.realpath(f)
+        if key not in seen:
+            seen.add(key)
+            unique.append(f)
+    return unique
+
+
+def _common_folder(files) -> str:
+    """The folder that holds all files, relative if they are all named relatively."""
+    try:
+        return os.path.commonpath(files) or "."
+    except ValueError:   # relative and absolute names together
+        return os.path.commonpath([os.path.abspath(f) for f in files])
 
 
 def hash_inputs(paths) -> str:
@@ -999,7 +1014,7 @@ def read_campaign(paths, *, columns: Mapping[str, str] | None = None,
         raise DataError(f"{where(files[0])}sheet (--sheet) applies to .xlsx workbooks only; got "
                         f"{sheet!r} for {'a text table' if len(files) == 1 else 'text tables'}")
     frames, labels, units_read, kinds, metadata, dropped, assumed = [], {}, {}, set(), {}, {}, []
-    skipped_text = []
+    skipped_text, first_of = [], {}    # first_of: the first file of each kind and domain
     total = 0
     for path in files:
         table = read_table(path, sheet=sheet, max_points=limit)
@@ -1028,6 +1043,8 @@ def read_campaign(paths, *, columns: Mapping[str, str] | None = None,
         units_read.update(ur)
         if kind:
             kinds.add(kind)
+            first_of.setdefault(kind, path)
+        first_of.setdefault(file_domain, path)
         for k, v in table.preamble.items():
             metadata[k if len(files) == 1 else f"{Path(path).name}: {k}"] = v
         for k, v in table.dropped.items():
@@ -1039,11 +1056,15 @@ def read_campaign(paths, *, columns: Mapping[str, str] | None = None,
             skipped_text.append(describe_skipped(skipped, path if len(files) > 1 else None))
         assumed.extend(ass)
     if len(kinds) > 1 and modulus_kind is None:
-        raise DataError("the files mix tensile (E, D) and shear (G, J) data; give the modulus kind")
+        raise DataError(f"{where(first_of['shear'])}shear (G, J) data, but "
+                        f"{printable(first_of['tensile'])} holds tensile (E, D) data: the files "
+                        f"mix the two; give the modulus kind (--modulus-kind)")
     domains = {("frequency" if "frequency_rad_s" in f.columns else "time") for f in frames}
     if domain is None and len(domains) > 1:
-        raise DataError("the files mix frequency sweeps and time-domain tests; read them separately")
-    source = files[0] if len(files) == 1 else f"{len(files)} files in {os.path.commonpath(files) or '.'}"
+        raise DataError(f"{where(first_of['time'])}a time-domain test, but "
+                        f"{printable(first_of['frequency'])} holds frequency sweeps: the files "
+                        f"mix the two; read them separately")
+    source = files[0] if len(files) == 1 else f"{len(files)} files in {_common_folder(files)}"
     if assumed:
         metadata["assumed units"] = "; ".join(dict.fromkeys(assumed))
     if skipped_text:
