@@ -118,12 +118,14 @@ def test_catalogue_files_are_all_listed_and_rebuildable():
     assert listed == on_disk
     assert not (BAD / "missing.csv").exists()  # the case of a file that does not exist
     made = runpy.run_path(str(BAD / "make_bad_inputs.py"))  # its definitions; main() not run
-    assert set(made["TEXT"]) | set(made["BINARY"]) | {"not_a_workbook.xlsx",
-                                                      "folder_without_data_files"} == on_disk
+    assert set(made["TEXT"]) | set(made["BINARY"]) | set(made["WORKBOOKS"]) | {
+        "not_a_workbook.xlsx", "folder_without_data_files"} == on_disk
     for name, text in made["TEXT"].items():
         assert (BAD / name).read_bytes() == text.encode("utf-8"), name
     for name, data in made["BINARY"].items():
         assert (BAD / name).read_bytes() == data, name
+    for name, sheets in made["WORKBOOKS"].items():
+        assert (BAD / name).read_bytes() == made["_workbook"](sheets), name
 
 
 def test_catalogue_messages_are_single_lines_that_name_the_file():

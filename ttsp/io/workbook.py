@@ -132,7 +132,10 @@ def read_sheet_cells(path: str, sheet, limit: int, too_large) -> SheetCells:
     try:
         ws = _pick(book, path, sheet)
         title, names = ws.title, tuple(book.sheetnames)
-        declared = ws.calculate_dimension() if hasattr(ws, "calculate_dimension") else "unknown"
+        try:
+            declared = ws.calculate_dimension()
+        except (ValueError, AttributeError):   # a sheet that declares no dimension
+            declared = "not declared"
         rows = getattr(ws, "max_row", None)
         if isinstance(rows, int) and rows > limit + 1000:
             raise too_large(path, f"the sheet has {rows:,} rows", limit)
