@@ -66,6 +66,8 @@ _COMMA_GROUP_CELLS = re.compile(r"(?m)^[+\-−]?[1-9]\d{0,2},\d{3}$")
 _DOT_GROUP_CELLS = re.compile(r"(?m)^[+\-−]?[1-9]\d{0,2}\.\d{3}$")
 _COMMA_DECIMAL_CELLS = re.compile(r"(?m)^[+\-−]?(?:\d+,\d*|,\d+)(?:[eE][+-]?\d+)?$")
 _DOT_DECIMAL_CELLS = re.compile(r"(?m)^[+\-−]?(?:\d+\.\d*|\.\d+)(?:[eE][+-]?\d+)?$")
+# a non-empty cell without a digit, searched in a column's cells joined by newlines
+_CELL_WITHOUT_DIGIT = re.compile(r"(?m)^[^\d\n]+$")
 # Size guard: a campaign with more points than this is refused before it fills the memory.
 DEFAULT_MAX_POINTS = 2_000_000
 MAX_POINTS_ENV = "TTSP_MAX_POINTS"
@@ -866,13 +868,15 @@ def _skip_text_rows(table: RawTable, meanings: Mapping[int, HeaderMeaning]) -> R
     is refused (see :mod:`ttsp.io.skipped_rows`)."""
     text_cells = {}          # row index -> (column index, cell) of its first text cell
     for j in sorted(meanings):
+        col = [row[j] if j < len(row) else "" for row in table.rows]
+        if not _CELL_WITHOUT_DIGIT.search("\n".join(col)):
+            continue             # every cell is empty or has a digit: no word here (fast path)
         text_rows, filled = [], 0
-        for i, row in enumerate(table.rows):
-            cell = row[j] if j < len(row) else ""
+        for i, cell in enumerate(col):
             if not cell:
                 continue
             filled += 1
-            if not _is_number(cell, table.decimal_comma) and is_text_cell(cell):
+            if is_text_cell(cell) and not _is_number(cell, table.decimal_comma):
                 text_rows.append((table.line_numbers[i], cell))
                 text_cells.setdefault(i, (j, cell))
         refuse_mostly_text(table.path, table.header[j], text_rows, filled)
