@@ -56,8 +56,8 @@ def test_inspect_tolerance_option(tmp_path):
 
 BAD = {
     "missing.csv": ("Freq (Hz),E' (MPa)\n1,100\n10,200\n", "missing a temperature"),
-    "nonnumeric.csv": (HEAD + "20,0.5,100,10\n20,5,abc,20\n40,0.5,50,5\n40,5,100,10\n",
-                       "column \"E' (MPa)\", row 3: value must be a number; got 'abc'"),
+    "nonnumeric.csv": (HEAD + "20,0.5,100,10\n20,5,5x,20\n40,0.5,50,5\n40,5,100,10\n",
+                       "column \"E' (MPa)\", row 3: value must be a number; got '5x'"),
     "nan.csv": (HEAD + "20,0.5,100,10\n20,5,NaN,20\n40,0.5,50,5\n40,5,100,10\n",
                 "row 3: value must be a finite number; got nan"),
     "negative.csv": (HEAD + "20,0.5,100,10\n20,5,-1,20\n40,0.5,50,5\n40,5,100,10\n",

@@ -70,6 +70,12 @@ def test_header_styles(header, role, unit, kind):
     ("ω [1/s]", "rad/s"),
     ("Angular frequency (1/s)", "rad/s"),
     ("Frequency (1/s)", "1/s"),          # cycles per second: read as Hz by ttsp.units
+    # an angular frequency without a unit is rad/s by definition, never Hz (issue 16)
+    ("angular frequency", "rad/s"),
+    ("Angular Frequency", "rad/s"),
+    ("omega", "rad/s"),
+    ("ω", "rad/s"),
+    ("Frequency", None),                 # no unit and no angular name: the default (Hz)
 ])
 def test_per_second_follows_the_name(header, unit):
     assert interpret_header(header).unit == unit

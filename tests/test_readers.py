@@ -167,8 +167,11 @@ def test_xlsx_first_and_named_sheet(tmp_path):
 
 def test_xlsx_first_sheet_is_the_default(tmp_path):
     make_workbook(tmp_path)
-    with pytest.raises(DataError, match=r"two_sheets\.xlsx: no data rows"):
-        read_campaign(tmp_path / "two_sheets.xlsx")      # the first sheet holds notes only
+    # the first sheet holds notes only: the message names the sheets and the option (issue 16)
+    with pytest.raises(DataError, match=r"two_sheets\.xlsx: the first sheet \('Notes'\) holds no "
+                                        r"data rows; the workbook's sheets are 'Notes', 'Data': "
+                                        r"choose one with --sheet \(sheet= in Python\)$"):
+        read_campaign(tmp_path / "two_sheets.xlsx")
 
 
 def test_xlsx_bad_sheet(tmp_path):
@@ -400,10 +403,19 @@ OK = "20,0.5,100\n20,5,200\n40,0.5,50\n40,5,100\n"
     ("Temp (°C),Freq (Hz),Force (N)\n20,1,1\n20,10,2\n40,1,1\n40,10,2\n",
      r"bad\.csv: no measured material function found: need at least one of storage_modulus_Pa"),
     # a non-numeric cell
-    (H + "20,0.5,100\n20,5,abc\n40,0.5,50\n40,5,100\n",
-     r"bad\.csv, column \"E' \(MPa\)\", row 3: value must be a number; got 'abc'"),
-    (H + "20,0.5,abc\n20,5,100\n40,0.5,50\n40,5,100\n",        # even in the first data row
-     r"bad\.csv, column \"E' \(MPa\)\", row 2: value must be a number; got 'abc'"),
+    # (a word without digits in one row is skipped and listed: test_text_rows_are_skipped...)
+    (H + "20,0.5,100\n20,5,5x\n40,0.5,50\n40,5,100\n",
+     r"bad\.csv, column \"E' \(MPa\)\", row 3: value must be a number; got '5x'"),
+    (H + "20,0.5,5x\n20,5,100\n40,0.5,50\n40,5,100\n",        # even in the first data row
+     r"bad\.csv, column \"E' \(MPa\)\", row 2: value must be a number; got '5x'"),
+    # a column that is half or more text is not a number column with flagged rows
+    (H + "20,0.5,abc\n20,5,abc\n40,0.5,50\n40,5,100\n",
+     r"bad\.csv, column \"E' \(MPa\)\", row 2: value must be a number; got 'abc', and 2 of "
+     r"the column's 4 cells are text without a number: is this a column of numbers\?"),
+    # nor is a table where half the rows hold text somewhere
+    (H + "20,0.5,high\n20,low,100\n40,0.5,50\n40,5,100\n",
+     r"bad\.csv, column \"E' \(MPa\)\", row 2: value must be a number; got 'high', and 2 of the "
+     r"4 data rows hold text in a number column: is this a table of numbers\?"),
     (H + "20,0.5,100\n20,,200\n40,0.5,50\n40,5,100\n",
      r"bad\.csv, column 'Freq \(Hz\)', row 3: value must be a number; got an empty cell"),
     # NaN
@@ -448,9 +460,6 @@ OK = "20,0.5,100\n20,5,200\n40,0.5,50\n40,5,100\n"
     # a function of the other domain
     ("Temp (°C),time (s),E' (MPa)\n" + OK,
      r"bad\.csv, column \"E' \(MPa\)\": storage modulus does not belong to time-domain data"),
-    # text after the data
-    (H + OK + "End of data\n",
-     r"bad\.csv, column 'Temp \(°C\)', row 6: value must be a number; got 'End of data'"),
     # preamble temperature that cannot be read / that contradicts itself
     ("Temperature: warm\nFreq (Hz),E' (MPa)\n1,1\n10,2\n",
      r"bad\.csv: preamble line 'Temperature': temperature must be a number with a unit"),
@@ -518,9 +527,14 @@ def test_mixed_domains_and_kinds_across_files(tmp_path):
     f = write(tmp_path, "f_20C.csv", SWEEP)
     t = write(tmp_path, "t_40C.csv", "time (s),E(t) (MPa)\n1,1\n10,2\n")
     g = write(tmp_path, "g_40C.csv", "Freq (Hz),G' (MPa)\n0.5,1\n5,2\n")
-    with pytest.raises(DataError, match=r"the files mix frequency sweeps and time-domain tests"):
+    # each message names the two files (issue 17, point 10: some messages named no file)
+    with pytest.raises(DataError, match=rf"^{re.escape(str(t))}: a time-domain test, but "
+                                        rf"{re.escape(str(f))} holds frequency sweeps: the files "
+                                        r"mix the two; read them separately$"):
         read_campaign([f, t])
-    with pytest.raises(DataError, match=r"the files mix tensile \(E, D\) and shear \(G, J\) data"):
+    with pytest.raises(DataError, match=rf"^{re.escape(str(g))}: shear \(G, J\) data, but "
+                                        rf"{re.escape(str(f))} holds tensile \(E, D\) data: the "
+                                        r"files mix the two; give the modulus kind"):
         read_campaign([f, g])
 
 

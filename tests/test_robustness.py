@@ -118,12 +118,14 @@ def test_catalogue_files_are_all_listed_and_rebuildable():
     assert listed == on_disk
     assert not (BAD / "missing.csv").exists()  # the case of a file that does not exist
     made = runpy.run_path(str(BAD / "make_bad_inputs.py"))  # its definitions; main() not run
-    assert set(made["TEXT"]) | set(made["BINARY"]) | {"not_a_workbook.xlsx",
-                                                      "folder_without_data_files"} == on_disk
+    assert set(made["TEXT"]) | set(made["BINARY"]) | set(made["WORKBOOKS"]) | {
+        "not_a_workbook.xlsx", "folder_without_data_files"} == on_disk
     for name, text in made["TEXT"].items():
         assert (BAD / name).read_bytes() == text.encode("utf-8"), name
     for name, data in made["BINARY"].items():
         assert (BAD / name).read_bytes() == data, name
+    for name, sheets in made["WORKBOOKS"].items():
+        assert (BAD / name).read_bytes() == made["_workbook"](sheets), name
 
 
 def test_catalogue_messages_are_single_lines_that_name_the_file():
@@ -149,7 +151,7 @@ def test_docs_table_matches_the_catalogue():
         assert cells[4] == row["exit_code"]
 
 
-@pytest.mark.parametrize("name", ["text_in_a_cell.csv", "utf32_text.csv",
+@pytest.mark.parametrize("name", ["mostly_text_column.csv", "utf32_text.csv",
                                   "thousands_or_decimal_comma.tsv"])
 def test_catalogue_through_python_m_is_identical(name, tmp_path):
     """The real process (python -m ttsp) prints the same line and exits 2."""
@@ -172,7 +174,7 @@ def inputs(tmp_path_factory):
     d = tmp_path_factory.mktemp("inputs")
     good = write_campaign(d / "sweeps.csv")
     bad = d / "bad.csv"
-    bad.write_text("Temp (°C),Freq (Hz),E' (MPa)\n20,1,abc\n20,10,2\n40,1,1\n40,10,2\n",
+    bad.write_text("Temp (°C),Freq (Hz),E' (MPa)\n20,1,5x\n20,10,2\n40,1,1\n40,10,2\n",
                    encoding="utf-8")
     model = d / "model"
     res = CliRunner().invoke(app, ["build", str(good), "--out", str(model), "--no-figures", "-q",

@@ -12,7 +12,15 @@ import numpy as np
 
 from .exceptions import DataError
 
-__all__ = ["bad_value", "where", "check_positive", "check_finite", "check_choice", "check_range"]
+__all__ = ["bad_value", "where", "printable", "check_positive", "check_finite", "check_choice", "check_range"]
+
+
+def printable(text: str) -> str:
+    """``text`` as it can stand in a one-line message: a newline, a tab or another control
+    character in a file name is written as its escape (``\\n``), not acted on."""
+    if text.isprintable():
+        return text
+    return "".join(ch if ch.isprintable() else repr(ch)[1:-1] for ch in text)
 
 
 def where(file: str | None = None, column: str | None = None, row: int | None = None) -> str:
@@ -22,7 +30,7 @@ def where(file: str | None = None, column: str | None = None, row: int | None = 
     """
     parts = []
     if file:
-        parts.append(str(file))
+        parts.append(printable(str(file)))
     if column is not None:
         parts.append(f"column {column!r}")
     if row is not None:

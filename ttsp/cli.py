@@ -6,8 +6,11 @@ column and row; no traceback); 3 a check failed under ``--strict``; 1 an interna
 
 from __future__ import annotations
 
+import errno
+import re
 import sys
 import traceback
+from contextlib import contextmanager
 from enum import Enum
 from functools import wraps
 from pathlib import Path
@@ -16,6 +19,7 @@ from typing import List, Optional
 import typer
 
 from . import __version__
+from ._validation import printable
 from .exceptions import DataError, TtspError
 from .runner import read_inputs, run_build
 
@@ -30,6 +34,38 @@ def _say_error(message: str) -> None:
     typer.echo(f"ttsp: error: {message}", err=True)
 
 
+# Errors of the user's machine rather than of ttsp: a full disk or quota, a read-only file
+# system, a file too large for the file system (exit 2 with the path, not an internal error)
+_ENVIRONMENT_ERRNOS = {errno.ENOSPC, errno.EDQUOT, errno.EROFS, errno.EFBIG, errno.EACCES,
+                       errno.EPERM}
+# a temporary output folder of ttsp.io.atomic: .ttsp-tmp-<destination>.<pid>.<random>
+_TEMPORARY_FOLDER = re.compile(r"^\.ttsp-tmp-(?P<destination>.+)\.\d+\.[^.]+$")
+
+
+def _os_error_message(exc: OSError) -> str:
+    """``<path>: <reason>`` naming the user's path: the output folder rather than the temporary
+    folder ttsp writes beside it."""
+    if exc.filename is None:
+        return printable(f"{exc.strerror or exc}")
+    path = Path(str(exc.filename))
+    m = _TEMPORARY_FOLDER.match(path.name)
+    if m is None:
+        return printable(f"{exc.filename}: {exc.strerror}")
+    return printable(f"{path.parent / m.group('destination')}: {exc.strerror} (while writing "
+                     f"the output folder in {path.parent})")
+
+
+@contextmanager
+def _writing_to(path):
+    """Name ``path`` in an OSError that names no file (a full disk while writing a file)."""
+    try:
+        yield
+    except OSError as exc:
+        if exc.filename is None and exc.errno is not None:
+            raise OSError(exc.errno, exc.strerror, str(path)) from None
+        raise
+
+
 def guarded(func):
     """Turn ttsp's errors into one stderr line and an exit code; never show a traceback for bad
     input. Internal errors print one line asking for a report (traceback only with --debug)."""
@@ -41,10 +77,16 @@ def guarded(func):
         except typer.Exit:
             raise
         except TtspError as exc:
-            _say_error(str(exc).splitlines()[0] if str(exc) else type(exc).__name__)
+            # one line: a newline (from a file name, say) is shown escaped, never cut at
+            _say_error(printable(str(exc)) if str(exc) else type(exc).__name__)
             raise typer.Exit(EXIT_BAD_INPUT) from None
         except (FileNotFoundError, IsADirectoryError, PermissionError) as exc:
-            _say_error(f"{exc.filename}: {exc.strerror}")
+            _say_error(_os_error_message(exc))
+            raise typer.Exit(EXIT_BAD_INPUT) from None
+        except OSError as exc:
+            if exc.errno not in _ENVIRONMENT_ERRNOS:
+                raise
+            _say_error(_os_error_message(exc))
             raise typer.Exit(EXIT_BAD_INPUT) from None
         except KeyboardInterrupt as exc:  # Ctrl-C, or SIGTERM (ttsp._lifetime.Terminated)
             _say_error(str(exc) or "interrupted")
@@ -87,6 +129,8 @@ SHEET_OPT = typer.Option(None, "--sheet", help="Sheet of an .xlsx workbook (defa
 TOL_OPT = typer.Option(0.5, "--temperature-tolerance", min=0.0,
                        help="Points within this many kelvin form one isotherm.")
 KIND_OPT = typer.Option(None, "--modulus-kind", help="tensile or shear (default: from the headers).")
+NAME_T_OPT = typer.Option(False, "--temperature-from-name",
+                          help="Read a file name's one unitless number (sweep_130.csv) as °C.")
 
 
 def describe(campaign) -> str:
@@ -100,6 +144,8 @@ def describe(campaign) -> str:
         lines.append(f"assumed units (no unit in the header): {campaign.metadata['assumed units']}")
     if campaign.dropped_rows:
         lines.append("rows left out: " + ", ".join(f"{v} {k}" for k, v in campaign.dropped_rows.items()))
+    if campaign.metadata.get("skipped rows"):
+        lines.append(f"skipped rows: {campaign.metadata['skipped rows']}")
     x = "frequency (Hz)" if campaign.domain == "frequency" else "time (s)"
     lines.append(f"{'T (°C)':>9}  {'points':>6}  {x + ' from':>20}  {'to':>10}")
     import math
@@ -117,13 +163,15 @@ def describe(campaign) -> str:
 def inspect_cmd(inputs: List[Path] = typer.Argument(..., help="Files or folders of one campaign."),
                 column: Optional[List[str]] = COLUMN_OPT, unit: Optional[List[str]] = UNIT_OPT,
                 sheet: Optional[str] = SHEET_OPT, tolerance: float = TOL_OPT,
-                modulus_kind: Optional[str] = KIND_OPT):
+                modulus_kind: Optional[str] = KIND_OPT,
+                temperature_from_name: bool = NAME_T_OPT):
     """Show what the reader understood (isotherms, ranges, units, dropped rows), fitting nothing."""
     import warnings
 
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
-        campaign = read_inputs(inputs, column, unit, sheet, tolerance, modulus_kind)
+        campaign = read_inputs(inputs, column, unit, sheet, tolerance, modulus_kind,
+                               temperature_from_name)
     typer.echo(describe(campaign))
 
 
@@ -223,13 +271,16 @@ def build_cmd(inputs: List[Path] = typer.Argument(..., help="Files or folders of
               quiet: bool = typer.Option(False, "--quiet", "-q", help="No progress on stderr."),
               column: Optional[List[str]] = COLUMN_OPT, unit: Optional[List[str]] = UNIT_OPT,
               sheet: Optional[str] = SHEET_OPT, tolerance: float = TOL_OPT,
-              modulus_kind: Optional[str] = KIND_OPT):
+              modulus_kind: Optional[str] = KIND_OPT,
+              temperature_from_name: bool = NAME_T_OPT):
     """Build the master curve, shift law, Prony series, material functions, checks and report."""
     options = _options(reference_temperature, law, vertical, expansion_coefficient, shift_on, gaps,
                        prony_density, glass_transition, spectrum, master_curve, cross_validation)
-    result, folder = run_build(inputs, options, out, figures=not no_figures, force=force,
-                               quiet=quiet, column=column, unit=unit, sheet=sheet,
-                               tolerance=tolerance, modulus_kind=modulus_kind)
+    with _writing_to(out):
+        result, folder = run_build(inputs, options, out, figures=not no_figures, force=force,
+                                   quiet=quiet, column=column, unit=unit, sheet=sheet,
+                                   tolerance=tolerance, modulus_kind=modulus_kind,
+                                   temperature_from_name=temperature_from_name)
     typer.echo(str(folder / ("report.html" if not no_figures else "summary.json")))
     if spectrum and result.relaxation_spectrum is None:
         why = next((w for w in result.warnings if "continuous relaxation spectrum" in w),
@@ -255,8 +306,9 @@ def demo_cmd(out: Path = typer.Option(Path("ttsp-demo"), "--out", "-o", help="Ou
 
     # a previous demo output is replaced, under the rules of every output folder (only what
     # ttsp wrote there, nothing the user added; see ttsp.io.atomic); anything else is refused
-    result, folder = run_build([demo_input()], BuildOptions(), Path(out), figures=True, force=True,
-                               quiet=quiet, kind="demo", replaces=("demo",))
+    with _writing_to(Path(out)):
+        result, folder = run_build([demo_input()], BuildOptions(), Path(out), figures=True,
+                                   force=True, quiet=quiet, kind="demo", replaces=("demo",))
     typer.echo(f"ttsp demo: {len(result.campaign)} isotherms of an invented damping elastomer; "
                f"master curve at {result.reference_temperature_C:.1f} °C, law "
                f"{result.law_fit.law.model}, {result.series.n_terms} Prony terms.")
@@ -272,7 +324,8 @@ def check_cmd(inputs: List[Path] = typer.Argument(..., help="Files or folders of
               as_json: bool = typer.Option(False, "--json", help="Print the checks as JSON."),
               column: Optional[List[str]] = COLUMN_OPT, unit: Optional[List[str]] = UNIT_OPT,
               sheet: Optional[str] = SHEET_OPT, tolerance: float = TOL_OPT,
-              modulus_kind: Optional[str] = KIND_OPT):
+              modulus_kind: Optional[str] = KIND_OPT,
+              temperature_from_name: bool = NAME_T_OPT):
     """Does superposition hold? Run the checks and print a verdict for each."""
     import warnings
 
@@ -280,7 +333,8 @@ def check_cmd(inputs: List[Path] = typer.Argument(..., help="Files or folders of
 
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
-        campaign = read_inputs(inputs, column, unit, sheet, tolerance, modulus_kind)
+        campaign = read_inputs(inputs, column, unit, sheet, tolerance, modulus_kind,
+                               temperature_from_name)
         result = build(campaign, BuildOptions(reference_temperature_C=reference_temperature,
                                               cross_validation=False))
     if as_json:
@@ -305,7 +359,8 @@ def _emit_table(frame, out, caught_warnings) -> None:
     if out is None:
         typer.echo(text, nl=False)
     else:
-        write_text_atomic(out, text)
+        with _writing_to(out):
+            write_text_atomic(out, text)
         typer.echo(str(out), err=True)
 
 
@@ -342,6 +397,9 @@ def load_model(path: Path):
         summary = json.loads(file.read_text(encoding="utf-8"))
     except (UnicodeDecodeError, json.JSONDecodeError) as exc:
         raise DataError(f"{file}: not a ttsp summary (invalid JSON: {exc})") from None
+    except RecursionError:
+        raise DataError(f"{file}: not a ttsp summary (JSON nested deeper than Python's "
+                        f"recursion limit of {sys.getrecursionlimit()})") from None
     if not isinstance(summary, dict) or summary.get("schema_version") != "1":
         raise DataError(f"{file}: not a ttsp summary of schema version 1")
     try:
@@ -397,10 +455,11 @@ def history_cmd(model: Path = typer.Argument(..., help="summary.json of a build,
     import warnings
 
     from .history import strain_under_stress, stress_under_strain
-    from .io.history_table import read_history_table
+    from .io.history_table import check_temperatures_for_law, read_history_table, refuse_overflow
 
     m = load_model(model)
     h = read_history_table(table)
+    check_temperatures_for_law(h, m.law)
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always")
         kwargs = ({} if h.temperature_K is None
@@ -410,7 +469,9 @@ def history_cmd(model: Path = typer.Argument(..., help="summary.json of a build,
             response = stress_under_strain(m.series, h.time_s, h.values, **kwargs)
         else:
             response = strain_under_stress(m.series, h.time_s, h.values, **kwargs)
-    _emit_table(response.to_frame(), out, caught)
+    frame = response.to_frame()
+    refuse_overflow(h, frame, "stress_Pa" if h.control == "strain" else "strain")
+    _emit_table(frame, out, caught)
 
 
 @app.command("batch")

@@ -51,6 +51,13 @@ class Quantity:
         return self.tensile_symbol if modulus_kind == "tensile" else self.shear_symbol
 
 
+# Largest values a measurement may report, far beyond any real material, so that the squares
+# and products of the fits stay finite (moduli near 1e300 Pa overflowed inside them): the stiffest
+# solid, diamond, has a Young's modulus of about 1.2e12 Pa, and no viscoelastic test runs above a
+# few hundred °C (both facts of common knowledge, recalled from memory).
+MAX_MAGNITUDE = {"modulus": 1e15, "compliance": 1e15}   # Pa, 1/Pa
+MAX_TEMPERATURE_K = 10_000.0
+
 QUANTITIES: Mapping[str, Quantity] = MappingProxyType({q.name: q for q in (
     Quantity("storage_modulus_Pa", "modulus", "frequency", "E'", "G'", True, "storage modulus"),
     Quantity("loss_modulus_Pa", "modulus", "frequency", "E''", "G''", True, "loss modulus"),
@@ -431,6 +438,12 @@ class Campaign:
             if (vals <= 0).any():
                 bad = first(vals <= 0)
                 raise DataError(f"{at(col, bad)}value must be {rule}; got {shown(col, vals[bad])}")
+        if (temps > MAX_TEMPERATURE_K).any():
+            bad = first(temps > MAX_TEMPERATURE_K)
+            raise DataError(f"{at('temperature_K', bad)}value must be at most "
+                            f"{MAX_TEMPERATURE_K:,.0f} K ({MAX_TEMPERATURE_K - 273.15:,.2f} °C), "
+                            f"hotter than any viscoelastic test; got "
+                            f"{shown('temperature_K', temps[bad])}")
 
         # isotherms: by the isotherm label of to_frame, else by temperature within the tolerance
         if "isotherm" in frame.columns:
@@ -461,6 +474,12 @@ class Campaign:
                 bad = first(~nan & (vals <= 0))
                 raise DataError(f"{at(q, bad)}value must be positive (it is taken in a "
                                 f"logarithm); got {shown(q, vals[bad])}")
+            limit = MAX_MAGNITUDE.get(QUANTITIES[q].unit_kind)
+            if limit is not None and (vals[~nan] > limit).any():
+                bad = first(~nan & (vals > limit))
+                unit = "Pa" if QUANTITIES[q].unit_kind == "modulus" else "1/Pa"
+                raise DataError(f"{at(q, bad)}value must be at most {limit:g} {unit}, beyond "
+                                f"any real material; got {shown(q, vals[bad])}")
             if not nan.all():
                 values[q] = (vals, all_nan_group)
         if not values:

@@ -61,7 +61,7 @@ import numpy as np
 
 from ._arrays import LOG_RANGE_RTOL, as_1d_finite
 from ._validation import bad_value, check_choice
-from .exceptions import ExtrapolationWarning
+from .exceptions import DataError, ExtrapolationWarning
 from .interconvert import CreepSeries, creep_to_relaxation, relaxation_to_creep
 from .prony import PronySeries
 
@@ -110,6 +110,8 @@ def _rate(log10_aT: Callable, temperature_K: np.ndarray) -> np.ndarray:
         raise bad_value("log10_aT", "a callable T_K -> log10 a_T", type(log10_aT).__name__)
     try:
         la = np.asarray(log10_aT(temperature_K), dtype=float)
+    except DataError:
+        raise   # the law's own message (a temperature at or below its divergence, say)
     except (TypeError, ValueError):
         raise bad_value("log10_aT(temperature_K)", "an array of numbers",
                         "something else") from None

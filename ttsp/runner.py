@@ -32,14 +32,16 @@ def parse_pairs(values, option: str) -> dict:
     return out
 
 
-def read_inputs(inputs, column, unit, sheet, tolerance, modulus_kind):
+def read_inputs(inputs, column, unit, sheet, tolerance, modulus_kind,
+                temperature_from_name=False):
     from .io.readers import read_campaign
 
     if modulus_kind not in (None, "tensile", "shear"):
         raise typer.BadParameter("must be tensile or shear", param_hint="--modulus-kind")
     return read_campaign([str(p) for p in inputs], columns=parse_pairs(column, "--column"),
                          units=parse_pairs(unit, "--unit"), sheet=sheet,
-                         temperature_tolerance_K=tolerance, modulus_kind=modulus_kind)
+                         temperature_tolerance_K=tolerance, modulus_kind=modulus_kind,
+                         temperature_from_name=temperature_from_name)
 
 
 class Progress:
@@ -201,7 +203,8 @@ def draw_figures(result, folder, *, parallel: bool = True, early=None) -> dict:
 
 def run_build(inputs, options, out: Path, *, figures: bool, force: bool, quiet: bool,
               column=None, unit=None, sheet=None, tolerance=0.5, modulus_kind=None,
-              parallel_figures: bool = True, kind: str = "build", replaces=None):
+              parallel_figures: bool = True, kind: str = "build", replaces=None,
+              temperature_from_name: bool = False):
     """Read, build and write one campaign's outputs atomically. Returns (result, out folder).
 
     The output folder is checked (and locked) before the fit starts, so a folder that may not be
@@ -217,7 +220,8 @@ def run_build(inputs, options, out: Path, *, figures: bool, force: bool, quiet: 
     progress("reading")
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
-        campaign = read_inputs(inputs, column, unit, sheet, tolerance, modulus_kind)
+        campaign = read_inputs(inputs, column, unit, sheet, tolerance, modulus_kind,
+                               temperature_from_name)
     created = datetime.datetime.now(datetime.timezone.utc).strftime("%Y-%m-%dT%H:%M:%SZ")
     with atomic_output_dir(out, force=force, protect=inputs, kind=kind,
                            replaces=replaces) as tmp, warnings.catch_warnings():

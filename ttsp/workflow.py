@@ -325,6 +325,11 @@ def _fit_prony(campaign: Campaign, shifts, options: BuildOptions):
         columns = ["relaxation_modulus_Pa" if quantity == "relaxation_modulus"
                    else "creep_compliance_1_per_Pa"]
     used = _fit_points(frame, x_name, columns, MAX_PRONY_POINTS)
+    if len(used) < 2:   # say what is wrong with the data, not that the solver got no abscissa
+        from ._fit_points_diagnosis import explain_no_fit_points
+
+        raise DataError(explain_no_fit_points(frame, columns, {q: campaign.symbol(q) for q in
+                                                               columns}, campaign.source))
     if campaign.domain == "frequency":
         return fit_prony_frequency(used[x_name].to_numpy(), used[columns[0]].to_numpy(),
                                    used[columns[1]].to_numpy(),
@@ -376,6 +381,12 @@ def build(campaign: Campaign, options: BuildOptions | None = None, *, input_sha2
     if not isinstance(campaign, Campaign):
         raise bad_value("campaign", "a ttsp Campaign (see ttsp.read_campaign)", type(campaign).__name__)
     campaign = campaign.with_derived()
+    if not set(campaign.quantities) - {"tan_delta", "phase_angle_rad"}:
+        have, (e1, e2) = " and ".join(map(campaign.symbol, campaign.quantities)), map(
+            campaign.symbol, ("storage_modulus_Pa", "loss_modulus_Pa"))
+        raise DataError(f"{campaign.source}: a master curve needs a modulus or a compliance; the "
+                        f"campaign has only {have}: no Prony series can be fitted to it (add "
+                        f"{e1} and {e2} columns)")
     if options.shift_on == "tan_delta" and campaign.domain != "frequency":
         raise DataError("shift_on='tan_delta' needs frequency-domain data; this campaign is "
                         "time-domain")

@@ -172,7 +172,7 @@ def interpret_header(header: str, *, domain: str | None = None) -> HeaderMeaning
     is time. A bare ``E``/``G``/``modulus`` is the storage modulus, or the relaxation modulus when
     ``domain="time"``; a bare ``D``/``J`` is a creep compliance only with a compliance unit.
     ``1/s`` after an angular-frequency name (``omega``, ``ω``, ``angular frequency``) is read as
-    rad/s, after any other frequency name as Hz. When no exact name matches, a keyword inside a
+    rad/s, after any other frequency name as Hz; such a name without a unit is rad/s as well. When no exact name matches, a keyword inside a
     longer name (``"Storage modulus E' (MPa)"``) gives a ``fuzzy`` meaning, accepted only when
     its unit (if any) is of the right kind.
     """
@@ -190,8 +190,9 @@ def interpret_header(header: str, *, domain: str | None = None) -> HeaderMeaning
     meaning = _exact_meaning(key, name, unit, unit_kind, domain)
     if meaning is None:
         meaning = _fuzzy_meaning(key, unit, unit_kind)
-    if (meaning is not None and meaning.role == "frequency_rad_s" and unit is not None
-            and unit.strip() in _PER_SECOND and key in _ANGULAR_NAMES):
+    if (meaning is not None and meaning.role == "frequency_rad_s" and key in _ANGULAR_NAMES
+            and (unit is None or unit.strip() in _PER_SECOND)):
+        # an angular frequency is in rad/s by definition: no unit is not Hz here
         meaning = HeaderMeaning(meaning.role, "rad/s", None, meaning.fuzzy)
     return meaning
 

@@ -18,18 +18,25 @@ from ..units import parse_unit
 from .headers import split_unit
 from .readers import _column_floats, read_table
 
-__all__ = ["LoadingHistory", "read_history_table"]
+__all__ = ["LoadingHistory", "read_history_table", "check_temperatures_for_law",
+           "refuse_overflow"]
 
 
 @dataclass(frozen=True)
 class LoadingHistory:
-    """A history in SI: times (s), temperatures (K or None), and strain or stress (Pa)."""
+    """A history in SI: times (s), temperatures (K or None), and strain or stress (Pa).
+
+    ``rows`` and ``headers`` say where each value came from, so that a message about one value
+    names its file line and column.
+    """
 
     source: str
     time_s: np.ndarray
     temperature_K: np.ndarray | None
     control: str  # "strain" or "stress"
     values: np.ndarray
+    rows: tuple = ()          # the file line of each value (1 = the first line)
+    headers: tuple = ()       # (role, header) of each column read, for messages
 
 
 _ROLES = (
@@ -72,6 +79,10 @@ def read_history_table(path) -> LoadingHistory:
         two columns of one kind, a non-numeric or non-finite cell, times that go backwards.
     """
     table = read_table(path)
+    if table.skipped:   # a history is read whole: no row of it is left out
+        first = table.skipped[0]
+        raise DataError(f"{where(table.path, None, first.row)}a history table must hold only "
+                        f"numbers after its header; got {first.text!r}")
     found = {}
     for j, header in enumerate(table.header):
         role, unit = _role(header)
@@ -133,4 +144,60 @@ def read_history_table(path) -> LoadingHistory:
         i = int(np.flatnonzero(temp <= 0)[0])
         raise DataError(f"{where(table.path, found['temperature_K'][1], table.line_numbers[i])}"
                         f"temperature must be above absolute zero")
-    return LoadingHistory(str(path), t, temp, control, column(control))
+    return LoadingHistory(str(path), t, temp, control, column(control), tuple(table.line_numbers),
+                          tuple((role, header) for role, (_, header, _) in found.items()))
+
+
+def _header(history: LoadingHistory, role: str):
+    return dict(history.headers).get(role)
+
+
+def _row(history: LoadingHistory, i: int):
+    return history.rows[i] if i < len(history.rows) else None
+
+
+def check_temperatures_for_law(history: LoadingHistory, law) -> None:
+    """Refuse a history temperature at or below the divergence of the model's shift law (WLF:
+    T_ref − C2; VFT: T_inf), naming its row and the divergence in °C.
+
+    Raises
+    ------
+    DataError
+        ``<file>, column <T>, row <n>: temperature must be above ...`` for the first such row.
+    """
+    limit_of = getattr(law, "_lower_limit_K", None)
+    if history.temperature_K is None or limit_of is None:
+        return
+    limit_K = limit_of(law.params, law.reference_temperature_K)
+    if limit_K is None:
+        return
+    bad = np.flatnonzero(history.temperature_K <= limit_K)
+    if bad.size:
+        i = int(bad[0])
+        name = getattr(law, "_limit_name", "the law's divergence").replace(" - ", " − ")
+        raise DataError(f"{where(history.source, _header(history, 'temperature_K'), _row(history, i))}"
+                        f"temperature must be above {name} of the model's shift law, "
+                        f"{limit_K - 273.15:.2f} °C, where a_T has no value; got "
+                        f"{history.temperature_K[i] - 273.15:.6g} °C")
+
+
+def refuse_overflow(history: LoadingHistory, frame, column: str) -> None:
+    """Refuse a response that overflowed (a strain of 1e300 gives an infinite stress) rather
+    than write ``inf``: name the first input row whose response is not a finite number.
+
+    Raises
+    ------
+    DataError
+        ``<file>, column <strain>, row <n>: ...`` for the first such row.
+    """
+    values = np.asarray(frame[column], dtype=float)
+    bad = np.flatnonzero(~np.isfinite(values))
+    if not bad.size:
+        return
+    i = int(bad[0])
+    given = history.values[i] if i < history.values.size else float("nan")
+    unit = "" if history.control == "strain" else " Pa"
+    raise DataError(f"{where(history.source, _header(history, history.control), _row(history, i))}"
+                    f"the {column.split('_')[0]} under this {history.control} is beyond the "
+                    f"largest number ttsp holds (about 1.8e308); got {history.control} "
+                    f"{given:g}{unit}")

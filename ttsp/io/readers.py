@@ -13,7 +13,10 @@ What is understood:
   the names (``°C, Hz, MPa``), or given explicitly;
 * long format (a temperature column) or one file per isotherm, with the temperature taken from
   a column, a preamble line such as ``Temperature: 35 °C``, or the file name (``sweep_35C.csv``);
-* a folder, or several files, as one campaign.
+* a folder, or several files, as one campaign;
+* rows that are clearly not data, skipped and listed by row and text (never silently): text
+  lines after the data, and a row with a word such as ``overload`` in a number column
+  (:mod:`ttsp.io.skipped_rows`).
 
 Everything is converted to SI and kelvin and validated by :meth:`ttsp.data.Campaign.from_frame`,
 so every error names the file, the column and the first bad row.
@@ -28,17 +31,20 @@ import os
 import re
 import warnings
 from collections import Counter
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import Mapping, Sequence
 
 import numpy as np
 
-from .._validation import check_positive, where
+from .._validation import check_positive, printable, where
 from ..data import QUANTITIES, Campaign
 from ..exceptions import DataError, DroppedRowsWarning
 from ..units import parse_unit
 from .headers import DEFAULT_UNIT, UNIT_KIND_OF_ROLE, HeaderMeaning, interpret_header
+from .workbook import read_sheet_cells
+from .skipped_rows import (TEXT_AFTER_DATA, TEXT_IN_NUMBER_COLUMN, SkippedRow, describe_skipped,
+                           is_text_cell, refuse_mostly_text)
 
 __all__ = ["read_campaign", "hash_inputs", "read_table", "RawTable", "TEXT_SUFFIXES",
            "TABLE_SUFFIXES",
@@ -60,6 +66,8 @@ _COMMA_GROUP_CELLS = re.compile(r"(?m)^[+\-−]?[1-9]\d{0,2},\d{3}$")
 _DOT_GROUP_CELLS = re.compile(r"(?m)^[+\-−]?[1-9]\d{0,2}\.\d{3}$")
 _COMMA_DECIMAL_CELLS = re.compile(r"(?m)^[+\-−]?(?:\d+,\d*|,\d+)(?:[eE][+-]?\d+)?$")
 _DOT_DECIMAL_CELLS = re.compile(r"(?m)^[+\-−]?(?:\d+\.\d*|\.\d+)(?:[eE][+-]?\d+)?$")
+# a non-empty cell without a digit, searched in a column's cells joined by newlines
+_CELL_WITHOUT_DIGIT = re.compile(r"(?m)^[^\d\n]+$")
 # Size guard: a campaign with more points than this is refused before it fills the memory.
 DEFAULT_MAX_POINTS = 2_000_000
 MAX_POINTS_ENV = "TTSP_MAX_POINTS"
@@ -81,6 +89,9 @@ class RawTable:
     """One file's table as text cells, before any interpretation.
 
     ``rows`` hold the data cells; ``line_numbers`` the 1-based line of the file each came from.
+    ``skipped`` lists the rows left out as clearly not data (:mod:`ttsp.io.skipped_rows`);
+    ``uncomputed`` maps ``(line, column index)`` of a workbook's formula cells that store no
+    value to the formula.
     """
 
     path: str
@@ -90,6 +101,8 @@ class RawTable:
     preamble: Mapping[str, str]
     decimal_comma: bool
     dropped: Mapping[str, int] = field(default_factory=dict)
+    skipped: tuple = ()
+    uncomputed: Mapping[tuple, str] = field(default_factory=dict)
 
 
 # ---- bytes -> text ----------------------------------------------------------------------------
@@ -254,8 +267,7 @@ def read_table(path: str | os.PathLike, *, sheet: str | int | None = None,
         raise DataError(f"{where(path)}is a folder, not a file")
     limit = _max_points(max_points)
     if path.lower().endswith(".xlsx"):
-        lines_cells = _xlsx_cells(path, sheet, limit)
-        return _table_from_cells(path, lines_cells, decimal_comma=False)
+        return _sheet_table(path, sheet, limit)
     _check_size(path, limit)
     with open(path, "rb") as fh:
         data = fh.read()
@@ -296,44 +308,19 @@ def _refuse_grouped_numbers(path: str, lines: Sequence[str]) -> None:
                                 f"thousands separators; got {grouped[0]!r}")
 
 
-def _xlsx_cells(path: str, sheet, limit: int = DEFAULT_MAX_POINTS) -> list:
+def _sheet_table(path: str, sheet, limit: int) -> RawTable:
+    """The table of one sheet; a first sheet without data names the workbook's sheets."""
+    read = read_sheet_cells(path, sheet, limit, _too_large)
     try:
-        import openpyxl
-    except ImportError:  # pragma: no cover - openpyxl is a declared dependency
-        raise DataError(f"{where(path)}reading .xlsx needs the package openpyxl") from None
-    try:
-        book = openpyxl.load_workbook(path, read_only=True, data_only=True)
-    except Exception as exc:  # openpyxl raises many types for a broken file
-        raise DataError(f"{where(path)}not a readable .xlsx workbook ({type(exc).__name__})") from None
-    try:
-        names = book.sheetnames
-        if sheet is None:
-            ws = book.worksheets[0]
-        elif isinstance(sheet, int) and not isinstance(sheet, bool):
-            if not 0 <= sheet < len(names):
-                raise DataError(f"{where(path)}sheet must be a number from 0 to {len(names) - 1} "
-                                f"or one of {', '.join(names)}; got {sheet!r}")
-            ws = book.worksheets[sheet]
-        else:
-            if sheet not in names:
-                raise DataError(f"{where(path)}sheet must be one of {', '.join(names)}; "
-                                f"got {sheet!r}")
-            ws = book[sheet]
-        rows = getattr(ws, "max_row", None)
-        if isinstance(rows, int) and rows > limit + 1000:
-            raise _too_large(path, f"the sheet has {rows:,} rows", limit)
-        out = []
-        for row in ws.iter_rows(values_only=True):
-            # a cell wrapped over several lines (Alt+Enter) is one line here, so messages that
-            # quote it stay one line
-            cells = ["" if v is None else repr(v) if isinstance(v, float) else " ".join(str(v).split())
-                     for v in row]
-            while cells and cells[-1] == "":
-                cells.pop()
-            out.append(cells)
-        return out
-    finally:
-        book.close()
+        table = _table_from_cells(path, read.lines, decimal_comma=False)
+    except DataError as exc:
+        if read.chosen or len(read.sheet_names) < 2 or "no data rows" not in str(exc) and \
+                "no table found" not in str(exc):
+            raise
+        raise DataError(f"{where(path)}the first sheet ({read.sheet!r}) holds no data rows; the "
+                        f"workbook's sheets are {', '.join(map(repr, read.sheet_names))}: choose "
+                        f"one with --sheet (sheet= in Python)") from None
+    return replace(table, uncomputed=read.uncomputed) if read.uncomputed else table
 
 
 def _data_like(cells: list, decimal_comma: bool) -> bool:
@@ -395,10 +382,22 @@ def _table_from_cells(path: str, cells: list, decimal_comma: bool, *, raw_lines=
         numbers.append(i + 1)
     if trailing_blank:
         dropped["blank lines"] = dropped.get("blank lines", 0) + trailing_blank
+    skipped = _split_footer(rows, numbers, decimal_comma, raw_lines)
     header = _fit_header(path, header, rows, numbers, header_idx + 1,
                          raw_lines[header_idx] if (whitespace and raw_lines) else None)
     return RawTable(path, tuple(header), tuple(rows), tuple(numbers), preamble, decimal_comma,
-                    dropped)
+                    dropped, tuple(skipped))
+
+
+def _split_footer(rows: list, numbers: list, decimal_comma: bool, raw_lines) -> list:
+    """Remove the lines after the last line with a number that hold no number at all (a footer
+    such as ``End of data``) from ``rows`` and ``numbers``; return them as skipped rows."""
+    footer = []
+    while rows and not any(_is_number(c, decimal_comma) for c in rows[-1] if c):
+        row, line = rows.pop(), numbers.pop()
+        text = raw_lines[line - 1].strip() if raw_lines else " ".join(c for c in row if c)
+        footer.append(SkippedRow(line, _printable(text), TEXT_AFTER_DATA))
+    return footer[::-1]
 
 
 def _printable(text: str) -> str:
@@ -642,6 +641,46 @@ def _temperature_from_name(path: str) -> tuple | None:
     return value, unit
 
 
+# a number in a file name without a unit letter: sweep_130, iso_-20, T85.5, 85p5
+_NUMBER_IN_NAME = re.compile(r"(?<![0-9.])(?P<sign>[-−]?)(?P<value>\d+(?:[.p]\d+)?)(?![0-9])")
+
+
+def _numbers_in_name(path: str) -> list:
+    """The numbers written in a file name's stem, as (text, value) pairs: a minus sign counts
+    only at the start or after ``_``, ``=`` or a space (``sample-25`` is 25)."""
+    stem = Path(path).stem
+    out = []
+    for m in _NUMBER_IN_NAME.finditer(stem):
+        value = float(m.group("value").replace("p", "."))
+        before = stem[m.start() - 1] if m.start() > 0 else ""
+        if m.group("sign") and (m.group("sign") == "−" or not before.isalnum()):
+            value = -value
+        out.append((m.group(0), value))
+    return out
+
+
+def _bare_temperature_from_name(path: str) -> tuple:
+    """The temperature in °C of a file name holding exactly one number without a unit letter
+    (``sweep_130.csv``), read only when the user asks (``temperature_from_name=True``)."""
+    numbers = _numbers_in_name(path)
+    if len(numbers) != 1:
+        found = ", ".join(t for t, _ in numbers) if numbers else "none"
+        raise DataError(f"{where(path)}temperature_from_name needs exactly one number in the file "
+                        f"name; got {len(numbers)} ({found}); give the temperature in the file "
+                        f"instead, or name the file like sweep_130C.csv")
+    return numbers[0][1], "°C"
+
+
+def _bare_number_hint(path: str) -> str:
+    """For the missing-temperature message: how to use a unitless number in the file name."""
+    numbers = _numbers_in_name(path)
+    if len(numbers) != 1:
+        return ""
+    return (f"; the file name holds the number {numbers[0][0]} without a unit: if it is the "
+            f"temperature in °C, give --temperature-from-name (temperature_from_name=True in "
+            f"Python)")
+
+
 def _temperature_from_preamble(preamble: Mapping[str, str], path: str) -> tuple | None:
     """Temperature of a ``Temperature: 35 °C`` preamble line (also ``Temp (°C) = 35``,
     ``T: 308.15 K``, ``Temperature: 35 ± 0.1 °C``). Lines that do not read as one temperature
@@ -729,10 +768,13 @@ def _meanings(table: RawTable, columns: Mapping[str, str] | None) -> dict:
     return out
 
 
-def _table_to_frame(table: RawTable, *, columns, units, temperature_C):
+def _table_to_frame(table: RawTable, *, columns, units, temperature_C,
+                    temperature_from_name=False):
     import pandas as pd
 
     meanings = _meanings(table, columns)
+    _refuse_uncomputed_formulas(table, meanings)
+    table = _skip_text_rows(table, meanings)
     units = dict(units or {})
     known = set(table.header) | set(QUANTITIES) | {"temperature_K", "frequency_rad_s", "time_s"}
     for key in units:
@@ -779,13 +821,16 @@ def _table_to_frame(table: RawTable, *, columns, units, temperature_C):
         if found is None:
             found = _temperature_from_name(table.path)
             label = "temperature from the file name"
+        if found is None and temperature_from_name:
+            found = _bare_temperature_from_name(table.path)
         if found is None and temperature_C is not None and not isinstance(temperature_C, Mapping):
             found = (_given_temperature(temperature_C, table.path), "°C")
             label = "temperature given"
         if found is None:
             raise DataError(f"{where(table.path)}missing a temperature: no temperature column, no "
                             f"'Temperature: …' preamble line, and none in the file name "
-                            f"(such as sweep_35C.csv); columns found: {', '.join(table.header)}")
+                            f"(such as sweep_35C.csv){_bare_number_hint(table.path)}; columns "
+                            f"found: {', '.join(table.header)}")
         value, unit_text = found
         unit_text = units.get("temperature_K", unit_text)
         try:
@@ -800,7 +845,56 @@ def _table_to_frame(table: RawTable, *, columns, units, temperature_C):
         raise DataError(f"{where(table.path)}the columns mix tensile (E, D) and shear (G, J) "
                         f"symbols; give the modulus kind explicitly")
     df = pd.DataFrame(frame)
-    return df, labels, units_read, (kinds.pop() if kinds else None), assumed
+    return df, labels, units_read, (kinds.pop() if kinds else None), assumed, table.skipped
+
+
+def _refuse_uncomputed_formulas(table: RawTable, meanings: Mapping[int, HeaderMeaning]) -> None:
+    """A formula whose value the workbook does not store reads as an empty cell: in a column
+    ttsp reads, refuse it by name rather than read the column as missing."""
+    used = [(line, j) for (line, j) in sorted(table.uncomputed) if j in meanings]
+    if used:
+        line, j = used[0]
+        formula = table.uncomputed[(line, j)]
+        raise DataError(f"{where(table.path, table.header[j], line)}the cell holds the formula "
+                        f"{formula!r} but the workbook stores no value for it ({len(used)} such "
+                        f"cells in the columns ttsp reads); open and save the workbook in a "
+                        f"spreadsheet program so that its values are computed, or paste the "
+                        f"values in place of the formulas")
+
+
+def _skip_text_rows(table: RawTable, meanings: Mapping[int, HeaderMeaning]) -> RawTable:
+    """The table without the rows whose cell in a column ttsp reads is a word with no digit
+    (``overload``), each kept in ``table.skipped``; a column or a table that is mostly such text
+    is refused (see :mod:`ttsp.io.skipped_rows`)."""
+    text_cells = {}          # row index -> (column index, cell) of its first text cell
+    for j in sorted(meanings):
+        col = [row[j] if j < len(row) else "" for row in table.rows]
+        if not _CELL_WITHOUT_DIGIT.search("\n".join(col)):
+            continue             # every cell is empty or has a digit: no word here (fast path)
+        text_rows, filled = [], 0
+        for i, cell in enumerate(col):
+            if not cell:
+                continue
+            filled += 1
+            if is_text_cell(cell) and not _is_number(cell, table.decimal_comma):
+                text_rows.append((table.line_numbers[i], cell))
+                text_cells.setdefault(i, (j, cell))
+        refuse_mostly_text(table.path, table.header[j], text_rows, filled)
+    if not text_cells:
+        return table
+    if 2 * len(text_cells) >= len(table.rows):
+        i = min(text_cells)
+        j, cell = text_cells[i]
+        raise DataError(f"{where(table.path, table.header[j], table.line_numbers[i])}value must "
+                        f"be a number; got {cell!r}, and {len(text_cells)} of the "
+                        f"{len(table.rows)} data rows hold text in a number column: is this a "
+                        f"table of numbers?")
+    keep = [i for i in range(len(table.rows)) if i not in text_cells]
+    skipped = [SkippedRow(table.line_numbers[i], _printable(cell), TEXT_IN_NUMBER_COLUMN,
+                          table.header[j]) for i, (j, cell) in sorted(text_cells.items())]
+    return replace(table, rows=tuple(table.rows[i] for i in keep),
+                   line_numbers=tuple(table.line_numbers[i] for i in keep),
+                   skipped=tuple(sorted(table.skipped + tuple(skipped), key=lambda s: s.row)))
 
 
 def _given_temperature(value, path) -> float:
@@ -831,7 +925,22 @@ def _expand(paths) -> list:
             files.append(p)
     if not files:
         raise DataError("no input files given")
-    return files
+    # one file named twice (data/a.csv and /home/me/data/a.csv) is read once
+    seen, unique = set(), []
+    for f in files:
+        key = os.path.realpath(f)
+        if key not in seen:
+            seen.add(key)
+            unique.append(f)
+    return unique
+
+
+def _common_folder(files) -> str:
+    """The folder that holds all files, relative if they are all named relatively."""
+    try:
+        return os.path.commonpath(files) or "."
+    except ValueError:   # relative and absolute names together
+        return os.path.commonpath([os.path.abspath(f) for f in files])
 
 
 def hash_inputs(paths) -> str:
@@ -852,7 +961,8 @@ def read_campaign(paths, *, columns: Mapping[str, str] | None = None,
                   domain: str | None = None, modulus_kind: str | None = None,
                   temperature_tolerance_K: float = 0.5,
                   temperature_C: float | Mapping[str, float] | None = None,
-                  max_points: int | None = None) -> Campaign:
+                  max_points: int | None = None,
+                  temperature_from_name: bool = False) -> Campaign:
     """Read one or more files (or a folder) into a validated :class:`~ttsp.data.Campaign`.
 
     Parameters
@@ -878,12 +988,18 @@ def read_campaign(paths, *, columns: Mapping[str, str] | None = None,
     max_points : int, optional
         Refuse campaigns with more data rows than this, before they fill the memory (default:
         the environment variable ``TTSP_MAX_POINTS``, else :data:`DEFAULT_MAX_POINTS`).
+    temperature_from_name : bool
+        Read a file name holding one number without a unit letter (``sweep_130.csv``) as the
+        temperature in °C, for files that state no temperature otherwise (default False: such a
+        file is refused with a message that suggests this option).
 
     Returns
     -------
     Campaign
         Validated, SI and kelvin inside; ``units_as_read`` and ``metadata`` record what was read
-        and ``dropped_rows`` counts rows left out for a stated reason.
+        and ``dropped_rows`` counts rows left out for a stated reason. Rows that are clearly not
+        data (text after the data, a word such as ``overload`` in a number column) are left
+        out, each listed by row and text under ``metadata["skipped rows"]``.
 
     Raises
     ------
@@ -898,7 +1014,11 @@ def read_campaign(paths, *, columns: Mapping[str, str] | None = None,
         temperature_C = {str(k): v for k, v in temperature_C.items()}
     limit = _max_points(max_points)
     files = _expand(paths)
+    if sheet is not None and not any(f.lower().endswith(".xlsx") for f in files):
+        raise DataError(f"{where(files[0])}sheet (--sheet) applies to .xlsx workbooks only; got "
+                        f"{sheet!r} for {'a text table' if len(files) == 1 else 'text tables'}")
     frames, labels, units_read, kinds, metadata, dropped, assumed = [], {}, {}, set(), {}, {}, []
+    skipped_text, first_of = [], {}    # first_of: the first file of each kind and domain
     total = 0
     for path in files:
         table = read_table(path, sheet=sheet, max_points=limit)
@@ -907,8 +1027,9 @@ def read_campaign(paths, *, columns: Mapping[str, str] | None = None,
             what = (f"the file has {total:,} data rows" if len(files) == 1 else
                     f"the campaign has {total:,} data rows up to and including this file")
             raise _too_large(path, what, limit)
-        df, lab, ur, kind, ass = _table_to_frame(table, columns=columns, units=units,
-                                                 temperature_C=temperature_C)
+        df, lab, ur, kind, ass, skipped = _table_to_frame(
+            table, columns=columns, units=units, temperature_C=temperature_C,
+            temperature_from_name=temperature_from_name)
         if "frequency_rad_s" not in df.columns and "time_s" not in df.columns:
             raise DataError(f"{where(path)}missing a frequency or time column; columns found: "
                             f"{', '.join(table.header)}")
@@ -926,19 +1047,32 @@ def read_campaign(paths, *, columns: Mapping[str, str] | None = None,
         units_read.update(ur)
         if kind:
             kinds.add(kind)
+            first_of.setdefault(kind, path)
+        first_of.setdefault(file_domain, path)
         for k, v in table.preamble.items():
             metadata[k if len(files) == 1 else f"{Path(path).name}: {k}"] = v
         for k, v in table.dropped.items():
             dropped[k] = dropped.get(k, 0) + v
+        for row in skipped:
+            key = f"rows of {row.reason}"
+            dropped[key] = dropped.get(key, 0) + 1
+        if skipped:
+            skipped_text.append(describe_skipped(skipped, path if len(files) > 1 else None))
         assumed.extend(ass)
     if len(kinds) > 1 and modulus_kind is None:
-        raise DataError("the files mix tensile (E, D) and shear (G, J) data; give the modulus kind")
+        raise DataError(f"{where(first_of['shear'])}shear (G, J) data, but "
+                        f"{printable(first_of['tensile'])} holds tensile (E, D) data: the files "
+                        f"mix the two; give the modulus kind (--modulus-kind)")
     domains = {("frequency" if "frequency_rad_s" in f.columns else "time") for f in frames}
     if domain is None and len(domains) > 1:
-        raise DataError("the files mix frequency sweeps and time-domain tests; read them separately")
-    source = files[0] if len(files) == 1 else f"{len(files)} files in {os.path.commonpath(files) or '.'}"
+        raise DataError(f"{where(first_of['time'])}a time-domain test, but "
+                        f"{printable(first_of['frequency'])} holds frequency sweeps: the files "
+                        f"mix the two; read them separately")
+    source = files[0] if len(files) == 1 else f"{len(files)} files in {_common_folder(files)}"
     if assumed:
         metadata["assumed units"] = "; ".join(dict.fromkeys(assumed))
+    if skipped_text:
+        metadata["skipped rows"] = "; ".join(skipped_text)
     combined = pd.concat(frames, ignore_index=True) if len(frames) > 1 else frames[0]
     campaign = Campaign.from_frame(combined, domain=domain or domains.pop(),
                                    modulus_kind=modulus_kind or (kinds.pop() if kinds else "tensile"),
@@ -946,6 +1080,7 @@ def read_campaign(paths, *, columns: Mapping[str, str] | None = None,
                                    column_labels=labels, units_as_read=units_read,
                                    metadata=metadata, dropped_rows=dropped)
     if dropped:
-        warnings.warn(f"{source}: left out " + ", ".join(f"{v} {k}" for k, v in dropped.items()),
-                      DroppedRowsWarning, stacklevel=2)
+        listed = f" ({metadata['skipped rows']})" if skipped_text else ""
+        warnings.warn(f"{source}: left out " + ", ".join(f"{v} {k}" for k, v in dropped.items())
+                      + listed, DroppedRowsWarning, stacklevel=2)
     return campaign

@@ -26,6 +26,7 @@ TEXT = {
     # ---- columns
     "no_frequency_or_time.csv": "Temp (°C),E' (MPa)\n20,100\n40,50\n",
     "no_temperature.csv": "Freq (Hz),E' (MPa)\n0.5,100\n5,200\n",
+    "sweep_130.csv": "Freq (Hz),E' (MPa)\n0.5,100\n5,200\n",
     "no_material_function.csv": "Temp (°C),Freq (Hz),Force (N)\n20,0.5,1\n20,5,2\n40,0.5,1\n40,5,2\n",
     "duplicated_header.csv": ("Temp (°C),Freq (Hz),E' (MPa),E' (MPa)\n"
                               "20,0.5,100,101\n20,5,200,201\n40,0.5,50,51\n40,5,100,101\n"),
@@ -39,7 +40,8 @@ TEXT = {
     "more_values_than_names.csv": H + "20,0.5,100,7\n20,5,200,7\n40,0.5,50,7\n40,5,100,7\n",
     "mixed_delimiters.csv": "Temp (°C);Freq (Hz);E' (MPa)\n20;0.5;100\n20;5;200\n40,0.5,50\n40;5;100\n",
     # ---- cells
-    "text_in_a_cell.csv": H + "20,0.5,100\n20,5,abc\n40,0.5,50\n40,5,100\n",
+    # (one word in a number column, as "overload", is skipped and listed: tests/data/readable)
+    "mostly_text_column.csv": H + "20,0.5,100\n20,5,abc\n40,0.5,high\n40,5,100\n",
     "empty_frequency_cell.csv": H + "20,0.5,100\n20,,200\n40,0.5,50\n40,5,100\n",
     "nan_modulus.csv": H + "20,0.5,100\n20,5,NaN\n40,0.5,50\n40,5,100\n",
     "infinite_modulus.csv": H + "20,0.5,100\n20,5,inf\n40,0.5,50\n40,5,100\n",
@@ -60,7 +62,6 @@ TEXT = {
                                        "20\t10\t2,000\n40\t1\t1,100\n40\t10\t1,500\n"),
     "thousands_dot_with_decimal_comma.csv": ("Temp (°C);Freq (Hz);E' (MPa)\n20;0,5;950\n"
                                              "20;5;1.234\n40;0,5;480\n40;5;990\n"),
-    "text_after_the_data.csv": H + OK + "End of data\n",
     "truncated_row.csv": H + "20,0.5,100\n20,5,200\n40,0.5,50\n40,",
     # ---- rows and isotherms
     "duplicate_point.csv": H + "20,0.5,100\n20,5,200\n40,0.5,50\n40,0.5,100\n",
@@ -71,6 +72,10 @@ TEXT = {
     "unreadable_preamble_temperature.csv": "Temperature: warm\nFreq (Hz),E' (MPa)\n0.5,100\n5,200\n",
     "two_preamble_temperatures.csv": ("Oven temp: 35 °C\nSample temp: 36 °C\nFreq (Hz),E' (MPa)\n"
                                       "0.5,100\n5,200\n"),
+    # ---- values beyond any material or test (1e300 crashed the fits)
+    "modulus_beyond_any_material.csv": H + "20,0.5,100\n20,5,1e300\n40,0.5,50\n40,5,100\n",
+    "temperature_beyond_any_test.csv": H + "20,0.5,100\n20,5,200\n1e300,0.5,50\n1e300,5,100\n",
+    "tan_delta_only.csv": "Temp (°C),Freq (Hz),tan δ\n20,0.5,0.1\n20,5,0.2\n40,0.5,0.3\n40,5,0.4\n",
     # ---- size guard (read with TTSP_MAX_POINTS=10)
     "more_points_than_the_limit.csv": H + "".join(f"{t},{f},{100 + f}\n" for t in (20, 40)
                                                   for f in range(1, 7)),
@@ -94,12 +99,77 @@ def _not_a_workbook() -> bytes:
     return buf.getvalue()
 
 
+def _cell(ref: str, value) -> str:
+    if isinstance(value, str) and value.startswith("="):   # a formula with no stored value
+        return f'<c r="{ref}"><f>{value[1:]}</f></c>'
+    if isinstance(value, str):
+        return f'<c r="{ref}" t="inlineStr"><is><t>{value}</t></is></c>'
+    return f'<c r="{ref}"><v>{value!r}</v></c>'
+
+
+def _workbook(sheets: dict) -> bytes:
+    """A minimal .xlsx written part by part (so its bytes are the same on every run): one
+    worksheet per ``{title: rows}``, rows of numbers, strings and ``=formulas``."""
+    ns = 'xmlns="http://schemas.openxmlformats.org/spreadsheetml/2006/main"'
+    rel = "http://schemas.openxmlformats.org/officeDocument/2006/relationships"
+    parts = {
+        "[Content_Types].xml": (
+            '<?xml version="1.0" encoding="UTF-8"?><Types xmlns="http://schemas.openxmlformats.'
+            'org/package/2006/content-types"><Default Extension="rels" ContentType="application/'
+            'vnd.openxmlformats-package.relationships+xml"/><Default Extension="xml" ContentType='
+            '"application/xml"/><Override PartName="/xl/workbook.xml" ContentType="application/'
+            'vnd.openxmlformats-officedocument.spreadsheetml.sheet.main+xml"/>'
+            + "".join(f'<Override PartName="/xl/worksheets/sheet{k}.xml" ContentType="application/'
+                      f'vnd.openxmlformats-officedocument.spreadsheetml.worksheet+xml"/>'
+                      for k in range(1, len(sheets) + 1)) + "</Types>"),
+        "_rels/.rels": (
+            '<?xml version="1.0" encoding="UTF-8"?><Relationships xmlns="http://schemas.'
+            'openxmlformats.org/package/2006/relationships"><Relationship Id="rId1" Type="'
+            f'{rel}/officeDocument" Target="xl/workbook.xml"/></Relationships>'),
+        "xl/workbook.xml": (
+            f'<?xml version="1.0" encoding="UTF-8"?><workbook {ns} xmlns:r="{rel}"><sheets>'
+            + "".join(f'<sheet name="{title}" sheetId="{k}" r:id="rId{k}"/>'
+                      for k, title in enumerate(sheets, 1)) + "</sheets></workbook>"),
+        "xl/_rels/workbook.xml.rels": (
+            '<?xml version="1.0" encoding="UTF-8"?><Relationships xmlns="http://schemas.'
+            'openxmlformats.org/package/2006/relationships">'
+            + "".join(f'<Relationship Id="rId{k}" Type="{rel}/worksheet" '
+                      f'Target="worksheets/sheet{k}.xml"/>' for k in range(1, len(sheets) + 1))
+            + "</Relationships>"),
+    }
+    for k, rows in enumerate(sheets.values(), 1):
+        body = "".join(f'<row r="{i}">' + "".join(_cell(f"{'ABCDEFGH'[j]}{i}", v)
+                                                  for j, v in enumerate(row)) + "</row>"
+                       for i, row in enumerate(rows, 1))
+        parts[f"xl/worksheets/sheet{k}.xml"] = (f'<?xml version="1.0" encoding="UTF-8"?>'
+                                                f"<worksheet {ns}><sheetData>{body}</sheetData>"
+                                                f"</worksheet>")
+    buf = io.BytesIO()
+    with zipfile.ZipFile(buf, "w") as z:
+        for name, text in parts.items():
+            z.writestr(zipfile.ZipInfo(name, date_time=(2024, 1, 1, 0, 0, 0)), text)
+    return buf.getvalue()
+
+
+_TABLE = [["Temp (°C)", "Freq (Hz)", "E' (MPa)"], [20, 0.5, 100], [20, 5, 200], [40, 0.5, 50],
+          [40, 5, 100]]
+WORKBOOKS = {
+    # the data are on the second sheet, and no --sheet was given
+    "first_sheet_without_data.xlsx": {"Notes": [["data on the next sheet"]], "Data": _TABLE},
+    # a column of formulas that no program computed: the workbook stores no value for them
+    "formula_without_value.xlsx": {"Sheet1": [_TABLE[0] + ["E'' (MPa)"]] + [
+        row + [f"=C{i}/10"] for i, row in enumerate(_TABLE[1:], 2)]},
+}
+
+
 def main() -> None:
     for name, text in TEXT.items():
         (HERE / name).write_bytes(text.encode("utf-8"))
     for name, data in BINARY.items():
         (HERE / name).write_bytes(data)
     (HERE / "not_a_workbook.xlsx").write_bytes(_not_a_workbook())
+    for name, sheets in WORKBOOKS.items():
+        (HERE / name).write_bytes(_workbook(sheets))
     folder = HERE / "folder_without_data_files"
     folder.mkdir(exist_ok=True)
     (folder / "notes.md").write_text("This folder holds no .csv, .txt, .xlsx ... file.\n",
