@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import numpy as np
 
-__all__ = ["explain_no_fit_points"]
+__all__ = ["explain_no_fit_points", "fixed_loss_ratio"]
 
 #: E''/E' counts as one fixed number when its largest and smallest values are within 1 %.
 FIXED_RATIO_SPREAD = 1.01
@@ -49,3 +49,21 @@ def explain_no_fit_points(frame, columns, symbols, source: str) -> str:
         return text
     return (f"{source}: no master-curve point has all of {names} to fit the Prony series to "
             f"({int(present.sum())} of {n} points have them)")
+
+
+def fixed_loss_ratio(campaign) -> float | None:
+    """E''/E' when it is one fixed number at every point of a frequency campaign (within
+    FIXED_RATIO_SPREAD), else None. No linear viscoelastic material has a loss factor that is
+    the same at every frequency and temperature over a campaign's range (it would need a
+    power-law modulus of one slope everywhere; Ferry 1980, ch. 3): such columns were computed
+    one from the other, or mislabelled."""
+    if campaign.domain != "frequency" or not {"storage_modulus_Pa", "loss_modulus_Pa"} <= set(
+            campaign.quantities):
+        return None
+    ratios = np.concatenate([np.asarray(i.values["loss_modulus_Pa"], float)
+                             / np.asarray(i.values["storage_modulus_Pa"], float)
+                             for i in campaign.isotherms])
+    ratios = ratios[np.isfinite(ratios) & (ratios > 0)]
+    if ratios.size < 3 or ratios.max() > FIXED_RATIO_SPREAD * ratios.min():
+        return None
+    return float(np.median(ratios))

@@ -28,6 +28,7 @@ import warnings
 from dataclasses import dataclass, field
 
 from .data import Campaign
+from .exceptions import DataError, FitError
 from .pairwise import chained_pairwise_log10_aT, neighbour_mismatch
 
 __all__ = ["MasterCurveChoice", "MASTER_CURVE_CHOICES", "SPECTRUM_TOLERANCE", "choose_master_curve"]
@@ -102,11 +103,25 @@ def choose_master_curve(campaign: Campaign, requested: str, fit_shifts,
     (ShiftResult, MasterCurveChoice)
     """
     names = ("spectrum", "splines") if requested == "auto" else (requested,)
-    results, caught = {}, {}
+    results, caught, failed = {}, {}, {}
     for n in names:
         with warnings.catch_warnings(record=True) as caught[n]:
             warnings.simplefilter("always")
-            results[n] = fit_shifts(SHIFTING_NAME[n])
+            try:
+                results[n] = fit_shifts(SHIFTING_NAME[n])
+            except (DataError, FitError) as exc:
+                if len(names) == 1:
+                    raise
+                failed[n] = exc
+    if not results:   # both candidates failed: the spectrum's reason is the one to give
+        raise failed["spectrum"]
+    if failed:
+        (n_ok,), (n_bad,) = results, failed
+        for w in caught[n_ok]:
+            warnings.warn_explicit(w.message, w.category, w.filename, w.lineno)
+        return results[n_ok], MasterCurveChoice(
+            n_ok, requested, {n_ok: neighbour_mismatch(campaign, results[n_ok].log10_aT)},
+            f"the {n_bad} model could not be fitted ({failed[n_bad]}); the {n_ok} model was used")
     mismatch = {}
     if measure or requested == "auto":
         mismatch = {n: neighbour_mismatch(campaign, r.log10_aT) for n, r in results.items()}

@@ -390,6 +390,15 @@ def build(campaign: Campaign, options: BuildOptions | None = None, *, input_sha2
     if options.shift_on == "tan_delta" and campaign.domain != "frequency":
         raise DataError("shift_on='tan_delta' needs frequency-domain data; this campaign is "
                         "time-domain")
+    from ._fit_points_diagnosis import fixed_loss_ratio
+
+    ratio = fixed_loss_ratio(campaign)
+    if ratio is not None:
+        e1, e2 = campaign.symbol("storage_modulus_Pa"), campaign.symbol("loss_modulus_Pa")
+        where = f"{campaign.source}: " if campaign.source else ""
+        raise DataError(f"{where}{e1} and {e2} cannot be shifted together; {e2} is "
+                        f"{ratio:.4g} times {e1} at every point, as if one column were computed "
+                        f"from the other: check the {e2} column")
     t_ref_K = (celsius_to_kelvin(options.reference_temperature_C).item()
                if options.reference_temperature_C is not None
                else default_reference_temperature_K(campaign))
