@@ -109,6 +109,9 @@ def test_every_campaign_gets_a_build_folder_and_a_row(first_batch):
         summary = json.loads((out / ident / "summary.json").read_text(encoding="utf-8"))
         row = table.set_index("id").loc[ident]
         assert row["input_sha256"] == summary["input_sha256"]
+        assert row["master_curve"] == summary["master_model"]["chosen"]
+        assert row["cv_median_rms_percent_at_law_aT"] == pytest.approx(
+            summary["cross_validation"]["median_rms_percent_at_law_aT"])
         assert row["law_C1"] == summary["shift_law"]["parameters"]["C1"]
         assert row["law_C2_K_stderr"] == summary["shift_law"]["parameter_stderr"]["C2_K"]
         assert row["prony_terms"] == len(summary["prony"]["terms"])

@@ -10,7 +10,8 @@ Manifest
     A CSV file (comma, semicolon or tab) or a JSON Lines file (one object per line) with the
     columns ``id`` and ``path`` and, optionally, per-campaign options: ``reference_temperature_C``,
     ``law``, ``vertical``, ``expansion_coefficient_per_K``, ``shift_on``, ``gaps``,
-    ``prony_terms_per_decade``, ``glass_transition_C``, ``spectrum`` (true/false) (the fields of
+    ``prony_terms_per_decade``, ``glass_transition_C``, ``spectrum`` (true/false),
+    ``master_curve`` (auto/spectrum/splines), ``cross_validation`` (true/false) (the fields of
     :class:`ttsp.workflow.BuildOptions`) and ``modulus_kind`` (``tensile`` or ``shear``). An empty
     cell (or ``null``) means the default. ``path`` is a file or a folder of one campaign, relative
     to the manifest's folder; in JSON Lines it may also be a list of files. Blank lines and lines
@@ -53,7 +54,11 @@ Results table columns
     ``input_sha256``, ``domain``, ``modulus_kind``, ``isotherms``, ``reference_temperature_C``,
     ``law_model``, ``law_<parameter>`` and ``law_<parameter>_stderr`` for each parameter of the
     fitted law (``law_C1``, ``law_C2_K``, ``law_activation_energy_kJ_per_mol`` ...),
-    ``prony_terms``, ``prony_rms_percent``, ``checks_worst`` (``pass`` | ``warn`` | ``fail``),
+    ``prony_terms``, ``prony_rms_percent``, ``master_curve`` (``spectrum`` | ``splines``),
+    ``collapse_ratio`` (neighbour mismatch over chained pairwise shifts'),
+    ``cv_median_rms_percent_at_law_aT``, ``cv_worst_rms_percent_at_law_aT`` and
+    ``cv_median_rms_percent_at_best_aT`` (held-out isotherms; empty without cross-validation),
+    ``checks_worst`` (``pass`` | ``warn`` | ``fail``),
     ``checks_failed`` and ``checks_warned`` (check names joined by ``;``), ``warnings`` (their
     count), ``elapsed_s`` (wall time of this run for the campaign).
 
@@ -102,6 +107,8 @@ OPTION_COLUMNS = {
     "prony_terms_per_decade": float,
     "glass_transition_C": float,
     "spectrum": bool,
+    "master_curve": str,
+    "cross_validation": bool,
 }
 MANIFEST_COLUMNS = ("id", "path", *OPTION_COLUMNS, "modulus_kind")
 RESULT_FILES = ("results.jsonl", "results.csv")
@@ -121,7 +128,9 @@ _PRELOAD = ("ttsp.batch", "ttsp.runner", "ttsp.workflow", "ttsp.io.readers", "tt
 
 _HEAD = ("id", "status", "error", "skipped", "path", "input_sha256", "domain", "modulus_kind",
          "isotherms", "reference_temperature_C", "law_model")
-_TAIL = ("prony_terms", "prony_rms_percent", "checks_worst", "checks_failed", "checks_warned",
+_TAIL = ("prony_terms", "prony_rms_percent", "master_curve", "collapse_ratio",
+         "cv_median_rms_percent_at_law_aT", "cv_worst_rms_percent_at_law_aT",
+         "cv_median_rms_percent_at_best_aT", "checks_worst", "checks_failed", "checks_warned",
          "warnings", "elapsed_s")
 _CHECK_ORDER = {"pass": 0, "warn": 1, "fail": 2}
 
@@ -419,9 +428,16 @@ def _row_from_summary(payload: dict, summary: dict, *, skipped: bool, elapsed_s:
     prony = summary.get("prony") or {}
     checks = summary.get("checks") or []
     statuses = [c.get("status") for c in checks]
+    master = summary.get("master_model") or {}
+    cv = summary.get("cross_validation") or {}
     row.update(
         prony_terms=len(prony.get("terms") or []),
         prony_rms_percent=prony.get("fit_rms_percent"),
+        master_curve=master.get("chosen"),
+        collapse_ratio=master.get("collapse_ratio"),
+        cv_median_rms_percent_at_law_aT=cv.get("median_rms_percent_at_law_aT"),
+        cv_worst_rms_percent_at_law_aT=cv.get("worst_rms_percent_at_law_aT"),
+        cv_median_rms_percent_at_best_aT=cv.get("median_rms_percent_at_best_aT"),
         checks_worst=max(statuses, key=lambda s: _CHECK_ORDER.get(s, -1)) if statuses else None,
         checks_failed=";".join(c["name"] for c in checks if c.get("status") == "fail"),
         checks_warned=";".join(c["name"] for c in checks if c.get("status") == "warn"),
