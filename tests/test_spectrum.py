@@ -20,7 +20,7 @@ RELAXED, STRENGTH = 1e6, 1e9
 
 
 def cole_cole_modulus(omega, alpha):
-    """E* = E_r + ΔE (iωτ)^α/(1 + (iωτ)^α), τ = 1 s (REFERENCE §8)."""
+    """E* = E_r + ΔE (iωτ)^α/(1 + (iωτ)^α), τ = 1 s (closed forms, docs/methods.md §8)."""
     x = (1j * omega) ** alpha
     return RELAXED + STRENGTH * x / (1 + x)
 

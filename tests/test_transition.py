@@ -119,7 +119,7 @@ def five_kelvin_campaign(offset_K=2.0, spacing_K=5.0, lo=335.0, hi=435.0):
 
 # ---- ground truth ------------------------------------------------------------------------
 def test_reference_peaks_are_inside_the_campaign_and_ordered():
-    # Sanity of the fixture, and a fact of common practice (REFERENCE §6.1, "E' onset < E'' peak
+    # Sanity of the fixture, and a fact of common practice ("E' onset < E'' peak
     # < tan δ peak"): at the same frequency the tan δ peak lies above the E'' peak.
     t_loss, t_tan = true_peak_K("loss"), true_peak_K("tan")
     assert SEARCH_K[0] + 20 < t_loss < t_tan < SEARCH_K[1] - 20
@@ -133,7 +133,7 @@ def test_model_peaks_match_scipy_reference():
     # and is still far below anything of practical weight.
     assert est.loss_peak_from_model_K == pytest.approx(true_peak_K("loss"), abs=0.01)
     assert est.tan_delta_peak_from_model_K == pytest.approx(true_peak_K("tan"), abs=0.01)
-    # fact of common practice (REFERENCE §6.1): tan δ peak above the E'' peak
+    # fact of common practice (ASTM E1640 and D4065, from memory): tan δ peak above the E'' peak
     assert est.tan_delta_peak_from_model_K > est.loss_peak_from_model_K
     assert est.loss_peak_from_isotherms_K is None and est.tan_delta_peak_from_isotherms_K is None
     assert any("no campaign" in n for n in est.notes)
@@ -150,7 +150,7 @@ def test_isotherm_peaks_match_scipy_reference_at_5_K_spacing():
         tol = parabola_bound_K(quantity, 5.0) + 0.1
         assert tol < 1.2
         assert value == pytest.approx(true_peak_K(quantity), abs=tol)
-    # fact of common practice (REFERENCE §6.1): tan δ peak above the E'' peak
+    # fact of common practice (ASTM E1640 and D4065, from memory): tan δ peak above the E'' peak
     assert est.tan_delta_peak_from_isotherms_K > est.loss_peak_from_isotherms_K
     assert est.notes == ()
 
@@ -192,7 +192,7 @@ def test_peak_moves_with_frequency_as_the_wlf_law_says():
         expected = T_REF_K - C2_K * L / (C1 + L)
         assert getattr(ten, name) == pytest.approx(expected, abs=0.01)
     # The E'' peak sits 3.3 K below T_ref, where WLF with the universal constants moves it by
-    # about C2/C1 = 3 K per decade (REFERENCE §3.1, computed there).
+    # about C2/C1 = 3 K per decade (Williams, Landel & Ferry, JACS 77:3701, 1955, computed there).
     assert 2.0 < ten.loss_peak_from_model_K - one.loss_peak_from_model_K < 3.5
     # scipy reference at 10 Hz as well
     assert ten.loss_peak_from_model_K == pytest.approx(true_peak_K("loss", 10.0), abs=0.01)
