@@ -34,6 +34,8 @@ from ttsp.io.writers import frame_to_csv_text, neutralise_formula
 
 from test_batch import write_campaign, write_manifest
 
+pytestmark = pytest.mark.slow  # end-to-end: whole commands and processes
+
 ROOT = Path(__file__).resolve().parents[1]
 runner = CliRunner()
 

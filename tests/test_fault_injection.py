@@ -17,8 +17,8 @@ from fault_injection import run_trial
 
 TRIALS = int(os.environ.get("TTSP_FAULT_TRIALS", "1"))
 
-pytestmark = pytest.mark.skipif(not Path("/proc/self/environ").exists(),
-                                reason="finds the processes of a run through /proc")
+pytestmark = [pytest.mark.slow, pytest.mark.skipif(not Path("/proc/self/environ").exists(),
+                                reason="finds the processes of a run through /proc")]
 
 
 @pytest.mark.parametrize("seed", range(TRIALS))

@@ -16,6 +16,8 @@ from pathlib import Path
 
 import pytest
 
+pytestmark = pytest.mark.slow  # end-to-end: whole commands and processes
+
 REPO = Path(__file__).resolve().parents[1]
 NOTEBOOK_DIR = REPO / "notebooks"
 NOTEBOOKS = sorted(NOTEBOOK_DIR.glob("*.ipynb"))

@@ -37,10 +37,10 @@ def find_chromium():
 
 
 CHROMIUM = find_chromium()
-pytestmark = pytest.mark.skipif(
+pytestmark = [pytest.mark.slow, pytest.mark.skipif(
     CHROMIUM is None,
     reason="headless Chromium not found (install the Debian package 'chromium'); "
-           "the browser test of report.html cannot run here")
+           "the browser test of report.html cannot run here")]
 
 TABLES = ("table-checks", "table-shift-factors", "table-law", "table-prony", "table-fe",
           "table-inputs", "table-options")
