@@ -140,9 +140,9 @@ def choose_master_curve(campaign: Campaign, requested: str, fit_shifts,
                       f"with one spectrum, which would bend the shifts")
         else:
             chosen = "spectrum"
-            reason = (f"one relaxation spectrum shared by all functions collapses the data as "
-                      f"well as per-function smooth curves (mismatch {spec:.3g} against "
-                      f"{spl:.3g} decade) and ties the functions together")
+            reason = (f"the shared spectrum collapses the data as well as per-function smooth "
+                      f"curves (mismatch {spec:.3g} against {spl:.3g} decade) and ties the "
+                      f"functions together")
     for w in caught[chosen]:     # only the kept fit speaks
         warnings.warn_explicit(w.message, w.category, w.filename, w.lineno)
     return results[chosen], MasterCurveChoice(chosen, requested, mismatch, reason)

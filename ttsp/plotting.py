@@ -789,7 +789,7 @@ def plot_cross_validation(result, ax=None):
     Returns
     -------
     matplotlib Axes
-        Temperature in °C on x, rms relative error in per cent on y (logarithmic).
+        Temperature in °C on x, rms relative error in per cent on y (linear, from zero).
     """
     ax = _new_axes(ax, size=(6.0, 3.8))
     cv = result.cross_validation
@@ -807,16 +807,15 @@ def plot_cross_validation(result, ax=None):
     if failed.any():
         for ti in t[failed]:
             ax.axvline(ti, color=_GREY, lw=0.8, ls=(0, (2, 2)), zorder=0)
-    _style(ax, logy=True)
+    _style(ax)
     ax.set_xlabel("Temperature of the held-out isotherm T (°C)")
     ax.set_ylabel("rms prediction error (%)")
     params = cv.params
     _note(ax, f"median {params['median_rms_percent_at_law_aT']:.3g} % at the law's a$_T$, "
               f"{params['median_rms_percent_at_best_aT']:.3g} % at the best", loc="upper left")
     ax.legend(fontsize=8.5, frameon=False, loc="lower right")
-    lo = float(np.nanmin(at_best[ok])) if ok.any() else 1.0
     hi = float(np.nanmax(at_law[ok])) if ok.any() else 10.0
-    ax.set_ylim(lo / 2.5, hi * 3.0)
+    ax.set_ylim(0.0, hi * 1.45)      # from zero: the errors compare as amounts
     return ax
 
 
