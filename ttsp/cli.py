@@ -131,6 +131,8 @@ TOL_OPT = typer.Option(0.5, "--temperature-tolerance", min=0.0,
 KIND_OPT = typer.Option(None, "--modulus-kind", help="tensile or shear (default: from the headers).")
 NAME_T_OPT = typer.Option(False, "--temperature-from-name",
                           help="Read a file name's one unitless number (sweep_130.csv) as °C.")
+REPEATS_OPT = typer.Option("merge", "--repeats",
+                           help="Repeated time stamps in an isotherm: merge (mean in log) or refuse.")
 
 
 def describe(campaign) -> str:
@@ -164,14 +166,14 @@ def inspect_cmd(inputs: List[Path] = typer.Argument(..., help="Files or folders 
                 column: Optional[List[str]] = COLUMN_OPT, unit: Optional[List[str]] = UNIT_OPT,
                 sheet: Optional[str] = SHEET_OPT, tolerance: float = TOL_OPT,
                 modulus_kind: Optional[str] = KIND_OPT,
-                temperature_from_name: bool = NAME_T_OPT):
+                temperature_from_name: bool = NAME_T_OPT, repeats: str = REPEATS_OPT):
     """Show what the reader understood (isotherms, ranges, units, dropped rows), fitting nothing."""
     import warnings
 
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
         campaign = read_inputs(inputs, column, unit, sheet, tolerance, modulus_kind,
-                               temperature_from_name)
+                               temperature_from_name, repeats)
     typer.echo(describe(campaign))
 
 
@@ -272,7 +274,7 @@ def build_cmd(inputs: List[Path] = typer.Argument(..., help="Files or folders of
               column: Optional[List[str]] = COLUMN_OPT, unit: Optional[List[str]] = UNIT_OPT,
               sheet: Optional[str] = SHEET_OPT, tolerance: float = TOL_OPT,
               modulus_kind: Optional[str] = KIND_OPT,
-              temperature_from_name: bool = NAME_T_OPT):
+              temperature_from_name: bool = NAME_T_OPT, repeats: str = REPEATS_OPT):
     """Build the master curve, shift law, Prony series, material functions, checks and report."""
     options = _options(reference_temperature, law, vertical, expansion_coefficient, shift_on, gaps,
                        prony_density, glass_transition, spectrum, master_curve, cross_validation)
@@ -280,7 +282,8 @@ def build_cmd(inputs: List[Path] = typer.Argument(..., help="Files or folders of
         result, folder = run_build(inputs, options, out, figures=not no_figures, force=force,
                                    quiet=quiet, column=column, unit=unit, sheet=sheet,
                                    tolerance=tolerance, modulus_kind=modulus_kind,
-                                   temperature_from_name=temperature_from_name)
+                                   temperature_from_name=temperature_from_name,
+                                   repeats=repeats)
     typer.echo(str(folder / ("report.html" if not no_figures else "summary.json")))
     if spectrum and result.relaxation_spectrum is None:
         why = next((w for w in result.warnings if "continuous relaxation spectrum" in w),
@@ -325,7 +328,7 @@ def check_cmd(inputs: List[Path] = typer.Argument(..., help="Files or folders of
               column: Optional[List[str]] = COLUMN_OPT, unit: Optional[List[str]] = UNIT_OPT,
               sheet: Optional[str] = SHEET_OPT, tolerance: float = TOL_OPT,
               modulus_kind: Optional[str] = KIND_OPT,
-              temperature_from_name: bool = NAME_T_OPT):
+              temperature_from_name: bool = NAME_T_OPT, repeats: str = REPEATS_OPT):
     """Does superposition hold? Run the checks and print a verdict for each."""
     import warnings
 
@@ -334,7 +337,7 @@ def check_cmd(inputs: List[Path] = typer.Argument(..., help="Files or folders of
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
         campaign = read_inputs(inputs, column, unit, sheet, tolerance, modulus_kind,
-                               temperature_from_name)
+                               temperature_from_name, repeats)
         result = build(campaign, BuildOptions(reference_temperature_C=reference_temperature,
                                               cross_validation=False))
     if as_json:

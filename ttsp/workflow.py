@@ -245,6 +245,7 @@ class BuildResult:
             "modulus_kind": self.campaign.modulus_kind,
             "source": self.campaign.source,
             "units_as_read": dict(self.campaign.units_as_read),
+            "rows_left_out": dict(self.campaign.dropped_rows),
             "reference_temperature_C": self.reference_temperature_C,
             "shift_factors": shift_factors,
             "shifting": shifting,
