@@ -209,6 +209,11 @@ class MasterCurve(str, Enum):
     splines = "splines"
 
 
+class Material(str, Enum):
+    solid = "solid"
+    liquid = "liquid"
+
+
 class Quantity(str, Enum):
     relaxation_modulus = "relaxation_modulus"
     creep_compliance = "creep_compliance"
@@ -219,7 +224,7 @@ class Quantity(str, Enum):
 
 def _options(reference_temperature, law, vertical, expansion_coefficient, shift_on, gaps,
              prony_density, glass_transition, spectrum=False, master_curve=MasterCurve.auto,
-             cross_validation=True):
+             cross_validation=True, material=Material.solid):
     from .workflow import BuildOptions
 
     return BuildOptions(reference_temperature_C=reference_temperature, law=law.value,
@@ -227,7 +232,7 @@ def _options(reference_temperature, law, vertical, expansion_coefficient, shift_
                         shift_on=shift_on.value, gaps=gaps.value,
                         prony_terms_per_decade=prony_density, glass_transition_C=glass_transition,
                         spectrum=spectrum, master_curve=master_curve.value,
-                        cross_validation=cross_validation)
+                        cross_validation=cross_validation, material=material.value)
 
 
 def _check_lines(result) -> str:
@@ -265,6 +270,9 @@ def build_cmd(inputs: List[Path] = typer.Argument(..., help="Files or folders of
                   True, "--cross-validation/--no-cross-validation",
                   help="Predict interior isotherms from builds without them (the build's "
                        "own accuracy figure)."),
+              material: Material = typer.Option(
+                  Material.solid, "--material",
+                  help="liquid (a melt: equilibrium modulus 0, creep with flow) or solid."),
               out: Path = typer.Option(Path("ttsp-out"), "--out", "-o", help="Output folder."),
               force: bool = typer.Option(False, "--force", help="Replace an existing output folder."),
               no_figures: bool = typer.Option(False, "--no-figures",
@@ -277,7 +285,8 @@ def build_cmd(inputs: List[Path] = typer.Argument(..., help="Files or folders of
               temperature_from_name: bool = NAME_T_OPT, repeats: str = REPEATS_OPT):
     """Build the master curve, shift law, Prony series, material functions, checks and report."""
     options = _options(reference_temperature, law, vertical, expansion_coefficient, shift_on, gaps,
-                       prony_density, glass_transition, spectrum, master_curve, cross_validation)
+                       prony_density, glass_transition, spectrum, master_curve, cross_validation,
+                       material)
     with _writing_to(out):
         result, folder = run_build(inputs, options, out, figures=not no_figures, force=force,
                                    quiet=quiet, column=column, unit=unit, sheet=sheet,
