@@ -489,24 +489,11 @@ def plot_isotherms(campaign, ax=None, quantity="auto"):
 
 
 def _local_log_slope(x, y, half_window: int = 2):
-    """d log10 y / d log10 x at each point: least-squares line through ±half_window neighbours.
+    """d log10 y / d log10 x, smoothed over a fixed width in log x (:mod:`ttsp._log_slope`):
+    at least ±``half_window`` neighbours, more on dense records."""
+    from ._log_slope import local_log_slope
 
-    A moving-window regression is the derivative estimate of Savitzky & Golay (Anal. Chem. 36,
-    1627, 1964) of first order, written for uneven spacing.
-    """
-    lx, ly = np.log10(x), np.log10(y)
-    n = lx.size
-    out = np.full(n, np.nan)
-    for i in range(n):
-        lo, hi = max(0, i - half_window), min(n, i + half_window + 1)
-        if hi - lo < 3:
-            continue
-        xs, ys = lx[lo:hi], ly[lo:hi]
-        xc = xs - xs.mean()
-        denom = float(np.dot(xc, xc))
-        if denom > 0:
-            out[i] = float(np.dot(xc, ys - ys.mean()) / denom)
-    return out
+    return local_log_slope(x, y, min_points=half_window)
 
 
 def plot_superposition_check(campaign, ax=None):
