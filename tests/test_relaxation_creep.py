@@ -88,3 +88,29 @@ def test_check_passes_a_consistent_pair_and_fails_an_offset_one(offset, status):
     assert "relaxation_creep" in [r.name for r in run_checks(campaign, shifts=shifts)]
     if status == "pass":
         assert "G(t) and J(t)" in result.message
+
+
+def test_build_draws_the_measured_creep_under_the_interconverted_curve():
+    import warnings
+
+    import matplotlib
+
+    matplotlib.use("Agg")
+    from ttsp import plotting
+    from ttsp.workflow import build
+
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        result = build(campaign_of(0.0), reference_temperature_C=160.0, law="wlf",
+                       cross_validation=False)
+    assert [c.status for c in result.checks if c.name == "relaxation_creep"] == ["pass"]
+    ax = plotting.plot_time_functions(result)
+    twin = [a for a in ax.figure.axes if a is not ax][0]
+    assert twin.get_ylabel() == "Creep compliance J(t) (MPa⁻¹)"
+    points = [ln for ln in twin.get_lines() if ln.get_linestyle() == "None"]
+    assert len(points) == 1
+    # the measured J(t) points lie on the line interconverted from the G(t) series (1 %)
+    t, j = points[0].get_xdata(), points[0].get_ydata() * 1e-6
+    inside = (t > 1.0) & (t < 1e4)
+    model = result.series.creep_compliance(t[inside])
+    assert np.median(np.abs(j[inside] / model - 1)) < 0.01

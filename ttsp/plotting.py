@@ -1044,6 +1044,7 @@ def plot_time_functions(result, ax=None):
     twin = ax.twinx()
     _model_line(twin, t, d / dfactor, ext, colour=_VERMILLION,
                 label=f"{cletter}(t) creep compliance")
+    _measured_over_model(result, ax, twin, efactor, dfactor)
     rng = _valid_range(result)
     _style(ax, logx=True, logy=True)
     ax.tick_params(which="both", right=False)
@@ -1061,6 +1062,25 @@ def plot_time_functions(result, ax=None):
     _twin_legend(ax, twin, [_extrapolation_handle()] if ext.any() else [])
     _tref_title(ax, result, "from the Prony series")
     return ax
+
+
+def _measured_over_model(result, ax, twin, efactor, dfactor):
+    """When both E(t) and D(t) were measured, their shifted points under the model lines: the
+    D(t) line is interconverted from the series fitted to E(t), so the figure shows the one
+    curve drawn over the other measured one (the check ``relaxation_creep`` gives the number).
+    At most 400 points of each, evenly by rank of reduced time."""
+    names = ("relaxation_modulus_Pa", "creep_compliance_1_per_Pa")
+    if result.campaign.domain != "time" or not set(names) <= set(result.campaign.quantities):
+        return
+    data = _reduced_data(result)
+    t = np.concatenate([d[1] for d in data])
+    for q, axis, colour, factor in ((names[0], ax, _BLUE, efactor),
+                                    (names[1], twin, _VERMILLION, dfactor)):
+        y = np.concatenate([d[2][q] for d in data])
+        order = np.argsort(t)
+        pick = order[np.unique(np.linspace(0, order.size - 1, min(400, order.size)).astype(int))]
+        axis.plot(t[pick], y[pick] / factor, ls="none", marker="o", ms=2.2, alpha=0.35,
+                  color=colour, zorder=2)
 
 
 def _style_twin_left(ax, colour):
