@@ -91,3 +91,33 @@ def test_cli_inspect_reports_the_merge_and_refuse_exits_2(tmp_path):
     assert res.exit_code == 2
     assert "duplicate point: the same time" in res.output
     assert "Traceback" not in res.output
+
+
+def test_cli_build_of_a_shear_export_with_repeats_is_shear_throughout(tmp_path):
+    """A G(t) export with four-digit time stamps builds as it is, labelled shear everywhere;
+    --material liquid fixes the equilibrium modulus at 0."""
+    import json
+
+    rng = np.random.default_rng(5)
+    t = np.geomspace(0.2, 3e4, 15000)   # 0.08 % steps: repeats above ~1300 s
+    t4 = np.array([float(f"{v:.4g}") for v in t])
+    tau = 10.0 ** np.arange(-1.0, 5.01, 0.5)
+    gi = 1e5 * (tau / tau[0]) ** -0.4
+    lines = ["Temperature (°C),Time (s),G(t) (Pa)"]
+    for temp, s in ((130, 2.0), (145, 1.0), (160, 0.0), (175, -0.8), (190, -1.5)):
+        g = (gi * np.exp(-(t / 10 ** s)[:, None] / tau)).sum(axis=1)
+        g *= np.exp(rng.normal(0, 0.01, t.size))
+        lines += [f"{temp},{a},{b:.6g}" for a, b in zip(t4, g)]
+    (tmp_path / "melt.csv").write_text("\n".join(lines) + "\n")
+    res = CliRunner().invoke(app, ["build", str(tmp_path / "melt.csv"), "-T", "160", "--law",
+                                   "wlf", "--no-figures", "--no-cross-validation", "--material",
+                                   "liquid", "--quiet", "--out", str(tmp_path / "out")])
+    assert res.exit_code == 0, res.output
+    summary = json.loads((tmp_path / "out" / "summary.json").read_text())
+    assert summary["modulus_kind"] == summary["prony"]["modulus_kind"] == "shear"
+    assert summary["prony"]["equilibrium_modulus_Pa"] == 0.0
+    assert summary["rows_left_out"][REPEATS_MERGED] == 5 * (t4.size - np.unique(t4).size)
+    assert summary["shifting"]["stderr_correlation_inflation"] >= 1.0
+    bad = CliRunner().invoke(app, ["build", str(tmp_path / "melt.csv"), "--material", "gel",
+                                   "--out", str(tmp_path / "o2")])
+    assert bad.exit_code == 2
