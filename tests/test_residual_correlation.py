@@ -62,3 +62,10 @@ def test_dense_correlated_campaign_stderr_covers_the_truth():
     assert sum(inside) >= 17
     assert res.to_dict()["stderr_correlation_inflation"] == res.correlation_inflation
     assert "lag-one correlation" in res.to_dict()["stderr_method"]
+
+
+def test_a_correlation_within_the_noise_of_its_estimate_is_not_used():
+    # 200 neighbour pairs: the lag-one correlation of independent values scatters by 1/sqrt(200)
+    # = 0.07 (Bartlett 1946, from memory); 0.12 is below twice that
+    assert variance_inflation(0.12, 10, 200) == 1.0
+    assert variance_inflation(0.5, 10, 200) > 3.0

@@ -767,7 +767,8 @@ def fit_joint(prob: JointProblem, s0, c0=None, *, model="spectrum", robust=True,
     # correlation (ttsp._residual_correlation), 1 for uncorrelated residuals
     seq = prob.iso * prob.n_fn + prob.fn
     rho = lag_one_correlation(psi, seq)
-    inflation = variance_inflation(rho, r.size / max(np.unique(seq).size, 1))
+    n_seq = max(np.unique(seq).size, 1)
+    inflation = variance_inflation(rho, r.size / n_seq, r.size - n_seq)
     n_s, n_c = int(fit.free_s.sum()), int(fit.free_c.sum())
     cov_s = np.zeros((prob.n_iso, prob.n_iso))
     cov_c = np.zeros((prob.n_iso, prob.n_iso))

@@ -46,15 +46,20 @@ def lag_one_correlation(residual, sequence) -> float:
     return float(np.sum(r[1:][same] * r[:-1][same]) / den)
 
 
-def variance_inflation(rho: float, points_per_sequence: float) -> float:
+def variance_inflation(rho: float, points_per_sequence: float,
+                       neighbour_pairs: float | None = None) -> float:
     """f = (1 + ρ)/(1 − ρ), at least 1 and at most ``points_per_sequence`` (module notes).
 
     The lag-one correlation estimated from n points about their own fitted level is biased
     low by about (1 + 3ρ)/n (Kendall, Biometrika 41, 403, 1954; Marriott & Pope, Biometrika
     41, 390, 1954); that bias is added back before f is formed, n being the points per
-    sequence.
+    sequence. With ``neighbour_pairs`` N given, a measured ρ below 2/√N, twice the standard
+    error of the lag-one correlation of independent values (Bartlett 1946), is not told apart
+    from 0 and gives f = 1: uncorrelated residuals keep their stderr.
     """
     if not np.isfinite(rho):
+        return 1.0
+    if neighbour_pairs is not None and rho < 2.0 / np.sqrt(max(neighbour_pairs, 1.0)):
         return 1.0
     n = max(float(points_per_sequence), 1.0)
     rho = rho + (1 + 3 * rho) / n if n > 1 else rho
