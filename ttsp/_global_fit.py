@@ -45,7 +45,7 @@ settling) hold fewer independent points than they number; the covariance is mult
 AR(1) factor (1 + ρ)/(1 − ρ) of their pooled lag-one correlation ρ
 (:mod:`ttsp._residual_correlation`), which is 1 for uncorrelated residuals. On the frequency
 benchmark, 95 % of the shifts lie within 2 stderr of the truth; on dense relaxation and creep
-campaigns with correlated noise (benchmarks/bench_time_domain.py) 88–90 % (without the factor
+campaigns with correlated noise (benchmarks/bench_time_domain.py) 90 % (without the factor
 41–44 %).
 
 Nothing here validates user input: :mod:`ttsp.shifting` does that.
@@ -764,11 +764,12 @@ def fit_joint(prob: JointProblem, s0, c0=None, *, model="spectrum", robust=True,
     var = float(np.sum(psi * psi) / dof / max(dpsi, 0.5) ** 2)
     # residuals correlated along each isotherm carry fewer independent pieces of information
     # than points: the covariance is inflated by the AR(1) factor of their pooled lag-one
-    # correlation (ttsp._residual_correlation), 1 for uncorrelated residuals
+    # correlation (ttsp._residual_correlation), 1 for uncorrelated residuals; the bias of the
+    # estimate is that of a sequence of (n - p_eff)/n_seq free points, what the curve leaves
     seq = prob.iso * prob.n_fn + prob.fn
     rho = lag_one_correlation(psi, seq)
     n_seq = max(np.unique(seq).size, 1)
-    inflation = variance_inflation(rho, r.size / n_seq, r.size - n_seq)
+    inflation = variance_inflation(rho, (r.size - p_eff) / n_seq, r.size - n_seq)
     n_s, n_c = int(fit.free_s.sum()), int(fit.free_c.sum())
     cov_s = np.zeros((prob.n_iso, prob.n_iso))
     cov_c = np.zeros((prob.n_iso, prob.n_iso))
