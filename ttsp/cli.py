@@ -131,6 +131,8 @@ TOL_OPT = typer.Option(0.5, "--temperature-tolerance", min=0.0,
 KIND_OPT = typer.Option(None, "--modulus-kind", help="tensile or shear (default: from the headers).")
 NAME_T_OPT = typer.Option(False, "--temperature-from-name",
                           help="Read a file name's one unitless number (sweep_130.csv) as °C.")
+REPEATS_OPT = typer.Option("merge", "--repeats",
+                           help="Repeated time stamps in an isotherm: merge (mean in log) or refuse.")
 
 
 def describe(campaign) -> str:
@@ -164,14 +166,14 @@ def inspect_cmd(inputs: List[Path] = typer.Argument(..., help="Files or folders 
                 column: Optional[List[str]] = COLUMN_OPT, unit: Optional[List[str]] = UNIT_OPT,
                 sheet: Optional[str] = SHEET_OPT, tolerance: float = TOL_OPT,
                 modulus_kind: Optional[str] = KIND_OPT,
-                temperature_from_name: bool = NAME_T_OPT):
+                temperature_from_name: bool = NAME_T_OPT, repeats: str = REPEATS_OPT):
     """Show what the reader understood (isotherms, ranges, units, dropped rows), fitting nothing."""
     import warnings
 
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
         campaign = read_inputs(inputs, column, unit, sheet, tolerance, modulus_kind,
-                               temperature_from_name)
+                               temperature_from_name, repeats)
     typer.echo(describe(campaign))
 
 
@@ -207,6 +209,11 @@ class MasterCurve(str, Enum):
     splines = "splines"
 
 
+class Material(str, Enum):
+    solid = "solid"
+    liquid = "liquid"
+
+
 class Quantity(str, Enum):
     relaxation_modulus = "relaxation_modulus"
     creep_compliance = "creep_compliance"
@@ -217,7 +224,7 @@ class Quantity(str, Enum):
 
 def _options(reference_temperature, law, vertical, expansion_coefficient, shift_on, gaps,
              prony_density, glass_transition, spectrum=False, master_curve=MasterCurve.auto,
-             cross_validation=True):
+             cross_validation=True, material=Material.solid):
     from .workflow import BuildOptions
 
     return BuildOptions(reference_temperature_C=reference_temperature, law=law.value,
@@ -225,7 +232,7 @@ def _options(reference_temperature, law, vertical, expansion_coefficient, shift_
                         shift_on=shift_on.value, gaps=gaps.value,
                         prony_terms_per_decade=prony_density, glass_transition_C=glass_transition,
                         spectrum=spectrum, master_curve=master_curve.value,
-                        cross_validation=cross_validation)
+                        cross_validation=cross_validation, material=material.value)
 
 
 def _check_lines(result) -> str:
@@ -263,6 +270,9 @@ def build_cmd(inputs: List[Path] = typer.Argument(..., help="Files or folders of
                   True, "--cross-validation/--no-cross-validation",
                   help="Predict interior isotherms from builds without them (the build's "
                        "own accuracy figure)."),
+              material: Material = typer.Option(
+                  Material.solid, "--material",
+                  help="liquid (a melt: equilibrium modulus 0, creep with flow) or solid."),
               out: Path = typer.Option(Path("ttsp-out"), "--out", "-o", help="Output folder."),
               force: bool = typer.Option(False, "--force", help="Replace an existing output folder."),
               no_figures: bool = typer.Option(False, "--no-figures",
@@ -272,15 +282,17 @@ def build_cmd(inputs: List[Path] = typer.Argument(..., help="Files or folders of
               column: Optional[List[str]] = COLUMN_OPT, unit: Optional[List[str]] = UNIT_OPT,
               sheet: Optional[str] = SHEET_OPT, tolerance: float = TOL_OPT,
               modulus_kind: Optional[str] = KIND_OPT,
-              temperature_from_name: bool = NAME_T_OPT):
+              temperature_from_name: bool = NAME_T_OPT, repeats: str = REPEATS_OPT):
     """Build the master curve, shift law, Prony series, material functions, checks and report."""
     options = _options(reference_temperature, law, vertical, expansion_coefficient, shift_on, gaps,
-                       prony_density, glass_transition, spectrum, master_curve, cross_validation)
+                       prony_density, glass_transition, spectrum, master_curve, cross_validation,
+                       material)
     with _writing_to(out):
         result, folder = run_build(inputs, options, out, figures=not no_figures, force=force,
                                    quiet=quiet, column=column, unit=unit, sheet=sheet,
                                    tolerance=tolerance, modulus_kind=modulus_kind,
-                                   temperature_from_name=temperature_from_name)
+                                   temperature_from_name=temperature_from_name,
+                                   repeats=repeats)
     typer.echo(str(folder / ("report.html" if not no_figures else "summary.json")))
     if spectrum and result.relaxation_spectrum is None:
         why = next((w for w in result.warnings if "continuous relaxation spectrum" in w),
@@ -325,7 +337,7 @@ def check_cmd(inputs: List[Path] = typer.Argument(..., help="Files or folders of
               column: Optional[List[str]] = COLUMN_OPT, unit: Optional[List[str]] = UNIT_OPT,
               sheet: Optional[str] = SHEET_OPT, tolerance: float = TOL_OPT,
               modulus_kind: Optional[str] = KIND_OPT,
-              temperature_from_name: bool = NAME_T_OPT):
+              temperature_from_name: bool = NAME_T_OPT, repeats: str = REPEATS_OPT):
     """Does superposition hold? Run the checks and print a verdict for each."""
     import warnings
 
@@ -334,7 +346,7 @@ def check_cmd(inputs: List[Path] = typer.Argument(..., help="Files or folders of
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
         campaign = read_inputs(inputs, column, unit, sheet, tolerance, modulus_kind,
-                               temperature_from_name)
+                               temperature_from_name, repeats)
         result = build(campaign, BuildOptions(reference_temperature_C=reference_temperature,
                                               cross_validation=False))
     if as_json:

@@ -21,18 +21,21 @@ from typing import Mapping
 import numpy as np
 
 from ._arrays import readonly as _readonly
+from ._repeats import REPEAT_POLICIES, merge_repeats
 from ._validation import bad_value, check_positive, where
 from .exceptions import DataError
 from .units import kelvin_to_celsius, parse_unit
 
 __all__ = ["Quantity", "QUANTITIES", "Isotherm", "Campaign", "DOMAINS", "MODULUS_KINDS",
-           "X_COLUMN"]
+           "X_COLUMN", "REPEATS_MERGED"]
 
 DOMAINS = ("frequency", "time")
 MODULUS_KINDS = ("tensile", "shear")
 X_COLUMN = {"frequency": "frequency_rad_s", "time": "time_s"}
 #: a reference temperature this close (K) to an isotherm's temperature is that isotherm's
 REFERENCE_SNAP_K = 0.05
+#: the ``dropped_rows`` entry counting rows merged into a repeated time stamp's point
+REPEATS_MERGED = "repeated time stamps merged (mean in log)"
 
 
 @dataclass(frozen=True)
@@ -312,7 +315,7 @@ class Campaign:
                    units_as_read: Mapping[str, str] | None = None,
                    metadata: Mapping[str, str] | None = None,
                    dropped_rows: Mapping[str, int] | None = None,
-                   min_isotherms: int = 2) -> "Campaign":
+                   min_isotherms: int = 2, repeats: str = "merge") -> "Campaign":
         """Validate a tidy SI frame and group its rows into isotherms.
 
         Parameters
@@ -335,6 +338,13 @@ class Campaign:
             Carried into the campaign (default: from ``frame.attrs``, else empty).
         min_isotherms : int
             Fewest isotherms accepted (superposition needs two).
+        repeats : {"merge", "refuse"}
+            Time-domain data: rows of one isotherm at the same time (an instrument that prints
+            four significant digits repeats times on long sweeps) are merged into one point, the
+            mean of their log10 values, and counted in ``dropped_rows`` under
+            :data:`REPEATS_MERGED`; repeats whose values differ far beyond the noise are refused
+            (:mod:`ttsp._repeats`). ``"refuse"`` refuses every repeat. A repeated frequency is
+            always refused.
 
         A quantity may be missing (all NaN) in some isotherms, but not partly missing in one.
         The frame is not modified.
@@ -368,6 +378,8 @@ class Campaign:
         if modulus_kind not in MODULUS_KINDS:
             raise bad_value("modulus_kind", "'tensile' or 'shear'", modulus_kind, file=source)
         tol = check_positive("temperature_tolerance_K", temperature_tolerance_K, allow_zero=True)
+        if repeats not in REPEAT_POLICIES:
+            raise bad_value("repeats", "'merge' or 'refuse'", repeats, file=source)
         x_name = X_COLUMN[domain]
 
         def label(col):
@@ -486,9 +498,23 @@ class Campaign:
             raise DataError(f"{where(source)}no measured material function has any value: need at "
                             f"least one of {needed}; columns found: {found}")
 
-        isotherms = []
+        isotherms, merged = [], 0
         for g, members in enumerate(groups):
             x = x_all[members]
+            vals = {q: v[members] for q, (v, absent) in values.items() if not absent[g]}
+            if domain == "time" and repeats == "merge":
+                m = merge_repeats(x, vals, {q: QUANTITIES[q].positive for q in vals})
+                if m.conflict is not None:
+                    q, a, b, spread, limit = m.conflict
+                    a, b = members[a], members[b]
+                    prior = (f"row {int(rows[a])} of {files[a]}" if files is not None
+                             and files[a] != files[b] else f"row {int(rows[a])}")
+                    raise DataError(f"{at(q, b)}repeated time {shown(x_name, x_all[b])} at the "
+                                    f"same temperature as {prior}, with values {spread:.3g} "
+                                    f"decade apart, far beyond the noise ({limit:.3g} decade): "
+                                    f"not a rounded time stamp; check the file")
+                merged += m.merged
+                members, x, vals = members[m.order], x[m.order], m.values
             dup = _first_duplicate(x)
             if dup is not None:
                 a, b = members[dup[0]], members[dup[1]]
@@ -497,7 +523,6 @@ class Campaign:
                          and files[a] != files[b] else f"row {int(rows[a])}")
                 raise DataError(f"{at(x_name, b)}duplicate point: the same {what} "
                                 f"{shown(x_name, x_all[b])} at the same temperature as {prior}")
-            vals = {q: v[members] for q, (v, absent) in values.items() if not absent[g]}
             t = temps[members]
             t_mean = float(t[0]) if np.all(t == t[0]) else float(np.mean(t))
             isotherms.append(Isotherm(t_mean, x, vals, rows[members]))
@@ -506,6 +531,8 @@ class Campaign:
             raise DataError(f"{where(source, label('temperature_K'))}superposition needs at least "
                             f"{min_isotherms} isotherms; found {len(isotherms)} ({t}) with a "
                             f"grouping tolerance of {tol:g} K")
+        if merged:
+            dropped_rows = {**dict(dropped_rows), REPEATS_MERGED: merged}
         return cls(tuple(isotherms), domain, modulus_kind, source, units_as_read,
                    metadata, dropped_rows)
 

@@ -489,24 +489,11 @@ def plot_isotherms(campaign, ax=None, quantity="auto"):
 
 
 def _local_log_slope(x, y, half_window: int = 2):
-    """d log10 y / d log10 x at each point: least-squares line through ±half_window neighbours.
+    """d log10 y / d log10 x, smoothed over a fixed width in log x (:mod:`ttsp._log_slope`):
+    at least ±``half_window`` neighbours, more on dense records."""
+    from ._log_slope import local_log_slope
 
-    A moving-window regression is the derivative estimate of Savitzky & Golay (Anal. Chem. 36,
-    1627, 1964) of first order, written for uneven spacing.
-    """
-    lx, ly = np.log10(x), np.log10(y)
-    n = lx.size
-    out = np.full(n, np.nan)
-    for i in range(n):
-        lo, hi = max(0, i - half_window), min(n, i + half_window + 1)
-        if hi - lo < 3:
-            continue
-        xs, ys = lx[lo:hi], ly[lo:hi]
-        xc = xs - xs.mean()
-        denom = float(np.dot(xc, xc))
-        if denom > 0:
-            out[i] = float(np.dot(xc, ys - ys.mean()) / denom)
-    return out
+    return local_log_slope(x, y, min_points=half_window)
 
 
 def plot_superposition_check(campaign, ax=None):
@@ -1056,6 +1043,7 @@ def plot_time_functions(result, ax=None):
     twin = ax.twinx()
     _model_line(twin, t, d / dfactor, ext, colour=_VERMILLION,
                 label=f"{cletter}(t) creep compliance")
+    _measured_over_model(result, ax, twin, efactor, dfactor)
     rng = _valid_range(result)
     _style(ax, logx=True, logy=True)
     ax.tick_params(which="both", right=False)
@@ -1073,6 +1061,25 @@ def plot_time_functions(result, ax=None):
     _twin_legend(ax, twin, [_extrapolation_handle()] if ext.any() else [])
     _tref_title(ax, result, "from the Prony series")
     return ax
+
+
+def _measured_over_model(result, ax, twin, efactor, dfactor):
+    """When both E(t) and D(t) were measured, their shifted points under the model lines: the
+    D(t) line is interconverted from the series fitted to E(t), so the figure shows the one
+    curve drawn over the other measured one (the check ``relaxation_creep`` gives the number).
+    At most 400 points of each, evenly by rank of reduced time."""
+    names = ("relaxation_modulus_Pa", "creep_compliance_1_per_Pa")
+    if result.campaign.domain != "time" or not set(names) <= set(result.campaign.quantities):
+        return
+    data = _reduced_data(result)
+    t = np.concatenate([d[1] for d in data])
+    for q, axis, colour, factor in ((names[0], ax, _BLUE, efactor),
+                                    (names[1], twin, _VERMILLION, dfactor)):
+        y = np.concatenate([d[2][q] for d in data])
+        order = np.argsort(t)
+        pick = order[np.unique(np.linspace(0, order.size - 1, min(400, order.size)).astype(int))]
+        axis.plot(t[pick], y[pick] / factor, ls="none", marker="o", ms=2.2, alpha=0.35,
+                  color=colour, zorder=2)
 
 
 def _style_twin_left(ax, colour):

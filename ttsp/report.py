@@ -103,6 +103,7 @@ _CHECK_TITLES = {
     "kramers_kronig": "Kramers–Kronig consistency of {E}′ and {E}″",
     "prony_fit_quality": "Prony fit quality",
     "master_curve_range": "Range of the master curve",
+    "relaxation_creep": "Relaxation against creep (convolution identity)",
 }
 
 _STATUS_WORDS = {"pass": ("pass", "✓", "Pass"), "warn": ("warn", "!", "Warning"),

@@ -33,15 +33,17 @@ def parse_pairs(values, option: str) -> dict:
 
 
 def read_inputs(inputs, column, unit, sheet, tolerance, modulus_kind,
-                temperature_from_name=False):
+                temperature_from_name=False, repeats="merge"):
     from .io.readers import read_campaign
 
     if modulus_kind not in (None, "tensile", "shear"):
         raise typer.BadParameter("must be tensile or shear", param_hint="--modulus-kind")
+    if repeats not in ("merge", "refuse"):
+        raise typer.BadParameter("must be merge or refuse", param_hint="--repeats")
     return read_campaign([str(p) for p in inputs], columns=parse_pairs(column, "--column"),
                          units=parse_pairs(unit, "--unit"), sheet=sheet,
                          temperature_tolerance_K=tolerance, modulus_kind=modulus_kind,
-                         temperature_from_name=temperature_from_name)
+                         temperature_from_name=temperature_from_name, repeats=repeats)
 
 
 class Progress:
@@ -204,7 +206,7 @@ def draw_figures(result, folder, *, parallel: bool = True, early=None) -> dict:
 def run_build(inputs, options, out: Path, *, figures: bool, force: bool, quiet: bool,
               column=None, unit=None, sheet=None, tolerance=0.5, modulus_kind=None,
               parallel_figures: bool = True, kind: str = "build", replaces=None,
-              temperature_from_name: bool = False):
+              temperature_from_name: bool = False, repeats: str = "merge"):
     """Read, build and write one campaign's outputs atomically. Returns (result, out folder).
 
     The output folder is checked (and locked) before the fit starts, so a folder that may not be
@@ -221,7 +223,7 @@ def run_build(inputs, options, out: Path, *, figures: bool, force: bool, quiet: 
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
         campaign = read_inputs(inputs, column, unit, sheet, tolerance, modulus_kind,
-                               temperature_from_name)
+                               temperature_from_name, repeats)
     created = datetime.datetime.now(datetime.timezone.utc).strftime("%Y-%m-%dT%H:%M:%SZ")
     with atomic_output_dir(out, force=force, protect=inputs, kind=kind,
                            replaces=replaces) as tmp, warnings.catch_warnings():

@@ -166,6 +166,11 @@ class ShiftResult:
         rows and columns are zero. Shifts found together along a chain of overlaps are
         correlated; a shift law fitted with this matrix (``fit_shift_law(covariance=...)``)
         averages out their common drift. The low-information floor of the stderr is not in it.
+    residual_correlation, correlation_inflation : float
+        Pooled lag-one correlation of the fit's residuals along each isotherm, and the factor
+        (1 + ρ)/(1 − ρ) ≥ 1 by which the covariance (and the stderr²) was inflated because
+        correlated residuals carry fewer independent points than they number
+        (:mod:`ttsp._residual_correlation`); the largest over connected groups.
     """
 
     reference_temperature_K: float
@@ -189,6 +194,8 @@ class ShiftResult:
     iterations: int = 0
     warnings: tuple = ()
     log10_aT_covariance: np.ndarray | None = None
+    residual_correlation: float = float("nan")
+    correlation_inflation: float = 1.0
 
     # ---- views -------------------------------------------------------------------------------
     @property
@@ -250,6 +257,9 @@ class ShiftResult:
                 "rms_residual": float(self.rms_residual),
                 "residual_scale_log10": {k: float(v) for k, v in self.residual_scale_log10.items()},
                 "converged": bool(self.converged), "warnings": list(self.warnings),
+                "stderr_method": STDERR_METHOD,
+                "residual_lag1_correlation": _num(self.residual_correlation),
+                "stderr_correlation_inflation": float(self.correlation_inflation),
                 "shift_factors": rows}
 
     def shifted_frame(self, campaign: Campaign):
@@ -398,6 +408,10 @@ def _gauge_weights(temps_K, t_ref):
 #: fit grows with the number of points (a 500-isotherm, 1e6-point campaign would not fit in
 #: memory). The standard errors then describe the points used, so they err on the safe side.
 MAX_FIT_POINTS_PER_ISOTHERM = 60
+#: how the stderr are computed (summary.json ``shifting.stderr_method``)
+STDERR_METHOD = ("inverse Gauss-Newton curvature times Huber's variance factor, inflated by "
+                 "(1 + rho)/(1 - rho) for the lag-one correlation rho of the residuals along "
+                 "each isotherm (an AR(1) effective number of points; 1 when uncorrelated)")
 #: one function's point-to-point noise must be at least this many times another's before the
 #: joint fit weighs them differently (see _fit_component)
 NOISE_RATIO_TRUSTED = 3.0
@@ -701,12 +715,15 @@ def shift_isotherms(campaign: Campaign, reference_temperature_K: float | None = 
     cond_se = np.full(n, np.nan)
     slope_rms = np.full(n, np.nan)
     sq_all, n_all, objective, iterations, converged = 0.0, 0, 0.0, 0, True
+    rho_all, inflation_all = float("nan"), 1.0
     sig_sum = {q: [] for q in chosen}
     for ci, comp in enumerate(comps):
         if ci not in fits:
             continue
         f = fits[ci]
         sol = f["solution"]
+        if sol.correlation_inflation >= inflation_all:
+            rho_all, inflation_all = sol.residual_correlation, sol.correlation_inflation
         objective += sol.objective
         iterations += sol.iterations
         converged &= sol.converged
@@ -798,7 +815,8 @@ def shift_isotherms(campaign: Campaign, reference_temperature_K: float | None = 
         vertical_mode=vertical, method=method, objective=float(objective),
         rms_residual=rms_residual, domain=campaign.domain, residual_scale_log10=scale,
         expansion_coefficient_per_K=alpha, converged=bool(converged), iterations=iterations,
-        warnings=tuple(notes), log10_aT_covariance=_ro(cov_s))
+        warnings=tuple(notes), log10_aT_covariance=_ro(cov_s),
+        residual_correlation=float(rho_all), correlation_inflation=float(inflation_all))
 
 
 def _bridge_groups(comps, s, cov_s, bridged, fixed, temps, t_ref) -> str:

@@ -27,6 +27,7 @@ LAW_CHOICES = ("auto", "wlf", "arrhenius", "wlf-arrhenius", "vft", "polynomial")
 VERTICAL_CHOICES = ("none", "density", "fit")
 SHIFT_ON_CHOICES = ("auto", "tan_delta")
 GAP_CHOICES = ("stop", "bridge")
+MATERIAL_CHOICES = ("solid", "liquid")
 
 
 @dataclass(frozen=True)
@@ -60,6 +61,11 @@ class BuildOptions:
     cross_validation : bool
         Leave interior isotherms out in turn (at most 8), rebuild from the others and predict them
         (:mod:`ttsp.crossval`): the build's own accuracy figure on its data. On by default.
+    material : str
+        ``solid`` (the Prony series' equilibrium modulus E_∞ ≥ 0 is fitted; a creep fit has no
+        flow term) or ``liquid`` (a melt or solution: E_∞ = 0 by physics, and a creep
+        compliance is fitted with a steady-flow term t/η₀; Ferry 1980, ch. 3). Passed to every
+        Prony fit of the build.
     spectrum : bool
         Also fit the continuous relaxation spectrum H(τ) to the master curve (frequency data
         with E' and E''; :func:`ttsp.spectrum.fit_relaxation_spectrum`): written to
@@ -78,9 +84,11 @@ class BuildOptions:
     spectrum: bool = False
     master_curve: str = "auto"
     cross_validation: bool = True
+    material: str = "solid"
 
     def __post_init__(self):
         check_choice("law", self.law, LAW_CHOICES)
+        check_choice("material", self.material, MATERIAL_CHOICES)
         check_choice("master_curve", self.master_curve, MASTER_CURVE_CHOICES)
         for name in ("spectrum", "cross_validation"):
             if not isinstance(getattr(self, name), bool):
@@ -245,6 +253,7 @@ class BuildResult:
             "modulus_kind": self.campaign.modulus_kind,
             "source": self.campaign.source,
             "units_as_read": dict(self.campaign.units_as_read),
+            "rows_left_out": dict(self.campaign.dropped_rows),
             "reference_temperature_C": self.reference_temperature_C,
             "shift_factors": shift_factors,
             "shifting": shifting,
@@ -330,12 +339,20 @@ def _fit_prony(campaign: Campaign, shifts, options: BuildOptions):
 
         raise DataError(explain_no_fit_points(frame, columns, {q: campaign.symbol(q) for q in
                                                                columns}, campaign.source))
+    liquid = options.material == "liquid"
+    # the campaign's modulus kind labels the series (G for shear data), and a liquid's
+    # equilibrium modulus is 0 by physics (its creep compliance grows as t/η₀)
+    common = dict(terms_per_decade=options.prony_terms_per_decade,
+                  modulus_kind=campaign.modulus_kind)
     if campaign.domain == "frequency":
         return fit_prony_frequency(used[x_name].to_numpy(), used[columns[0]].to_numpy(),
                                    used[columns[1]].to_numpy(),
-                                   terms_per_decade=options.prony_terms_per_decade)
+                                   equilibrium_modulus_Pa=0.0 if liquid else None, **common)
+    if quantity == "creep_compliance":
+        return fit_prony_time(used[x_name].to_numpy(), used[columns[0]].to_numpy(),
+                              quantity=quantity, fluid=liquid, **common)
     return fit_prony_time(used[x_name].to_numpy(), used[columns[0]].to_numpy(), quantity=quantity,
-                          terms_per_decade=options.prony_terms_per_decade)
+                          equilibrium_modulus_Pa=0.0 if liquid else None, **common)
 
 
 def _thin_for_checks(campaign: Campaign, shifts):

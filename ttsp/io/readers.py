@@ -962,7 +962,7 @@ def read_campaign(paths, *, columns: Mapping[str, str] | None = None,
                   temperature_tolerance_K: float = 0.5,
                   temperature_C: float | Mapping[str, float] | None = None,
                   max_points: int | None = None,
-                  temperature_from_name: bool = False) -> Campaign:
+                  temperature_from_name: bool = False, repeats: str = "merge") -> Campaign:
     """Read one or more files (or a folder) into a validated :class:`~ttsp.data.Campaign`.
 
     Parameters
@@ -992,6 +992,10 @@ def read_campaign(paths, *, columns: Mapping[str, str] | None = None,
         Read a file name holding one number without a unit letter (``sweep_130.csv``) as the
         temperature in °C, for files that state no temperature otherwise (default False: such a
         file is refused with a message that suggests this option).
+    repeats : {"merge", "refuse"}
+        Time-domain rows of one isotherm at the same printed time: merged into one point (mean
+        in log, counted in ``dropped_rows``) unless they conflict, or all refused
+        (:meth:`ttsp.data.Campaign.from_frame`).
 
     Returns
     -------
@@ -1040,7 +1044,8 @@ def read_campaign(paths, *, columns: Mapping[str, str] | None = None,
             Campaign.from_frame(df, domain=file_domain,
                                 modulus_kind=modulus_kind or kind or "tensile",
                                 source=path, temperature_tolerance_K=temperature_tolerance_K,
-                                column_labels=lab, units_as_read=ur, min_isotherms=1)
+                                column_labels=lab, units_as_read=ur, min_isotherms=1,
+                                repeats=repeats)
             df["source_file"] = path  # so a message about the merged campaign names the file
         frames.append(df)
         labels.update(lab)
@@ -1078,7 +1083,7 @@ def read_campaign(paths, *, columns: Mapping[str, str] | None = None,
                                    modulus_kind=modulus_kind or (kinds.pop() if kinds else "tensile"),
                                    source=source, temperature_tolerance_K=temperature_tolerance_K,
                                    column_labels=labels, units_as_read=units_read,
-                                   metadata=metadata, dropped_rows=dropped)
+                                   metadata=metadata, dropped_rows=dropped, repeats=repeats)
     if dropped:
         listed = f" ({metadata['skipped rows']})" if skipped_text else ""
         warnings.warn(f"{source}: left out " + ", ".join(f"{v} {k}" for k, v in dropped.items())
