@@ -716,12 +716,14 @@ def shift_isotherms(campaign: Campaign, reference_temperature_K: float | None = 
     slope_rms = np.full(n, np.nan)
     sq_all, n_all, objective, iterations, converged = 0.0, 0, 0.0, 0, True
     rho_all, inflation_all = float("nan"), 1.0
+    inflation_of = np.ones(n)      # the correlation factor of each isotherm's group
     sig_sum = {q: [] for q in chosen}
     for ci, comp in enumerate(comps):
         if ci not in fits:
             continue
         f = fits[ci]
         sol = f["solution"]
+        inflation_of[comp] = sol.correlation_inflation
         if sol.correlation_inflation >= inflation_all:
             rho_all, inflation_all = sol.residual_correlation, sol.correlation_inflation
         objective += sol.objective
@@ -770,8 +772,11 @@ def shift_isotherms(campaign: Campaign, reference_temperature_K: float | None = 
         if k in gap_info:
             fl.append("gap-above")
         # judged on the data alone: the stderr within its connected group (not the gauge's)
-        # and the stderr given all other parameters (which catches the gauge anchor too)
-        se = max(comp_stderr[k], cond_se[k] if not np.isnan(cond_se[k]) else 0.0)
+        # and the stderr given all other parameters (which catches the gauge anchor too),
+        # before the allowance for correlated residuals: that widens every stderr of a group
+        # alike and says how far the curve misfits, not whether this isotherm is placed
+        se = max(comp_stderr[k] / np.sqrt(inflation_of[k]),
+                 cond_se[k] if not np.isnan(cond_se[k]) else 0.0)
         flat = np.isfinite(slope_rms[k]) and slope_rms[k] < _MIN_SLOPE
         if k not in user_fixed and not bridged[k] and (
                 se > low_information_stderr or flat):
