@@ -32,6 +32,7 @@ from ttsp.exceptions import DataError
 from ttsp.io.marker import read_marker
 from ttsp.io.writers import frame_to_csv_text, neutralise_formula
 
+from fault_injection import tagged_processes
 from test_batch import write_campaign, write_manifest
 
 pytestmark = pytest.mark.slow  # end-to-end: whole commands and processes
@@ -133,17 +134,6 @@ def test_one_batch_at_a_time_per_folder(campaigns, tmp_path):
 
 
 # ---- point 7: no worker outlives the batch ---------------------------------------------------
-def tagged_processes(tag: str) -> list:
-    """Process ids whose environment holds TTSP_TEST_TAG=tag (the batch and its workers)."""
-    pids = []
-    for entry in Path("/proc").iterdir():
-        if entry.name.isdigit():
-            try:
-                if f"TTSP_TEST_TAG={tag}".encode() in (entry / "environ").read_bytes():
-                    pids.append(int(entry.name))
-            except OSError:
-                continue
-    return pids
 
 
 def start_batch(campaigns: Path, tmp_path: Path, n: int = 6):

@@ -37,7 +37,8 @@ def end_with_parent(sig: int = signal.SIGKILL) -> bool:
         return False
 
 
-def _alive(pid: int) -> bool:
+def process_alive(pid: int) -> bool:
+    """Whether a process with this id exists (one we may not signal counts as alive)."""
     try:
         os.kill(pid, 0)
     except ProcessLookupError:
@@ -68,7 +69,7 @@ def watch_process(pid: int, *, sig: int = signal.SIGKILL,
     def watch():
         event = threading.Event()
         while not event.wait(interval_s):
-            if not _alive(pid) or os.getppid() != parent:
+            if not process_alive(pid) or os.getppid() != parent:
                 os.kill(me, sig)
                 return
 

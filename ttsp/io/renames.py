@@ -15,6 +15,7 @@ import errno
 import os
 from pathlib import Path
 
+from .._lifetime import process_alive
 from ..exceptions import DataError
 
 __all__ = ["rename_noreplace", "exchange", "folder_lock", "lock_path"]
@@ -135,7 +136,7 @@ def _exclusive_file_lock(path: Path, shown):  # pragma: no cover - not POSIX
         fd = os.open(path, os.O_RDWR | os.O_CREAT | os.O_EXCL, 0o644)
     except FileExistsError:
         holder = path.read_text(encoding="ascii", errors="replace").strip()
-        if holder.isdigit() and not _alive(int(holder)):
+        if holder.isdigit() and not process_alive(int(holder)):
             path.unlink()
             fd = os.open(path, os.O_RDWR | os.O_CREAT | os.O_EXCL, 0o644)
         else:
@@ -149,13 +150,4 @@ def _exclusive_file_lock(path: Path, shown):  # pragma: no cover - not POSIX
         os.close(fd)
         with contextlib.suppress(OSError):
             os.unlink(path)
-
-
-def _alive(pid: int) -> bool:  # pragma: no cover - not POSIX
-    try:
-        os.kill(pid, 0)
-    except ProcessLookupError:
-        return False
-    except OSError:
-        return True
     return True
