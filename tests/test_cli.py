@@ -177,7 +177,7 @@ def test_build_with_figures_writes_png_svg_and_report(campaign_file, tmp_path):
     out = tmp_path / "fig"
     res = runner.invoke(app, ["build", str(campaign_file), "--out", str(out), "-q"])
     assert res.exit_code == 0, res.output
-    assert res.stdout.strip().endswith("report.html")
+    assert res.stdout.splitlines()[0].endswith("report.html")  # the path stays the first line
     pngs, svgs = sorted(p.stem for p in out.glob("*.png")), sorted(p.stem for p in out.glob("*.svg"))
     assert pngs == svgs and len(pngs) >= 7
     html = (out / "report.html").read_text("utf-8")

@@ -282,6 +282,9 @@ def build_cmd(inputs: List[Path] = typer.Argument(..., help="Files or folders of
                                    tolerance=tolerance, modulus_kind=modulus_kind,
                                    temperature_from_name=temperature_from_name)
     typer.echo(str(folder / ("report.html" if not no_figures else "summary.json")))
+    from .terminal import build_summary_lines
+
+    typer.echo("\n".join(build_summary_lines(result)))
     if spectrum and result.relaxation_spectrum is None:
         why = next((w for w in result.warnings if "continuous relaxation spectrum" in w),
                    "the continuous relaxation spectrum was not fitted")
