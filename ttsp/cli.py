@@ -411,39 +411,82 @@ def load_model(path: Path):
         raise DataError(f"{file}: {exc}") from None
 
 
+def _temperature_messages(law, temperature_C: float, tolerance_K: float):
+    """Refuse a temperature at or below the law's divergence, and word the range warning, in °C.
+
+    The law's valid range runs between the mean temperatures of its outer isotherms; a
+    temperature within ``tolerance_K`` of an end (the tolerance that grouped the points into
+    isotherms) belongs to that isotherm and is not an extrapolation. Returns the warning or None.
+    """
+    t_K = temperature_C + 273.15
+    limit_of = getattr(law, "_lower_limit_K", None)
+    limit_K = None if limit_of is None else limit_of(law.params, law.reference_temperature_K)
+    if limit_K is not None and t_K <= limit_K:
+        name = getattr(law, "_limit_name", "the law's divergence").replace(" - ", " − ")
+        raise DataError(f"--temperature must be above {name} of the model's shift law, "
+                        f"{limit_K - 273.15:.2f} °C, where a_T has no value; got "
+                        f"{temperature_C:.6g} °C")
+    rng = law.valid_temperature_range_K
+    if rng is None or rng[0] - tolerance_K <= t_K <= rng[1] + tolerance_K:
+        return None
+    return (f"{temperature_C:.6g} °C lies outside the temperatures the {law.model} shift law was "
+            f"fitted to ({rng[0] - 273.15:.2f} to {rng[1] - 273.15:.2f} °C): the values are "
+            f"extrapolated")
+
+
+_LAW_RANGE_WARNING = "temperatures lie outside the valid range"
+
+
 @app.command("predict")
 @guarded
 def predict_cmd(model: Path = typer.Argument(..., help="summary.json of a build, or its folder."),
                 quantity: Quantity = typer.Option(..., "--quantity", help="Material function."),
                 temperature: float = typer.Option(..., "--temperature", help="Temperature in °C."),
-                time_grid: Optional[str] = typer.Option(None, "--time", metavar="a:b:n",
-                                                        help="n log-spaced times from a to b s."),
+                time_grid: Optional[str] = typer.Option(
+                    None, "--time", metavar="TIME|a:b:n",
+                    help="One time (10y, 3.156e8, 2h) or n log-spaced times from a to b "
+                         "(1s:10y:50); units s, min, h, d, y (default s)."),
                 frequency_grid: Optional[str] = typer.Option(
-                    None, "--frequency", metavar="a:b:n", help="n log-spaced frequencies, a to b Hz."),
+                    None, "--frequency", metavar="FREQ|a:b:n",
+                    help="One frequency (1Hz, 2kHz) or n log-spaced frequencies from a to b "
+                         "(0.01:100:50); units mHz, Hz, kHz (default Hz)."),
+                tolerance: float = TOL_OPT,
                 out: Optional[Path] = typer.Option(None, "--out", "-o",
                                                    help="CSV file (default: stdout).")):
     """A material function at any temperature from a build's master curve and shift law."""
     import warnings
 
+    from .axis_text import FREQUENCY_UNITS_HZ, TIME_UNITS_S, parse_axis
+    from .exceptions import ExtrapolationWarning
     from .model import TIME_QUANTITIES
     from .workflow import predict
 
     if (time_grid is None) == (frequency_grid is None):
-        raise typer.BadParameter("give exactly one of --time a:b:n or --frequency a:b:n",
+        raise typer.BadParameter("give exactly one of --time or --frequency",
                                  param_hint="--time/--frequency")
     is_time = quantity.value in TIME_QUANTITIES
     if is_time and time_grid is None:
-        raise typer.BadParameter(f"{quantity.value} is a function of time: use --time a:b:n",
+        raise typer.BadParameter(f"{quantity.value} is a function of time: use --time",
                                  param_hint="--time")
     if not is_time and frequency_grid is None:
-        raise typer.BadParameter(f"{quantity.value} is a function of frequency: use --frequency a:b:n",
+        raise typer.BadParameter(f"{quantity.value} is a function of frequency: use --frequency",
                                  param_hint="--frequency")
-    grid = parse_grid(time_grid or frequency_grid, "--time" if is_time else "--frequency")
+    option = "--time" if is_time else "--frequency"
+    try:
+        grid = parse_axis(time_grid or frequency_grid,
+                          TIME_UNITS_S if is_time else FREQUENCY_UNITS_HZ)
+    except ValueError as exc:
+        raise typer.BadParameter(str(exc), param_hint=option) from None
     m = load_model(model)
+    outside = _temperature_messages(m.law, float(temperature), tolerance)
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always")
         frame = predict(m, quantity.value, float(temperature),
                         **({"time_s": grid} if is_time else {"frequency_Hz": grid}))
+        if outside is not None:
+            warnings.warn(outside, ExtrapolationWarning)
+    # the law's own range warning is in kelvin and has no tolerance: ours above replaces it
+    caught = [w for w in caught if _LAW_RANGE_WARNING not in str(w.message)]
     _emit_table(frame, out, caught)
 
 
