@@ -687,6 +687,37 @@ def _shift_flags(result, temperature_K):
     return [by_t.get(round(float(t), 6), ()) for t in temperature_K]
 
 
+def _widen(mask):
+    """``mask`` grown by one sample each way, so a dashed part meets the solid one."""
+    out = mask.copy()
+    out[1:] |= mask[:-1]
+    out[:-1] |= mask[1:]
+    return out
+
+
+def _law_over_isotherms(law_fit, rng, t_K):
+    """The law on a grid over its fitted range and every isotherm it is used for.
+
+    Returns ``(grid_K, inside, curve, band, at_isotherms)``: ``inside`` marks the grid points
+    within the fitted range ``rng`` (K); ``band`` is the law's ± one standard error (or None);
+    ``at_isotherms`` is log10 a_T of the law at ``t_K`` itself, unclipped. Beyond the fitted
+    range the law is an extrapolation; its warning is not repeated for a figure.
+    """
+    import warnings
+
+    from .exceptions import ExtrapolationWarning
+
+    lo, hi = min(rng[0], float(np.min(t_K))), max(rng[1], float(np.max(t_K)))
+    grid_K = np.union1d(np.linspace(lo, hi, 241), [rng[0], rng[1]])
+    inside = (grid_K >= rng[0]) & (grid_K <= rng[1])
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", ExtrapolationWarning)
+        curve = np.asarray(law_fit.law.log10_aT(grid_K), dtype=float)
+        band = law_prediction_stderr(law_fit, grid_K)
+        at_isotherms = np.asarray(law_fit.law.log10_aT(t_K), dtype=float)
+    return grid_K, inside, curve, band, at_isotherms
+
+
 def plot_shift_factors(result, ax=None, residual_ax=None):
     """log10 a_T against temperature: the shifts found (± one standard error) and the fitted
     law with its ± one-standard-error band propagated from the parameter covariance; below it,
@@ -720,15 +751,17 @@ def plot_shift_factors(result, ax=None, residual_ax=None):
     law_fit = result.law_fit
     law = law_fit.law
     rng = law.valid_temperature_range_K or (float(t_K.min()), float(t_K.max()))
-    grid_K = np.linspace(rng[0], rng[1], 241)
-    curve = np.asarray(law.log10_aT(grid_K), dtype=float)
-    band = law_prediction_stderr(law_fit, grid_K)
+    grid_K, inside, curve, band, fitted = _law_over_isotherms(law_fit, rng, t_K)
     grid_C = kelvin_to_celsius(grid_K)
     name = _LAW_NAMES.get(law.model, law.model)
     if band is not None:
-        ax.fill_between(grid_C, curve - band, curve + band, color=_BLUE, alpha=0.22, lw=0,
-                        label=f"{name} ± 1 s.e.", zorder=1)
-    ax.plot(grid_C, curve, color=_BLUE, lw=1.6, label=f"{name} law, fitted", zorder=2)
+        ax.fill_between(grid_C, curve - band, curve + band, where=inside, color=_BLUE,
+                        alpha=0.22, lw=0, label=f"{name} ± 1 s.e.", zorder=1)
+    ax.plot(grid_C, np.where(inside, curve, np.nan), color=_BLUE, lw=1.6,
+            label=f"{name} law, fitted", zorder=2)
+    if not inside.all():   # the law over isotherms beyond its fitted range (bridged ones)
+        ax.plot(grid_C, np.where(_widen(~inside), curve, np.nan), color=_BLUE, lw=1.3,
+                ls=(0, (4, 2.5)), label=f"{name} law, extrapolated", zorder=2)
     flags = _shift_flags(result, t_K)
     bridged = np.array(["bridged" in f for f in flags], dtype=bool)
     weak = np.array(["low-information" in f for f in flags], dtype=bool) & ~bridged
@@ -756,11 +789,12 @@ def plot_shift_factors(result, ax=None, residual_ax=None):
     if residual_ax is None:
         ax.set_xlabel("Temperature T (°C)")
         return ax
-    # residuals of the shifts about the law, with the law's own uncertainty as a band
-    fitted = np.asarray(law.log10_aT(np.clip(t_K, rng[0], rng[1])), dtype=float)
+    # residuals of the shifts about the law used for each isotherm (beyond the law's fitted
+    # range too: a bridged isotherm is placed by it), with the law's own uncertainty as a band
     resid = log_a - fitted
     if band is not None:
-        residual_ax.fill_between(grid_C, -band, band, color=_BLUE, alpha=0.22, lw=0, zorder=1)
+        residual_ax.fill_between(grid_C, -band, band, where=inside, color=_BLUE, alpha=0.22,
+                                 lw=0, zorder=1)
     residual_ax.axhline(0.0, color=_BLUE, lw=1.2, zorder=2)
     for mask, marker, colour, _label in groups:
         if mask.any():
@@ -774,7 +808,8 @@ def plot_shift_factors(result, ax=None, residual_ax=None):
     # scaled to the residuals (and the band), not to the error bars of poorly determined shifts,
     # which may run off the panel
     lim = float(np.nanmax(np.abs(resid))) if resid.size else 0.0
-    lim = max(lim * 1.4, float(np.nanmax(band)) * 1.25 if band is not None else 0.0, 0.01)
+    lim = max(lim * 1.4, float(np.nanmax(band[inside])) * 1.25 if band is not None else 0.0,
+              0.01)
     residual_ax.set_ylim(-lim, lim)
     return ax
 
