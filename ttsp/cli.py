@@ -217,7 +217,7 @@ class Quantity(str, Enum):
 
 def _options(reference_temperature, law, vertical, expansion_coefficient, shift_on, gaps,
              prony_density, glass_transition, spectrum=False, master_curve=MasterCurve.auto,
-             cross_validation=True):
+             cross_validation=True, exclude=None, fix_shift=None):
     from .workflow import BuildOptions
 
     return BuildOptions(reference_temperature_C=reference_temperature, law=law.value,
@@ -225,7 +225,22 @@ def _options(reference_temperature, law, vertical, expansion_coefficient, shift_
                         shift_on=shift_on.value, gaps=gaps.value,
                         prony_terms_per_decade=prony_density, glass_transition_C=glass_transition,
                         spectrum=spectrum, master_curve=master_curve.value,
-                        cross_validation=cross_validation)
+                        cross_validation=cross_validation, exclude_C=tuple(exclude or ()),
+                        fixed_log10_aT=_fixed_shifts(fix_shift))
+
+
+def _fixed_shifts(values) -> dict:
+    """``--fix-shift T=LOG10_AT`` (repeatable; T in °C) as ``{T: log10 a_T}``."""
+    from .runner import parse_pairs
+
+    out = {}
+    for t, v in parse_pairs(values, "--fix-shift").items():
+        try:
+            out[float(t)] = float(v)
+        except ValueError:
+            raise typer.BadParameter(f"must look like T=LOG10_AT with T in °C (for example "
+                                     f"35=1.24); got {t}={v}", param_hint="--fix-shift") from None
+    return out
 
 
 def _check_lines(result) -> str:
@@ -263,6 +278,13 @@ def build_cmd(inputs: List[Path] = typer.Argument(..., help="Files or folders of
                   True, "--cross-validation/--no-cross-validation",
                   help="Predict interior isotherms from builds without them (the build's "
                        "own accuracy figure)."),
+              exclude: Optional[List[float]] = typer.Option(
+                  None, "--exclude", metavar="T",
+                  help="Leave out the isotherm at T °C (within 0.5 K); repeatable."),
+              fix_shift: Optional[List[str]] = typer.Option(
+                  None, "--fix-shift", metavar="T=LOG10_AT",
+                  help="Hold the shift of the isotherm at T °C at log10 a_T (e.g. 35=1.24); "
+                       "repeatable."),
               out: Path = typer.Option(Path("ttsp-out"), "--out", "-o", help="Output folder."),
               force: bool = typer.Option(False, "--force", help="Replace an existing output folder."),
               no_figures: bool = typer.Option(False, "--no-figures",
@@ -275,7 +297,8 @@ def build_cmd(inputs: List[Path] = typer.Argument(..., help="Files or folders of
               temperature_from_name: bool = NAME_T_OPT):
     """Build the master curve, shift law, Prony series, material functions, checks and report."""
     options = _options(reference_temperature, law, vertical, expansion_coefficient, shift_on, gaps,
-                       prony_density, glass_transition, spectrum, master_curve, cross_validation)
+                       prony_density, glass_transition, spectrum, master_curve, cross_validation,
+                       exclude, fix_shift)
     with _writing_to(out):
         result, folder = run_build(inputs, options, out, figures=not no_figures, force=force,
                                    quiet=quiet, column=column, unit=unit, sheet=sheet,

@@ -131,6 +131,8 @@ _OPTIONS = {
     "gaps": "Isotherms that do not overlap",
     "prony_terms_per_decade": "Prony terms per decade",
     "glass_transition_C": "Glass transition given (°C)",
+    "exclude_C": "Isotherms left out (°C)",
+    "fixed_log10_aT": "Shifts fixed by hand (log10 a_T at °C)",
 }
 
 
@@ -280,7 +282,11 @@ def _options(result) -> list:
     rows = []
     for key, value in result.options.to_dict().items():
         label = _OPTIONS.get(key, key)
-        if value is None:
+        if key == "exclude_C":
+            text = ", ".join(f"{t:g} °C" for t in value) or "none"
+        elif key == "fixed_log10_aT":
+            text = ", ".join(f"{t} °C: {v:.4g}" for t, v in value.items()) or "none"
+        elif value is None:
             text = ("default: the measured temperature nearest the median"
                     if key == "reference_temperature_C" else "not given")
         else:

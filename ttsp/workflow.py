@@ -65,6 +65,12 @@ class BuildOptions:
         with E' and E''; :func:`ttsp.spectrum.fit_relaxation_spectrum`): written to
         ``relaxation_spectrum.csv`` and drawn in the report. Off by default (it adds a
         regularised fit with a scan of its strength to every build).
+    exclude_C : tuple of float
+        Isotherms (°C, each within 0.5 K of a measured one) left out of the build.
+    fixed_log10_aT : mapping of float to float
+        ``{temperature_C: log10 a_T}`` shifts held at given values; the others are fitted around
+        them (:func:`ttsp.shifting.shift_isotherms`). Keys may be numbers or their text (as
+        ``to_dict()`` writes them, for JSON).
     """
 
     reference_temperature_C: float | None = None
@@ -78,8 +84,14 @@ class BuildOptions:
     spectrum: bool = False
     master_curve: str = "auto"
     cross_validation: bool = True
+    exclude_C: tuple = ()
+    fixed_log10_aT: tuple = ()
 
     def __post_init__(self):
+        from .selection import normalise_exclude, normalise_fixed
+
+        object.__setattr__(self, "exclude_C", normalise_exclude(self.exclude_C))
+        object.__setattr__(self, "fixed_log10_aT", normalise_fixed(self.fixed_log10_aT))
         check_choice("law", self.law, LAW_CHOICES)
         check_choice("master_curve", self.master_curve, MASTER_CURVE_CHOICES)
         for name in ("spectrum", "cross_validation"):
@@ -97,7 +109,11 @@ class BuildOptions:
             raise bad_value("reference_temperature_C", "finite", self.reference_temperature_C)
 
     def to_dict(self) -> dict:
-        return asdict(self)
+        """The settings as JSON-ready values (temperatures of fixed shifts as text keys)."""
+        out = asdict(self)
+        out["exclude_C"] = list(self.exclude_C)
+        out["fixed_log10_aT"] = {f"{t:.10g}": v for t, v in self.fixed_log10_aT}
+        return out
 
     def _repr_html_(self) -> str:
         from html import escape
@@ -380,7 +396,10 @@ def build(campaign: Campaign, options: BuildOptions | None = None, *, input_sha2
         raise DataError("give either options=BuildOptions(...) or keyword options, not both")
     if not isinstance(campaign, Campaign):
         raise bad_value("campaign", "a ttsp Campaign (see ttsp.read_campaign)", type(campaign).__name__)
-    campaign = campaign.with_derived()
+    from .selection import fixed_shifts_K, without_isotherms
+
+    campaign = without_isotherms(campaign, options.exclude_C).with_derived()
+    fixed_shifts_K(campaign, dict(options.fixed_log10_aT))   # each names an isotherm
     if not set(campaign.quantities) - {"tan_delta", "phase_angle_rad"}:
         have, (e1, e2) = " and ".join(map(campaign.symbol, campaign.quantities)), map(
             campaign.symbol, ("storage_modulus_Pa", "loss_modulus_Pa"))
@@ -470,8 +489,12 @@ def fit_steps(campaign: Campaign, options: BuildOptions, t_ref_K: float, step=No
     from .model import VerticalShift, ViscoelasticModel
     from .shifting import shift_isotherms
 
+    from .selection import fixed_shifts_K
+
     step = step or (lambda name: None)
     step("shift factors")
+    # a fold of the cross-validation may have left a fixed isotherm out
+    fixed_shifts = fixed_shifts_K(campaign, dict(options.fixed_log10_aT), strict=False) or None
 
     def fit_shifts(model_name):
         return shift_isotherms(
@@ -479,7 +502,7 @@ def fit_steps(campaign: Campaign, options: BuildOptions, t_ref_K: float, step=No
             quantities="tan_delta" if options.shift_on == "tan_delta" else "auto",
             vertical=options.vertical,
             expansion_coefficient_per_K=options.expansion_coefficient_per_K,
-            gaps=options.gaps, master_curve=model_name)
+            gaps=options.gaps, master_curve=model_name, fixed_log10_aT=fixed_shifts)
 
     requested = options.master_curve
     if requested == "auto" and options.shift_on != "tan_delta" and {
