@@ -285,6 +285,9 @@ def build_cmd(inputs: List[Path] = typer.Argument(..., help="Files or folders of
                   None, "--fix-shift", metavar="T=LOG10_AT",
                   help="Hold the shift of the isotherm at T °C at log10 a_T (e.g. 35=1.24); "
                        "repeatable."),
+              title: Optional[str] = typer.Option(
+                  None, "--title", help="Title of the report (default: the sample's name from "
+                                        "the input's metadata, else its file name)."),
               out: Path = typer.Option(Path("ttsp-out"), "--out", "-o", help="Output folder."),
               force: bool = typer.Option(False, "--force", help="Replace an existing output folder."),
               no_figures: bool = typer.Option(False, "--no-figures",
@@ -303,7 +306,7 @@ def build_cmd(inputs: List[Path] = typer.Argument(..., help="Files or folders of
         result, folder = run_build(inputs, options, out, figures=not no_figures, force=force,
                                    quiet=quiet, column=column, unit=unit, sheet=sheet,
                                    tolerance=tolerance, modulus_kind=modulus_kind,
-                                   temperature_from_name=temperature_from_name)
+                                   temperature_from_name=temperature_from_name, title=title)
     typer.echo(str(folder / ("report.html" if not no_figures else "summary.json")))
     from .terminal import build_summary_lines
 

@@ -547,9 +547,20 @@ def _glass_transition(result) -> dict | None:
     }
 
 
-def _title(result) -> str:
-    meta = {str(k).lower(): str(v) for k, v in dict(result.campaign.metadata).items()}
-    for key in ("material", "sample", "specimen name", "name"):
+#: metadata keys (lower case, as read from the lines above the header) that name the sample,
+#: in order of preference; "specimen" alone often holds its dimensions, so it is not one
+TITLE_KEYS = ("title", "sample name", "sample", "sample id", "specimen name", "specimen id",
+              "material", "name")
+
+
+def _title(result, title=None) -> str:
+    """The page's title: ``title`` when given, else the sample's name from the input's
+    metadata, else the input's file or folder name."""
+    if title is not None and str(title).strip():
+        return " ".join(str(title).split())
+    meta = {" ".join(str(k).lower().split()): str(v).strip()
+            for k, v in dict(result.campaign.metadata).items()}
+    for key in TITLE_KEYS:
         if meta.get(key):
             return meta[key]
     source = result.campaign.source or "campaign"
@@ -601,7 +612,7 @@ def _load_template():
     return env.from_string(text)
 
 
-def render_report(result, figures_svg: dict, *, created_utc: str) -> str:
+def render_report(result, figures_svg: dict, *, created_utc: str, title: str | None = None) -> str:
     """The report of a build as one self-contained HTML page (a string).
 
     Parameters
@@ -615,6 +626,9 @@ def render_report(result, figures_svg: dict, *, created_utc: str) -> str:
     created_utc : str
         Time of creation as the caller wants it shown (ISO 8601, e.g. ``2024-05-01T12:00:00Z``).
         It is the only part of the page that changes between two runs on the same input.
+    title : str, optional
+        The page's title; default: the sample's name from the input's metadata (keys
+        :data:`TITLE_KEYS`), else the input's file or folder name.
 
     Returns
     -------
@@ -634,7 +648,7 @@ def render_report(result, figures_svg: dict, *, created_utc: str) -> str:
         raise bad_value("created_utc", "a string (ISO 8601 time)", created_utc)
     figures = _figures(result, figures_svg)
     context = {
-        "title": _title(result),
+        "title": _title(result, title),
         "tool_version": __version__,
         "input_sha256": result.input_sha256,
         "created_utc": created_utc,
