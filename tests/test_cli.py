@@ -115,7 +115,7 @@ def test_master_curve_keeps_every_input_point(built, campaign_file):
     n_input = len(pd.read_csv(campaign_file))
     master = pd.read_csv(built / "master_curve.csv")
     assert len(master) == n_input
-    assert {"reduced_frequency_rad_s", "storage_modulus_Pa", "temperature_C"} <= set(master.columns)
+    assert {"reduced_frequency_Hz", "storage_modulus_Pa", "temperature_C"} <= set(master.columns)
 
 
 def test_material_functions_agree_with_the_exact_spectrum(built):

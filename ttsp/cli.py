@@ -207,6 +207,11 @@ class MasterCurve(str, Enum):
     splines = "splines"
 
 
+class Units(str, Enum):
+    SI = "SI"
+    engineering = "engineering"
+
+
 class Quantity(str, Enum):
     relaxation_modulus = "relaxation_modulus"
     creep_compliance = "creep_compliance"
@@ -288,6 +293,10 @@ def build_cmd(inputs: List[Path] = typer.Argument(..., help="Files or folders of
               title: Optional[str] = typer.Option(
                   None, "--title", help="Title of the report (default: the sample's name from "
                                         "the input's metadata, else its file name)."),
+              units: Units = typer.Option(
+                  Units.SI, "--units",
+                  help="Units of the CSV tables: SI (Pa, 1/Pa) or engineering (MPa, 1/MPa); "
+                       "frequencies in Hz either way."),
               out: Path = typer.Option(Path("ttsp-out"), "--out", "-o", help="Output folder."),
               force: bool = typer.Option(False, "--force", help="Replace an existing output folder."),
               no_figures: bool = typer.Option(False, "--no-figures",
@@ -306,7 +315,8 @@ def build_cmd(inputs: List[Path] = typer.Argument(..., help="Files or folders of
         result, folder = run_build(inputs, options, out, figures=not no_figures, force=force,
                                    quiet=quiet, column=column, unit=unit, sheet=sheet,
                                    tolerance=tolerance, modulus_kind=modulus_kind,
-                                   temperature_from_name=temperature_from_name, title=title)
+                                   temperature_from_name=temperature_from_name, title=title,
+                                   units=units.value)
     typer.echo(str(folder / ("report.html" if not no_figures else "summary.json")))
     from .terminal import build_summary_lines
 
