@@ -23,7 +23,11 @@ from ._validation import printable
 from .exceptions import DataError, TtspError
 from .runner import read_inputs, run_build
 
-app = typer.Typer(add_completion=False, no_args_is_help=True,
+from . import _help_words
+
+_help_words.apply()
+# plain help: rich's option table cuts long option names at 80 columns
+app = typer.Typer(add_completion=False, no_args_is_help=True, rich_markup_mode=None,
                   help="Time–temperature superposition: master curves, shift laws, Prony series.")
 
 EXIT_OK, EXIT_INTERNAL, EXIT_BAD_INPUT, EXIT_CHECK_FAILED = 0, 1, 2, 3
@@ -476,7 +480,9 @@ _LAW_RANGE_WARNING = "temperatures lie outside the valid range"
 @app.command("predict")
 @guarded
 def predict_cmd(model: Path = typer.Argument(..., help="summary.json of a build, or its folder."),
-                quantity: Quantity = typer.Option(..., "--quantity", help="Material function."),
+                quantity: Quantity = typer.Option(
+                    ..., "--quantity", metavar="Q", show_choices=False,
+                    help="Material function: " + ", ".join(q.value for q in Quantity) + "."),
                 temperature: float = typer.Option(..., "--temperature", help="Temperature in °C."),
                 time_grid: Optional[str] = typer.Option(
                     None, "--time", metavar="TIME|a:b:n",
