@@ -226,7 +226,7 @@ class Quantity(str, Enum):
 
 def _options(reference_temperature, law, vertical, expansion_coefficient, shift_on, gaps,
              prony_density, glass_transition, spectrum=False, master_curve=MasterCurve.auto,
-             cross_validation=True, exclude=None, fix_shift=None):
+             cross_validation=True, exclude=None, fix_shift=None, service_temperature=None):
     from .workflow import BuildOptions
 
     return BuildOptions(reference_temperature_C=reference_temperature, law=law.value,
@@ -235,7 +235,8 @@ def _options(reference_temperature, law, vertical, expansion_coefficient, shift_
                         prony_terms_per_decade=prony_density, glass_transition_C=glass_transition,
                         spectrum=spectrum, master_curve=master_curve.value,
                         cross_validation=cross_validation, exclude_C=tuple(exclude or ()),
-                        fixed_log10_aT=_fixed_shifts(fix_shift))
+                        fixed_log10_aT=_fixed_shifts(fix_shift),
+                        service_temperature_C=service_temperature)
 
 
 def _fixed_shifts(values) -> dict:
@@ -294,6 +295,10 @@ def build_cmd(inputs: List[Path] = typer.Argument(..., help="Files or folders of
                   None, "--fix-shift", metavar="T=LOG10_AT",
                   help="Hold the shift of the isotherm at T °C at log10 a_T (e.g. 35=1.24); "
                        "repeatable."),
+              service_temperature: Optional[float] = typer.Option(
+                  None, "--service-temperature", metavar="T",
+                  help="Also tabulate E(t), D(t), E', E'', tan δ at T °C "
+                       "(service_functions.csv)."),
               title: Optional[str] = typer.Option(
                   None, "--title", help="Title of the report (default: the sample's name from "
                                         "the input's metadata, else its file name)."),
@@ -314,7 +319,7 @@ def build_cmd(inputs: List[Path] = typer.Argument(..., help="Files or folders of
     """Build the master curve, shift law, Prony series, material functions, checks and report."""
     options = _options(reference_temperature, law, vertical, expansion_coefficient, shift_on, gaps,
                        prony_density, glass_transition, spectrum, master_curve, cross_validation,
-                       exclude, fix_shift)
+                       exclude, fix_shift, service_temperature)
     with _writing_to(out):
         result, folder = run_build(inputs, options, out, figures=not no_figures, force=force,
                                    quiet=quiet, column=column, unit=unit, sheet=sheet,

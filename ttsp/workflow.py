@@ -67,6 +67,9 @@ class BuildOptions:
         regularised fit with a scan of its strength to every build).
     exclude_C : tuple of float
         Isotherms (°C, each within 0.5 K of a measured one) left out of the build.
+    service_temperature_C : float, optional
+        A temperature (°C) at which the material functions are also tabulated
+        (:meth:`BuildResult.material_functions_frame`, ``service_functions.csv``).
     fixed_log10_aT : mapping of float to float
         ``{temperature_C: log10 a_T}`` shifts held at given values; the others are fitted around
         them (:func:`ttsp.shifting.shift_isotherms`). Keys may be numbers or their text (as
@@ -86,6 +89,7 @@ class BuildOptions:
     cross_validation: bool = True
     exclude_C: tuple = ()
     fixed_log10_aT: tuple = ()
+    service_temperature_C: float | None = None
 
     def __post_init__(self):
         from .selection import normalise_exclude, normalise_fixed
@@ -104,9 +108,11 @@ class BuildOptions:
                 and 0.25 <= self.prony_terms_per_decade <= 10):
             raise bad_value("prony_terms_per_decade", "between 0.25 and 10",
                             self.prony_terms_per_decade)
-        if self.reference_temperature_C is not None and not math.isfinite(
-                float(self.reference_temperature_C)):
-            raise bad_value("reference_temperature_C", "finite", self.reference_temperature_C)
+        for name in ("reference_temperature_C", "service_temperature_C"):
+            value = getattr(self, name)
+            if value is not None and not (isinstance(value, (int, float))
+                                          and math.isfinite(float(value))):
+                raise bad_value(name, "a finite temperature in °C", value)
 
     def to_dict(self) -> dict:
         """The settings as JSON-ready values (temperatures of fixed shifts as text keys)."""
@@ -209,17 +215,23 @@ class BuildResult:
         """Every input point with its reduced x and shifted values (none dropped)."""
         return self.shifts.shifted_frame(self.campaign)
 
-    def material_functions_frame(self, points_per_decade: int = 10):
+    def material_functions_frame(self, points_per_decade: int = 10, temperature_C=None):
         """E(t), D(t), E', E'', tan δ at the reference temperature on one log grid.
 
         Row i holds the time t_i and the frequency f_i = 1/(2π t_i) (so ω_i = 1/t_i), over the
         series' valid reduced range widened by one decade each side (those rows are flagged).
+        With ``temperature_C`` the same functions at that temperature (through the model's
+        a_T and b_T, :class:`ttsp.model.ViscoelasticModel`), over the same reduced range
+        (times t_i·a_T); rows are flagged ``extrapolated`` outside the reduced range, and all
+        rows when the temperature lies outside the shift law's fitted range.
         """
         import pandas as pd
 
         lo, hi = self.series.valid_reduced_time_range_s
         t = np.logspace(math.log10(lo) - 1, math.log10(hi) + 1,
                         int(round((math.log10(hi) - math.log10(lo) + 2) * points_per_decade)) + 1)
+        if temperature_C is not None:
+            return self._functions_at(t, float(temperature_C))
         omega = 1.0 / t
         creep = self.model.creep_series
         frame = pd.DataFrame({
@@ -233,6 +245,35 @@ class BuildResult:
             "extrapolated": outside_log_range(t, lo, hi),
         })
         frame.attrs["reference_temperature_C"] = self.reference_temperature_C
+        return frame
+
+    def _functions_at(self, reduced_t, temperature_C: float):
+        import pandas as pd
+
+        from .exceptions import ExtrapolationWarning
+        from .selection import MATCH_K   # the isotherm tolerance: within it, not beyond
+
+        lo, hi = self.series.valid_reduced_time_range_s
+        T_K = float(celsius_to_kelvin(temperature_C))
+        rng = self.model.law.valid_temperature_range_K
+        beyond_law = rng is not None and not rng[0] - MATCH_K <= T_K <= rng[1] + MATCH_K
+        m = self.model
+        with warnings.catch_warnings():   # the 'extrapolated' column says where, row by row
+            warnings.simplefilter("ignore", ExtrapolationWarning)
+            t = reduced_t * 10.0 ** float(m.log10_aT(T_K))
+            f = 1.0 / (2 * math.pi * t)
+            frame = pd.DataFrame({
+                "temperature_C": np.full(t.size, temperature_C),
+                "time_s": t,
+                "relaxation_modulus_Pa": m.relaxation_modulus(t, T_K),
+                "creep_compliance_1_per_Pa": m.creep_compliance(t, T_K),
+                "frequency_Hz": f,
+                "storage_modulus_Pa": m.storage_modulus(f, T_K),
+                "loss_modulus_Pa": m.loss_modulus(f, T_K),
+                "tan_delta": m.tan_delta(f, T_K),
+                "extrapolated": outside_log_range(reduced_t, lo, hi) | beyond_law,
+            })
+        frame.attrs["temperature_C"] = temperature_C
         return frame
 
     # ---- the output contract -------------------------------------------------------------------

@@ -133,4 +133,7 @@ def write_build_numbers(result, folder, *, created_utc: str = "", units: str = "
     spectrum = getattr(result, "relaxation_spectrum", None)
     if spectrum is not None:     # optional (BuildOptions.spectrum), so not in NUMBER_FILES
         table("relaxation_spectrum.csv", spectrum.to_frame())
+    service = getattr(result.options, "service_temperature_C", None)
+    if service is not None:      # optional too (BuildOptions.service_temperature_C)
+        table("service_functions.csv", result.material_functions_frame(temperature_C=service))
     return out
