@@ -226,7 +226,8 @@ class Quantity(str, Enum):
 
 def _options(reference_temperature, law, vertical, expansion_coefficient, shift_on, gaps,
              prony_density, glass_transition, spectrum=False, master_curve=MasterCurve.auto,
-             cross_validation=True, exclude=None, fix_shift=None, service_temperature=None):
+             cross_validation=True, exclude=None, fix_shift=None, service_temperature=None,
+             isochrone_frequency=None):
     from .workflow import BuildOptions
 
     return BuildOptions(reference_temperature_C=reference_temperature, law=law.value,
@@ -236,7 +237,24 @@ def _options(reference_temperature, law, vertical, expansion_coefficient, shift_
                         spectrum=spectrum, master_curve=master_curve.value,
                         cross_validation=cross_validation, exclude_C=tuple(exclude or ()),
                         fixed_log10_aT=_fixed_shifts(fix_shift),
-                        service_temperature_C=service_temperature)
+                        service_temperature_C=service_temperature,
+                        isochrone_frequency_Hz=_one_frequency(isochrone_frequency))
+
+
+def _one_frequency(text) -> float:
+    """``--isochrone-frequency`` (``1``, ``10Hz``, ``0.1 kHz``) in Hz; 1 Hz when not given."""
+    if text is None:
+        return 1.0
+    from .axis_text import FREQUENCY_UNITS_HZ, parse_axis
+
+    try:
+        values = parse_axis(text, FREQUENCY_UNITS_HZ)
+    except ValueError as exc:
+        raise typer.BadParameter(str(exc), param_hint="--isochrone-frequency") from None
+    if values.size != 1:
+        raise typer.BadParameter(f"must be one frequency; got {text!r}",
+                                 param_hint="--isochrone-frequency")
+    return float(values[0])
 
 
 def _fixed_shifts(values) -> dict:
@@ -299,6 +317,10 @@ def build_cmd(inputs: List[Path] = typer.Argument(..., help="Files or folders of
                   None, "--service-temperature", metavar="T",
                   help="Also tabulate E(t), D(t), E', E'', tan δ at T °C "
                        "(service_functions.csv)."),
+              isochrone_frequency: Optional[str] = typer.Option(
+                  None, "--isochrone-frequency", metavar="FREQ",
+                  help="Frequency of the isochronal figure and its Tg readings (E' onset, "
+                       "E'' peak, tan δ peak); units mHz, Hz, kHz.  [default: 1Hz]"),
               title: Optional[str] = typer.Option(
                   None, "--title", help="Title of the report (default: the sample's name from "
                                         "the input's metadata, else its file name)."),
@@ -319,7 +341,7 @@ def build_cmd(inputs: List[Path] = typer.Argument(..., help="Files or folders of
     """Build the master curve, shift law, Prony series, material functions, checks and report."""
     options = _options(reference_temperature, law, vertical, expansion_coefficient, shift_on, gaps,
                        prony_density, glass_transition, spectrum, master_curve, cross_validation,
-                       exclude, fix_shift, service_temperature)
+                       exclude, fix_shift, service_temperature, isochrone_frequency)
     with _writing_to(out):
         result, folder = run_build(inputs, options, out, figures=not no_figures, force=force,
                                    quiet=quiet, column=column, unit=unit, sheet=sheet,

@@ -1187,13 +1187,22 @@ def render_campaign_figures(campaign) -> dict:
             "superposition_check": plot_superposition_check(campaign).figure}
 
 
+def _plot_isochrone(result):
+    from .plot_isochrone import plot_isochrone
+
+    return plot_isochrone(result)
+
+
 def figure_names(result) -> tuple:
     """The names of the figures of this build: :data:`FIGURE_NAMES`, plus
-    ``relaxation_spectrum`` when the build fitted the continuous spectrum and
+    ``relaxation_spectrum`` when the build fitted the continuous spectrum,
+    ``isochrone`` for frequency data (E', E'', tan δ against T with the Tg readings) and
     ``cross_validation`` when it predicted at least one held-out isotherm."""
     extra = []
     if getattr(result, "relaxation_spectrum", None) is not None:
         extra.append("relaxation_spectrum")
+    if getattr(result, "glass_transition", None) is not None:
+        extra.append("isochrone")
     cv = getattr(result, "cross_validation", None)
     if cv is not None and any(np.isfinite(h.rms_percent_at_law_aT.get("all", np.nan))
                               for h in cv.per_isotherm):
@@ -1219,6 +1228,7 @@ def render_figures(result, names=None) -> dict:
         "relaxation_spectrum": lambda: plot_relaxation_spectrum(
             result.relaxation_spectrum, series=result.series)[0].figure,
         "cross_validation": lambda: plot_cross_validation(result).figure,
+        "isochrone": lambda: _plot_isochrone(result).figure,
     }
     available = figure_names(result)
     wanted = available if names is None else tuple(names)

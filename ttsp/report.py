@@ -42,6 +42,7 @@ _SECTION_OF_FIGURE = {
     "relaxation_spectrum": "prony",
     "time_functions": "functions",
     "frequency_functions": "functions",
+    "isochrone": "functions",
     "cross_validation": "cross_validation",
 }
 
@@ -84,6 +85,11 @@ FIGURE_CAPTIONS = {
         "Storage modulus {E}′, loss modulus {E}″ and tan δ at T<sub>ref</sub> = {tref} over reduced "
         "frequency, computed from the Prony series; shaded and dashed where extrapolated beyond "
         "the data."),
+    "isochrone": (
+        "Isochrone: {E}′, {E}″ and tan δ against temperature at one frequency, from the Prony "
+        "series and the shift law over the temperatures the law was fitted to, with the glass "
+        "transition read three ways: onset of the {E}′ drop (tangents at the cold end and at the "
+        "steepest descent), peak of {E}″ and peak of tan δ."),
     "cross_validation": (
         "Interior isotherms, each predicted by a build without it: rms relative error of the "
         "predicted moduli at the shift factor the law gives (filled circles) and at the best "
@@ -539,7 +545,8 @@ def _glass_transition(result) -> dict | None:
 
     return {
         "frequency": _num(d.get("frequency_Hz"), 3),
-        "rows": [(f"Peak of {letter}″", cell("loss_peak_from_model_C"),
+        "rows": [(f"Onset of the {letter}′ drop", cell("storage_onset_from_model_C"), "–"),
+                 (f"Peak of {letter}″", cell("loss_peak_from_model_C"),
                   cell("loss_peak_from_isotherms_C")),
                  ("Peak of tan δ", cell("tan_delta_peak_from_model_C"),
                   cell("tan_delta_peak_from_isotherms_C"))],

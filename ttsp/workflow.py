@@ -67,6 +67,8 @@ class BuildOptions:
         regularised fit with a scan of its strength to every build).
     exclude_C : tuple of float
         Isotherms (°C, each within 0.5 K of a measured one) left out of the build.
+    isochrone_frequency_Hz : float
+        Frequency (Hz) of the isochrone and of the glass transition read from it (default 1).
     service_temperature_C : float, optional
         A temperature (°C) at which the material functions are also tabulated
         (:meth:`BuildResult.material_functions_frame`, ``service_functions.csv``).
@@ -90,6 +92,7 @@ class BuildOptions:
     exclude_C: tuple = ()
     fixed_log10_aT: tuple = ()
     service_temperature_C: float | None = None
+    isochrone_frequency_Hz: float = 1.0
 
     def __post_init__(self):
         from .selection import normalise_exclude, normalise_fixed
@@ -108,6 +111,9 @@ class BuildOptions:
                 and 0.25 <= self.prony_terms_per_decade <= 10):
             raise bad_value("prony_terms_per_decade", "between 0.25 and 10",
                             self.prony_terms_per_decade)
+        f = self.isochrone_frequency_Hz
+        if not (isinstance(f, (int, float)) and math.isfinite(float(f)) and f > 0):
+            raise bad_value("isochrone_frequency_Hz", "a positive frequency in Hz", f)
         for name in ("reference_temperature_C", "service_temperature_C"):
             value = getattr(self, name)
             if value is not None and not (isinstance(value, (int, float))
@@ -485,7 +491,8 @@ def build(campaign: Campaign, options: BuildOptions | None = None, *, input_sha2
         if campaign.domain == "frequency":
             from .transition import estimate_glass_transition
 
-            glass = estimate_glass_transition(model, campaign, frequency_Hz=1.0)
+            glass = estimate_glass_transition(model, campaign,
+                                              frequency_Hz=options.isochrone_frequency_Hz)
         held_out = None
         if options.cross_validation:
             from .crossval import cross_validate
