@@ -618,7 +618,7 @@ def plot_master_curve(result, ax=None):
             if outlier.any():
                 ax.plot(x[outlier] / xfactor, y[outlier] / yfactor, ls="none", marker="x", ms=5,
                         color=_GREY, mew=1.0, zorder=3)
-        n_outliers += int(outlier.sum()) * len(quantities)
+        n_outliers += int(outlier.sum())   # points, as the outliers check counts them
     # the fitted model at the reference temperature, half a decade beyond the data at most
     xs_all = np.concatenate(xs_all)
     lo, hi = float(xs_all.min()) / 10 ** 0.5, float(xs_all.max()) * 10 ** 0.5
@@ -645,7 +645,7 @@ def plot_master_curve(result, ax=None):
             handles.append(_extrapolation_handle())
     if n_outliers:
         handles.append(Line2D([], [], ls="none", marker="x", color=_GREY,
-                              label=f"flagged outliers ({n_outliers})"))
+                              label=f"flagged outlier points ({n_outliers})"))
     _style(ax, logx=True, logy=ylog)
     ax.set_xlabel(_reduced_x_label(campaign, xunit))
     ax.set_ylabel(ylabel)
