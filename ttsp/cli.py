@@ -631,6 +631,9 @@ def main():
     except Exception as exc:
         if hasattr(exc, "format_message") and isinstance(getattr(exc, "exit_code", None), int):
             ctx = getattr(exc, "ctx", None)
+            if type(exc).__name__ == "NoArgsIsHelpError" and ctx is not None:
+                typer.echo(ctx.get_help())   # a bare 'ttsp': the help, on stdout, as it is
+                sys.exit(exc.exit_code)
             name = f"ttsp {ctx.info_name}" if ctx is not None and ctx.parent is not None else "ttsp"
             hint = f" (see '{name} --help')" if exc.exit_code == EXIT_BAD_INPUT else ""
             message = " ".join(exc.format_message().split())
