@@ -53,7 +53,9 @@ Results table columns
     ``id``, ``status`` (``ok`` | ``failed``), ``error`` (empty when ok), ``skipped``, ``path``,
     ``input_sha256``, ``domain``, ``modulus_kind``, ``isotherms``, ``reference_temperature_C``,
     ``law_model``, ``law_<parameter>`` and ``law_<parameter>_stderr`` for each parameter of the
-    fitted law (``law_C1``, ``law_C2_K``, ``law_activation_energy_kJ_per_mol`` ...),
+    fitted law (``law_C1``, ``law_C2_K``, ``law_activation_energy_kJ_per_mol`` ...; absolute
+    temperatures in °C like every temperature of the table: ``law_glass_transition_C``,
+    ``law_T_inf_C``; C2 and B are temperature differences, in K),
     ``prony_terms``, ``prony_rms_percent``, ``master_curve`` (``spectrum`` | ``splines``),
     ``collapse_ratio`` (neighbour mismatch over chained pairwise shifts'),
     ``cv_median_rms_percent_at_law_aT``, ``cv_worst_rms_percent_at_law_aT`` and
@@ -411,6 +413,10 @@ def _failed_row(payload: dict, error: str, elapsed_s: float | None = None) -> di
     return row
 
 
+#: law parameters that are absolute temperatures in K (summary.json); °C in the results table
+_ABSOLUTE_TEMPERATURE_PARAMETERS = ("glass_transition_K", "T_inf_K")
+
+
 def _row_from_summary(payload: dict, summary: dict, *, skipped: bool, elapsed_s: float) -> dict:
     """The results-table row of a finished build, from its ``summary.json``."""
     row = dict.fromkeys(_HEAD)
@@ -423,8 +429,13 @@ def _row_from_summary(payload: dict, summary: dict, *, skipped: bool, elapsed_s:
     row["law_model"] = law.get("model")
     stderr = law.get("parameter_stderr") or {}
     for name, value in (law.get("parameters") or {}).items():
+        se = stderr.get(name)
+        if name in _ABSOLUTE_TEMPERATURE_PARAMETERS and isinstance(value, (int, float)):
+            # one temperature unit in the table: absolute temperatures in °C (a stderr, a
+            # difference, is the same in K and °C); C2_K and B_K are differences and stay K
+            name, value = name[:-2] + "_C", value - 273.15
         row[f"law_{name}"] = value
-        row[f"law_{name}_stderr"] = stderr.get(name)
+        row[f"law_{name}_stderr"] = se
     prony = summary.get("prony") or {}
     checks = summary.get("checks") or []
     statuses = [c.get("status") for c in checks]
@@ -633,6 +644,7 @@ class _Reporter:
 
     def __init__(self, total: int, *, progress: bool, quiet: bool):
         self.total, self.done, self.failed = total, 0, 0
+        self.to_build, self.built, self.t0 = 0, 0, None
         self.mode = None if quiet else ("lines" if progress else "failures")
         self._bar = None
         if self.mode == "lines" and sys.stderr.isatty():
@@ -655,10 +667,31 @@ class _Reporter:
         else:
             print(text, file=sys.stderr, flush=True)
 
+    def start(self, reused: int, unreadable: int, to_build: int, workers) -> None:
+        """The start line: campaigns found, reused, unreadable, to build on how many workers."""
+        self.to_build, self.t0 = to_build, time.perf_counter()
+        if self.mode in ("lines", "bar"):
+            where = (f"on {workers} worker{'s' if workers != 1 else ''}"
+                     if isinstance(workers, int) else f"on {workers}")
+            bad = f", {unreadable} with unreadable inputs" if unreadable else ""
+            self._say(f"ttsp batch: {self.total} campaign{'s' if self.total != 1 else ''} found: "
+                      f"{reused} reused from an earlier run{bad}, {to_build} to build {where}")
+
+    def _left(self) -> str:
+        """', about N s left' from the builds finished so far (none before the first)."""
+        if not self.built or self.t0 is None or self.built >= self.to_build:
+            return ""
+        rate = (time.perf_counter() - self.t0) / self.built
+        left = rate * (self.to_build - self.built)
+        text = f"{left:.0f} s" if left < 120 else f"{left / 60:.0f} min"
+        return f"; about {text} left"
+
     def advance(self, row: dict) -> None:
         self.done += 1
         failed = row["status"] != "ok"
         self.failed += failed
+        if self.t0 is not None and not row.get("skipped"):
+            self.built += 1
         if self.mode is None:
             return
         if self.mode == "bar":
@@ -669,7 +702,8 @@ class _Reporter:
             how = "ok (reused)" if row.get("skipped") else row["status"]
             tail = (f": {row['error']}" if failed else "" if row.get("skipped")
                     else f" ({row['elapsed_s']:.1f} s)")
-            self._say(f"ttsp batch: [{self.done}/{self.total}] {row['id']} {how}{tail}")
+            self._say(f"ttsp batch: [{self.done}/{self.total}] {row['id']} {how}{tail}"
+                      f"{self._left()}")
 
     def close(self) -> None:
         if self._bar is not None:
@@ -743,6 +777,11 @@ def _run_local(payloads, workers: int, task, on_done) -> None:
         except BaseException as exc:  # Ctrl-C: let running builds finish, record them, stop
             if isinstance(exc, Terminated):  # the rest; SIGTERM: stop every worker now
                 _stop_workers(pool)
+            else:   # said at once: the running builds may take a while
+                running = min(workers, sum(1 for f in inflight if f.running()))
+                print(f"ttsp batch: interrupted: finishing {running} running, then stopping "
+                      f"(the rest stays to do: run the same command again to resume)",
+                      file=sys.stderr, flush=True)
             pool.shutdown(wait=True, cancel_futures=True)
             for fut, payload in inflight.items():
                 if fut.done() and not fut.cancelled() and fut.exception() is None:
@@ -971,7 +1010,7 @@ def _run_items(items, out: Path, *, workers, figures, force, scheduler, client, 
         reporter.advance(row)
 
     try:
-        pending = []
+        pending, finished = [], []   # finished: reported after the start line
         for item in items:
             folder = out / item.id
             t0 = time.perf_counter()
@@ -984,15 +1023,21 @@ def _run_items(items, out: Path, *, workers, figures, force, scheduler, client, 
             try:
                 payload["input_sha256"] = sha = hash_inputs(item.paths)
             except Exception as exc:  # a missing or unreadable input: this campaign fails
-                on_done(_failed_row(payload, _error_text(exc), time.perf_counter() - t0))
+                finished.append(_failed_row(payload, _error_text(exc), time.perf_counter() - t0))
                 continue
             summary = None if force else _reusable(item, folder, sha, figures)
             if summary is not None:
-                on_done(_row_from_summary(payload, summary, skipped=True,
-                                          elapsed_s=time.perf_counter() - t0))
+                finished.append(_row_from_summary(payload, summary, skipped=True,
+                                                  elapsed_s=time.perf_counter() - t0))
             else:
                 pending.append(payload)
-        if pending and (scheduler is not None or client is not None):
+        dask = scheduler is not None or client is not None
+        unreadable = sum(row["status"] != "ok" for row in finished)
+        reporter.start(len(finished) - unreadable, unreadable, len(pending),
+                       "a Dask cluster" if dask else (workers or _default_workers()))
+        for row in finished:
+            on_done(row)
+        if pending and dask:
             _run_dask(pending, scheduler, client, task, on_done)
         elif pending:
             with _single_threaded_blas():

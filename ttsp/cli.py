@@ -23,7 +23,11 @@ from ._validation import printable
 from .exceptions import DataError, TtspError
 from .runner import read_inputs, run_build
 
-app = typer.Typer(add_completion=False, no_args_is_help=True,
+from . import _help_words
+
+_help_words.apply()
+# plain help: rich's option table cuts long option names at 80 columns
+app = typer.Typer(add_completion=False, no_args_is_help=True, rich_markup_mode=None,
                   help="Time–temperature superposition: master curves, shift laws, Prony series.")
 
 EXIT_OK, EXIT_INTERNAL, EXIT_BAD_INPUT, EXIT_CHECK_FAILED = 0, 1, 2, 3
@@ -214,6 +218,11 @@ class Material(str, Enum):
     liquid = "liquid"
 
 
+class Units(str, Enum):
+    SI = "SI"
+    engineering = "engineering"
+
+
 class Quantity(str, Enum):
     relaxation_modulus = "relaxation_modulus"
     creep_compliance = "creep_compliance"
@@ -224,7 +233,8 @@ class Quantity(str, Enum):
 
 def _options(reference_temperature, law, vertical, expansion_coefficient, shift_on, gaps,
              prony_density, glass_transition, spectrum=False, master_curve=MasterCurve.auto,
-             cross_validation=True, material=Material.solid):
+             cross_validation=True, material=Material.solid, exclude=None, fix_shift=None,
+             service_temperature=None, isochrone_frequency=None):
     from .workflow import BuildOptions
 
     return BuildOptions(reference_temperature_C=reference_temperature, law=law.value,
@@ -232,7 +242,41 @@ def _options(reference_temperature, law, vertical, expansion_coefficient, shift_
                         shift_on=shift_on.value, gaps=gaps.value,
                         prony_terms_per_decade=prony_density, glass_transition_C=glass_transition,
                         spectrum=spectrum, master_curve=master_curve.value,
-                        cross_validation=cross_validation, material=material.value)
+                        cross_validation=cross_validation, material=material.value,
+                        exclude_C=tuple(exclude or ()),
+                        fixed_log10_aT=_fixed_shifts(fix_shift),
+                        service_temperature_C=service_temperature,
+                        isochrone_frequency_Hz=_one_frequency(isochrone_frequency))
+
+
+def _one_frequency(text) -> float:
+    """``--isochrone-frequency`` (``1``, ``10Hz``, ``0.1 kHz``) in Hz; 1 Hz when not given."""
+    if text is None:
+        return 1.0
+    from .axis_text import FREQUENCY_UNITS_HZ, parse_axis
+
+    try:
+        values = parse_axis(text, FREQUENCY_UNITS_HZ)
+    except ValueError as exc:
+        raise typer.BadParameter(str(exc), param_hint="--isochrone-frequency") from None
+    if values.size != 1:
+        raise typer.BadParameter(f"must be one frequency; got {text!r}",
+                                 param_hint="--isochrone-frequency")
+    return float(values[0])
+
+
+def _fixed_shifts(values) -> dict:
+    """``--fix-shift T=LOG10_AT`` (repeatable; T in °C) as ``{T: log10 a_T}``."""
+    from .runner import parse_pairs
+
+    out = {}
+    for t, v in parse_pairs(values, "--fix-shift").items():
+        try:
+            out[float(t)] = float(v)
+        except ValueError:
+            raise typer.BadParameter(f"must look like T=LOG10_AT with T in °C (for example "
+                                     f"35=1.24); got {t}={v}", param_hint="--fix-shift") from None
+    return out
 
 
 def _check_lines(result) -> str:
@@ -273,6 +317,28 @@ def build_cmd(inputs: List[Path] = typer.Argument(..., help="Files or folders of
               material: Material = typer.Option(
                   Material.solid, "--material",
                   help="liquid (a melt: equilibrium modulus 0, creep with flow) or solid."),
+              exclude: Optional[List[float]] = typer.Option(
+                  None, "--exclude", metavar="T",
+                  help="Leave out the isotherm at T °C (within 0.5 K); repeatable."),
+              fix_shift: Optional[List[str]] = typer.Option(
+                  None, "--fix-shift", metavar="T=LOG10_AT",
+                  help="Hold the shift of the isotherm at T °C at log10 a_T (e.g. 35=1.24); "
+                       "repeatable."),
+              service_temperature: Optional[float] = typer.Option(
+                  None, "--service-temperature", metavar="T",
+                  help="Also tabulate E(t), D(t), E', E'', tan δ at T °C "
+                       "(service_functions.csv)."),
+              isochrone_frequency: Optional[str] = typer.Option(
+                  None, "--isochrone-frequency", metavar="FREQ",
+                  help="Frequency of the isochronal figure and its Tg readings (E' onset, "
+                       "E'' peak, tan δ peak); units mHz, Hz, kHz.  [default: 1Hz]"),
+              title: Optional[str] = typer.Option(
+                  None, "--title", help="Title of the report (default: the sample's name from "
+                                        "the input's metadata, else its file name)."),
+              units: Units = typer.Option(
+                  Units.SI, "--units",
+                  help="Units of the CSV tables: SI (Pa, 1/Pa) or engineering (MPa, 1/MPa); "
+                       "frequencies in Hz either way."),
               out: Path = typer.Option(Path("ttsp-out"), "--out", "-o", help="Output folder."),
               force: bool = typer.Option(False, "--force", help="Replace an existing output folder."),
               no_figures: bool = typer.Option(False, "--no-figures",
@@ -286,14 +352,17 @@ def build_cmd(inputs: List[Path] = typer.Argument(..., help="Files or folders of
     """Build the master curve, shift law, Prony series, material functions, checks and report."""
     options = _options(reference_temperature, law, vertical, expansion_coefficient, shift_on, gaps,
                        prony_density, glass_transition, spectrum, master_curve, cross_validation,
-                       material)
+                       material, exclude, fix_shift, service_temperature, isochrone_frequency)
     with _writing_to(out):
         result, folder = run_build(inputs, options, out, figures=not no_figures, force=force,
                                    quiet=quiet, column=column, unit=unit, sheet=sheet,
                                    tolerance=tolerance, modulus_kind=modulus_kind,
                                    temperature_from_name=temperature_from_name,
-                                   repeats=repeats)
+                                   repeats=repeats, title=title, units=units.value)
     typer.echo(str(folder / ("report.html" if not no_figures else "summary.json")))
+    from .terminal import build_summary_lines
+
+    typer.echo("\n".join(build_summary_lines(result)))
     if spectrum and result.relaxation_spectrum is None:
         why = next((w for w in result.warnings if "continuous relaxation spectrum" in w),
                    "the continuous relaxation spectrum was not fitted")
@@ -420,39 +489,84 @@ def load_model(path: Path):
         raise DataError(f"{file}: {exc}") from None
 
 
+def _temperature_messages(law, temperature_C: float, tolerance_K: float):
+    """Refuse a temperature at or below the law's divergence, and word the range warning, in °C.
+
+    The law's valid range runs between the mean temperatures of its outer isotherms; a
+    temperature within ``tolerance_K`` of an end (the tolerance that grouped the points into
+    isotherms) belongs to that isotherm and is not an extrapolation. Returns the warning or None.
+    """
+    t_K = temperature_C + 273.15
+    limit_of = getattr(law, "_lower_limit_K", None)
+    limit_K = None if limit_of is None else limit_of(law.params, law.reference_temperature_K)
+    if limit_K is not None and t_K <= limit_K:
+        name = getattr(law, "_limit_name", "the law's divergence").replace(" - ", " − ")
+        raise DataError(f"--temperature must be above {name} of the model's shift law, "
+                        f"{limit_K - 273.15:.2f} °C, where a_T has no value; got "
+                        f"{temperature_C:.6g} °C")
+    rng = law.valid_temperature_range_K
+    if rng is None or rng[0] - tolerance_K <= t_K <= rng[1] + tolerance_K:
+        return None
+    return (f"{temperature_C:.6g} °C lies outside the temperatures the {law.model} shift law was "
+            f"fitted to ({rng[0] - 273.15:.2f} to {rng[1] - 273.15:.2f} °C): the values are "
+            f"extrapolated")
+
+
+_LAW_RANGE_WARNING = "temperatures lie outside the valid range"
+
+
 @app.command("predict")
 @guarded
 def predict_cmd(model: Path = typer.Argument(..., help="summary.json of a build, or its folder."),
-                quantity: Quantity = typer.Option(..., "--quantity", help="Material function."),
+                quantity: Quantity = typer.Option(
+                    ..., "--quantity", metavar="Q", show_choices=False,
+                    help="Material function: " + ", ".join(q.value for q in Quantity) + "."),
                 temperature: float = typer.Option(..., "--temperature", help="Temperature in °C."),
-                time_grid: Optional[str] = typer.Option(None, "--time", metavar="a:b:n",
-                                                        help="n log-spaced times from a to b s."),
+                time_grid: Optional[str] = typer.Option(
+                    None, "--time", metavar="TIME|a:b:n",
+                    help="One time (10y, 3.156e8, 2h) or n log-spaced times from a to b "
+                         "(1s:10y:50); units s, min, h, d, y (default s)."),
                 frequency_grid: Optional[str] = typer.Option(
-                    None, "--frequency", metavar="a:b:n", help="n log-spaced frequencies, a to b Hz."),
+                    None, "--frequency", metavar="FREQ|a:b:n",
+                    help="One frequency (1Hz, 2kHz) or n log-spaced frequencies from a to b "
+                         "(0.01:100:50); units mHz, Hz, kHz (default Hz)."),
+                tolerance: float = TOL_OPT,
                 out: Optional[Path] = typer.Option(None, "--out", "-o",
                                                    help="CSV file (default: stdout).")):
     """A material function at any temperature from a build's master curve and shift law."""
     import warnings
 
+    from .axis_text import FREQUENCY_UNITS_HZ, TIME_UNITS_S, parse_axis
+    from .exceptions import ExtrapolationWarning
     from .model import TIME_QUANTITIES
     from .workflow import predict
 
     if (time_grid is None) == (frequency_grid is None):
-        raise typer.BadParameter("give exactly one of --time a:b:n or --frequency a:b:n",
+        raise typer.BadParameter("give exactly one of --time or --frequency",
                                  param_hint="--time/--frequency")
     is_time = quantity.value in TIME_QUANTITIES
     if is_time and time_grid is None:
-        raise typer.BadParameter(f"{quantity.value} is a function of time: use --time a:b:n",
+        raise typer.BadParameter(f"{quantity.value} is a function of time: use --time",
                                  param_hint="--time")
     if not is_time and frequency_grid is None:
-        raise typer.BadParameter(f"{quantity.value} is a function of frequency: use --frequency a:b:n",
+        raise typer.BadParameter(f"{quantity.value} is a function of frequency: use --frequency",
                                  param_hint="--frequency")
-    grid = parse_grid(time_grid or frequency_grid, "--time" if is_time else "--frequency")
+    option = "--time" if is_time else "--frequency"
+    try:
+        grid = parse_axis(time_grid or frequency_grid,
+                          TIME_UNITS_S if is_time else FREQUENCY_UNITS_HZ)
+    except ValueError as exc:
+        raise typer.BadParameter(str(exc), param_hint=option) from None
     m = load_model(model)
+    outside = _temperature_messages(m.law, float(temperature), tolerance)
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always")
         frame = predict(m, quantity.value, float(temperature),
                         **({"time_s": grid} if is_time else {"frequency_Hz": grid}))
+        if outside is not None:
+            warnings.warn(outside, ExtrapolationWarning)
+    # the law's own range warning is in kelvin and has no tolerance: ours above replaces it
+    caught = [w for w in caught if _LAW_RANGE_WARNING not in str(w.message)]
     _emit_table(frame, out, caught)
 
 
@@ -528,6 +642,9 @@ def main():
     except Exception as exc:
         if hasattr(exc, "format_message") and isinstance(getattr(exc, "exit_code", None), int):
             ctx = getattr(exc, "ctx", None)
+            if type(exc).__name__ == "NoArgsIsHelpError" and ctx is not None:
+                typer.echo(ctx.get_help())   # a bare 'ttsp': the help, on stdout, as it is
+                sys.exit(exc.exit_code)
             name = f"ttsp {ctx.info_name}" if ctx is not None and ctx.parent is not None else "ttsp"
             hint = f" (see '{name} --help')" if exc.exit_code == EXIT_BAD_INPUT else ""
             message = " ".join(exc.format_message().split())

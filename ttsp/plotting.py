@@ -605,7 +605,7 @@ def plot_master_curve(result, ax=None):
             if outlier.any():
                 ax.plot(x[outlier] / xfactor, y[outlier] / yfactor, ls="none", marker="x", ms=5,
                         color=_GREY, mew=1.0, zorder=3)
-        n_outliers += int(outlier.sum()) * len(quantities)
+        n_outliers += int(outlier.sum())   # points, as the outliers check counts them
     # the fitted model at the reference temperature, half a decade beyond the data at most
     xs_all = np.concatenate(xs_all)
     lo, hi = float(xs_all.min()) / 10 ** 0.5, float(xs_all.max()) * 10 ** 0.5
@@ -632,7 +632,7 @@ def plot_master_curve(result, ax=None):
             handles.append(_extrapolation_handle())
     if n_outliers:
         handles.append(Line2D([], [], ls="none", marker="x", color=_GREY,
-                              label=f"flagged outliers ({n_outliers})"))
+                              label=f"flagged outlier points ({n_outliers})"))
     _style(ax, logx=True, logy=ylog)
     ax.set_xlabel(_reduced_x_label(campaign, xunit))
     ax.set_ylabel(ylabel)
@@ -674,6 +674,37 @@ def _shift_flags(result, temperature_K):
     return [by_t.get(round(float(t), 6), ()) for t in temperature_K]
 
 
+def _widen(mask):
+    """``mask`` grown by one sample each way, so a dashed part meets the solid one."""
+    out = mask.copy()
+    out[1:] |= mask[:-1]
+    out[:-1] |= mask[1:]
+    return out
+
+
+def _law_over_isotherms(law_fit, rng, t_K):
+    """The law on a grid over its fitted range and every isotherm it is used for.
+
+    Returns ``(grid_K, inside, curve, band, at_isotherms)``: ``inside`` marks the grid points
+    within the fitted range ``rng`` (K); ``band`` is the law's ± one standard error (or None);
+    ``at_isotherms`` is log10 a_T of the law at ``t_K`` itself, unclipped. Beyond the fitted
+    range the law is an extrapolation; its warning is not repeated for a figure.
+    """
+    import warnings
+
+    from .exceptions import ExtrapolationWarning
+
+    lo, hi = min(rng[0], float(np.min(t_K))), max(rng[1], float(np.max(t_K)))
+    grid_K = np.union1d(np.linspace(lo, hi, 241), [rng[0], rng[1]])
+    inside = (grid_K >= rng[0]) & (grid_K <= rng[1])
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", ExtrapolationWarning)
+        curve = np.asarray(law_fit.law.log10_aT(grid_K), dtype=float)
+        band = law_prediction_stderr(law_fit, grid_K)
+        at_isotherms = np.asarray(law_fit.law.log10_aT(t_K), dtype=float)
+    return grid_K, inside, curve, band, at_isotherms
+
+
 def plot_shift_factors(result, ax=None, residual_ax=None):
     """log10 a_T against temperature: the shifts found (± one standard error) and the fitted
     law with its ± one-standard-error band propagated from the parameter covariance; below it,
@@ -707,15 +738,17 @@ def plot_shift_factors(result, ax=None, residual_ax=None):
     law_fit = result.law_fit
     law = law_fit.law
     rng = law.valid_temperature_range_K or (float(t_K.min()), float(t_K.max()))
-    grid_K = np.linspace(rng[0], rng[1], 241)
-    curve = np.asarray(law.log10_aT(grid_K), dtype=float)
-    band = law_prediction_stderr(law_fit, grid_K)
+    grid_K, inside, curve, band, fitted = _law_over_isotherms(law_fit, rng, t_K)
     grid_C = kelvin_to_celsius(grid_K)
     name = _LAW_NAMES.get(law.model, law.model)
     if band is not None:
-        ax.fill_between(grid_C, curve - band, curve + band, color=_BLUE, alpha=0.22, lw=0,
-                        label=f"{name} ± 1 s.e.", zorder=1)
-    ax.plot(grid_C, curve, color=_BLUE, lw=1.6, label=f"{name} law, fitted", zorder=2)
+        ax.fill_between(grid_C, curve - band, curve + band, where=inside, color=_BLUE,
+                        alpha=0.22, lw=0, label=f"{name} ± 1 s.e.", zorder=1)
+    ax.plot(grid_C, np.where(inside, curve, np.nan), color=_BLUE, lw=1.6,
+            label=f"{name} law, fitted", zorder=2)
+    if not inside.all():   # the law over isotherms beyond its fitted range (bridged ones)
+        ax.plot(grid_C, np.where(_widen(~inside), curve, np.nan), color=_BLUE, lw=1.3,
+                ls=(0, (4, 2.5)), label=f"{name} law, extrapolated", zorder=2)
     flags = _shift_flags(result, t_K)
     bridged = np.array(["bridged" in f for f in flags], dtype=bool)
     weak = np.array(["low-information" in f for f in flags], dtype=bool) & ~bridged
@@ -743,11 +776,12 @@ def plot_shift_factors(result, ax=None, residual_ax=None):
     if residual_ax is None:
         ax.set_xlabel("Temperature T (°C)")
         return ax
-    # residuals of the shifts about the law, with the law's own uncertainty as a band
-    fitted = np.asarray(law.log10_aT(np.clip(t_K, rng[0], rng[1])), dtype=float)
+    # residuals of the shifts about the law used for each isotherm (beyond the law's fitted
+    # range too: a bridged isotherm is placed by it), with the law's own uncertainty as a band
     resid = log_a - fitted
     if band is not None:
-        residual_ax.fill_between(grid_C, -band, band, color=_BLUE, alpha=0.22, lw=0, zorder=1)
+        residual_ax.fill_between(grid_C, -band, band, where=inside, color=_BLUE, alpha=0.22,
+                                 lw=0, zorder=1)
     residual_ax.axhline(0.0, color=_BLUE, lw=1.2, zorder=2)
     for mask, marker, colour, _label in groups:
         if mask.any():
@@ -761,7 +795,8 @@ def plot_shift_factors(result, ax=None, residual_ax=None):
     # scaled to the residuals (and the band), not to the error bars of poorly determined shifts,
     # which may run off the panel
     lim = float(np.nanmax(np.abs(resid))) if resid.size else 0.0
-    lim = max(lim * 1.4, float(np.nanmax(band)) * 1.25 if band is not None else 0.0, 0.01)
+    lim = max(lim * 1.4, float(np.nanmax(band[inside])) * 1.25 if band is not None else 0.0,
+              0.01)
     residual_ax.set_ylim(-lim, lim)
     return ax
 
@@ -1158,13 +1193,22 @@ def render_campaign_figures(campaign) -> dict:
             "superposition_check": plot_superposition_check(campaign).figure}
 
 
+def _plot_isochrone(result):
+    from .plot_isochrone import plot_isochrone
+
+    return plot_isochrone(result)
+
+
 def figure_names(result) -> tuple:
     """The names of the figures of this build: :data:`FIGURE_NAMES`, plus
-    ``relaxation_spectrum`` when the build fitted the continuous spectrum and
+    ``relaxation_spectrum`` when the build fitted the continuous spectrum,
+    ``isochrone`` for frequency data (E', E'', tan δ against T with the Tg readings) and
     ``cross_validation`` when it predicted at least one held-out isotherm."""
     extra = []
     if getattr(result, "relaxation_spectrum", None) is not None:
         extra.append("relaxation_spectrum")
+    if getattr(result, "glass_transition", None) is not None:
+        extra.append("isochrone")
     cv = getattr(result, "cross_validation", None)
     if cv is not None and any(np.isfinite(h.rms_percent_at_law_aT.get("all", np.nan))
                               for h in cv.per_isotherm):
@@ -1190,6 +1234,7 @@ def render_figures(result, names=None) -> dict:
         "relaxation_spectrum": lambda: plot_relaxation_spectrum(
             result.relaxation_spectrum, series=result.series)[0].figure,
         "cross_validation": lambda: plot_cross_validation(result).figure,
+        "isochrone": lambda: _plot_isochrone(result).figure,
     }
     available = figure_names(result)
     wanted = available if names is None else tuple(names)

@@ -42,6 +42,7 @@ _SECTION_OF_FIGURE = {
     "relaxation_spectrum": "prony",
     "time_functions": "functions",
     "frequency_functions": "functions",
+    "isochrone": "functions",
     "cross_validation": "cross_validation",
 }
 
@@ -84,6 +85,11 @@ FIGURE_CAPTIONS = {
         "Storage modulus {E}′, loss modulus {E}″ and tan δ at T<sub>ref</sub> = {tref} over reduced "
         "frequency, computed from the Prony series; shaded and dashed where extrapolated beyond "
         "the data."),
+    "isochrone": (
+        "Isochrone: {E}′, {E}″ and tan δ against temperature at one frequency, from the Prony "
+        "series and the shift law over the temperatures the law was fitted to, with the glass "
+        "transition read three ways: onset of the {E}′ drop (tangents at the cold end and at the "
+        "steepest descent), peak of {E}″ and peak of tan δ."),
     "cross_validation": (
         "Interior isotherms, each predicted by a build without it: rms relative error of the "
         "predicted moduli at the shift factor the law gives (filled circles) and at the best "
@@ -132,6 +138,8 @@ _OPTIONS = {
     "gaps": "Isotherms that do not overlap",
     "prony_terms_per_decade": "Prony terms per decade",
     "glass_transition_C": "Glass transition given (°C)",
+    "exclude_C": "Isotherms left out (°C)",
+    "fixed_log10_aT": "Shifts fixed by hand (log10 a_T at °C)",
 }
 
 
@@ -281,7 +289,11 @@ def _options(result) -> list:
     rows = []
     for key, value in result.options.to_dict().items():
         label = _OPTIONS.get(key, key)
-        if value is None:
+        if key == "exclude_C":
+            text = ", ".join(f"{t:g} °C" for t in value) or "none"
+        elif key == "fixed_log10_aT":
+            text = ", ".join(f"{t} °C: {v:.4g}" for t, v in value.items()) or "none"
+        elif value is None:
             text = ("default: the measured temperature nearest the median"
                     if key == "reference_temperature_C" else "not given")
         else:
@@ -534,7 +546,8 @@ def _glass_transition(result) -> dict | None:
 
     return {
         "frequency": _num(d.get("frequency_Hz"), 3),
-        "rows": [(f"Peak of {letter}″", cell("loss_peak_from_model_C"),
+        "rows": [(f"Onset of the {letter}′ drop", cell("storage_onset_from_model_C"), "–"),
+                 (f"Peak of {letter}″", cell("loss_peak_from_model_C"),
                   cell("loss_peak_from_isotherms_C")),
                  ("Peak of tan δ", cell("tan_delta_peak_from_model_C"),
                   cell("tan_delta_peak_from_isotherms_C"))],
@@ -542,9 +555,20 @@ def _glass_transition(result) -> dict | None:
     }
 
 
-def _title(result) -> str:
-    meta = {str(k).lower(): str(v) for k, v in dict(result.campaign.metadata).items()}
-    for key in ("material", "sample", "specimen name", "name"):
+#: metadata keys (lower case, as read from the lines above the header) that name the sample,
+#: in order of preference; "specimen" alone often holds its dimensions, so it is not one
+TITLE_KEYS = ("title", "sample name", "sample", "sample id", "specimen name", "specimen id",
+              "material", "name")
+
+
+def _title(result, title=None) -> str:
+    """The page's title: ``title`` when given, else the sample's name from the input's
+    metadata, else the input's file or folder name."""
+    if title is not None and str(title).strip():
+        return " ".join(str(title).split())
+    meta = {" ".join(str(k).lower().split()): str(v).strip()
+            for k, v in dict(result.campaign.metadata).items()}
+    for key in TITLE_KEYS:
         if meta.get(key):
             return meta[key]
     source = result.campaign.source or "campaign"
@@ -596,7 +620,7 @@ def _load_template():
     return env.from_string(text)
 
 
-def render_report(result, figures_svg: dict, *, created_utc: str) -> str:
+def render_report(result, figures_svg: dict, *, created_utc: str, title: str | None = None) -> str:
     """The report of a build as one self-contained HTML page (a string).
 
     Parameters
@@ -610,6 +634,9 @@ def render_report(result, figures_svg: dict, *, created_utc: str) -> str:
     created_utc : str
         Time of creation as the caller wants it shown (ISO 8601, e.g. ``2024-05-01T12:00:00Z``).
         It is the only part of the page that changes between two runs on the same input.
+    title : str, optional
+        The page's title; default: the sample's name from the input's metadata (keys
+        :data:`TITLE_KEYS`), else the input's file or folder name.
 
     Returns
     -------
@@ -629,7 +656,7 @@ def render_report(result, figures_svg: dict, *, created_utc: str) -> str:
         raise bad_value("created_utc", "a string (ISO 8601 time)", created_utc)
     figures = _figures(result, figures_svg)
     context = {
-        "title": _title(result),
+        "title": _title(result, title),
         "tool_version": __version__,
         "input_sha256": result.input_sha256,
         "created_utc": created_utc,

@@ -206,12 +206,15 @@ def draw_figures(result, folder, *, parallel: bool = True, early=None) -> dict:
 def run_build(inputs, options, out: Path, *, figures: bool, force: bool, quiet: bool,
               column=None, unit=None, sheet=None, tolerance=0.5, modulus_kind=None,
               parallel_figures: bool = True, kind: str = "build", replaces=None,
-              temperature_from_name: bool = False, repeats: str = "merge"):
+              temperature_from_name: bool = False, repeats: str = "merge",
+              title: str | None = None, units: str = "SI"):
     """Read, build and write one campaign's outputs atomically. Returns (result, out folder).
 
     The output folder is checked (and locked) before the fit starts, so a folder that may not be
     written is refused before any time is spent; ``kind`` and ``replaces`` are passed to
-    :func:`ttsp.io.atomic.atomic_output_dir`.
+    :func:`ttsp.io.atomic.atomic_output_dir`; ``title`` is the report's (default: the sample's
+    name from the input's metadata); ``units`` those of the CSV tables (``SI`` or
+    ``engineering``).
     """
     from .io.atomic import atomic_output_dir
     from .io.writers import write_build_numbers
@@ -239,7 +242,7 @@ def run_build(inputs, options, out: Path, *, figures: bool, force: bool, quiet: 
                     raise DataError(f"{source}: {exc}") from None
                 raise
             progress("writing")
-            write_build_numbers(result, tmp, created_utc=created)
+            write_build_numbers(result, tmp, created_utc=created, units=units)
             if figures:
                 from .report import render_report
 
@@ -247,7 +250,8 @@ def run_build(inputs, options, out: Path, *, figures: bool, force: bool, quiet: 
                 early = None
                 svg = {name: Path(paths["svg"]).read_text(encoding="utf-8")
                        for name, paths in saved.items()}
-                (tmp / "report.html").write_text(render_report(result, svg, created_utc=created),
+                (tmp / "report.html").write_text(render_report(result, svg, created_utc=created,
+                                                               title=title),
                                                  encoding="utf-8")
         finally:
             discard_campaign_figures(early)

@@ -51,7 +51,7 @@ from ._validation import bad_value, check_positive
 from .exceptions import DataError, ExtrapolationWarning
 from .units import ZERO_CELSIUS_K
 
-__all__ = ["GlassTransitionEstimate", "estimate_glass_transition"]
+__all__ = ["GlassTransitionEstimate", "estimate_glass_transition", "storage_onset"]
 
 #: Coarsest temperature step (K) of the grid on which the model isochrone is searched.
 _GRID_STEP_K = 0.1
@@ -98,6 +98,10 @@ class GlassTransitionEstimate:
         Why an estimate is missing, which isotherms were not used, extrapolations.
     temperature_range_K : (float, float) or None
         The temperature range (K) over which the model isochrone was searched.
+    storage_onset_from_model_K : float or None
+        Onset of the drop of E'(T) at f (K): where the tangent to log10 E' at the cold end of
+        the searched range meets the tangent at its steepest descent (:func:`storage_onset`);
+        None when the cold end does not reach the glassy plateau or E' does not fall.
     """
 
     frequency_Hz: float
@@ -107,6 +111,7 @@ class GlassTransitionEstimate:
     tan_delta_peak_from_isotherms_K: float | None
     notes: tuple = ()
     temperature_range_K: tuple | None = None
+    storage_onset_from_model_K: float | None = None
 
     _FIELDS = ("loss_peak_from_model", "tan_delta_peak_from_model",
                "loss_peak_from_isotherms", "tan_delta_peak_from_isotherms")
@@ -122,6 +127,9 @@ class GlassTransitionEstimate:
         out["temperature_range_K"] = None if rng is None else [float(rng[0]), float(rng[1])]
         out["temperature_range_C"] = (None if rng is None
                                       else [_celsius(rng[0]), _celsius(rng[1])])
+        out["storage_onset_from_model_K"] = (None if self.storage_onset_from_model_K is None
+                                             else float(self.storage_onset_from_model_K))
+        out["storage_onset_from_model_C"] = _celsius(self.storage_onset_from_model_K)
         out["notes"] = [str(n) for n in self.notes]
         return out
 
@@ -162,6 +170,61 @@ class GlassTransitionEstimate:
 # ----------------------------------------------------------------------------------------
 # helpers
 # ----------------------------------------------------------------------------------------
+#: the cold end counts as glassy when log10 E' falls there at most this fraction as fast as
+#: at its steepest (a plateau is flat; a choice of this module, no standard gives a number)
+GLASSY_SLOPE_FRACTION = 0.2
+
+
+def storage_onset(temperature_K, storage_modulus_Pa) -> tuple[float | None, str | None]:
+    """Onset of the E' drop on an isochrone: the temperature where the tangent to log10 E'(T)
+    at the cold end meets the tangent at the steepest descent (the tangent-intersection
+    construction of ASTM E1640, on log10 E').
+
+    With y = log10 E', the baseline y_0 + s_0 (T − T_0) at the coldest point and the tangent
+    y_i + s_i (T − T_i) at the steepest point (slopes by central differences) meet at
+    T_on = T_i + (y_0 − y_i + s_0 (T_i − T_0)) / (s_i − s_0)  (the two lines set equal).
+
+    Parameters
+    ----------
+    temperature_K : array of float
+        Ascending temperatures (K), evenly spaced.
+    storage_modulus_Pa : array of float
+        E' (Pa) at those temperatures and one frequency.
+
+    Returns
+    -------
+    (float or None, str or None)
+        The onset (K), or None with the reason.
+    """
+    T = np.asarray(temperature_K, dtype=float)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        y = np.log10(np.asarray(storage_modulus_Pa, dtype=float))
+    if T.size < 5 or not np.all(np.isfinite(y)):
+        return None, "E' is not positive and finite over the range"
+    slope = np.gradient(y, T)
+    i = int(np.argmin(slope))
+    if slope[i] >= 0 or i in (0, T.size - 1):
+        return None, "E' does not fall inside the range"
+    if abs(slope[0]) > GLASSY_SLOPE_FRACTION * abs(slope[i]):
+        return None, ("the cold end of the range is not on the glassy plateau (E' falls there "
+                      f"{abs(slope[0]) / abs(slope[i]):.0%} as fast as at its steepest)")
+    onset = T[i] + (y[0] - y[i] + slope[0] * (T[i] - T[0])) / (slope[i] - slope[0])
+    return float(onset), None
+
+
+def _model_onset(model, frequency_Hz, T_lo, T_hi, notes) -> float | None:
+    n = int(min(_GRID_MAX_POINTS, max(_GRID_MIN_POINTS,
+                                      math.ceil((T_hi - T_lo) / _GRID_STEP_K) + 1)))
+    T = np.linspace(T_lo, T_hi, n)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", ExtrapolationWarning)
+        values = np.asarray(model.isochrone("storage_modulus", T, frequency_Hz), dtype=float)
+    onset, why = storage_onset(T, values)
+    if onset is None:
+        notes.append(f"model E' onset: none at {frequency_Hz:g} Hz: {why}")
+    return onset
+
+
 def _parabola_vertex(x: np.ndarray, y: np.ndarray) -> float | None:
     """Abscissa of the vertex of the parabola through three points (x need not be evenly
     spaced); None when the points are not distinct or do not curve downward."""
@@ -378,5 +441,7 @@ def estimate_glass_transition(model, campaign=None, *, frequency_Hz: float = 1.0
         for _quantity, column, label, stem in _QUANTITIES:
             found[stem + "_from_isotherms_K"] = _isotherm_peak(derived, column, label, f, notes)
 
+    onset = _model_onset(model, f, T_lo, T_hi, notes)
     return GlassTransitionEstimate(frequency_Hz=f, notes=tuple(notes),
-                                   temperature_range_K=(T_lo, T_hi), **found)
+                                   temperature_range_K=(T_lo, T_hi),
+                                   storage_onset_from_model_K=onset, **found)

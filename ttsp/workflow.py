@@ -71,6 +71,17 @@ class BuildOptions:
         with E' and E''; :func:`ttsp.spectrum.fit_relaxation_spectrum`): written to
         ``relaxation_spectrum.csv`` and drawn in the report. Off by default (it adds a
         regularised fit with a scan of its strength to every build).
+    exclude_C : tuple of float
+        Isotherms (°C, each within 0.5 K of a measured one) left out of the build.
+    isochrone_frequency_Hz : float
+        Frequency (Hz) of the isochrone and of the glass transition read from it (default 1).
+    service_temperature_C : float, optional
+        A temperature (°C) at which the material functions are also tabulated
+        (:meth:`BuildResult.material_functions_frame`, ``service_functions.csv``).
+    fixed_log10_aT : mapping of float to float
+        ``{temperature_C: log10 a_T}`` shifts held at given values; the others are fitted around
+        them (:func:`ttsp.shifting.shift_isotherms`). Keys may be numbers or their text (as
+        ``to_dict()`` writes them, for JSON).
     """
 
     reference_temperature_C: float | None = None
@@ -85,8 +96,16 @@ class BuildOptions:
     master_curve: str = "auto"
     cross_validation: bool = True
     material: str = "solid"
+    exclude_C: tuple = ()
+    fixed_log10_aT: tuple = ()
+    service_temperature_C: float | None = None
+    isochrone_frequency_Hz: float = 1.0
 
     def __post_init__(self):
+        from .selection import normalise_exclude, normalise_fixed
+
+        object.__setattr__(self, "exclude_C", normalise_exclude(self.exclude_C))
+        object.__setattr__(self, "fixed_log10_aT", normalise_fixed(self.fixed_log10_aT))
         check_choice("law", self.law, LAW_CHOICES)
         check_choice("material", self.material, MATERIAL_CHOICES)
         check_choice("master_curve", self.master_curve, MASTER_CURVE_CHOICES)
@@ -100,12 +119,21 @@ class BuildOptions:
                 and 0.25 <= self.prony_terms_per_decade <= 10):
             raise bad_value("prony_terms_per_decade", "between 0.25 and 10",
                             self.prony_terms_per_decade)
-        if self.reference_temperature_C is not None and not math.isfinite(
-                float(self.reference_temperature_C)):
-            raise bad_value("reference_temperature_C", "finite", self.reference_temperature_C)
+        f = self.isochrone_frequency_Hz
+        if not (isinstance(f, (int, float)) and math.isfinite(float(f)) and f > 0):
+            raise bad_value("isochrone_frequency_Hz", "a positive frequency in Hz", f)
+        for name in ("reference_temperature_C", "service_temperature_C"):
+            value = getattr(self, name)
+            if value is not None and not (isinstance(value, (int, float))
+                                          and math.isfinite(float(value))):
+                raise bad_value(name, "a finite temperature in °C", value)
 
     def to_dict(self) -> dict:
-        return asdict(self)
+        """The settings as JSON-ready values (temperatures of fixed shifts as text keys)."""
+        out = asdict(self)
+        out["exclude_C"] = list(self.exclude_C)
+        out["fixed_log10_aT"] = {f"{t:.10g}": v for t, v in self.fixed_log10_aT}
+        return out
 
     def _repr_html_(self) -> str:
         from html import escape
@@ -201,17 +229,23 @@ class BuildResult:
         """Every input point with its reduced x and shifted values (none dropped)."""
         return self.shifts.shifted_frame(self.campaign)
 
-    def material_functions_frame(self, points_per_decade: int = 10):
+    def material_functions_frame(self, points_per_decade: int = 10, temperature_C=None):
         """E(t), D(t), E', E'', tan δ at the reference temperature on one log grid.
 
         Row i holds the time t_i and the frequency f_i = 1/(2π t_i) (so ω_i = 1/t_i), over the
         series' valid reduced range widened by one decade each side (those rows are flagged).
+        With ``temperature_C`` the same functions at that temperature (through the model's
+        a_T and b_T, :class:`ttsp.model.ViscoelasticModel`), over the same reduced range
+        (times t_i·a_T); rows are flagged ``extrapolated`` outside the reduced range, and all
+        rows when the temperature lies outside the shift law's fitted range.
         """
         import pandas as pd
 
         lo, hi = self.series.valid_reduced_time_range_s
         t = np.logspace(math.log10(lo) - 1, math.log10(hi) + 1,
                         int(round((math.log10(hi) - math.log10(lo) + 2) * points_per_decade)) + 1)
+        if temperature_C is not None:
+            return self._functions_at(t, float(temperature_C))
         omega = 1.0 / t
         creep = self.model.creep_series
         frame = pd.DataFrame({
@@ -225,6 +259,35 @@ class BuildResult:
             "extrapolated": outside_log_range(t, lo, hi),
         })
         frame.attrs["reference_temperature_C"] = self.reference_temperature_C
+        return frame
+
+    def _functions_at(self, reduced_t, temperature_C: float):
+        import pandas as pd
+
+        from .exceptions import ExtrapolationWarning
+        from .selection import MATCH_K   # the isotherm tolerance: within it, not beyond
+
+        lo, hi = self.series.valid_reduced_time_range_s
+        T_K = float(celsius_to_kelvin(temperature_C))
+        rng = self.model.law.valid_temperature_range_K
+        beyond_law = rng is not None and not rng[0] - MATCH_K <= T_K <= rng[1] + MATCH_K
+        m = self.model
+        with warnings.catch_warnings():   # the 'extrapolated' column says where, row by row
+            warnings.simplefilter("ignore", ExtrapolationWarning)
+            t = reduced_t * 10.0 ** float(m.log10_aT(T_K))
+            f = 1.0 / (2 * math.pi * t)
+            frame = pd.DataFrame({
+                "temperature_C": np.full(t.size, temperature_C),
+                "time_s": t,
+                "relaxation_modulus_Pa": m.relaxation_modulus(t, T_K),
+                "creep_compliance_1_per_Pa": m.creep_compliance(t, T_K),
+                "frequency_Hz": f,
+                "storage_modulus_Pa": m.storage_modulus(f, T_K),
+                "loss_modulus_Pa": m.loss_modulus(f, T_K),
+                "tan_delta": m.tan_delta(f, T_K),
+                "extrapolated": outside_log_range(reduced_t, lo, hi) | beyond_law,
+            })
+        frame.attrs["temperature_C"] = temperature_C
         return frame
 
     # ---- the output contract -------------------------------------------------------------------
@@ -397,7 +460,10 @@ def build(campaign: Campaign, options: BuildOptions | None = None, *, input_sha2
         raise DataError("give either options=BuildOptions(...) or keyword options, not both")
     if not isinstance(campaign, Campaign):
         raise bad_value("campaign", "a ttsp Campaign (see ttsp.read_campaign)", type(campaign).__name__)
-    campaign = campaign.with_derived()
+    from .selection import fixed_shifts_K, without_isotherms
+
+    campaign = without_isotherms(campaign, options.exclude_C).with_derived()
+    fixed_shifts_K(campaign, dict(options.fixed_log10_aT))   # each names an isotherm
     if not set(campaign.quantities) - {"tan_delta", "phase_angle_rad"}:
         have, (e1, e2) = " and ".join(map(campaign.symbol, campaign.quantities)), map(
             campaign.symbol, ("storage_modulus_Pa", "loss_modulus_Pa"))
@@ -442,7 +508,8 @@ def build(campaign: Campaign, options: BuildOptions | None = None, *, input_sha2
         if campaign.domain == "frequency":
             from .transition import estimate_glass_transition
 
-            glass = estimate_glass_transition(model, campaign, frequency_Hz=1.0)
+            glass = estimate_glass_transition(model, campaign,
+                                              frequency_Hz=options.isochrone_frequency_Hz)
         held_out = None
         if options.cross_validation:
             from .crossval import cross_validate
@@ -487,8 +554,12 @@ def fit_steps(campaign: Campaign, options: BuildOptions, t_ref_K: float, step=No
     from .model import VerticalShift, ViscoelasticModel
     from .shifting import shift_isotherms
 
+    from .selection import fixed_shifts_K
+
     step = step or (lambda name: None)
     step("shift factors")
+    # a fold of the cross-validation may have left a fixed isotherm out
+    fixed_shifts = fixed_shifts_K(campaign, dict(options.fixed_log10_aT), strict=False) or None
 
     def fit_shifts(model_name):
         return shift_isotherms(
@@ -496,7 +567,7 @@ def fit_steps(campaign: Campaign, options: BuildOptions, t_ref_K: float, step=No
             quantities="tan_delta" if options.shift_on == "tan_delta" else "auto",
             vertical=options.vertical,
             expansion_coefficient_per_K=options.expansion_coefficient_per_K,
-            gaps=options.gaps, master_curve=model_name)
+            gaps=options.gaps, master_curve=model_name, fixed_log10_aT=fixed_shifts)
 
     requested = options.master_curve
     if requested == "auto" and options.shift_on != "tan_delta" and {

@@ -4,7 +4,7 @@ Text cells that a spreadsheet would execute as a formula are written with a lead
 (:func:`neutralise_formula`).
 
 Temperatures are written in °C (users' unit) beside kelvin where a table carries both; moduli in
-Pa, times in s, frequencies in Hz or rad/s as the column name says. Floats are written with 10
+Pa (or MPa with engineering units), times in s, frequencies in Hz in every file. Floats are written with 10
 significant digits, so identical runs give identical bytes.
 """
 
@@ -103,11 +103,15 @@ def _csv_quote(text: str) -> str:
     return text
 
 
-def write_build_numbers(result, folder, *, created_utc: str = "") -> dict:
+def write_build_numbers(result, folder, *, created_utc: str = "", units: str = "SI") -> dict:
     """Write the number files of a :class:`~ttsp.workflow.BuildResult` into ``folder``.
 
-    Returns a dict file name -> path.
+    ``units`` is ``"SI"`` (Pa, 1/Pa) or ``"engineering"`` (MPa, 1/MPa) for the CSV tables;
+    their frequencies are in Hz either way (:mod:`ttsp.io.output_units`), and summary.json stays
+    SI (its key ``csv_units`` says which the tables use). Returns a dict file name -> path.
     """
+    from .output_units import in_output_units
+
     folder = Path(folder)
     out = {}
 
@@ -115,13 +119,21 @@ def write_build_numbers(result, folder, *, created_utc: str = "") -> dict:
         write_text_atomic(folder / name, text)
         out[name] = folder / name
 
-    put("summary.json", summary_to_json_text(result.summary(created_utc=created_utc)))
-    put("shift_factors.csv", frame_to_csv_text(result.shifts.to_frame()))
-    put("master_curve.csv", frame_to_csv_text(result.master_curve_frame()))
-    put("prony.csv", frame_to_csv_text(result.series.to_frame()))
-    put("prony_finite_element.csv", frame_to_csv_text(result.series.finite_element_table()))
-    put("material_functions.csv", frame_to_csv_text(result.material_functions_frame()))
+    def table(name, frame):
+        put(name, frame_to_csv_text(in_output_units(frame, units)))
+
+    summary = result.summary(created_utc=created_utc)
+    summary["csv_units"] = units
+    put("summary.json", summary_to_json_text(summary))
+    table("shift_factors.csv", result.shifts.to_frame())
+    table("master_curve.csv", result.master_curve_frame())
+    table("prony.csv", result.series.to_frame())
+    table("prony_finite_element.csv", result.series.finite_element_table())
+    table("material_functions.csv", result.material_functions_frame())
     spectrum = getattr(result, "relaxation_spectrum", None)
     if spectrum is not None:     # optional (BuildOptions.spectrum), so not in NUMBER_FILES
-        put("relaxation_spectrum.csv", frame_to_csv_text(spectrum.to_frame()))
+        table("relaxation_spectrum.csv", spectrum.to_frame())
+    service = getattr(result.options, "service_temperature_C", None)
+    if service is not None:      # optional too (BuildOptions.service_temperature_C)
+        table("service_functions.csv", result.material_functions_frame(temperature_C=service))
     return out
