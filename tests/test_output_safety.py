@@ -14,7 +14,6 @@
 
 from __future__ import annotations
 
-import json
 import os
 import signal
 import subprocess
@@ -30,7 +29,7 @@ from ttsp.cli import app
 from ttsp.exceptions import DataError
 from ttsp.io import atomic, renames
 from ttsp.io.atomic import atomic_output_dir
-from ttsp.io.marker import MARKER, read_marker, why_not_replaceable, write_marker
+from ttsp.io.marker import MARKER, read_marker, why_not_replaceable
 
 from test_robustness import tree_hash, write_campaign
 
@@ -392,7 +391,7 @@ def test_killed_build_leaves_one_hidden_folder_and_the_next_run_tidies(tmp_path)
 def test_sigterm_during_a_build_exits_143_and_leaves_nothing_hidden(tmp_path):
     """SIGTERM unwinds the build like Ctrl-C: the previous output stays, the temporary folder,
     the lock file and the drawing processes go."""
-    from test_batch_safety import tagged_processes, wait_gone
+    from test_batch_safety import wait_gone
 
     campaign = write_campaign(tmp_path / "c.csv")
     out = made_output(tmp_path / "out")
