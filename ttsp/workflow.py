@@ -65,6 +65,10 @@ class BuildOptions:
         with E' and E''; :func:`ttsp.spectrum.fit_relaxation_spectrum`): written to
         ``relaxation_spectrum.csv`` and drawn in the report. Off by default (it adds a
         regularised fit with a scan of its strength to every build).
+    bands : bool
+        Make the bootstrap ensemble behind the uncertainty bands of every prediction
+        (:mod:`ttsp.bands`; stored in ``summary.json`` so that ``ttsp predict --band`` needs
+        no data). On by default; off saves its cost (64 non-negative refits of the series).
     """
 
     reference_temperature_C: float | None = None
@@ -78,11 +82,12 @@ class BuildOptions:
     spectrum: bool = False
     master_curve: str = "auto"
     cross_validation: bool = True
+    bands: bool = True
 
     def __post_init__(self):
         check_choice("law", self.law, LAW_CHOICES)
         check_choice("master_curve", self.master_curve, MASTER_CURVE_CHOICES)
-        for name in ("spectrum", "cross_validation"):
+        for name in ("spectrum", "cross_validation", "bands"):
             if not isinstance(getattr(self, name), bool):
                 raise bad_value(name, "True or False", getattr(self, name))
         check_choice("vertical", self.vertical, VERTICAL_CHOICES)
@@ -256,6 +261,8 @@ class BuildResult:
             "master_model": self.master_curve.to_dict() if self.master_curve is not None else None,
             "cross_validation": (self.cross_validation.to_dict()
                                  if self.cross_validation is not None else None),
+            "bands": (self.model.ensemble.to_dict()
+                      if getattr(self.model, "ensemble", None) is not None else None),
             "checks": [c.to_dict() for c in self.checks],
             "warnings": list(self.warnings),
         }
@@ -311,9 +318,9 @@ def _fit_points(frame, x_name: str, columns, limit: int):
     return used.iloc[evenly_spaced_indices(len(used), limit)]
 
 
-def _fit_prony(campaign: Campaign, shifts, options: BuildOptions):
-    from .prony import fit_prony_frequency, fit_prony_time
-
+def _prony_points(campaign: Campaign, shifts):
+    """The master-curve points the Prony fit uses, their abscissa name, columns and the time
+    quantity (None for frequency data)."""
     frame = shifts.shifted_frame(campaign)
     x_name = "reduced_frequency_rad_s" if campaign.domain == "frequency" else "reduced_time_s"
     if campaign.domain == "frequency":
@@ -324,7 +331,13 @@ def _fit_prony(campaign: Campaign, shifts, options: BuildOptions):
                     else "creep_compliance")
         columns = ["relaxation_modulus_Pa" if quantity == "relaxation_modulus"
                    else "creep_compliance_1_per_Pa"]
-    used = _fit_points(frame, x_name, columns, MAX_PRONY_POINTS)
+    return _fit_points(frame, x_name, columns, MAX_PRONY_POINTS), frame, x_name, columns, quantity
+
+
+def _fit_prony(campaign: Campaign, shifts, options: BuildOptions):
+    from .prony import fit_prony_frequency, fit_prony_time
+
+    used, frame, x_name, columns, quantity = _prony_points(campaign, shifts)
     if len(used) < 2:   # say what is wrong with the data, not that the solver got no abscissa
         from ._fit_points_diagnosis import explain_no_fit_points
 
@@ -426,6 +439,10 @@ def build(campaign: Campaign, options: BuildOptions | None = None, *, input_sha2
             from .transition import estimate_glass_transition
 
             glass = estimate_glass_transition(model, campaign, frequency_Hz=1.0)
+        if options.bands:
+            step("uncertainty bands")
+            model = replace(model, ensemble=_fit_bands(campaign, shifts, law_fit, prony_fit,
+                                                       options))
         held_out = None
         if options.cross_validation:
             from .crossval import cross_validate
@@ -503,6 +520,32 @@ def fit_steps(campaign: Campaign, options: BuildOptions, t_ref_K: float, step=No
                                  prony_fit.series.replace(reference_temperature_K=t_ref_K))
     model = ViscoelasticModel(prony_fit.series, law_fit.law, VerticalShift.from_shifts(shifts))
     return FittedSteps(shifts, choice, law_fit, prony_fit, model)
+
+
+#: Master-curve points the band's bootstrap refits each member to (evenly by rank): each of
+#: its members is one NNLS fit, and the band's spread does not need every point of a dense
+#: campaign.
+MAX_BAND_POINTS = 2_000
+
+
+def _fit_bands(campaign, shifts, law_fit, prony_fit, options):
+    """The bootstrap ensemble of :mod:`ttsp.bands` on the Prony fit's own points (None with a
+    warning when it cannot be made: a build is not sunk by an extra)."""
+    from .bands import fit_band_ensemble
+
+    used, _, x_name, columns, quantity = _prony_points(campaign, shifts)
+    used = used.iloc[evenly_spaced_indices(len(used), MAX_BAND_POINTS)]
+    try:
+        return fit_band_ensemble(used[x_name].to_numpy(),
+                                 {c: used[c].to_numpy() for c in columns},
+                                 used["isotherm"].to_numpy(), domain=campaign.domain,
+                                 series=prony_fit.series, shifts=shifts, law_fit=law_fit,
+                                 terms_per_decade=options.prony_terms_per_decade,
+                                 quantity=quantity, seed=0)
+    except (DataError, FitError) as exc:
+        warnings.warn(f"the uncertainty bands could not be made: {exc}", TtspWarning,
+                      stacklevel=3)
+        return None
 
 
 #: The continuous spectrum is fitted to at most this many master-curve points (evenly by rank
@@ -615,11 +658,22 @@ def check(campaign: Campaign, **option_values) -> tuple:
     return build(campaign, **option_values).checks
 
 
-def predict(model, quantity: str, temperature_C, *, time_s=None, frequency_Hz=None):
+def band_columns(quantity: str) -> tuple[str, str]:
+    """The names of the interval columns of a quantity: ``<quantity>_low_<unit>`` and
+    ``<quantity>_high_<unit>`` (``tan_delta_low``, ``tan_delta_high`` without a unit)."""
+    from .model import QUANTITY_COLUMNS
+
+    unit = QUANTITY_COLUMNS[quantity][len(quantity):]
+    return f"{quantity}_low{unit}", f"{quantity}_high{unit}"
+
+
+def predict(model, quantity: str, temperature_C, *, time_s=None, frequency_Hz=None, band=None):
     """Evaluate a material function at a temperature (°C) from a build result or a model.
 
     ``model`` is a :class:`BuildResult`, a :class:`~ttsp.model.ViscoelasticModel`, or the dict
-    read from a ``summary.json``. Returns a tidy DataFrame with unit-suffixed columns.
+    read from a ``summary.json``. Returns a tidy DataFrame with unit-suffixed columns; with
+    ``band=LEVEL`` (e.g. 0.95) also the interval columns of :func:`band_columns`
+    (:mod:`ttsp.bands`), and the level in ``frame.attrs["band_level"]``.
     """
     import pandas as pd
 
@@ -630,9 +684,19 @@ def predict(model, quantity: str, temperature_C, *, time_s=None, frequency_Hz=No
     elif isinstance(model, dict):
         model = ViscoelasticModel.from_summary(model)
     values = model.evaluate(quantity, celsius_to_kelvin(temperature_C), time_s=time_s,
-                            frequency_Hz=frequency_Hz)
+                            frequency_Hz=frequency_Hz, band=band)
+    banded = None
+    if band is not None:
+        banded, values = values, values.value
     x_name, x = ("time_s", time_s) if time_s is not None else ("frequency_Hz", frequency_Hz)
     t = np.broadcast_to(np.asarray(temperature_C, dtype=float), np.shape(values))
-    return pd.DataFrame({"temperature_C": t.ravel(),
-                         x_name: np.broadcast_to(np.asarray(x, dtype=float), np.shape(values)).ravel(),
-                         QUANTITY_COLUMNS[quantity]: np.ravel(values)})
+    frame = pd.DataFrame({"temperature_C": t.ravel(),
+                          x_name: np.broadcast_to(np.asarray(x, dtype=float),
+                                                  np.shape(values)).ravel(),
+                          QUANTITY_COLUMNS[quantity]: np.ravel(values)})
+    if banded is not None:
+        low, high = band_columns(quantity)
+        frame[low] = np.ravel(np.broadcast_to(banded.low, np.shape(values)))
+        frame[high] = np.ravel(np.broadcast_to(banded.high, np.shape(values)))
+        frame.attrs["band_level"] = banded.level
+    return frame
