@@ -418,7 +418,11 @@ def predict_cmd(model: Path = typer.Argument(..., help="summary.json of a build,
                 frequency_grid: Optional[str] = typer.Option(
                     None, "--frequency", metavar="a:b:n", help="n log-spaced frequencies, a to b Hz."),
                 out: Optional[Path] = typer.Option(None, "--out", "-o",
-                                                   help="CSV file (default: stdout).")):
+                                                   help="CSV file (default: stdout)."),
+                band: Optional[float] = typer.Option(
+                    None, "--band", metavar="LEVEL",
+                    help="Also write <quantity>_low_<unit> and <quantity>_high_<unit>: the "
+                         "interval at this level (e.g. 0.95) from the build's bootstrap.")):
     """A material function at any temperature from a build's master curve and shift law."""
     import warnings
 
@@ -440,7 +444,7 @@ def predict_cmd(model: Path = typer.Argument(..., help="summary.json of a build,
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always")
         frame = predict(m, quantity.value, float(temperature),
-                        **({"time_s": grid} if is_time else {"frequency_Hz": grid}))
+                        **({"time_s": grid} if is_time else {"frequency_Hz": grid}), band=band)
     _emit_table(frame, out, caught)
 
 

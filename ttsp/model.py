@@ -218,9 +218,9 @@ class ViscoelasticModel:
 
         level = check_level(band)
         if self.ensemble is None:
-            raise DataError("this model has no uncertainty band: it was built with bands off "
-                            "(BuildOptions(bands=False) or 'ttsp build --no-bands'), or its "
-                            "summary.json predates bands")
+            raise DataError("this model has no uncertainty band: it was built with "
+                            "BuildOptions(bands=False), or its summary.json has no 'bands' "
+                            "section (a build older than bands); rebuild it to get one")
         x = {"time_s": time_s} if time_s is not None else {"frequency_Hz": frequency_Hz}
         return self.ensemble.interval(quantity, value, temperature_K, level,
                                       central_log10_aT=np.log10(a), **x)
