@@ -175,6 +175,8 @@ class BandEnsemble:
                                    (self.n_members,) + shape)
         else:
             la_b = self._member_log10_aT(np.broadcast_to(T, shape))
+        la_b = la_b.reshape(self.n_members, -1)   # flat: one column per point
+        x = x.reshape(-1)
         a = 10.0 ** la_b
         with np.errstate(all="ignore"):
             reduced = x / a if is_time else 2.0 * math.pi * x * a
@@ -197,7 +199,7 @@ class BandEnsemble:
         # widening outside the window, in decades of reduced time at the central a_T
         lo, hi = self.valid_reduced_time_range_s
         c = (np.nanmedian(la_b, axis=0) if central_log10_aT is None
-             else np.broadcast_to(np.asarray(central_log10_aT, dtype=float), x.shape))
+             else np.broadcast_to(np.asarray(central_log10_aT, dtype=float), shape).reshape(-1))
         with np.errstate(all="ignore"):
             log_red_t = (np.log10(x) - c) if is_time else -(np.log10(2.0 * math.pi * x) + c)
         below = math.log10(lo) - log_red_t
@@ -213,7 +215,7 @@ class BandEnsemble:
             s_edge = np.where(below > 0, edge_s[0], edge_s[1])
             d = np.clip(np.maximum(below, above), 0.0, None)
             spread = np.where(outside, np.maximum(spread, s_edge * (1.0 + d)), spread)
-        return spread
+        return spread.reshape(shape)
 
     def interval(self, quantity: str, value, temperature_K, level: float, **x) -> Banded:
         """``value`` (the build's prediction) with its interval at ``level``."""
