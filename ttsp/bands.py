@@ -316,6 +316,30 @@ def _shift_draws(shifts, rng: np.random.Generator, n: int) -> np.ndarray:
     return rng.standard_normal((n, m)) @ root.T
 
 
+def _refit_frequency(omega, values: dict, tau, modulus_kind):
+    """The build's frequency fit (ttsp.prony.fit_prony_frequency: E' and E'' rows stacked,
+    relative residuals, E_∞ free when E' is there, NNLS; Lawson & Hanson 1974) on a fixed τ
+    grid, without its diagnostics, which the members do not need (they cost three times the
+    solve)."""
+    from .prony import PronySeries, _solve_nnls
+
+    wt = omega[:, None] * tau[None, :]
+    den = 1.0 + wt * wt
+    free_e = "storage_modulus_Pa" in values
+    rows, rhs = [], []
+    for name, y in values.items():
+        a = wt * wt / den if name == "storage_modulus_Pa" else wt / den
+        if free_e:
+            a = np.hstack([np.full((omega.size, 1), 1.0 if name == "storage_modulus_Pa"
+                                   else 0.0), a])
+        rows.append(a / y[:, None])
+        rhs.append(np.ones(omega.size))
+    sol = _solve_nnls(np.vstack(rows), np.concatenate(rhs))
+    e_inf, g = (float(sol[0]), sol[1:]) if free_e else (0.0, sol)
+    keep = g > 0
+    return PronySeries(e_inf, tau[keep], g[keep], modulus_kind=modulus_kind)
+
+
 def fit_band_ensemble(x, values: dict, isotherm, *, domain: str, series, shifts, law_fit,
                       terms_per_decade: float, quantity: str | None = None,
                       n_members: int = DEFAULT_MEMBERS, seed: int = 0) -> BandEnsemble:
@@ -346,8 +370,7 @@ def fit_band_ensemble(x, values: dict, isotherm, *, domain: str, series, shifts,
         Seed of the generator: the same build gives the same band.
     """
     from .exceptions import FitError, FitQualityWarning
-    from .prony import (PronySeries, fit_prony_frequency, fit_prony_time,
-                        log_spaced_relaxation_times)
+    from .prony import PronySeries, fit_prony_time, log_spaced_relaxation_times
 
     rng = np.random.default_rng(seed)
     x = np.asarray(x, dtype=float)
@@ -365,7 +388,11 @@ def fit_band_ensemble(x, values: dict, isotherm, *, domain: str, series, shifts,
         fitted = [series.relaxation_modulus(x) if quantity == "relaxation_modulus"
                   else series.creep_compliance(x)]
     resid = [np.log(y / f) for y, f in zip(ys, fitted)]
-    groups = [np.flatnonzero(iso == i) for i in np.unique(iso)]
+    # resampling within isotherms, vectorised: point p draws uniformly among the points of
+    # its own isotherm (``order`` lists the points isotherm by isotherm)
+    order = np.argsort(iso, kind="stable")
+    _, start, size = np.unique(iso[order], return_index=True, return_counts=True)
+    group = np.searchsorted(np.unique(iso), iso)
     dshift = _shift_draws(shifts, rng, n_members)
     members = []
     with warnings.catch_warnings():
@@ -373,20 +400,15 @@ def fit_band_ensemble(x, values: dict, isotherm, *, domain: str, series, shifts,
         for k in range(n_members):
             d = dshift[k][iso]
             xs = x * 10.0 ** d if domain == "frequency" else x / 10.0 ** d
-            new = []
-            for f, r in zip(fitted, resid):
-                rr = np.empty_like(r)
-                for idx in groups:
-                    rr[idx] = r[rng.choice(idx, idx.size)]
-                new.append(f * np.exp(rr))
+            # one draw per point for all its functions: E' and E'' of a point share its errors
+            pick = order[start[group] + (rng.random(x.size) * size[group]).astype(int)]
+            new = [f * np.exp(r[pick]) for f, r in zip(fitted, resid)]
             try:
                 if domain == "frequency":
-                    kw = dict(zip(cols, new))
-                    fit = fit_prony_frequency(xs, kw.get("storage_modulus_Pa"),
-                                              kw.get("loss_modulus_Pa"), tau_s=tau,
-                                              modulus_kind=series.modulus_kind)
-                else:
-                    fit = fit_prony_time(xs, new[0], quantity=quantity,
+                    members.append(_refit_frequency(xs, dict(zip(cols, new)), tau,
+                                                    series.modulus_kind))
+                    continue
+                fit = fit_prony_time(xs, new[0], quantity=quantity,
                                          terms_per_decade=terms_per_decade,
                                          modulus_kind=series.modulus_kind)
             except (DataError, FitError):
