@@ -231,3 +231,33 @@ def test_cli_predict_band(noisy, tmp_path):
     assert res.exit_code == 2
     assert "band must be a level between 0 and 1" in res.output
     assert "Traceback" not in res.output
+
+
+def test_material_functions_frame_and_figures_carry_the_band(noisy):
+    """The report's material-function figures shade the band (one filled area per function,
+    none when the build made no bands)."""
+    import matplotlib
+
+    matplotlib.use("Agg")
+    import matplotlib.pyplot as plt
+    from matplotlib.collections import PolyCollection
+
+    from ttsp.model import QUANTITY_COLUMNS
+    from ttsp.plotting import plot_frequency_functions, plot_time_functions
+
+    frame = noisy.material_functions_frame(band=0.95)
+    for q in ("relaxation_modulus", "creep_compliance", "storage_modulus", "loss_modulus"):
+        low, high = band_columns(q)
+        assert (frame[low] <= frame[QUANTITY_COLUMNS[q]]).all()
+        assert (frame[high] >= frame[QUANTITY_COLUMNS[q]]).all()
+    assert "relaxation_modulus_low_Pa" not in noisy.material_functions_frame()
+    plain = build(0.02, bands=False)
+
+    def fills(result, plot):
+        ax = plot(result)
+        n = sum(isinstance(c, PolyCollection) for a in ax.figure.axes for c in a.collections)
+        plt.close(ax.figure)
+        return n
+
+    for plot in (plot_time_functions, plot_frequency_functions):
+        assert fills(noisy, plot) == fills(plain, plot) + 2

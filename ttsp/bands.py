@@ -1,4 +1,5 @@
-"""Uncertainty bands on predicted material functions: an ensemble made once at build time.
+"""Uncertainty bands on predicted material functions: an ensemble made once at build time
+(docs/methods.md §7a).
 
 A prediction E(t, T) = b_T E_ref(t / a_T) inherits the errors of three fits: the shift factors
 (which place the isotherms on the master curve), the Prony series fitted to that curve, and the
@@ -17,7 +18,8 @@ residual resampling for regression). Each member
    available), so the shift error reaches the curve;
 2. replaces the relative residuals of the Prony fit by residuals drawn with replacement from
    the same isotherm (points within an isotherm share its conditions; resampling across
-   isotherms would mix them), so the noise reaches the curve;
+   isotherms would mix them), one draw per point for all its functions, so the noise reaches
+   the curve;
 3. refits the series with NNLS on the build's relaxation-time grid (shared by all members, so
    only the strengths are stored);
 4. draws the law's free parameters from a normal distribution with the law's parameter
@@ -53,7 +55,7 @@ import numpy as np
 from ._validation import bad_value
 from .exceptions import DataError
 
-__all__ = ["BandEnsemble", "Banded", "fit_band_ensemble", "check_level", "DEFAULT_MEMBERS",
+__all__ = ["BandEnsemble", "Banded", "fit_band_ensemble", "check_level", "band_columns", "DEFAULT_MEMBERS",
            "DEFAULT_LEVEL", "BAND_METHOD"]
 
 DEFAULT_MEMBERS = 64
@@ -82,6 +84,15 @@ def check_level(level) -> float:
     if not (0.0 < v < 1.0) or not math.isfinite(v):
         raise bad_value("band", "a level between 0 and 1 (e.g. 0.95)", level)
     return v
+
+
+def band_columns(quantity: str) -> tuple[str, str]:
+    """The names of the interval columns of a quantity: ``<quantity>_low_<unit>`` and
+    ``<quantity>_high_<unit>`` (``tan_delta_low``, ``tan_delta_high`` without a unit)."""
+    from .model import QUANTITY_COLUMNS
+
+    unit = QUANTITY_COLUMNS[quantity][len(quantity):]
+    return f"{quantity}_low{unit}", f"{quantity}_high{unit}"
 
 
 def _normal_quantile(level: float) -> float:

@@ -17,6 +17,7 @@ from ._validation import bad_value, check_choice
 from .data import REFERENCE_SNAP_K, Campaign
 from .master_choice import MASTER_CURVE_CHOICES, choose_master_curve
 from .exceptions import DataError, FitError, FitQualityWarning, TtspWarning
+from .bands import band_columns
 from .units import celsius_to_kelvin, kelvin_to_celsius
 
 __all__ = ["BuildOptions", "BuildResult", "build", "LAW_CHOICES", "VERTICAL_CHOICES",
@@ -198,13 +199,17 @@ class BuildResult:
         """Every input point with its reduced x and shifted values (none dropped)."""
         return self.shifts.shifted_frame(self.campaign)
 
-    def material_functions_frame(self, points_per_decade: int = 10):
+    def material_functions_frame(self, points_per_decade: int = 10, band=None):
         """E(t), D(t), E', E'', tan δ at the reference temperature on one log grid.
 
         Row i holds the time t_i and the frequency f_i = 1/(2π t_i) (so ω_i = 1/t_i), over the
         series' valid reduced range widened by one decade each side (those rows are flagged).
+        With ``band=LEVEL`` (and a build made with bands) each of E(t), D(t), E', E'' also gets
+        its interval columns (:func:`band_columns`; :mod:`ttsp.bands`).
         """
         import pandas as pd
+
+        from .model import QUANTITY_COLUMNS
 
         lo, hi = self.series.valid_reduced_time_range_s
         t = np.logspace(math.log10(lo) - 1, math.log10(hi) + 1,
@@ -221,6 +226,18 @@ class BuildResult:
             "tan_delta": self.series.tan_delta(omega),
             "extrapolated": outside_log_range(t, lo, hi),
         })
+        ensemble = getattr(self.model, "ensemble", None)
+        if band is not None and ensemble is not None:
+            for q in ("relaxation_modulus", "creep_compliance", "storage_modulus",
+                      "loss_modulus"):
+                x = ({"time_s": t} if q in ("relaxation_modulus", "creep_compliance")
+                     else {"frequency_Hz": frame["frequency_Hz"].to_numpy()})
+                b = ensemble.interval(q, frame[QUANTITY_COLUMNS[q]].to_numpy(),
+                                      self.reference_temperature_K, band,
+                                      central_log10_aT=0.0, **x)
+                low, high = band_columns(q)
+                frame[low], frame[high] = b.low, b.high
+            frame.attrs["band_level"] = float(band)
         frame.attrs["reference_temperature_C"] = self.reference_temperature_C
         return frame
 
@@ -656,15 +673,6 @@ def _with_series(prony_fit, series):
 def check(campaign: Campaign, **option_values) -> tuple:
     """Run a build and return only its checks (each with status, value, threshold, message)."""
     return build(campaign, **option_values).checks
-
-
-def band_columns(quantity: str) -> tuple[str, str]:
-    """The names of the interval columns of a quantity: ``<quantity>_low_<unit>`` and
-    ``<quantity>_high_<unit>`` (``tan_delta_low``, ``tan_delta_high`` without a unit)."""
-    from .model import QUANTITY_COLUMNS
-
-    unit = QUANTITY_COLUMNS[quantity][len(quantity):]
-    return f"{quantity}_low{unit}", f"{quantity}_high{unit}"
 
 
 def predict(model, quantity: str, temperature_C, *, time_s=None, frequency_Hz=None, band=None):
