@@ -196,7 +196,8 @@ def test_predict_frame_columns_and_summary_round_trip(noisy):
     assert list(frame.columns) == ["temperature_C", "time_s", "relaxation_modulus_Pa",
                                    "relaxation_modulus_low_Pa", "relaxation_modulus_high_Pa"]
     direct = quiet(noisy.model.relaxation_modulus, np.logspace(-2, 2, 5), 303.15, band=0.95)
-    assert np.allclose(frame["relaxation_modulus_low_Pa"], direct.low, rtol=1e-9)
+    # the summary keeps seven significant digits of the members: the band moves by ~1e-7
+    assert np.allclose(frame["relaxation_modulus_low_Pa"], direct.low, rtol=1e-5)
     assert band_columns("tan_delta") == ("tan_delta_low", "tan_delta_high")
     assert band_columns("creep_compliance") == ("creep_compliance_low_1_per_Pa",
                                                 "creep_compliance_high_1_per_Pa")

@@ -95,6 +95,10 @@ def band_columns(quantity: str) -> tuple[str, str]:
     return f"{quantity}_low{unit}", f"{quantity}_high{unit}"
 
 
+def _digits(value) -> float:
+    return float(f"{float(value):.7g}")
+
+
 def _normal_quantile(level: float) -> float:
     from scipy.stats import norm
 
@@ -248,9 +252,11 @@ class BandEnsemble:
         return {"method": self.method, "members": self.n_members,
                 "default_level": DEFAULT_LEVEL,
                 "source": "Efron & Tibshirani, An Introduction to the Bootstrap, 1993",
-                "series": [{"equilibrium_modulus_Pa": float(m.equilibrium_modulus_Pa),
-                            "tau_s": [float(v) for v in m.tau_s],
-                            "modulus_Pa": [float(v) for v in m.modulus_Pa]}
+                # seven significant digits: the members' spread is what matters, and it is
+                # known to about 9 % (module docstring); full precision would double the file
+                "series": [{"equilibrium_modulus_Pa": _digits(m.equilibrium_modulus_Pa),
+                            "tau_s": [_digits(v) for v in m.tau_s],
+                            "modulus_Pa": [_digits(v) for v in m.modulus_Pa]}
                            for m in self.members],
                 "law_parameters": [{k: float(v) for k, v in p.items()}
                                    for p in self.law_parameters],
