@@ -305,3 +305,24 @@ def test_time_domain_campaigns_get_bands_that_hold_the_truth(measured):
     rate = np.mean(np.concatenate(hits))
     assert rate >= 0.80
     assert max(halves) < 0.05
+
+
+def test_an_undetermined_shift_is_drawn_with_its_capped_stderr():
+    """A shift the data cannot place reports a stderr of up to 100 decades
+    (shifting.UNDETERMINED_STDERR); the bootstrap draws it with at most USED_STDERR_CAP, as the
+    law counts it (common practice of this project: workflow._fit_law)."""
+    from types import SimpleNamespace
+
+    from ttsp.bands import _shift_draws
+    from ttsp.shifting import USED_STDERR_CAP
+
+    cov = np.diag([0.01 ** 2, 100.0 ** 2, 0.0])
+    cov[0, 1] = cov[1, 0] = 0.5 * 0.01 * 100.0
+    shifts = SimpleNamespace(temperature_K=np.array([300.0, 310.0, 320.0]),
+                             log10_aT_covariance=cov, log10_aT_stderr=np.array([0.01, 100, 0]))
+    d = _shift_draws(shifts, np.random.default_rng(0), 4000)
+    sd = d.std(axis=0)
+    assert sd[1] == pytest.approx(USED_STDERR_CAP, rel=0.05)   # 4000 draws: sd known to 1.1 %
+    assert sd[0] == pytest.approx(0.01, rel=0.05)
+    assert sd[2] == 0.0
+    assert np.corrcoef(d[:, 0], d[:, 1])[0, 1] == pytest.approx(0.5, abs=0.05)

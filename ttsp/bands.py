@@ -327,6 +327,11 @@ def _shift_draws(shifts, rng: np.random.Generator, n: int) -> np.ndarray:
         s = np.minimum(np.nan_to_num(np.asarray(shifts.log10_aT_stderr, dtype=float), nan=0.0),
                        USED_STDERR_CAP)
         C = np.diag(s ** 2)
+    # an undetermined shift reports a stderr up to 100 decades; like the law, the bootstrap
+    # counts it with at most USED_STDERR_CAP (its correlations kept)
+    d = np.sqrt(np.clip(np.diag(C), 0.0, None))
+    cap = np.where(d > USED_STDERR_CAP, USED_STDERR_CAP / np.where(d > 0, d, 1.0), 1.0)
+    C = C * np.outer(cap, cap)
     C = 0.5 * (C + C.T)
     vals, vecs = np.linalg.eigh(C)
     root = vecs * np.sqrt(np.clip(vals, 0.0, None))
