@@ -100,9 +100,9 @@ def _digits(value) -> float:
 
 
 def _normal_quantile(level: float) -> float:
-    from scipy.stats import norm
+    from scipy.special import ndtri   # the normal quantile; scipy.stats takes 0.4 s to import
 
-    return float(norm.ppf(0.5 + level / 2.0))
+    return float(ndtri(0.5 + level / 2.0))
 
 
 @dataclass(frozen=True, repr=False)
