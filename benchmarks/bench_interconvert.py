@@ -203,7 +203,7 @@ def band_rows(n_cases: int) -> None:
         r = np.median(ratio[q])
         row(f"95 % band, {symbol[q]}: points inside ({n_cases} campaigns x 3 T)",
             f"{cover:.1f} %", ">= 90 %", "ok" if cover >= 90 else "MISS")
-        row(f"  worst campaign at T_ref; median half-width / rms error", f"{worst:.0f} %; {r:.2f}",
+        row("  worst campaign at T_ref; median half-width / rms error", f"{worst:.0f} %; {r:.2f}",
             "; <= 4", "ok" if r <= 4 else "WIDE")
     row("  all four at T_ref only: points inside", f"{100 * np.mean(np.concatenate(at_ref)):.1f} %",
         "", "")

@@ -100,7 +100,9 @@ def _digits(value) -> float:
 
 
 def _normal_quantile(level: float) -> float:
-    from scipy.special import ndtri   # the normal quantile; scipy.stats takes 0.4 s to import
+    from scipy.special import (
+        ndtri,  # the normal quantile; scipy.stats takes 0.4 s to import
+    )
 
     return float(ndtri(0.5 + level / 2.0))
 
