@@ -12,8 +12,16 @@ Rows:
    compared with the exact D(t) of the generating spectrum over the fit's valid reduced-time
    range (target: within 0.5 %). The conversion itself is exact to rounding (row 1), so this
    row measures the Prony fit to noisy data.
+4. uncertainty bands (issue 20): over seeded synthetic campaigns (2 % noise, the generator's
+   cases) built by ``ttsp.build`` with free shifts and a fitted law, the share of points
+   where the exact D(t), E(t), E', E'' lies inside the 95 % band (targets: >= 90 % of points
+   within the window) at the reference temperature and at the coldest and warmest isotherm
+   (there the law's a_T counts), and the band's half-width over the rms of the actual error,
+   both in log10 (target <= 4: an honest band, not a wide one; a normal band has 1.96);
+   then ``ttsp predict --band`` on 1000 points, in process (target < 1 s).
 
-Run: ``python benchmarks/bench_interconvert.py`` (prints a table; no assertions).
+Run: ``python benchmarks/bench_interconvert.py`` (prints a table; no assertions);
+``--quick`` runs 20 band campaigns and skips the 1e6-step histories.
 """
 
 from __future__ import annotations
@@ -133,12 +141,100 @@ def creep_accuracy_rows(n_cases: int = 12) -> None:
         "", "")
 
 
+def _band_points(case, camp, truth, true_log10_aT, result, n=40):
+    """(quantity, temperature_K, x keyword, exact values) inside the data window."""
+    from benchmarks.generator import wlf_log10_aT
+
+    ref = result.reference_temperature_K
+    shift = float(truth.log10_aT[0] - true_log10_aT[0])   # generator's reference -> ref
+    exact_e = PronySeries(truth.E_inf, truth.tau_i * 10.0 ** shift, truth.E_i)
+    exact_d = relaxation_to_creep(exact_e)
+    lo, hi = result.series.valid_reduced_time_range_s
+    out = []
+    for T in (ref, float(np.min(truth.temperatures_K)), float(np.max(truth.temperatures_K))):
+        la = float(wlf_log10_aT(T, case["C1"], case["C2_K"], case["wlf_reference_K"])
+                   - wlf_log10_aT(ref, case["C1"], case["C2_K"], case["wlf_reference_K"]))
+        # the window at T in its own time: reduced time t/a_T in [lo, hi]
+        t = np.logspace(np.log10(lo) + la, np.log10(hi) + la, n + 2)[1:-1]
+        f = 1.0 / (2 * np.pi * t)
+        red = t / 10.0 ** la
+        out += [("relaxation_modulus", T, {"time_s": t}, exact_e.relaxation_modulus(red)),
+                ("creep_compliance", T, {"time_s": t}, exact_d.creep_compliance(red)),
+                ("storage_modulus", T, {"frequency_Hz": f}, exact_e.storage_modulus(1.0 / red)),
+                ("loss_modulus", T, {"frequency_Hz": f}, exact_e.loss_modulus(1.0 / red))]
+    return out
+
+
+def band_rows(n_cases: int) -> None:
+    from ttsp.exceptions import TtspWarning
+    from ttsp.workflow import build, predict
+
+    names = ("creep_compliance", "relaxation_modulus", "storage_modulus", "loss_modulus")
+    inside = {q: [] for q in names}
+    ratio = {q: [] for q in names}
+    at_ref = []
+    t_band = []
+    result = None
+    for case in benchmark_cases(n_cases, seed=20261203):
+        camp, truth, true_log10_aT = case_campaign(case, noise=0.02)
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore", TtspWarning)
+            t0 = time.perf_counter()
+            result = build(camp, reference_temperature_C=case["shift_reference_K"] - 273.15,
+                           cross_validation=False)
+            t1 = time.perf_counter()
+            build(camp, reference_temperature_C=case["shift_reference_K"] - 273.15,
+                  cross_validation=False, bands=False)
+            t_band.append((t1 - t0) - (time.perf_counter() - t1))
+            for q, T, x, exact in _band_points(case, camp, truth, true_log10_aT, result):
+                b = result.model.evaluate(q, T, band=0.95, **x)
+                ok = (exact >= b.low) & (exact <= b.high)
+                inside[q].append(ok)
+                if T == result.reference_temperature_K:
+                    at_ref.append(ok)
+                err = np.log10(b.value / exact)
+                half = 0.5 * np.log10(b.high / b.low)
+                ratio[q].append(np.sqrt(np.mean(half ** 2)) / np.sqrt(np.mean(err ** 2)))
+    symbol = {"creep_compliance": "D(t)", "relaxation_modulus": "E(t)",
+              "storage_modulus": "E'", "loss_modulus": "E''"}
+    for q in names:
+        cover = 100 * np.mean(np.concatenate(inside[q]))
+        worst = 100 * min(np.mean(v) for v in inside[q][::3])   # per case, at T_ref
+        r = np.median(ratio[q])
+        row(f"95 % band, {symbol[q]}: points inside ({n_cases} campaigns x 3 T)",
+            f"{cover:.1f} %", ">= 90 %", "ok" if cover >= 90 else "MISS")
+        row("  worst campaign at T_ref; median half-width / rms error", f"{worst:.0f} %; {r:.2f}",
+            "; <= 4", "ok" if r <= 4 else "WIDE")
+    row("  all four at T_ref only: points inside", f"{100 * np.mean(np.concatenate(at_ref)):.1f} %",
+        "", "")
+    row("  build time added by the bands (median over campaigns)",
+        f"{np.median(t_band):.2f} s", "", "")
+    summary = result.summary()
+    from ttsp.model import ViscoelasticModel
+
+    t = np.logspace(-3, 6, 1000)
+
+    def run():
+        model = ViscoelasticModel.from_summary(summary)   # as 'ttsp predict' reads it
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")
+            return predict(model, "creep_compliance", result.reference_temperature_C - 10,
+                           time_s=t, band=0.95)
+
+    seconds, _ = best_of(run, 3)
+    row("predict --band, D(t) on 1000 points (from summary, in process)", f"{seconds:.2f} s",
+        "< 1 s", "ok" if seconds < 1 else "SLOW")
+
+
 def main() -> None:
+    quick = "--quick" in sys.argv[1:]
     print("| row" + " " * 56 + "| value          | target     | ok?  |")
     print("|" + "-" * 60 + "|" + "-" * 16 + "|" + "-" * 12 + "|" + "-" * 6 + "|")
     conversion_rows()
-    history_rows()
-    creep_accuracy_rows()
+    if not quick:
+        history_rows()
+    creep_accuracy_rows(6 if quick else 12)
+    band_rows(20 if quick else 40)
 
 
 if __name__ == "__main__":

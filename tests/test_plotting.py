@@ -368,7 +368,8 @@ def test_frequency_functions_have_tan_delta_on_a_linear_twin(freq_result):
     f, tan_d = plotted(twin)
     assert np.allclose(tan_d, freq_result.series.tan_delta(2 * np.pi * f), rtol=1e-12)
     labels = [t.get_text() for t in ax.get_legend().get_texts()]
-    assert labels == ["E′ storage modulus", "E″ loss modulus", "tan δ", "extrapolated"]
+    assert labels == ["E′ storage modulus", "E″ loss modulus", "tan δ", "extrapolated",
+                      "95 % band"]
 
 
 def test_time_domain_master_curve(time_result):

@@ -532,7 +532,11 @@ def predict_cmd(model: Path = typer.Argument(..., help="summary.json of a build,
                          "(0.01:100:50); units mHz, Hz, kHz (default Hz)."),
                 tolerance: float = TOL_OPT,
                 out: Optional[Path] = typer.Option(None, "--out", "-o",
-                                                   help="CSV file (default: stdout).")):
+                                                   help="CSV file (default: stdout)."),
+                band: Optional[float] = typer.Option(
+                    None, "--band", metavar="LEVEL",
+                    help="Also write <quantity>_low_<unit> and <quantity>_high_<unit>: the "
+                         "interval at this level (e.g. 0.95) from the build's bootstrap.")):
     """A material function at any temperature from a build's master curve and shift law."""
     import warnings
 
@@ -562,7 +566,7 @@ def predict_cmd(model: Path = typer.Argument(..., help="summary.json of a build,
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always")
         frame = predict(m, quantity.value, float(temperature),
-                        **({"time_s": grid} if is_time else {"frequency_Hz": grid}))
+                        **({"time_s": grid} if is_time else {"frequency_Hz": grid}), band=band)
         if outside is not None:
             warnings.warn(outside, ExtrapolationWarning)
     # the law's own range warning is in kelvin and has no tolerance: ours above replaces it

@@ -143,11 +143,16 @@ class ViscoelasticModel:
         ``valid_temperature_range_K`` (see :mod:`ttsp.laws`).
     vertical : VerticalShift, optional
         The vertical shift of the build (None: b_T = 1 at every temperature).
+    ensemble : ttsp.bands.BandEnsemble, optional
+        The build's bootstrap ensemble (:mod:`ttsp.bands`); with it every material function
+        takes ``band=LEVEL`` (e.g. 0.95) and returns a :class:`~ttsp.bands.Banded`
+        (value, low, high, level) instead of the value alone.
     """
 
     series: object
     law: object
     vertical: VerticalShift | None = None
+    ensemble: object = None
 
     def __post_init__(self):
         tr_law = float(self.law.reference_temperature_K)
@@ -188,16 +193,37 @@ class ViscoelasticModel:
                           f"those values are extrapolated", ExtrapolationWarning, stacklevel=3)
 
     # ---- time domain ------------------------------------------------------------------------
-    def relaxation_modulus(self, time_s, temperature_K) -> np.ndarray:
-        """E(t, T) = b_T E_ref(t / a_T) in Pa, for times in s and temperatures in K (broadcast)."""
-        t, a = self._reduced_time(time_s, temperature_K)
-        return self._scaled(self.series.relaxation_modulus(t / a), temperature_K, t)
+    def relaxation_modulus(self, time_s, temperature_K, band=None):
+        """E(t, T) = b_T E_ref(t / a_T) in Pa, for times in s and temperatures in K (broadcast).
 
-    def creep_compliance(self, time_s, temperature_K) -> np.ndarray:
+        ``band=0.95`` returns a :class:`~ttsp.bands.Banded` with the interval (as for every
+        material function below; :mod:`ttsp.bands` says how it is found)."""
+        t, a = self._reduced_time(time_s, temperature_K)
+        value = self._scaled(self.series.relaxation_modulus(t / a), temperature_K, t)
+        return self._banded("relaxation_modulus", value, temperature_K, band, time_s=t, a=a)
+
+    def creep_compliance(self, time_s, temperature_K, band=None):
         """D(t, T) = D_ref(t / a_T) / b_T in 1/Pa, from the exact Prony interconversion."""
         t, a = self._reduced_time(time_s, temperature_K)
-        return self._scaled(self.creep_series.creep_compliance(t / a), temperature_K, t,
-                            inverse=True)
+        value = self._scaled(self.creep_series.creep_compliance(t / a), temperature_K, t,
+                             inverse=True)
+        return self._banded("creep_compliance", value, temperature_K, band, time_s=t, a=a)
+
+    def _banded(self, quantity, value, temperature_K, band, *, a, time_s=None,
+                frequency_Hz=None):
+        """``value`` alone (band None) or with its interval from the ensemble."""
+        if band is None:
+            return value
+        from .bands import check_level
+
+        level = check_level(band)
+        if self.ensemble is None:
+            raise DataError("this model has no uncertainty band: it was built with "
+                            "BuildOptions(bands=False), or its summary.json has no 'bands' "
+                            "section (a build older than bands); rebuild it to get one")
+        x = {"time_s": time_s} if time_s is not None else {"frequency_Hz": frequency_Hz}
+        return self.ensemble.interval(quantity, value, temperature_K, level,
+                                      central_log10_aT=np.log10(a), **x)
 
     def _scaled(self, values, temperature_K, like, *, inverse=False):
         """Values times b_T (divided for a compliance), broadcast like ``like``."""
@@ -237,33 +263,45 @@ class ViscoelasticModel:
         self._warn_reduced(1.0 / np.atleast_1d(w), "reduced frequencies (as 1/ω)")
         return w
 
-    def storage_modulus(self, frequency_Hz, temperature_K) -> np.ndarray:
+    def _frequency_banded(self, quantity, frequency_Hz, temperature_K, band, scale=True):
+        w = self._reduced_omega(frequency_Hz, temperature_K)
+        value = getattr(self.series, quantity)(w)
+        if scale:
+            value = self._scaled(value, temperature_K, w)
+        if band is None:
+            return value
+        f = np.broadcast_to(np.asarray(frequency_Hz, dtype=float), np.shape(w))
+        return self._banded(quantity, value, temperature_K, band, frequency_Hz=f,
+                            a=w / (2.0 * math.pi * f))
+
+    def storage_modulus(self, frequency_Hz, temperature_K, band=None):
         """E'(f, T) = b_T E'_ref(2πf·a_T) in Pa; frequency in Hz."""
-        w = self._reduced_omega(frequency_Hz, temperature_K)
-        return self._scaled(self.series.storage_modulus(w), temperature_K, w)
+        return self._frequency_banded("storage_modulus", frequency_Hz, temperature_K, band)
 
-    def loss_modulus(self, frequency_Hz, temperature_K) -> np.ndarray:
+    def loss_modulus(self, frequency_Hz, temperature_K, band=None):
         """E''(f, T) = b_T E''_ref(2πf·a_T) in Pa; frequency in Hz."""
-        w = self._reduced_omega(frequency_Hz, temperature_K)
-        return self._scaled(self.series.loss_modulus(w), temperature_K, w)
+        return self._frequency_banded("loss_modulus", frequency_Hz, temperature_K, band)
 
-    def tan_delta(self, frequency_Hz, temperature_K) -> np.ndarray:
+    def tan_delta(self, frequency_Hz, temperature_K, band=None):
         """tan δ(f, T) = E''/E' at the reduced frequency 2πf·a_T."""
-        return self.series.tan_delta(self._reduced_omega(frequency_Hz, temperature_K))
+        return self._frequency_banded("tan_delta", frequency_Hz, temperature_K, band,
+                                      scale=False)
 
     # ---- one call for the CLI and the API -----------------------------------------------------
-    def evaluate(self, quantity: str, temperature_K, *, time_s=None, frequency_Hz=None):
+    def evaluate(self, quantity: str, temperature_K, *, time_s=None, frequency_Hz=None,
+                 band=None):
         """Evaluate one quantity by name (``relaxation_modulus``, ``creep_compliance``,
-        ``storage_modulus``, ``loss_modulus``, ``tan_delta``) at times (s) or frequencies (Hz)."""
+        ``storage_modulus``, ``loss_modulus``, ``tan_delta``) at times (s) or frequencies (Hz);
+        with ``band=LEVEL`` a :class:`~ttsp.bands.Banded`."""
         check_choice("quantity", quantity, QUANTITY_COLUMNS)
         if quantity in TIME_QUANTITIES:
             if time_s is None:
                 raise DataError(f"quantity {quantity!r} needs times (time_s / --time), not frequencies")
-            return getattr(self, quantity)(time_s, temperature_K)
+            return getattr(self, quantity)(time_s, temperature_K, band=band)
         if frequency_Hz is None:
             raise DataError(f"quantity {quantity!r} needs frequencies (frequency_Hz / --frequency), "
                             f"not times")
-        return getattr(self, quantity)(frequency_Hz, temperature_K)
+        return getattr(self, quantity)(frequency_Hz, temperature_K, band=band)
 
     def isochrone(self, quantity: str, temperature_K, frequency_Hz: float = 1.0) -> np.ndarray:
         """E'(T), E''(T) or tan δ(T) at one fixed frequency (Hz) over temperatures (K)."""
@@ -296,8 +334,13 @@ class ViscoelasticModel:
             if not isinstance(summary.get(key), dict):
                 raise DataError(f"summary has no {key!r} section; it must come from 'ttsp build'")
         law = ShiftLaw.from_dict(summary["shift_law"])
+        ensemble = None
+        if isinstance(summary.get("bands"), dict):
+            from .bands import BandEnsemble
+
+            ensemble = BandEnsemble.from_dict(summary["bands"], law)
         return cls(PronySeries.from_dict(summary["prony"]), law,
-                   _vertical_from_summary(summary, float(law.reference_temperature_K)))
+                   _vertical_from_summary(summary, float(law.reference_temperature_K)), ensemble)
 
 
 def _vertical_from_summary(summary: dict, reference_temperature_K: float):

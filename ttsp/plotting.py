@@ -347,9 +347,34 @@ def _reduced_data(result):
     return out
 
 
+#: Level of the uncertainty band drawn around the model's material functions (ttsp.bands).
+BAND_LEVEL = 0.95
+
+
 def _functions(result):
-    """The material-functions table of a build (model at the reference temperature)."""
-    return result.material_functions_frame(points_per_decade=20)
+    """The material-functions table of a build (model at the reference temperature), with its
+    95 % band columns when the build made bands."""
+    return result.material_functions_frame(points_per_decade=20, band=BAND_LEVEL)
+
+
+def _band(ax, frame, quantity, x, factor, colour, order=slice(None)):
+    """Shade the band of ``quantity`` when the table has it; True if drawn."""
+    from .bands import band_columns
+
+    low, high = band_columns(quantity)
+    if low not in frame:
+        return False
+    ax.fill_between(x, frame[low].to_numpy()[order] / factor,
+                    frame[high].to_numpy()[order] / factor, color=colour, alpha=0.18, lw=0,
+                    zorder=2)
+    return True
+
+
+def _band_handle():
+    from matplotlib.patches import Patch
+
+    return Patch(facecolor="0.55", alpha=0.35, lw=0,
+                 label=f"{BAND_LEVEL * 100:g} % band")
 
 
 def _valid_range(result):
@@ -1075,10 +1100,12 @@ def plot_time_functions(result, ax=None):
     eunit, efactor = _modulus_unit(e)
     dunit, dfactor = _compliance_unit(d)
     _model_line(ax, t, e / efactor, ext, colour=_BLUE, label=f"{letter}(t) relaxation modulus")
+    banded = _band(ax, frame, "relaxation_modulus", t, efactor, _BLUE)
     twin = ax.twinx()
     _model_line(twin, t, d / dfactor, ext, colour=_VERMILLION,
                 label=f"{cletter}(t) creep compliance")
     _measured_over_model(result, ax, twin, efactor, dfactor)
+    _band(twin, frame, "creep_compliance", t, dfactor, _VERMILLION)
     rng = _valid_range(result)
     _style(ax, logx=True, logy=True)
     ax.tick_params(which="both", right=False)
@@ -1093,7 +1120,8 @@ def plot_time_functions(result, ax=None):
     twin.set_ylabel(f"Creep compliance {cletter}(t) ({dunit})")
     _tidy_log_axis(ax.yaxis)
     _tidy_log_axis(twin.yaxis)
-    _twin_legend(ax, twin, [_extrapolation_handle()] if ext.any() else [])
+    _twin_legend(ax, twin, ([_extrapolation_handle()] if ext.any() else [])
+                 + ([_band_handle()] if banded else []))
     _tref_title(ax, result, "from the Prony series")
     return ax
 
@@ -1147,6 +1175,8 @@ def plot_frequency_functions(result, ax=None):
     unit, factor = _modulus_unit(np.concatenate([ep, epp]))
     _model_line(ax, x, ep / factor, ext, colour=_BLUE, label=f"{letter}′ storage modulus")
     _model_line(ax, x, epp / factor, ext, colour=_VERMILLION, label=f"{letter}″ loss modulus")
+    banded = _band(ax, frame, "storage_modulus", x, factor, _BLUE, order)
+    _band(ax, frame, "loss_modulus", x, factor, _VERMILLION, order)
     twin = ax.twinx()
     _model_line(twin, x, tand, ext, colour=_GREEN, lw=1.3, label="tan δ")
     _style(ax, logx=True, logy=True)
@@ -1164,7 +1194,8 @@ def plot_frequency_functions(result, ax=None):
     ax.set_ylabel(f"{letter}′, {letter}″ ({unit})")
     twin.set_ylabel("Loss factor tan δ")
     _tidy_log_axis(ax.yaxis)
-    _twin_legend(ax, twin, [_extrapolation_handle()] if ext.any() else [])
+    _twin_legend(ax, twin, ([_extrapolation_handle()] if ext.any() else [])
+                 + ([_band_handle()] if banded else []))
     _tref_title(ax, result, "from the Prony series")
     return ax
 

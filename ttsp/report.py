@@ -80,11 +80,14 @@ FIGURE_CAPTIONS = {
         "Relaxation modulus {E}(t) and creep compliance {D}(t) at T<sub>ref</sub> = {tref} over "
         "reduced "
         "time, computed from the Prony series (exact interconversion); shaded and dashed where "
-        "extrapolated beyond the data."),
+        "extrapolated beyond the data. The coloured bands are 95 % intervals from a bootstrap "
+        "of the shifts and the Prony fit (summary.json, bands); they widen where extrapolated "
+        "and do not cover errors of the model itself (aging, a material that is not "
+        "thermorheologically simple)."),
     "frequency_functions": (
         "Storage modulus {E}′, loss modulus {E}″ and tan δ at T<sub>ref</sub> = {tref} over reduced "
         "frequency, computed from the Prony series; shaded and dashed where extrapolated beyond "
-        "the data."),
+        "the data; coloured bands: 95 % intervals of {E}′ and {E}″ from the build's bootstrap."),
     "isochrone": (
         "Isochrone: {E}′, {E}″ and tan δ against temperature at one frequency, from the Prony "
         "series and the shift law over the temperatures the law was fitted to, with the glass "

@@ -17,6 +17,7 @@ from ._validation import bad_value, check_choice
 from .data import REFERENCE_SNAP_K, Campaign
 from .master_choice import MASTER_CURVE_CHOICES, choose_master_curve
 from .exceptions import DataError, FitError, FitQualityWarning, TtspWarning
+from .bands import band_columns
 from .units import celsius_to_kelvin, kelvin_to_celsius
 
 __all__ = ["BuildOptions", "BuildResult", "build", "LAW_CHOICES", "VERTICAL_CHOICES",
@@ -82,6 +83,10 @@ class BuildOptions:
         ``{temperature_C: log10 a_T}`` shifts held at given values; the others are fitted around
         them (:func:`ttsp.shifting.shift_isotherms`). Keys may be numbers or their text (as
         ``to_dict()`` writes them, for JSON).
+    bands : bool
+        Make the bootstrap ensemble behind the uncertainty bands of every prediction
+        (:mod:`ttsp.bands`; stored in ``summary.json`` so that ``ttsp predict --band`` needs
+        no data). On by default; off saves its cost (64 non-negative refits of the series).
     """
 
     reference_temperature_C: float | None = None
@@ -100,6 +105,7 @@ class BuildOptions:
     fixed_log10_aT: tuple = ()
     service_temperature_C: float | None = None
     isochrone_frequency_Hz: float = 1.0
+    bands: bool = True
 
     def __post_init__(self):
         from .selection import normalise_exclude, normalise_fixed
@@ -109,7 +115,7 @@ class BuildOptions:
         check_choice("law", self.law, LAW_CHOICES)
         check_choice("material", self.material, MATERIAL_CHOICES)
         check_choice("master_curve", self.master_curve, MASTER_CURVE_CHOICES)
-        for name in ("spectrum", "cross_validation"):
+        for name in ("spectrum", "cross_validation", "bands"):
             if not isinstance(getattr(self, name), bool):
                 raise bad_value(name, "True or False", getattr(self, name))
         check_choice("vertical", self.vertical, VERTICAL_CHOICES)
@@ -229,7 +235,8 @@ class BuildResult:
         """Every input point with its reduced x and shifted values (none dropped)."""
         return self.shifts.shifted_frame(self.campaign)
 
-    def material_functions_frame(self, points_per_decade: int = 10, temperature_C=None):
+    def material_functions_frame(self, points_per_decade: int = 10, temperature_C=None,
+                                 band=None):
         """E(t), D(t), E', E'', tan δ at the reference temperature on one log grid.
 
         Row i holds the time t_i and the frequency f_i = 1/(2π t_i) (so ω_i = 1/t_i), over the
@@ -238,8 +245,12 @@ class BuildResult:
         a_T and b_T, :class:`ttsp.model.ViscoelasticModel`), over the same reduced range
         (times t_i·a_T); rows are flagged ``extrapolated`` outside the reduced range, and all
         rows when the temperature lies outside the shift law's fitted range.
+        With ``band=LEVEL`` (and a build made with bands) each of E(t), D(t), E', E'' also gets
+        its interval columns (:func:`band_columns`; :mod:`ttsp.bands`).
         """
         import pandas as pd
+
+        from .model import QUANTITY_COLUMNS
 
         lo, hi = self.series.valid_reduced_time_range_s
         t = np.logspace(math.log10(lo) - 1, math.log10(hi) + 1,
@@ -258,6 +269,18 @@ class BuildResult:
             "tan_delta": self.series.tan_delta(omega),
             "extrapolated": outside_log_range(t, lo, hi),
         })
+        ensemble = getattr(self.model, "ensemble", None)
+        if band is not None and ensemble is not None:
+            for q in ("relaxation_modulus", "creep_compliance", "storage_modulus",
+                      "loss_modulus"):
+                x = ({"time_s": t} if q in ("relaxation_modulus", "creep_compliance")
+                     else {"frequency_Hz": frame["frequency_Hz"].to_numpy()})
+                b = ensemble.interval(q, frame[QUANTITY_COLUMNS[q]].to_numpy(),
+                                      self.reference_temperature_K, band,
+                                      central_log10_aT=0.0, **x)
+                low, high = band_columns(q)
+                frame[low], frame[high] = b.low, b.high
+            frame.attrs["band_level"] = float(band)
         frame.attrs["reference_temperature_C"] = self.reference_temperature_C
         return frame
 
@@ -328,6 +351,8 @@ class BuildResult:
             "master_model": self.master_curve.to_dict() if self.master_curve is not None else None,
             "cross_validation": (self.cross_validation.to_dict()
                                  if self.cross_validation is not None else None),
+            "bands": (self.model.ensemble.to_dict()
+                      if getattr(self.model, "ensemble", None) is not None else None),
             "checks": [c.to_dict() for c in self.checks],
             "warnings": list(self.warnings),
         }
@@ -383,9 +408,9 @@ def _fit_points(frame, x_name: str, columns, limit: int):
     return used.iloc[evenly_spaced_indices(len(used), limit)]
 
 
-def _fit_prony(campaign: Campaign, shifts, options: BuildOptions):
-    from .prony import fit_prony_frequency, fit_prony_time
-
+def _prony_points(campaign: Campaign, shifts):
+    """The master-curve points the Prony fit uses, their abscissa name, columns and the time
+    quantity (None for frequency data)."""
     frame = shifts.shifted_frame(campaign)
     x_name = "reduced_frequency_rad_s" if campaign.domain == "frequency" else "reduced_time_s"
     if campaign.domain == "frequency":
@@ -396,7 +421,13 @@ def _fit_prony(campaign: Campaign, shifts, options: BuildOptions):
                     else "creep_compliance")
         columns = ["relaxation_modulus_Pa" if quantity == "relaxation_modulus"
                    else "creep_compliance_1_per_Pa"]
-    used = _fit_points(frame, x_name, columns, MAX_PRONY_POINTS)
+    return _fit_points(frame, x_name, columns, MAX_PRONY_POINTS), frame, x_name, columns, quantity
+
+
+def _fit_prony(campaign: Campaign, shifts, options: BuildOptions):
+    from .prony import fit_prony_frequency, fit_prony_time
+
+    used, frame, x_name, columns, quantity = _prony_points(campaign, shifts)
     if len(used) < 2:   # say what is wrong with the data, not that the solver got no abscissa
         from ._fit_points_diagnosis import explain_no_fit_points
 
@@ -510,6 +541,10 @@ def build(campaign: Campaign, options: BuildOptions | None = None, *, input_sha2
 
             glass = estimate_glass_transition(model, campaign,
                                               frequency_Hz=options.isochrone_frequency_Hz)
+        if options.bands:
+            step("uncertainty bands")
+            model = replace(model, ensemble=_fit_bands(campaign, shifts, law_fit, prony_fit,
+                                                       options))
         held_out = None
         if options.cross_validation:
             from .crossval import cross_validate
@@ -591,6 +626,32 @@ def fit_steps(campaign: Campaign, options: BuildOptions, t_ref_K: float, step=No
                                  prony_fit.series.replace(reference_temperature_K=t_ref_K))
     model = ViscoelasticModel(prony_fit.series, law_fit.law, VerticalShift.from_shifts(shifts))
     return FittedSteps(shifts, choice, law_fit, prony_fit, model)
+
+
+#: Master-curve points the band's bootstrap refits each member to (evenly by rank): each of
+#: its members is one NNLS fit, and the band's spread does not need every point of a dense
+#: campaign.
+MAX_BAND_POINTS = 2_000
+
+
+def _fit_bands(campaign, shifts, law_fit, prony_fit, options):
+    """The bootstrap ensemble of :mod:`ttsp.bands` on the Prony fit's own points (None with a
+    warning when it cannot be made: a build is not sunk by an extra)."""
+    from .bands import fit_band_ensemble
+
+    used, _, x_name, columns, quantity = _prony_points(campaign, shifts)
+    used = used.iloc[evenly_spaced_indices(len(used), MAX_BAND_POINTS)]
+    try:
+        return fit_band_ensemble(used[x_name].to_numpy(),
+                                 {c: used[c].to_numpy() for c in columns},
+                                 used["isotherm"].to_numpy(), domain=campaign.domain,
+                                 series=prony_fit.series, shifts=shifts, law_fit=law_fit,
+                                 terms_per_decade=options.prony_terms_per_decade,
+                                 quantity=quantity, seed=0)
+    except (DataError, FitError) as exc:
+        warnings.warn(f"the uncertainty bands could not be made: {exc}", TtspWarning,
+                      stacklevel=3)
+        return None
 
 
 #: The continuous spectrum is fitted to at most this many master-curve points (evenly by rank
@@ -703,11 +764,13 @@ def check(campaign: Campaign, **option_values) -> tuple:
     return build(campaign, **option_values).checks
 
 
-def predict(model, quantity: str, temperature_C, *, time_s=None, frequency_Hz=None):
+def predict(model, quantity: str, temperature_C, *, time_s=None, frequency_Hz=None, band=None):
     """Evaluate a material function at a temperature (°C) from a build result or a model.
 
     ``model`` is a :class:`BuildResult`, a :class:`~ttsp.model.ViscoelasticModel`, or the dict
-    read from a ``summary.json``. Returns a tidy DataFrame with unit-suffixed columns.
+    read from a ``summary.json``. Returns a tidy DataFrame with unit-suffixed columns; with
+    ``band=LEVEL`` (e.g. 0.95) also the interval columns of :func:`band_columns`
+    (:mod:`ttsp.bands`), and the level in ``frame.attrs["band_level"]``.
     """
     import pandas as pd
 
@@ -718,9 +781,19 @@ def predict(model, quantity: str, temperature_C, *, time_s=None, frequency_Hz=No
     elif isinstance(model, dict):
         model = ViscoelasticModel.from_summary(model)
     values = model.evaluate(quantity, celsius_to_kelvin(temperature_C), time_s=time_s,
-                            frequency_Hz=frequency_Hz)
+                            frequency_Hz=frequency_Hz, band=band)
+    banded = None
+    if band is not None:
+        banded, values = values, values.value
     x_name, x = ("time_s", time_s) if time_s is not None else ("frequency_Hz", frequency_Hz)
     t = np.broadcast_to(np.asarray(temperature_C, dtype=float), np.shape(values))
-    return pd.DataFrame({"temperature_C": t.ravel(),
-                         x_name: np.broadcast_to(np.asarray(x, dtype=float), np.shape(values)).ravel(),
-                         QUANTITY_COLUMNS[quantity]: np.ravel(values)})
+    frame = pd.DataFrame({"temperature_C": t.ravel(),
+                          x_name: np.broadcast_to(np.asarray(x, dtype=float),
+                                                  np.shape(values)).ravel(),
+                          QUANTITY_COLUMNS[quantity]: np.ravel(values)})
+    if banded is not None:
+        low, high = band_columns(quantity)
+        frame[low] = np.ravel(np.broadcast_to(banded.low, np.shape(values)))
+        frame[high] = np.ravel(np.broadcast_to(banded.high, np.shape(values)))
+        frame.attrs["band_level"] = banded.level
+    return frame
