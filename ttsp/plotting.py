@@ -54,7 +54,7 @@ FIGURE_NAMES = ("isotherms", "master_curve", "shift_factors", "prony_fit", "time
                 "frequency_functions", "superposition_check")
 #: Figures a build makes only when asked (``BuildOptions.spectrum``) or when it has what they
 #: show (held-out isotherms): see :func:`figure_names`.
-OPTIONAL_FIGURES = ("relaxation_spectrum", "cross_validation")
+OPTIONAL_FIGURES = ("relaxation_spectrum", "isochrone", "cross_validation")
 
 # Okabe & Ito (2002, "Color Universal Design") colours: distinguishable with the common forms
 # of colour-vision deficiency.
