@@ -595,7 +595,8 @@ def test_prony_quality_warn_level_follows_the_noise():
 
 def test_extrapolated_ends_are_named():
     result = checks.check_master_curve_range(FakePronyFit(reaches_glassy_plateau=False))
-    assert result.status == "warn" and result.value == 1.0
+    # a note on the range, not a verdict on superposition (issue 21)
+    assert result.status == "pass" and result.value == 1.0
     assert "short-time (glassy) end" in result.message
     assert "1e-06 s to 1e+03 s" in result.message
     terminal = checks.check_master_curve_range(
@@ -669,7 +670,7 @@ def test_noisy_isotherm_is_named():
     assert "50 °C" in result.message
 
 
-@pytest.mark.parametrize("sigma, status", [(0.02, "pass"), (0.08, "warn"), (0.25, "fail")])
+@pytest.mark.parametrize("sigma, status", [(0.02, "pass"), (0.11, "warn"), (0.25, "fail")])
 def test_noise_level_grades(sigma, status):
     camp = frequency_campaign(SIMPLE_TEMPS_C, [(TAU_S, MOD_PA, simple_law)], E_RUBBERY_PA,
                               noise=sigma, seed=10, points=16)

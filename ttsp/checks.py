@@ -175,9 +175,11 @@ OUTLIER_WARN_PERCENT = 5.0
 OUTLIER_FAIL_PERCENT = 20.0
 
 #: Noise: relative noise (%) of a campaign's moduli. DMA moduli usually repeat within a few %
-#: [common practice, no source]; above 5 % the shift factors lose precision, above 15 % the
-#: checks here lose their power.
-NOISE_WARN_PERCENT = 5.0
+#: [common practice, no source]; above 15 % the checks here lose their power. The warn level
+#: sits above what the third-difference estimate reads on campaigns with up to 5 % true noise
+#: (10 points per isotherm: up to 5.9 % measured on benchmarks/bench_checks.py, where 5.0 warned
+#: on 13 % of simple campaigns); measured rates are in DEVELOPERS.md.
+NOISE_WARN_PERCENT = 7.5
 NOISE_FAIL_PERCENT = 15.0
 #: An isotherm whose noise is this many times the campaign's typical noise is named.
 NOISE_ISOTHERM_RATIO = 3.0
@@ -1347,9 +1349,11 @@ def check_master_curve_range(prony_fit) -> CheckResult:
                "measured, not extrapolated, inside that window.")
         return CheckResult("master_curve_range", "pass", 0.0, 0.0, msg, details)
     msg = (f"The data do not reach the {' and the '.join(ends)}: the series is extrapolated "
-           f"there{where}. Do not use it outside that window; measure at more temperatures to "
-           "reach the plateau.")
-    return CheckResult("master_curve_range", "warn", float(len(ends)), 0.0, msg, details)
+           f"there{where}. That says nothing against superposition, but do not use the series "
+           "outside that window; measure at more temperatures to reach the plateau.")
+    # A note on the range, not a verdict on superposition: exact simple campaigns that stop
+    # short of a plateau warned here on 73 % of benchmarks/bench_checks.py --quick (old code).
+    return CheckResult("master_curve_range", "pass", float(len(ends)), 0.0, msg, details)
 
 
 # ----------------------------------------------------------------------------------------------
@@ -1451,6 +1455,12 @@ def check_noise_level(campaign: Campaign) -> CheckResult:
 # ----------------------------------------------------------------------------------------------
 # the registry
 # ----------------------------------------------------------------------------------------------
+def _function_agreement(campaign, shifts):
+    from .checks_agreement import check_function_agreement
+
+    return check_function_agreement(campaign, shifts)
+
+
 @dataclass(frozen=True)
 class _Entry:
     name: str
@@ -1464,6 +1474,8 @@ _REGISTRY = (
            lambda c, s, l, p: check_van_gurp_palmen(c, shifts=s)),
     _Entry("simplicity_loss_vs_storage", ("campaign",),
            lambda c, s, l, p: check_loss_vs_storage(c, shifts=s)),
+    _Entry("function_agreement", ("campaign", "shifts"),
+           lambda c, s, l, p: _function_agreement(c, s)),
     _Entry("overlap_coverage", ("campaign",),
            lambda c, s, l, p: check_overlap_coverage(c, shifts=s)),
     _Entry("shifted_superposition", ("campaign", "shifts"),
