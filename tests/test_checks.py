@@ -847,7 +847,7 @@ def test_module_does_not_load_matplotlib():
 
 def test_overlap_coverage_warns_about_low_information_shifts():
     """The invented relaxation demo has glassy-plateau isotherms at 20–40 °C whose shifts the
-    shifting flags low-information; coverage must then warn and name them, not say that the data
+    shifting flags low-information; coverage must then name them, not say that the data
     fix every shift."""
     from pathlib import Path
 
@@ -860,8 +860,11 @@ def test_overlap_coverage_warns_about_low_information_shifts():
             if "low-information" in f]
     assert weak, "the demo's plateau isotherms should be flagged"
     check = next(c for c in result.checks if c.name == "overlap_coverage")
-    assert check.status == "warn"
+    # a note, not a warning (issue 21: plateau isotherms of exact simple campaigns are flagged
+    # low-information too; benchmarks/bench_checks.py)
+    assert check.status == "pass"
     assert "poorly determined" in check.message and "20 °C" in check.message
+    assert "fix every shift" not in check.message
 
 
 def test_point_to_curve_distances_agree_with_a_direct_computation(monkeypatch):

@@ -38,9 +38,9 @@ __all__ = ["check_function_agreement", "AGREEMENT_WARN_DECADES", "AGREEMENT_FAIL
 #: single-function shifts differ by more than AGREEMENT_Z combined standard errors (with the
 #: tolerance below added in quadrature) and by more than the warn size; more than the fail size
 #: fails.
-AGREEMENT_WARN_DECADES = 0.1
-AGREEMENT_FAIL_DECADES = 0.3
-AGREEMENT_Z = 4.0
+AGREEMENT_WARN_DECADES = 0.05
+AGREEMENT_FAIL_DECADES = 0.2
+AGREEMENT_Z = 3.0
 #: Allowance (decades) added in quadrature to the combined stderr: the two fits weigh the same
 #: noisy points differently, and their stderrs come from the local curvature of each objective.
 AGREEMENT_TOLERANCE_DECADES = 0.03
