@@ -9,6 +9,7 @@ Ground truth: generalized-Maxwell moduli (Ferry, Viscoelastic Properties of Poly
 from __future__ import annotations
 
 import json
+import sys
 import warnings
 from pathlib import Path
 
@@ -154,3 +155,26 @@ def test_cli_check_json_matches_summary_checks(tmp_path):
     assert res.exit_code == 0, res.output
     written = json.loads((out / "summary.json").read_text())["checks"]
     assert printed == written
+
+
+def test_shear_data_are_named_with_shear_symbols():
+    """G', G'', |G*| for shear data (the symbol follows the data: common practice), in every
+    check message; no tensile symbol left."""
+    result = checks_of(campaign(TEMPS_K, wlf, wlf, noise=0.01, seed=6, kind="shear"))
+    text = " ".join(c.message for c in result)
+    assert "G''" in text and "|G*|" in text
+    assert "E'" not in text and "|E*|" not in text
+
+
+def test_a_melt_ending_in_its_terminal_zone_is_not_short_of_a_rubbery_plateau(monkeypatch):
+    """A liquid (no equilibrium modulus) whose data end with |d ln G'/d ln ω| ≈ 1.4, on the way
+    to the slope 2 of flow (Ferry 1980, ch. 3): the range is described as the terminal zone,
+    the expected end of a melt with an equilibrium modulus of zero by physics, not as a rubbery
+    plateau not reached (the spectrum position was chosen here to give that slope)."""
+    monkeypatch.setattr(sys.modules[__name__], "E_INF", 0.0)
+    monkeypatch.setattr(sys.modules[__name__], "TAU_S", 10.0 ** (np.arange(-8.0, 4.01, 0.25) - 1.0))
+    result = {c.name: c for c in checks_of(campaign(TEMPS_K, wlf, wlf, kind="shear"))}
+    rng = result["master_curve_range"]
+    assert rng.status == "pass"
+    assert "terminal" in rng.message and "zero by physics" in rng.message
+    assert "rubbery" not in rng.message

@@ -57,6 +57,7 @@ from ._arrays import to_plain
 from ._noise import NOISE_FLOOR_LOG10 as _NOISE_FLOOR_LOG10
 from ._noise import third_difference_sigmas
 from ._validation import bad_value, check_choice
+from .checks_words import in_the_symbols_of
 from .data import Campaign
 from .exceptions import DataError, FitError
 
@@ -1377,10 +1378,14 @@ def check_master_curve_range(prony_fit) -> CheckResult:
     series = getattr(prony_fit, "series", None)
     rng = getattr(series, "valid_reduced_time_range_s", None)
     ends = []
+    approaching = any("terminal (flow) zone" in str(w)
+                      for w in getattr(prony_fit, "warnings", ()) or ())
     if not glassy:
         ends.append("short-time (glassy) end")
     if not (rubbery or terminal):
-        ends.append("long-time (rubbery) end")
+        ends.append("long-time (terminal, flow) end, which for a melt is the expected end "
+                    "(its equilibrium modulus is zero by physics)" if approaching
+                    else "long-time (rubbery) end")
     details = {"unit": "extrapolated ends", "glassy_plateau_reached": glassy,
                "rubbery_plateau_reached": rubbery, "terminal_zone_reached": terminal,
                "extrapolated_ends": ends,
@@ -1389,6 +1394,9 @@ def check_master_curve_range(prony_fit) -> CheckResult:
     if not ends:
         msg = (f"The master curve reaches both ends of the relaxation{where}; the series is "
                "measured, not extrapolated, inside that window.")
+        if terminal:
+            msg += (" Its long-time end is the terminal (flow) zone of a liquid, whose "
+                    "equilibrium modulus is zero by physics.")
         return CheckResult("master_curve_range", "pass", 0.0, 0.0, msg, details)
     msg = (f"The data do not reach the {' and the '.join(ends)}: the series is extrapolated "
            f"there{where}. That says nothing against superposition, but do not use the series "
@@ -1592,5 +1600,5 @@ def run_checks(campaign: Campaign, *, shifts=None, law_fit=None,
                                  f"This check could not be evaluated on these data ({exc}).",
                                  {"error": str(exc)})
         if result is not None:
-            out.append(result)
+            out.append(in_the_symbols_of(result, campaign.modulus_kind))
     return tuple(out)
