@@ -82,6 +82,14 @@ def test_seeded_complex_campaign_is_flagged_and_the_isotherms_named():
     assert agree.value > 0.2
     # the coldest isotherm is named with its size in decades
     assert f"{TEMPS_K[0] - 273.15:.4g} °C" in agree.message and "decade" in agree.message
+    # and the shift table flags them
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        shifts = build(camp, cross_validation=False).shifts
+    flagged = [t - 273.15 for t, f in zip(shifts.temperature_K, shifts.flags)
+               if "functions-disagree" in f]
+    assert flagged == pytest.approx(agree.details["disagreeing_temperatures_C"])
+    assert "functions-disagree" in shifts.flags[0]
 
 
 def test_agreement_check_passes_one_law_and_flags_two():
