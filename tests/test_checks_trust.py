@@ -186,3 +186,18 @@ def test_a_melt_ending_in_its_terminal_zone_is_not_short_of_a_rubbery_plateau(mo
     assert rng.status == "pass"
     assert "terminal" in rng.message and "zero by physics" in rng.message
     assert "rubbery" not in rng.message
+
+
+def test_kramers_kronig_names_the_worst_isotherms():
+    """E'' of every isotherm scaled by 1.5 (inconsistent with E' by construction): the check
+    flags it and names the isotherms behind its number."""
+    camp = campaign(TEMPS_K, wlf, wlf, noise=0.005, seed=7)
+    from dataclasses import replace
+
+    camp = Campaign(tuple(replace(iso, values={**iso.values, "loss_modulus_Pa":
+                                               1.5 * iso.values["loss_modulus_Pa"]})
+                          for iso in camp.isotherms), "frequency", "tensile", source="test")
+    kk = {c.name: c for c in checks_of(camp)}["kramers_kronig"]
+    assert kk.status in ("warn", "fail")
+    assert "largest at" in kk.message and "°C (" in kk.message
+    assert len(kk.details["worst_isotherms"]) == 3

@@ -795,14 +795,15 @@ def _master_curve(campaign: Campaign, shifts, prony_fit):
                                            "loss_modulus_Pa"} <= set(c.quantities):
             return None
         table = _align_shifts(c, shifts)
-        w, e1, e2 = [], [], []
+        w, e1, e2, temps = [], [], [], []
         for k, iso in enumerate(c.isotherms):
             keep = _keep(table, k, iso.n_points)
             b = 10.0 ** table.log10_bT[k]
             w.append(10.0 ** _reduced_log_x(c, table, k)[keep])
             e1.append(iso.values["storage_modulus_Pa"][keep] / b)
             e2.append(iso.values["loss_modulus_Pa"][keep] / b)
-        w, e1, e2 = (np.concatenate(v) for v in (w, e1, e2))
+            temps.append(np.full(int(keep.sum()), iso.temperature_K))
+        w, e1, e2, temps = (np.concatenate(v) for v in (w, e1, e2, temps))
         source = "shifted campaign"
     elif prony_fit is not None:
         if getattr(prony_fit, "domain", None) != "frequency" or not {
@@ -811,12 +812,13 @@ def _master_curve(campaign: Campaign, shifts, prony_fit):
         w = np.asarray(prony_fit.x, dtype=float)
         e1 = np.asarray(prony_fit.measured["storage_modulus"], dtype=float)
         e2 = np.asarray(prony_fit.measured["loss_modulus"], dtype=float)
+        temps = np.full(w.shape, np.nan)
         source = "data of the Prony fit"
     else:
         return None
     ok = np.isfinite(w) & np.isfinite(e1) & np.isfinite(e2) & (w > 0) & (e1 > 0) & (e2 > 0)
     order = np.argsort(w[ok], kind="stable")
-    return w[ok][order], e1[ok][order], e2[ok][order], source
+    return w[ok][order], e1[ok][order], e2[ok][order], temps[ok][order], source
 
 
 def _nnls_relative(design: np.ndarray, y: np.ndarray) -> np.ndarray:
@@ -869,6 +871,17 @@ def _kk_disagreement(w, e1, e2, inner):
     rms1 = float(np.sqrt(np.mean(dev1 ** 2))) if dev1.size >= 3 else math.nan
     rms2 = float(np.sqrt(np.mean(dev2 ** 2))) if dev2.size >= 3 else math.nan
     return rms1, rms2, dev1, dev2, use1, use2
+
+
+def _kk_worst_isotherms(point_T, dev, n=3):
+    """[(T_K, rms %)] of the isotherms with the largest rms deviation, at most n."""
+    point_T = np.asarray(point_T, dtype=float)
+    ok = np.isfinite(point_T)
+    if not ok.any():
+        return []
+    rows = [(float(t), float(np.sqrt(np.mean(dev[ok & (point_T == t)] ** 2))))
+            for t in np.unique(point_T[ok])]
+    return sorted(rows, key=lambda r: -r[1])[:n]
 
 
 def _kk_window_percent(w, inner, prony_fit) -> float:
@@ -926,7 +939,7 @@ def check_kramers_kronig(campaign: Campaign | None = None, *, shifts=None,
     curve = _master_curve(campaign, shifts, prony_fit)
     if curve is None:
         return None
-    w, e1, e2, source = curve
+    w, e1, e2, point_T, source = curve
     lw = np.log10(w)
     inner = (lw >= lw[0] + KK_EDGE_DECADES) & (lw <= lw[-1] - KK_EDGE_DECADES)
     if inner.sum() < 5 or w.size < 8:
@@ -965,15 +978,24 @@ def check_kramers_kronig(campaign: Campaign | None = None, *, shifts=None,
         details["joint_fit_rms_percent"] = {str(k): float(v) for k, v in
                                             prony_fit.rms_percent_by_quantity.items()}
     worse = ("E'' predicted from E'" if not rms1 >= rms2 else "E' predicted from E''")
+    worst = _kk_worst_isotherms(point_T[use2] if not rms1 >= rms2 else point_T[use1],
+                                dev2 if not rms1 >= rms2 else dev1)
+    details["worst_isotherms"] = [{"temperature_C": t - 273.15, "rms_percent": r}
+                                  for t, r in worst]
+    where = ("; largest at " + ", ".join(f"{_fmt_C(t)} ({r:.2g} %)" for t, r in worst)
+             if worst and status != "pass" else "")
+    window_note = (f" (exact data of this window alone give {window:.2g} %, allowed for)"
+                   if math.isfinite(window) and window >= 1.0 and status != "pass" else "")
     if status == "pass":
         msg = (f"E' and E'' of the master curve agree with one relaxation spectrum within "
                f"{value:.2g} % (Kramers–Kronig); they are consistent.")
     elif status == "warn":
-        msg = (f"{worse} misses the measured curve by {value:.2g} % rms: E' and E'' agree only "
-               "roughly with one spectrum. Check the ends of the master curve and the shifts; "
+        msg = (f"{worse} misses the measured curve by {value:.2g} % rms{where}{window_note}: "
+               "E' and E'' agree only roughly with one spectrum. Check the ends of the master curve and the shifts; "
                "use the Prony series with care.")
     else:
-        msg = (f"{worse} misses the measured curve by {value:.2g} % rms, so E' and E'' cannot be "
+        msg = (f"{worse} misses the measured curve by {value:.2g} % rms{where}{window_note}, so "
+               "E' and E'' cannot be "
                "the two faces of one relaxation spectrum (Kramers–Kronig). Look for instrument "
                "artefacts (inertia, clamp compliance, phase error), nonlinearity or shifts that "
                "differ between E' and E''.")
