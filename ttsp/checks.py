@@ -23,6 +23,9 @@ The checks
     Whether E' and E'' of the master curve are the two faces of one relaxation spectrum
     (Booij & Thoone, Rheol. Acta 21, 15-24, 1982): each is fitted alone with a non-negative
     Prony series and the other is predicted from it.
+``function_agreement`` (:mod:`ttsp.checks_agreement`)
+    Shifts found on E' alone and on E'' alone, compared isotherm by isotherm against their
+    standard errors; a disagreement names the isotherms and its size in decades.
 ``overlap_coverage``
     Decades of overlap in the ordinate between neighbouring isotherms; gaps named.
 ``monotonic_shifts``
@@ -38,6 +41,10 @@ The checks
 ``outliers`` and ``noise_level``
     Points flagged as outliers by the shifting, and the noise of each isotherm estimated from
     third differences of its logarithmic values.
+
+Messages of shear data use G and J (:mod:`ttsp.checks_words`). Every threshold is set on
+``benchmarks/bench_checks.py`` (simple campaigns for the false-alarm rates, graded complex ones
+for detection; the rates are in DEVELOPERS.md).
 
 All computation is numpy/scipy; nothing is printed and no warning is issued: a check reports.
 """
@@ -991,12 +998,12 @@ def check_kramers_kronig(campaign: Campaign | None = None, *, shifts=None,
                f"{value:.2g} % (Kramers–Kronig); they are consistent.")
     elif status == "warn":
         msg = (f"{worse} misses the measured curve by {value:.2g} % rms{where}{window_note}: "
-               "E' and E'' agree only roughly with one spectrum. Check the ends of the master curve and the shifts; "
-               "use the Prony series with care.")
+               "E' and E'' agree only roughly with one spectrum. Check the ends of the master "
+               "curve and the shifts; use the Prony series with care.")
     else:
         msg = (f"{worse} misses the measured curve by {value:.2g} % rms{where}{window_note}, so "
-               "E' and E'' cannot be "
-               "the two faces of one relaxation spectrum (Kramers–Kronig). Look for instrument "
+               "E' and E'' cannot be the two faces of one relaxation spectrum "
+               "(Kramers–Kronig). Look for instrument "
                "artefacts (inertia, clamp compliance, phase error), nonlinearity or shifts that "
                "differ between E' and E''.")
     return CheckResult("kramers_kronig", status, value, warn, msg, details)
