@@ -891,30 +891,6 @@ def _kk_worst_isotherms(point_T, dev, n=3):
     return sorted(rows, key=lambda r: -r[1])[:n]
 
 
-def _kk_window_percent(w, inner, prony_fit) -> float:
-    """The Kramers–Kronig statistic on exact data of the same window (%), NaN if unknown.
-
-    E' and E'' of the build's Prony series at the same reduced frequencies are exactly
-    consistent, so whatever disagreement the check finds on them is its own truncation (the
-    part of the spectrum outside the window), which is added to the warn level (the threshold
-    is normalised by what exact data of that window give: common practice in test design,
-    docs/methods.md §6.2).
-    """
-    series = getattr(prony_fit, "series", None)
-    if series is None:
-        return math.nan
-    try:
-        e1 = np.asarray(series.storage_modulus(w), dtype=float)
-        e2 = np.asarray(series.loss_modulus(w), dtype=float)
-    except (AttributeError, TypeError, ValueError):
-        return math.nan
-    if not (np.all(np.isfinite(e1)) and np.all(e1 > 0) and np.all(e2 > 0)):
-        return math.nan
-    rms1, rms2, *_ = _kk_disagreement(w, e1, e2, inner)
-    return float(np.nanmax([rms1, rms2])) if (math.isfinite(rms1) or math.isfinite(rms2)) \
-        else math.nan
-
-
 def check_kramers_kronig(campaign: Campaign | None = None, *, shifts=None,
                          prony_fit=None) -> CheckResult | None:
     """Kramers–Kronig consistency of E' and E'' of the master curve.
@@ -955,7 +931,6 @@ def check_kramers_kronig(campaign: Campaign | None = None, *, shifts=None,
                            "measure over a wider range of reduced frequency.",
                            {"points": int(w.size), "source": source})
     rms1, rms2, dev1, dev2, use1, use2 = _kk_disagreement(w, e1, e2, inner)
-    window = _kk_window_percent(w, inner, prony_fit)
     if not (math.isfinite(rms1) or math.isfinite(rms2)):
         return CheckResult("kramers_kronig", "warn", None, KK_WARN_PERCENT,
                            "The master curve has too few points where E' and E'' are comparable "
@@ -968,9 +943,6 @@ def check_kramers_kronig(campaign: Campaign | None = None, *, shifts=None,
     warn = KK_WARN_PERCENT
     if math.isfinite(noise_pct):
         warn = max(warn, KK_NOISE_FACTOR * noise_pct)
-    if math.isfinite(window):
-        # what the window alone gives on exact data is no evidence against the data
-        warn += window
     fail = max(KK_FAIL_PERCENT, 2.0 * warn)
     status = _grade(value, warn, fail)
     details = {"unit": "%", "source": source, "points": int(w.size),
@@ -980,7 +952,7 @@ def check_kramers_kronig(campaign: Campaign | None = None, *, shifts=None,
                "storage_from_loss_points": int(use1.sum()),
                "storage_from_loss_rms_percent": rms1,
                "storage_from_loss_mean_percent": float(np.mean(dev1)) if dev1.size else None,
-               "noise_percent": noise_pct, "window_percent": window, "fail_threshold": fail}
+               "noise_percent": noise_pct, "fail_threshold": fail}
     if prony_fit is not None and getattr(prony_fit, "rms_percent_by_quantity", None):
         details["joint_fit_rms_percent"] = {str(k): float(v) for k, v in
                                             prony_fit.rms_percent_by_quantity.items()}
@@ -991,17 +963,15 @@ def check_kramers_kronig(campaign: Campaign | None = None, *, shifts=None,
                                   for t, r in worst]
     where = ("; largest at " + ", ".join(f"{_fmt_C(t)} ({r:.2g} %)" for t, r in worst)
              if worst and status != "pass" else "")
-    window_note = (f" (exact data of this window alone give {window:.2g} %, allowed for)"
-                   if math.isfinite(window) and window >= 1.0 and status != "pass" else "")
     if status == "pass":
         msg = (f"E' and E'' of the master curve agree with one relaxation spectrum within "
                f"{value:.2g} % (Kramers–Kronig); they are consistent.")
     elif status == "warn":
-        msg = (f"{worse} misses the measured curve by {value:.2g} % rms{where}{window_note}: "
+        msg = (f"{worse} misses the measured curve by {value:.2g} % rms{where}: "
                "E' and E'' agree only roughly with one spectrum. Check the ends of the master "
                "curve and the shifts; use the Prony series with care.")
     else:
-        msg = (f"{worse} misses the measured curve by {value:.2g} % rms{where}{window_note}, so "
+        msg = (f"{worse} misses the measured curve by {value:.2g} % rms{where}, so "
                "E' and E'' cannot be the two faces of one relaxation spectrum "
                "(Kramers–Kronig). Look for instrument "
                "artefacts (inertia, clamp compliance, phase error), nonlinearity or shifts that "
