@@ -189,8 +189,13 @@ OUTLIER_FAIL_PERCENT = 20.0
 #: on 13 % of simple campaigns); measured rates are in DEVELOPERS.md.
 NOISE_WARN_PERCENT = 7.5
 NOISE_FAIL_PERCENT = 15.0
-#: An isotherm whose noise is this many times the campaign's typical noise is named.
-NOISE_ISOTHERM_RATIO = 3.0
+#: An isotherm whose noise is this many times the campaign's typical noise, and above
+#: NOISE_ISOTHERM_PERCENT, is named (warn). With 10 points per isotherm the third-difference
+#: estimate of one isotherm scatters widely: on simple benchmark campaigns the noisiest of 20
+#: isotherms read 3-4 times the median (up to 13 % at 4 % true noise), so 3 times and 5 %
+#: warned on 5 % of simple campaigns (benchmarks/bench_checks.py --quick).
+NOISE_ISOTHERM_RATIO = 5.0
+NOISE_ISOTHERM_PERCENT = 10.0
 
 _LN10 = math.log(10.0)
 _RESIDUAL_ZERO_DECADES = 1e-9
@@ -1490,7 +1495,7 @@ def check_noise_level(campaign: Campaign) -> CheckResult:
             measured.append(100.0 * _LN10 * float(np.median(vals)))
     typical = max(measured) if measured else floored
     noisy = [r for r in rows if r["noise_percent"] is not None
-             and r["noise_percent"] > max(NOISE_ISOTHERM_RATIO * typical, NOISE_WARN_PERCENT)]
+             and r["noise_percent"] > max(NOISE_ISOTHERM_RATIO * typical, NOISE_ISOTHERM_PERCENT)]
     status = _grade(typical, NOISE_WARN_PERCENT, NOISE_FAIL_PERCENT)
     if status == "pass" and noisy:
         status = "warn"
