@@ -34,17 +34,21 @@ from .exceptions import DataError, FitError
 __all__ = ["check_function_agreement", "AGREEMENT_WARN_DECADES", "AGREEMENT_FAIL_DECADES",
            "AGREEMENT_Z", "AGREEMENT_TOLERANCE_DECADES"]
 
-#: Thresholds, set on benchmarks/bench_checks.py (240 simple, 120 complex campaigns; the measured
-#: rates are in DEVELOPERS.md "Where the targets stand"): an isotherm disagrees when its two
-#: single-function shifts differ by more than AGREEMENT_Z combined standard errors (with the
-#: tolerance below added in quadrature) and by more than the warn size; more than the fail size
-#: fails.
+#: Thresholds, set on benchmarks/bench_checks.py (the full rates are in DEVELOPERS.md "Where the
+#: targets stand"): an isotherm disagrees when its two single-function shifts differ by more
+#: than AGREEMENT_Z combined standard errors (with the tolerance below added in quadrature) and
+#: by more than the warn size; more than the fail size fails. On the simple campaigns the largest
+#: |z| of an informative isotherm was at most 1.8 (24 frequency campaigns probed). --quick
+#: (60 simple, 36 complex): at z 3 and tolerance 0.03, 0 % of simple campaigns warned and
+#: complex ones were flagged at 0/3 (two processes 0.3 decade apart) and 0/3 (E'' on its own law,
+#: 0.1 decade); at z 2.5 and tolerance 0.02, 2 % of simple campaigns warned, 0 failed, and those
+#: complex ones were flagged 2/3 and 2/3.
 AGREEMENT_WARN_DECADES = 0.05
 AGREEMENT_FAIL_DECADES = 0.2
-AGREEMENT_Z = 3.0
+AGREEMENT_Z = 2.5
 #: Allowance (decades) added in quadrature to the combined stderr: the two fits weigh the same
 #: noisy points differently, and their stderrs come from the local curvature of each objective.
-AGREEMENT_TOLERANCE_DECADES = 0.03
+AGREEMENT_TOLERANCE_DECADES = 0.02
 
 _PAIRS = (("storage_modulus_Pa", "loss_modulus_Pa"),
           ("storage_compliance_1_per_Pa", "loss_compliance_1_per_Pa"))
