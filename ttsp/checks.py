@@ -126,11 +126,14 @@ MIN_CLASS_POINTS = 10
 #: other function of the master curve. It reads about as the error of the level of E'': on the
 #: exact test spectra a copy of E'' scaled by 1.1 gives 9 %, by 1.2 18 %, by 1.6 (with a slope
 #: change) 61 %, while a consistent curve gives 0.1 % (exact) or about 3 % (2 % noise)
-#: [computed here, tests/test_checks.py]. A tenth of E''
-#: unexplained is more than the phase error of a sound instrument causes [common practice, no
-#: source], so 10 % warns; at 25 % E' and E'' cannot come from one spectrum.
-KK_WARN_PERCENT = 10.0
-KK_FAIL_PERCENT = 25.0
+#: [computed here, tests/test_checks.py]. But on finite windows of exact simple campaigns the
+#: check's own truncation reads far more (benchmarks/bench_checks.py, 192 simple frequency
+#: campaigns: 17 above 10 %, 6 above 20 %, 2 above 25 %, 1 above 50 %, largest 50.8 %), so the
+#: thresholds are read off that null distribution: 20 % warns (3 % of simple campaigns; the
+#: 97th percentile) and 50 % fails (0.5 %). An E'' wrong by a fifth in level now passes this
+#: check alone; E'' on its own shift law is caught by function_agreement.
+KK_WARN_PERCENT = 20.0
+KK_FAIL_PERCENT = 50.0
 #: A function is predicted from the other only where it is at least this fraction of the other
 #: (E'' where tan δ ≥ 0.2, E' where tan δ ≤ 5): E'' follows from the slope of E', and where
 #: tan δ is small that slope drowns in the noise of E' (at 2 % noise the prediction of E'' is
