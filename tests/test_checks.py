@@ -368,14 +368,16 @@ def test_scaled_loss_modulus_fails_kramers_kronig(noise):
 
 
 def test_kramers_kronig_grades_the_size_of_the_inconsistency():
-    """×1.1 passes (measured 9.1 %), ×1.2 warns (17.8 %): the value reads as the level error."""
+    """×1.1 (measured 9.1 %) and ×1.2 (17.8 %) pass, ×1.3 warns (26.7 %): the value reads as the
+    level error; the thresholds (20 %, 50 %) come from benchmarks/bench_checks.py (issue 21)."""
     values = {}
-    for factor in (1.1, 1.2):
+    for factor in (1.1, 1.2, 1.3):
         camp = frequency_campaign(SIMPLE_TEMPS_C, [(TAU_S, MOD_PA, simple_law)], E_RUBBERY_PA,
                                   loss_map=lambda wr, e2, f=factor: f * e2)
         values[factor] = checks.check_kramers_kronig(camp, shifts=exact_shifts(camp, simple_law))
     assert values[1.1].status == "pass" and 7 < values[1.1].value < 10
-    assert values[1.2].status == "warn" and 15 < values[1.2].value < 25
+    assert values[1.2].status == "pass" and 15 < values[1.2].value < 20
+    assert values[1.3].status == "warn" and 20 < values[1.3].value < 35
 
 
 def test_kramers_kronig_short_master_curve_warns():
@@ -597,7 +599,8 @@ def test_prony_quality_warn_level_follows_the_noise():
 
 def test_extrapolated_ends_are_named():
     result = checks.check_master_curve_range(FakePronyFit(reaches_glassy_plateau=False))
-    assert result.status == "warn" and result.value == 1.0
+    # a note on the range, not a verdict on superposition (issue 21)
+    assert result.status == "pass" and result.value == 1.0
     assert "short-time (glassy) end" in result.message
     assert "1e-06 s to 1e+03 s" in result.message
     terminal = checks.check_master_curve_range(
@@ -671,7 +674,7 @@ def test_noisy_isotherm_is_named():
     assert "50 °C" in result.message
 
 
-@pytest.mark.parametrize("sigma, status", [(0.02, "pass"), (0.08, "warn"), (0.25, "fail")])
+@pytest.mark.parametrize("sigma, status", [(0.02, "pass"), (0.11, "warn"), (0.25, "fail")])
 def test_noise_level_grades(sigma, status):
     camp = frequency_campaign(SIMPLE_TEMPS_C, [(TAU_S, MOD_PA, simple_law)], E_RUBBERY_PA,
                               noise=sigma, seed=10, points=16)
@@ -848,7 +851,7 @@ def test_module_does_not_load_matplotlib():
 
 def test_overlap_coverage_warns_about_low_information_shifts():
     """The invented relaxation demo has glassy-plateau isotherms at 20–40 °C whose shifts the
-    shifting flags low-information; coverage must then warn and name them, not say that the data
+    shifting flags low-information; coverage must then name them, not say that the data
     fix every shift."""
     from pathlib import Path
 
@@ -861,8 +864,11 @@ def test_overlap_coverage_warns_about_low_information_shifts():
             if "low-information" in f]
     assert weak, "the demo's plateau isotherms should be flagged"
     check = next(c for c in result.checks if c.name == "overlap_coverage")
-    assert check.status == "warn"
+    # a note, not a warning (issue 21: plateau isotherms of exact simple campaigns are flagged
+    # low-information too; benchmarks/bench_checks.py)
+    assert check.status == "pass"
     assert "poorly determined" in check.message and "20 °C" in check.message
+    assert "fix every shift" not in check.message
 
 
 def test_point_to_curve_distances_agree_with_a_direct_computation(monkeypatch):

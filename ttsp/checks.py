@@ -23,6 +23,9 @@ The checks
     Whether E' and E'' of the master curve are the two faces of one relaxation spectrum
     (Booij & Thoone, Rheol. Acta 21, 15-24, 1982): each is fitted alone with a non-negative
     Prony series and the other is predicted from it.
+``function_agreement`` (:mod:`ttsp.checks_agreement`)
+    Shifts found on E' alone and on E'' alone, compared isotherm by isotherm against their
+    standard errors; a disagreement names the isotherms and its size in decades.
 ``overlap_coverage``
     Decades of overlap in the ordinate between neighbouring isotherms; gaps named.
 ``monotonic_shifts``
@@ -38,6 +41,10 @@ The checks
 ``outliers`` and ``noise_level``
     Points flagged as outliers by the shifting, and the noise of each isotherm estimated from
     third differences of its logarithmic values.
+
+Messages of shear data use G and J (:mod:`ttsp.checks_words`). Every threshold is set on
+``benchmarks/bench_checks.py`` (simple campaigns for the false-alarm rates, graded complex ones
+for detection; the rates are in DEVELOPERS.md).
 
 All computation is numpy/scipy; nothing is printed and no warning is issued: a check reports.
 """
@@ -57,6 +64,7 @@ from ._arrays import to_plain
 from ._noise import NOISE_FLOOR_LOG10 as _NOISE_FLOOR_LOG10
 from ._noise import third_difference_sigmas
 from ._validation import bad_value, check_choice
+from .checks_words import in_the_symbols_of
 from .data import Campaign
 from .exceptions import DataError, FitError
 
@@ -119,11 +127,14 @@ MIN_CLASS_POINTS = 10
 #: other function of the master curve. It reads about as the error of the level of E'': on the
 #: exact test spectra a copy of E'' scaled by 1.1 gives 9 %, by 1.2 18 %, by 1.6 (with a slope
 #: change) 61 %, while a consistent curve gives 0.1 % (exact) or about 3 % (2 % noise)
-#: [computed here, tests/test_checks.py]. A tenth of E''
-#: unexplained is more than the phase error of a sound instrument causes [common practice, no
-#: source], so 10 % warns; at 25 % E' and E'' cannot come from one spectrum.
-KK_WARN_PERCENT = 10.0
-KK_FAIL_PERCENT = 25.0
+#: [computed here, tests/test_checks.py]. But on finite windows of exact simple campaigns the
+#: check's own truncation reads far more (benchmarks/bench_checks.py, 192 simple frequency
+#: campaigns: 17 above 10 %, 6 above 20 %, 2 above 25 %, 1 above 50 %, largest 50.8 %), so the
+#: thresholds are read off that null distribution: 20 % warns (3 % of simple campaigns; the
+#: 97th percentile) and 50 % fails (0.5 %). An E'' wrong by a fifth in level now passes this
+#: check alone; E'' on its own shift law is caught by function_agreement.
+KK_WARN_PERCENT = 20.0
+KK_FAIL_PERCENT = 50.0
 #: A function is predicted from the other only where it is at least this fraction of the other
 #: (E'' where tan δ ≥ 0.2, E' where tan δ ≤ 5): E'' follows from the slope of E', and where
 #: tan δ is small that slope drowns in the noise of E' (at 2 % noise the prediction of E'' is
@@ -176,12 +187,19 @@ OUTLIER_WARN_PERCENT = 5.0
 OUTLIER_FAIL_PERCENT = 20.0
 
 #: Noise: relative noise (%) of a campaign's moduli. DMA moduli usually repeat within a few %
-#: [common practice, no source]; above 5 % the shift factors lose precision, above 15 % the
-#: checks here lose their power.
-NOISE_WARN_PERCENT = 5.0
+#: [common practice, no source]; above 15 % the checks here lose their power. The warn level
+#: sits above what the third-difference estimate reads on campaigns with up to 5 % true noise
+#: (10 points per isotherm: up to 5.9 % measured on benchmarks/bench_checks.py, where 5.0 warned
+#: on 13 % of simple campaigns); measured rates are in DEVELOPERS.md.
+NOISE_WARN_PERCENT = 7.5
 NOISE_FAIL_PERCENT = 15.0
-#: An isotherm whose noise is this many times the campaign's typical noise is named.
-NOISE_ISOTHERM_RATIO = 3.0
+#: An isotherm whose noise is this many times the campaign's typical noise, and above
+#: NOISE_ISOTHERM_PERCENT, is named (warn). With 10 points per isotherm the third-difference
+#: estimate of one isotherm scatters widely: on simple benchmark campaigns the noisiest of 20
+#: isotherms read 3-4 times the median (up to 13 % at 4 % true noise), so 3 times and 5 %
+#: warned on 5 % of simple campaigns (benchmarks/bench_checks.py --quick).
+NOISE_ISOTHERM_RATIO = 5.0
+NOISE_ISOTHERM_PERCENT = 10.0
 
 _LN10 = math.log(10.0)
 _RESIDUAL_ZERO_DECADES = 1e-9
@@ -793,14 +811,15 @@ def _master_curve(campaign: Campaign, shifts, prony_fit):
                                            "loss_modulus_Pa"} <= set(c.quantities):
             return None
         table = _align_shifts(c, shifts)
-        w, e1, e2 = [], [], []
+        w, e1, e2, temps = [], [], [], []
         for k, iso in enumerate(c.isotherms):
             keep = _keep(table, k, iso.n_points)
             b = 10.0 ** table.log10_bT[k]
             w.append(10.0 ** _reduced_log_x(c, table, k)[keep])
             e1.append(iso.values["storage_modulus_Pa"][keep] / b)
             e2.append(iso.values["loss_modulus_Pa"][keep] / b)
-        w, e1, e2 = (np.concatenate(v) for v in (w, e1, e2))
+            temps.append(np.full(int(keep.sum()), iso.temperature_K))
+        w, e1, e2, temps = (np.concatenate(v) for v in (w, e1, e2, temps))
         source = "shifted campaign"
     elif prony_fit is not None:
         if getattr(prony_fit, "domain", None) != "frequency" or not {
@@ -809,12 +828,13 @@ def _master_curve(campaign: Campaign, shifts, prony_fit):
         w = np.asarray(prony_fit.x, dtype=float)
         e1 = np.asarray(prony_fit.measured["storage_modulus"], dtype=float)
         e2 = np.asarray(prony_fit.measured["loss_modulus"], dtype=float)
+        temps = np.full(w.shape, np.nan)
         source = "data of the Prony fit"
     else:
         return None
     ok = np.isfinite(w) & np.isfinite(e1) & np.isfinite(e2) & (w > 0) & (e1 > 0) & (e2 > 0)
     order = np.argsort(w[ok], kind="stable")
-    return w[ok][order], e1[ok][order], e2[ok][order], source
+    return w[ok][order], e1[ok][order], e2[ok][order], temps[ok][order], source
 
 
 def _nnls_relative(design: np.ndarray, y: np.ndarray) -> np.ndarray:
@@ -856,6 +876,30 @@ def _kk_predictions(w, e1, e2):
     return pred1, pred2
 
 
+def _kk_disagreement(w, e1, e2, inner):
+    """rms (%) of E' predicted from E'' and of E'' predicted from E', where each is not tiny."""
+    pred1, pred2 = _kk_predictions(w, e1, e2)
+    ratio = e2 / e1
+    use2 = inner & (ratio >= KK_MIN_RATIO)          # E'' predicted where it is not tiny
+    use1 = inner & (ratio <= 1.0 / KK_MIN_RATIO)    # E' predicted where it is not tiny
+    dev1 = 100.0 * (pred1[use1] / e1[use1] - 1.0)
+    dev2 = 100.0 * (pred2[use2] / e2[use2] - 1.0)
+    rms1 = float(np.sqrt(np.mean(dev1 ** 2))) if dev1.size >= 3 else math.nan
+    rms2 = float(np.sqrt(np.mean(dev2 ** 2))) if dev2.size >= 3 else math.nan
+    return rms1, rms2, dev1, dev2, use1, use2
+
+
+def _kk_worst_isotherms(point_T, dev, n=3):
+    """[(T_K, rms %)] of the isotherms with the largest rms deviation, at most n."""
+    point_T = np.asarray(point_T, dtype=float)
+    ok = np.isfinite(point_T)
+    if not ok.any():
+        return []
+    rows = [(float(t), float(np.sqrt(np.mean(dev[ok & (point_T == t)] ** 2))))
+            for t in np.unique(point_T[ok])]
+    return sorted(rows, key=lambda r: -r[1])[:n]
+
+
 def check_kramers_kronig(campaign: Campaign | None = None, *, shifts=None,
                          prony_fit=None) -> CheckResult | None:
     """Kramers–Kronig consistency of E' and E'' of the master curve.
@@ -887,7 +931,7 @@ def check_kramers_kronig(campaign: Campaign | None = None, *, shifts=None,
     curve = _master_curve(campaign, shifts, prony_fit)
     if curve is None:
         return None
-    w, e1, e2, source = curve
+    w, e1, e2, point_T, source = curve
     lw = np.log10(w)
     inner = (lw >= lw[0] + KK_EDGE_DECADES) & (lw <= lw[-1] - KK_EDGE_DECADES)
     if inner.sum() < 5 or w.size < 8:
@@ -895,14 +939,7 @@ def check_kramers_kronig(campaign: Campaign | None = None, *, shifts=None,
                            "The master curve is too short to test whether E' and E'' agree; "
                            "measure over a wider range of reduced frequency.",
                            {"points": int(w.size), "source": source})
-    pred1, pred2 = _kk_predictions(w, e1, e2)
-    ratio = e2 / e1
-    use2 = inner & (ratio >= KK_MIN_RATIO)          # E'' predicted where it is not tiny
-    use1 = inner & (ratio <= 1.0 / KK_MIN_RATIO)    # E' predicted where it is not tiny
-    dev1 = 100.0 * (pred1[use1] / e1[use1] - 1.0)
-    dev2 = 100.0 * (pred2[use2] / e2[use2] - 1.0)
-    rms1 = float(np.sqrt(np.mean(dev1 ** 2))) if dev1.size >= 3 else math.nan
-    rms2 = float(np.sqrt(np.mean(dev2 ** 2))) if dev2.size >= 3 else math.nan
+    rms1, rms2, dev1, dev2, use1, use2 = _kk_disagreement(w, e1, e2, inner)
     if not (math.isfinite(rms1) or math.isfinite(rms2)):
         return CheckResult("kramers_kronig", "warn", None, KK_WARN_PERCENT,
                            "The master curve has too few points where E' and E'' are comparable "
@@ -929,16 +966,23 @@ def check_kramers_kronig(campaign: Campaign | None = None, *, shifts=None,
         details["joint_fit_rms_percent"] = {str(k): float(v) for k, v in
                                             prony_fit.rms_percent_by_quantity.items()}
     worse = ("E'' predicted from E'" if not rms1 >= rms2 else "E' predicted from E''")
+    worst = _kk_worst_isotherms(point_T[use2] if not rms1 >= rms2 else point_T[use1],
+                                dev2 if not rms1 >= rms2 else dev1)
+    details["worst_isotherms"] = [{"temperature_C": t - 273.15, "rms_percent": r}
+                                  for t, r in worst]
+    where = ("; largest at " + ", ".join(f"{_fmt_C(t)} ({r:.2g} %)" for t, r in worst)
+             if worst and status != "pass" else "")
     if status == "pass":
         msg = (f"E' and E'' of the master curve agree with one relaxation spectrum within "
                f"{value:.2g} % (Kramers–Kronig); they are consistent.")
     elif status == "warn":
-        msg = (f"{worse} misses the measured curve by {value:.2g} % rms: E' and E'' agree only "
-               "roughly with one spectrum. Check the ends of the master curve and the shifts; "
-               "use the Prony series with care.")
+        msg = (f"{worse} misses the measured curve by {value:.2g} % rms{where}: "
+               "E' and E'' agree only roughly with one spectrum. Check the ends of the master "
+               "curve and the shifts; use the Prony series with care.")
     else:
-        msg = (f"{worse} misses the measured curve by {value:.2g} % rms, so E' and E'' cannot be "
-               "the two faces of one relaxation spectrum (Kramers–Kronig). Look for instrument "
+        msg = (f"{worse} misses the measured curve by {value:.2g} % rms{where}, so "
+               "E' and E'' cannot be the two faces of one relaxation spectrum "
+               "(Kramers–Kronig). Look for instrument "
                "artefacts (inertia, clamp compliance, phase error), nonlinearity or shifts that "
                "differ between E' and E''.")
     return CheckResult("kramers_kronig", status, value, warn, msg, details)
@@ -1037,7 +1081,7 @@ def check_overlap_coverage(campaign: Campaign, *, shifts=None) -> CheckResult | 
                "temperatures between them, widen the frequency or time range, or bridge the gap "
                "with a shift law and treat those shifts as model-based.")
         status = "fail"
-    elif thin or bridged_by_tan or bridged or weak:
+    elif thin or bridged_by_tan or bridged:
         parts = []
         if thin:
             parts.append(f"thin overlap in {symbol} between {'; '.join(thin)}")
@@ -1058,7 +1102,15 @@ def check_overlap_coverage(campaign: Campaign, *, shifts=None) -> CheckResult | 
                 if least["narrower_span_decades"] < MIN_OVERLAP_DECADES else "")
         msg = (f"Every pair of neighbouring isotherms overlaps in {symbol} (least "
                f"{value:.2g} decade, between {least['temperature_low_C']:.4g} °C and "
-               f"{least['temperature_high_C']:.4g} °C{flat}); the data can fix every shift.")
+               f"{least['temperature_high_C']:.4g} °C{flat})")
+        if weak:
+            # A note, not a warning: plateau isotherms of exact simple campaigns are flagged
+            # low-information too (20 % of benchmarks/bench_checks.py --quick warned on it);
+            # whether superposition holds there is judged by function_agreement.
+            msg += (f", but the shifts at {', '.join(weak)} are poorly determined (a plateau "
+                    "or little overlap): they rest on little data.")
+        else:
+            msg += "; the data can fix every shift."
         status = "pass"
     return CheckResult("overlap_coverage", status, value, threshold, msg, details)
 
@@ -1334,10 +1386,14 @@ def check_master_curve_range(prony_fit) -> CheckResult:
     series = getattr(prony_fit, "series", None)
     rng = getattr(series, "valid_reduced_time_range_s", None)
     ends = []
+    approaching = any("terminal (flow) zone" in str(w)
+                      for w in getattr(prony_fit, "warnings", ()) or ())
     if not glassy:
         ends.append("short-time (glassy) end")
     if not (rubbery or terminal):
-        ends.append("long-time (rubbery) end")
+        ends.append("long-time (terminal, flow) end, which for a melt is the expected end "
+                    "(its equilibrium modulus is zero by physics)" if approaching
+                    else "long-time (rubbery) end")
     details = {"unit": "extrapolated ends", "glassy_plateau_reached": glassy,
                "rubbery_plateau_reached": rubbery, "terminal_zone_reached": terminal,
                "extrapolated_ends": ends,
@@ -1346,11 +1402,16 @@ def check_master_curve_range(prony_fit) -> CheckResult:
     if not ends:
         msg = (f"The master curve reaches both ends of the relaxation{where}; the series is "
                "measured, not extrapolated, inside that window.")
+        if terminal:
+            msg += (" Its long-time end is the terminal (flow) zone of a liquid, whose "
+                    "equilibrium modulus is zero by physics.")
         return CheckResult("master_curve_range", "pass", 0.0, 0.0, msg, details)
     msg = (f"The data do not reach the {' and the '.join(ends)}: the series is extrapolated "
-           f"there{where}. Do not use it outside that window; measure at more temperatures to "
-           "reach the plateau.")
-    return CheckResult("master_curve_range", "warn", float(len(ends)), 0.0, msg, details)
+           f"there{where}. That says nothing against superposition, but do not use the series "
+           "outside that window; measure at more temperatures to reach the plateau.")
+    # A note on the range, not a verdict on superposition: exact simple campaigns that stop
+    # short of a plateau warned here on 73 % of benchmarks/bench_checks.py --quick (old code).
+    return CheckResult("master_curve_range", "pass", float(len(ends)), 0.0, msg, details)
 
 
 # ----------------------------------------------------------------------------------------------
@@ -1426,19 +1487,32 @@ def check_noise_level(campaign: Campaign) -> CheckResult:
     """
     c = _as_campaign(campaign)
     noise = estimate_noise(c)
-    typical, rows, keys = _noise_percent(noise)
+    floored, rows, keys = _noise_percent(noise)
+    floor = 100.0 * _LN10 * NOISE_FLOOR_LOG10
+    # The headline is the measured scatter (median over isotherms of the per-isotherm estimate,
+    # largest over the functions); the floor the other checks assume is only stated as a floor.
+    measured = []
+    for q in keys:
+        vals = np.array([row.get(q, math.nan) for row in noise["per_isotherm"]], dtype=float)
+        vals = vals[np.isfinite(vals)]
+        if vals.size:
+            measured.append(100.0 * _LN10 * float(np.median(vals)))
+    typical = max(measured) if measured else floored
     noisy = [r for r in rows if r["noise_percent"] is not None
-             and r["noise_percent"] > max(NOISE_ISOTHERM_RATIO * typical, NOISE_WARN_PERCENT)]
+             and r["noise_percent"] > max(NOISE_ISOTHERM_RATIO * typical, NOISE_ISOTHERM_PERCENT)]
     status = _grade(typical, NOISE_WARN_PERCENT, NOISE_FAIL_PERCENT)
     if status == "pass" and noisy:
         status = "warn"
     details = {"unit": "%", "quantities": keys, "per_isotherm": rows,
                "noisy_isotherms": [r["temperature_C"] for r in noisy],
-               "floor_percent": 100.0 * _LN10 * NOISE_FLOOR_LOG10,
+               "floor_percent": floor, "assumed_by_checks_percent": floored,
                "fail_threshold": NOISE_FAIL_PERCENT}
     named = ", ".join(f"{r['temperature_C']:.4g} °C ({r['noise_percent']:.2g} %)" for r in noisy)
     if status == "pass":
         msg = f"The data scatter by about {typical:.2g} % about smooth curves; that is usual."
+        if typical < floor:
+            msg += (f" The other checks assume at least {floor:.2g} % (a floor for "
+                    "reproducibility between isotherms).")
     elif typical <= NOISE_WARN_PERCENT:
         msg = (f"Most isotherms scatter by about {typical:.2g} %, but some are much noisier: "
                f"{named}. Check those measurements (soak time, clamping, strain amplitude).")
@@ -1507,6 +1581,12 @@ def check_relaxation_creep(campaign: Campaign, shifts) -> CheckResult | None:
 # ----------------------------------------------------------------------------------------------
 # the registry
 # ----------------------------------------------------------------------------------------------
+def _function_agreement(campaign, shifts):
+    from .checks_agreement import check_function_agreement
+
+    return check_function_agreement(campaign, shifts)
+
+
 @dataclass(frozen=True)
 class _Entry:
     name: str
@@ -1520,6 +1600,8 @@ _REGISTRY = (
            lambda c, s, l, p: check_van_gurp_palmen(c, shifts=s)),
     _Entry("simplicity_loss_vs_storage", ("campaign",),
            lambda c, s, l, p: check_loss_vs_storage(c, shifts=s)),
+    _Entry("function_agreement", ("campaign", "shifts"),
+           lambda c, s, l, p: _function_agreement(c, s)),
     _Entry("overlap_coverage", ("campaign",),
            lambda c, s, l, p: check_overlap_coverage(c, shifts=s)),
     _Entry("shifted_superposition", ("campaign", "shifts"),
@@ -1583,5 +1665,5 @@ def run_checks(campaign: Campaign, *, shifts=None, law_fit=None,
                                  f"This check could not be evaluated on these data ({exc}).",
                                  {"error": str(exc)})
         if result is not None:
-            out.append(result)
+            out.append(in_the_symbols_of(result, campaign.modulus_kind))
     return tuple(out)

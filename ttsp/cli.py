@@ -401,23 +401,46 @@ def demo_cmd(out: Path = typer.Option(Path("ttsp-demo"), "--out", "-o", help="Ou
 def check_cmd(inputs: List[Path] = typer.Argument(..., help="Files or folders of one campaign."),
               reference_temperature: Optional[float] = typer.Option(
                   None, "--reference-temperature", "-T", help="Reference temperature in °C."),
+              law: Law = typer.Option(Law.auto, "--law", help="Shift law to fit."),
+              vertical: Vertical = typer.Option(Vertical.none, "--vertical", help="Vertical shift."),
+              expansion_coefficient: Optional[float] = typer.Option(
+                  None, "--expansion-coefficient",
+                  help="Volumetric expansion coefficient in 1/K (for --vertical density)."),
+              shift_on: ShiftOn = typer.Option(ShiftOn.auto, "--shift-on",
+                                               help="Functions to shift on."),
+              gaps: Gaps = typer.Option(Gaps.stop, "--gaps",
+                                        help="stop at isotherms that do not overlap, or bridge them."),
+              glass_transition: Optional[float] = typer.Option(
+                  None, "--glass-transition", help="Tg in °C for --law wlf-arrhenius (else fitted)."),
+              master_curve: MasterCurve = typer.Option(
+                  MasterCurve.auto, "--master-curve",
+                  help="Model the shifts are fitted with (as for build)."),
               strict: bool = typer.Option(False, "--strict", help="Exit 3 when a check fails."),
               as_json: bool = typer.Option(False, "--json", help="Print the checks as JSON."),
               column: Optional[List[str]] = COLUMN_OPT, unit: Optional[List[str]] = UNIT_OPT,
               sheet: Optional[str] = SHEET_OPT, tolerance: float = TOL_OPT,
               modulus_kind: Optional[str] = KIND_OPT,
               temperature_from_name: bool = NAME_T_OPT, repeats: str = REPEATS_OPT):
-    """Does superposition hold? Run the checks and print a verdict for each."""
+    """Does superposition hold? Run the checks and print a verdict for each.
+
+    Every build option that changes what is checked (the law, the vertical shift, the functions
+    shifted on, bridging of gaps, the master-curve model) is taken as for ``ttsp build``; the
+    build runs without cross-validation, which no check uses.
+    """
     import warnings
 
-    from .workflow import BuildOptions, build
+    from .workflow import build
 
+    from dataclasses import replace
+
+    options = replace(_options(reference_temperature, law, vertical, expansion_coefficient,
+                               shift_on, gaps, 2.0, glass_transition, False, master_curve,
+                               cross_validation=False), bands=False)   # no check uses either
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
         campaign = read_inputs(inputs, column, unit, sheet, tolerance, modulus_kind,
                                temperature_from_name, repeats)
-        result = build(campaign, BuildOptions(reference_temperature_C=reference_temperature,
-                                              cross_validation=False))
+        result = build(campaign, options)
     if as_json:
         from .io.writers import summary_to_json_text
 

@@ -904,12 +904,25 @@ def _plateau_verdicts(slope_short: float, slope_long: float, plateau_slope: floa
                     f"{slope_short:.3g} at the {what_short} (a plateau has <= {plateau_slope}); "
                     "the instantaneous modulus and the short-time end of the series are "
                     "extrapolated")
-    if not rubbery and not terminal:
+    if not rubbery and not terminal and slope_long >= _APPROACHING_TERMINAL_SLOPE:
+        msgs.append(f"the data end on the way into the terminal (flow) zone: |d ln {symbol}/"
+                    f"d ln {x}| = {slope_long:.3g} at the {what_long}, rising towards the "
+                    f"{terminal_slope:g}-or-more of a liquid's flow; for a melt that is the "
+                    "expected end, and its equilibrium modulus is zero by physics; the "
+                    "long-time end of the series is extrapolated")
+    elif not rubbery and not terminal:
         msgs.append(f"the data do not reach the rubbery plateau: |d ln {symbol}/d ln {x}| = "
                     f"{slope_long:.3g} at the {what_long} (a plateau has <= {plateau_slope}); "
                     "the equilibrium modulus and the long-time end of the series are "
                     "extrapolated")
     return glassy, rubbery, terminal, msgs
+
+
+#: A long-time slope of the storage modulus above this (|d ln E'/d ln ω|, or of E(t) in time)
+#: is read as the approach to a liquid's terminal zone (slope 2 for G', 1 for G'' in flow:
+#: Ferry 1980, ch. 3), not as a rubber short of its plateau, where the slopes of the transition
+#: zone stay near 0.5-1 (Rouse behaviour; Ferry 1980, ch. 10) [from memory].
+_APPROACHING_TERMINAL_SLOPE = 1.2
 
 
 def _finish(problem: _LinearProblem, x: np.ndarray, tau: np.ndarray, *, domain, quantities,
@@ -1109,7 +1122,8 @@ def fit_prony_frequency(omega_rad_s, storage_modulus_Pa, loss_modulus_Pa, *,
     def verdicts():
         return _plateau_verdicts(_slope_frequency(series, wmax), _slope_frequency(series, wmin),
                                  plateau_slope, 1.8, "highest reduced frequency",
-                                 "lowest reduced frequency", "E'", "ω")
+                                 "lowest reduced frequency",
+                                 "G'" if modulus_kind == "shear" else "E'", "ω")
 
     return _finish(problem, x, tau, domain="frequency", quantities=quantities, abscissa=w,
                    blocks=blocks, fixed_names=["equilibrium_modulus_Pa"][:nf],

@@ -104,6 +104,7 @@ _CHECK_TITLES = {
     "noise_level": "Noise of the data",
     "simplicity_van_gurp_palmen": "Simplicity: δ against |{E}*| (van Gurp–Palmen)",
     "simplicity_loss_vs_storage": "Simplicity: {E}″ against {E}′",
+    "function_agreement": "Shifts of {E}′ alone and {E}″ alone agree",
     "overlap_coverage": "Overlap of neighbouring isotherms",
     "shifted_superposition": "Superposition after shifting",
     "outliers": "Outliers",

@@ -142,7 +142,9 @@ class ShiftResult:
         Per isotherm: ``"reference"``, ``"fixed"``, ``"bridged"`` (placed by a fitted shift law
         across a gap), ``"gap-below"`` / ``"gap-above"`` (no overlap with that neighbour),
         ``"low-information"`` (the shift is poorly determined: stderr above the threshold or
-        data on a plateau), ``"outliers:N"`` (N points flagged).
+        data on a plateau), ``"outliers:N"`` (N points flagged); a build adds
+        ``"functions-disagree"`` where the function_agreement check finds the shifts of E'
+        alone and E'' alone apart (:mod:`ttsp.checks_agreement`).
     outlier_mask : tuple of bool arrays
         Per isotherm, per point (in the campaign's point order): True where any function's
         residual exceeds ``outlier_threshold`` robust noise scales. Flagged, never deleted.

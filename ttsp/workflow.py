@@ -535,6 +535,7 @@ def build(campaign: Campaign, options: BuildOptions | None = None, *, input_sha2
         check_campaign, check_shifts = _thin_for_checks(campaign, shifts)
         checks = tuple(run_checks(check_campaign, shifts=check_shifts, law_fit=law_fit,
                                   prony_fit=prony_fit))
+        shifts = _flag_disagreements(shifts, checks)
         glass = None
         if campaign.domain == "frequency":
             from .transition import estimate_glass_transition
@@ -757,6 +758,24 @@ def _law_rows(shifts) -> tuple[np.ndarray, bool]:
 
 def _with_series(prony_fit, series):
     return replace(prony_fit, series=series)
+
+
+def _flag_disagreements(shifts, checks):
+    """The shifts with ``"functions-disagree"`` in the flags of the isotherms that the
+    function_agreement check names (shifts of E' alone and E'' alone differ there)."""
+    from .checks_agreement import disagreeing_temperatures_K
+
+    agreement = next((c for c in checks if c.name == "function_agreement"), None)
+    named = disagreeing_temperatures_K(agreement)
+    if not named:
+        return shifts
+    temps = np.asarray(shifts.temperature_K, dtype=float)
+    flags = [tuple(f) for f in shifts.flags]
+    for t in named:
+        k = int(np.argmin(np.abs(temps - t)))
+        if abs(temps[k] - t) < 1e-6 * max(1.0, t) and "functions-disagree" not in flags[k]:
+            flags[k] = flags[k] + ("functions-disagree",)
+    return replace(shifts, flags=tuple(flags))
 
 
 def check(campaign: Campaign, **option_values) -> tuple:

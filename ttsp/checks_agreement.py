@@ -1,0 +1,170 @@
+"""Do the measured functions agree on the shift factors? Shifts found on each function alone.
+
+If a material is thermorheologically simple, every viscoelastic function moves by the same
+a_T: shifting the storage modulus alone and the loss modulus alone must give the same log10 a_T
+at every temperature, within their standard errors. Shifts that differ by function are the
+first sign of thermorheological complexity: two mechanisms with different temperature
+dependences weigh differently in E' and in E'' (Ngai & Plazek, ch. 26 in Mark (ed.), Physical
+Properties of Polymers Handbook, 2nd ed., 2007; Dealy & Plazek, Rheol. Bull. 78(2), 16, 2009;
+docs/methods.md §6.4). The comparison of shifts from separate functions is common practice
+[no source].
+
+For each isotherm k the difference and its significance are
+
+    d_k = log10 a_T,k(E') − log10 a_T,k(E''),     z_k = d_k / sqrt(s'_k² + s''_k² + τ²)
+
+with s'_k, s''_k the standard errors of the two single-function fits and τ
+(:data:`AGREEMENT_TOLERANCE_DECADES`) an allowance for what the two fits' different weightings of
+the same noisy data give on simple campaigns. Isotherms whose shift one function alone cannot
+fix (flagged low-information, a plateau of that function, or bridged by a law across a gap) are
+left out: there a single-function shift is not evidence. An isotherm disagrees when |z_k| exceeds
+:data:`AGREEMENT_Z` and |d_k| exceeds the warn (fail) size in decades.
+"""
+
+from __future__ import annotations
+
+import warnings
+from dataclasses import replace
+
+import numpy as np
+
+from .data import Campaign
+from .exceptions import DataError, FitError
+
+__all__ = ["check_function_agreement", "AGREEMENT_WARN_DECADES", "AGREEMENT_FAIL_DECADES",
+           "AGREEMENT_Z", "AGREEMENT_TOLERANCE_DECADES"]
+
+#: Thresholds, set on benchmarks/bench_checks.py (the full rates are in DEVELOPERS.md "Where the
+#: targets stand"): an isotherm disagrees when its two single-function shifts differ by more
+#: than AGREEMENT_Z combined standard errors (with the tolerance below added in quadrature) and
+#: by more than the warn size; more than the fail size fails. On the simple campaigns the largest
+#: |z| of an informative isotherm was at most 1.8 (24 frequency campaigns probed). --quick
+#: (60 simple, 36 complex): at z 3 and tolerance 0.03, 0 % of simple campaigns warned and
+#: complex ones were flagged at 0/3 (two processes 0.3 decade apart) and 0/3 (E'' on its own law,
+#: 0.1 decade); at z 2.5 and tolerance 0.02, 2 % of simple campaigns warned, 0 failed, and those
+#: complex ones were flagged 2/3 and 2/3.
+AGREEMENT_WARN_DECADES = 0.05
+AGREEMENT_FAIL_DECADES = 0.2
+AGREEMENT_Z = 2.5
+#: Allowance (decades) added in quadrature to the combined stderr: the two fits weigh the same
+#: noisy points differently, and their stderrs come from the local curvature of each objective.
+AGREEMENT_TOLERANCE_DECADES = 0.02
+
+_PAIRS = (("storage_modulus_Pa", "loss_modulus_Pa"),
+          ("storage_compliance_1_per_Pa", "loss_compliance_1_per_Pa"))
+
+
+def _pair(campaign: Campaign):
+    have = set(campaign.quantities)
+    for a, b in _PAIRS:
+        if a in have and b in have:
+            return a, b
+    return None
+
+
+def _unshifted_vertically(campaign: Campaign, shifts) -> Campaign:
+    """The campaign divided by the build's b_T (so single-function fits need no vertical)."""
+    log_b = getattr(shifts, "log10_bT", None)
+    if log_b is None or not np.any(np.asarray(log_b, float)):
+        return campaign
+    temps = np.asarray(shifts.temperature_K, float)
+    isos = []
+    for iso in campaign.isotherms:
+        k = int(np.argmin(np.abs(temps - iso.temperature_K)))
+        b = 10.0 ** float(log_b[k])
+        vals = {q: (v * b if "compliance" in q else v / b) if q.endswith(("_Pa", "_1_per_Pa"))
+                else v for q, v in iso.values.items()}
+        isos.append(replace(iso, values=vals))
+    return Campaign(tuple(isos), campaign.domain, campaign.modulus_kind, campaign.source)
+
+
+def check_function_agreement(campaign: Campaign, shifts):
+    """Shifts found on E' alone and on E'' alone, compared isotherm by isotherm.
+
+    Parameters
+    ----------
+    campaign : Campaign
+        Frequency-domain campaign with storage and loss modulus (or compliance).
+    shifts : ShiftResult
+        The build's shifts: their reference temperature is used, and their vertical shift
+        (if any) is divided out first.
+
+    Returns
+    -------
+    CheckResult or None
+        Value: the largest significant disagreement, decades (0 when none). None without two
+        functions, or when one function alone cannot be shifted (a gap in it), since then
+        the comparison does not exist.
+    """
+    from .checks import CheckResult
+    from .shifting import shift_isotherms
+
+    if not isinstance(campaign, Campaign) or campaign.domain != "frequency" or len(campaign) < 3:
+        return None
+    pair = _pair(campaign)
+    if pair is None:
+        return None
+    t_ref = getattr(shifts, "reference_temperature_K", None)
+    if t_ref is None:   # a plain shift table: its isotherm at log10 a_T = 0
+        k = int(np.argmin(np.abs(np.asarray(shifts.log10_aT, float))))
+        t_ref = float(np.asarray(shifts.temperature_K, float)[k])
+    t_ref = float(t_ref)
+    data = _unshifted_vertically(campaign, shifts)
+    fits = []
+    try:
+        # the single-function fits' own warnings (plateaus, bridges) are about fits the user did
+        # not ask for; what matters from them is in this check's result
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")
+            for q in pair:
+                fits.append(shift_isotherms(data, t_ref, quantities=(q,), gaps="bridge",
+                                            master_curve="spline"))
+    except (DataError, FitError):
+        return None
+    a, b = fits
+    d = np.asarray(a.log10_aT, float) - np.asarray(b.log10_aT, float)
+    sa = np.nan_to_num(np.asarray(a.log10_aT_stderr, float), nan=0.0)
+    sb = np.nan_to_num(np.asarray(b.log10_aT_stderr, float), nan=0.0)
+    se = np.sqrt(sa ** 2 + sb ** 2 + AGREEMENT_TOLERANCE_DECADES ** 2)
+    z = d / se
+    T = np.asarray(a.temperature_K, float)
+    e1, e2 = campaign.symbol(pair[0]), campaign.symbol(pair[1])
+    rows = [{"temperature_C": float(t - 273.15), f"log10_aT_{pair[0]}": float(x),
+             f"log10_aT_{pair[1]}": float(y), "difference_decades": float(dd),
+             "z": float(zz)} for t, x, y, dd, zz in zip(T, a.log10_aT, b.log10_aT, d, z)]
+    informative = np.array([not any(f.startswith(("low-information", "bridged"))
+                                    for f in fa + fb) for fa, fb in zip(a.flags, b.flags)])
+    for row, ok in zip(rows, informative):
+        row["informative"] = bool(ok)
+    significant = (np.abs(z) > AGREEMENT_Z) & informative
+    size = np.where(significant, np.abs(d), 0.0)
+    value = float(size.max()) if size.size else 0.0
+    bad = [k for k in range(T.size) if size[k] > AGREEMENT_WARN_DECADES]
+    status = ("fail" if value > AGREEMENT_FAIL_DECADES else
+              "warn" if value > AGREEMENT_WARN_DECADES else "pass")
+    details = {"unit": "decades", "functions": list(pair), "per_isotherm": rows,
+               "disagreeing_temperatures_C": [float(T[k] - 273.15) for k in bad],
+               "z_threshold": AGREEMENT_Z, "tolerance_decades": AGREEMENT_TOLERANCE_DECADES,
+               "fail_threshold": AGREEMENT_FAIL_DECADES}
+    if status == "pass":
+        k = int(np.argmax(np.where(informative, np.abs(d), -1.0)))
+        msg = (f"Shifting {e1} alone and {e2} alone gives the same shift factors within their "
+               f"errors (largest difference {abs(d[k]):.2g} decade at {T[k] - 273.15:.4g} °C, "
+               f"{abs(z[k]):.1f} standard errors).")
+    else:
+        named = ", ".join(f"{T[k] - 273.15:.4g} °C ({d[k]:+.2g} decade, {abs(z[k]):.0f} σ)"
+                          for k in bad)
+        msg = (f"{e1} and {e2} shifted alone disagree at {named} (log10 a_T from {e1} minus "
+               f"from {e2}). One shift cannot superpose both functions there: the material "
+               "looks thermorheologically complex (mechanisms with different temperature "
+               "dependences), or one function carries an instrument error.")
+    return CheckResult("function_agreement", status, value, AGREEMENT_WARN_DECADES, msg,
+                       details)
+
+
+def disagreeing_temperatures_K(result) -> tuple:
+    """Temperatures (K) that a function_agreement result names, for the shift table's flags."""
+    if result is None or result.status == "pass":
+        return ()
+    return tuple(t + 273.15 for t in result.details.get("disagreeing_temperatures_C", ()))
+
