@@ -253,3 +253,23 @@ def test_a_read_only_parent_is_named_by_the_users_path(tmp_path, capsys, monkeyp
     assert code == 2
     assert one_line_error(err) == (f"{parent / 'out.v2'}: Permission denied (while writing the "
                                    f"output folder in {parent})")
+
+
+def test_flat_data_place_no_isotherm(tmp_path, capsys, monkeypatch):
+    """E' and E'' constant at every frequency and temperature (1 % noise): no shift is
+    determined. Before, the build reported shifts of several decades either way and
+    'ttsp check --strict' passed; now it is one line and exit 2."""
+    import numpy as np
+
+    rng = np.random.default_rng(1)
+    lines = ["Temperature (°C),Frequency (Hz),E' (MPa),E'' (MPa)"]
+    for t in range(0, 100, 10):
+        for f in np.geomspace(0.1, 100, 10):
+            lines.append(f"{t},{f:.6g},{100 * np.exp(0.01 * rng.standard_normal()):.6g},"
+                         f"{10 * np.exp(0.01 * rng.standard_normal()):.6g}")
+    path = tmp_path / "flat.csv"
+    path.write_text("\n".join(lines) + "\n", encoding="utf-8")
+    code, _, err = run(["check", path, "--strict"], capsys, monkeypatch)
+    assert code == 2
+    message = one_line_error(err)
+    assert message.startswith(f"{path}: no isotherm can be placed on the master curve")

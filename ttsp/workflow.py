@@ -611,6 +611,7 @@ def fit_steps(campaign: Campaign, options: BuildOptions, t_ref_K: float, step=No
         requested = "splines"   # no one spectrum model carries E(t) and D(t) together here
     shifts, choice = choose_master_curve(campaign, requested, fit_shifts, t_ref_K,
                                          measure=measure_collapse)
+    _refuse_if_nothing_placed(campaign, shifts)
     if choice.requested != options.master_curve:
         choice = replace(choice, requested=options.master_curve,
                          reason=choice.reason.replace(
@@ -688,6 +689,23 @@ _NOT_FOR_THE_LAW = ("low-information", "bridged")
 #: a law whose reduced chi-square with the shift covariance exceeds this misses the shifts by
 #: far more than their noise (on average by more than about three standard errors)
 LACK_OF_FIT_REDUCED_CHI_SQUARE = 10.0
+
+
+def _refuse_if_nothing_placed(campaign: Campaign, shifts) -> None:
+    """A DataError when the data place no isotherm: every shift but the reference's is
+    poorly determined (flat curves, or overlaps too thin), so the shift factors, the law and
+    everything after them would be numbers without information (flat E' and E'' got shifts
+    of +12 to -12 decades before this)."""
+    flags = [set(f) for f in shifts.flags]
+    free = [f for f in flags if not {"reference", "fixed"} & f]
+    if len(free) < 2 or not all("low-information" in f for f in free):
+        return
+    names = " and ".join(campaign.symbol(q) for q in shifts.quantities_used)
+    where = f"{campaign.source}: " if campaign.source else ""
+    raise DataError(f"{where}no isotherm can be placed on the master curve: {names} barely "
+                    f"change with {campaign.x_name.split('_')[0]} in any isotherm (or neighbours "
+                    f"overlap too little), so no horizontal shift is determined; superposition "
+                    f"needs curves that change across each isotherm")
 
 
 def _fit_law(shifts, t_ref_K: float, model: str, fixed):
