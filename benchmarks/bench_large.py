@@ -21,7 +21,8 @@ factors, shift law, Prony series, checks, writing). A separate child only reads 
 (``--memory-cap-gb``, default 8) and a wall-time cap (``--timeout``, default 900 s), so a size
 the tool cannot handle is reported as such rather than taking the shared machine down.
 
-Targets (issue 11): 1 000 000 rows within 60 s and 2 GB on the two-core machine.
+Targets (issues 11 and 17): 1 000 000 rows within 60 s and 2 GB on the two-core machine, with
+figures a report under 20 MB.
 
 Measured on the shared two-core machine (Dec 2026, before any change to shifting or checks):
 
@@ -44,6 +45,18 @@ rows       run                  wall s  peak RSS GB  notes
 100 000    build --no-figures      6.9         0.26  shift factors 1.4, checks 0.3, writing 1.8 s
 1 000 000  build --no-figures     49.5         0.68  reading 5.0, shift factors 20, writing 17 s
 =========  ===================  ======  ===========  ==============================================
+
+With figures (issue 17, point 9; Dec 2026, the machine shared with one other job):
+
+==========  ==================  ======  ===========  ==============================================
+rows        run                 wall s  peak RSS GB  notes
+==========  ==================  ======  ===========  ==============================================
+100 000     build with figures    20.7         0.99  report.html 89.9 MB (every point drawn)
+100 000     build with figures    12.9         0.37  report.html 9.9 MB (figures thinned)
+1 000 000   build with figures   166.7         2.35  report.html 12.6 MB (figures thinned); shift
+                                                     law 68.9 s (leave-one-out law choice over 500
+                                                     isotherms), cross-validation 53.7 s
+==========  ==================  ======  ===========  ==============================================
 
 Before that change: reading met the target with room to spare; the shift factors (a dense rows x modes model
 matrix per Gauss-Newton step) and the checks (dense point-to-polyline distances between every
@@ -158,7 +171,8 @@ def main() -> None:
           f"< {TARGET_GB:g} GB")
     print()
     head = ("| rows | isotherms x points | run | wall s | peak RSS GB | exit | reading s | "
-            "shift factors s | shift law s | Prony s | checks s | writing s |")
+            "shift factors s | shift law s | Prony s | checks s | cross-validation s | writing s | "
+            "report MB |")
     print(head)
     print("|" + "|".join("---:" for _ in range(head.count("|") - 1)) + "|")
     for n_iso, n_pts in sizes:
@@ -168,7 +182,8 @@ def main() -> None:
         out = work / f"out_{n_iso}x{n_pts}"
         runs = (("read (ttsp inspect)", ["inspect", str(path)]),
                 ("build --no-figures", ["build", str(path), "--no-figures", "--force",
-                                        "--out", str(out)]))
+                                        "--out", str(out)]),
+                ("build with figures", ["build", str(path), "--force", "--out", str(out)]))
         for label, args in runs:
             r = run_child(args, opts.memory_cap_gb, opts.timeout)
             st = stage_times(r["stderr"])
@@ -177,11 +192,14 @@ def main() -> None:
                      f"{r['peak_rss_gb']:.2f}", exit_text]
             cells += [f"{st[k]:.1f}" if k in st else "" for k in
                       ("reading", "shift factors", "shift law", "Prony series", "checks",
-                       "writing")]
+                       "cross-validation", "writing")]
+            report = out / "report.html"
+            cells.append(f"{report.stat().st_size / 1e6:.1f}" if "figures" in label
+                         and r["exit"] == 0 and report.exists() else "")
             print("| " + " | ".join(cells) + " |", flush=True)
             if r["exit"] not in (0,) and not r["timed_out"]:
                 last = r["stderr"].strip().splitlines()[-1:] or [""]
-                print(f"|  |  | ↳ {last[0][:150]} |" + " |" * 9, flush=True)
+                print(f"|  |  | ↳ {last[0][:150]} |" + " |" * 11, flush=True)
     print()
     print(f"files in {work}")
 

@@ -46,11 +46,11 @@ def wlf(T_K, Tr_K, C1=9.0, C2_K=100.0):
 
 
 def frequency_campaign(*, kind="tensile", frequency_unit="Hz", loss=True, noise=0.005, seed=1,
-                       source="synthetic.csv", metadata=None):
+                       source="synthetic.csv", metadata=None, n_frequencies=8):
     """8 isotherms −20…50 °C, 8 frequencies 0.1–100 Hz, WLF C1 = 9, C2 = 100 K at 20 °C."""
     rng = np.random.default_rng(seed)
     tau, e = spectrum()
-    f = np.logspace(-1, 2, 8)
+    f = np.logspace(-1, 2, n_frequencies)
     parts = []
     for t_c in (-20, -10, 0, 10, 20, 30, 40, 50):
         t_k = t_c + 273.15
@@ -201,6 +201,29 @@ def test_power_labels_are_plain_unicode():
 # ----------------------------------------------------------------------------------------------
 # campaign figures
 # ----------------------------------------------------------------------------------------------
+def test_dense_campaigns_are_drawn_thinned_with_their_range_kept():
+    # a million-row campaign drew every point: a 742 MB report no browser could open (issue 17)
+    campaign = frequency_campaign(n_frequencies=4000)      # 8 × 4000 points, E′ and E″
+    budget = plotting.DRAWN_POINTS_PER_FIGURE
+    for draw in (plotting.plot_isotherms, plotting.plot_superposition_check):
+        ax = draw(campaign)
+        x, _ = plotted(ax)
+        n_drawn_per_function = 2 if draw is plotting.plot_isotherms else 1
+        assert budget // 2 <= x.size <= budget * n_drawn_per_function
+        for line in ax.get_lines():
+            assert len(line.get_xdata()) <= budget
+    x, _ = plotted(plotting.plot_isotherms(campaign))
+    assert x.min() == pytest.approx(0.1) and x.max() == pytest.approx(100.0)  # both ends drawn
+
+
+def test_drawn_indices_keep_small_curves_whole_and_thin_big_ones_evenly():
+    assert np.array_equal(plotting.drawn_indices(50, 10), np.arange(50))
+    idx = plotting.drawn_indices(100_000, 500)
+    assert idx[0] == 0 and idx[-1] == 99_999
+    assert idx.size == max(plotting.MIN_DRAWN_PER_CURVE, plotting.DRAWN_POINTS_PER_FIGURE // 500)
+    assert np.ptp(np.diff(idx)) <= 1                       # evenly spaced by rank
+
+
 def test_isotherms_frequency_axes_units_and_colour_bar():
     campaign = frequency_campaign()
     ax = plotting.plot_isotherms(campaign)

@@ -25,7 +25,7 @@ from pathlib import Path
 
 import numpy as np
 
-from ._arrays import outside_log_range
+from ._arrays import evenly_spaced_indices, outside_log_range
 from ._validation import bad_value, check_choice
 from .laws import law_prediction_stderr
 from .units import DISPLAY_MODULUS_UNITS, display_modulus_unit, kelvin_to_celsius
@@ -456,6 +456,20 @@ def _value_axis(campaign, quantities, values):
 
 _MARKERS = ("o", "^", "s", "D")
 
+# Points drawn per figure: a figure of a million points is a 30 MB SVG that a browser cannot
+# open and that nobody can read. Every point stays in the CSVs; the figures draw an even subset
+# of each curve (by rank of its abscissa), at least MIN_DRAWN_PER_CURVE of each.
+DRAWN_POINTS_PER_FIGURE = 6_000
+MIN_DRAWN_PER_CURVE = 24
+
+
+def drawn_indices(n_points: int, n_curves: int) -> np.ndarray:
+    """Indices of the points of one curve (of ``n_curves`` in a figure) that a figure draws:
+    all of them when the figure stays within :data:`DRAWN_POINTS_PER_FIGURE`, else an even
+    subset by rank (the data should be sorted along the curve)."""
+    per_curve = max(MIN_DRAWN_PER_CURVE, DRAWN_POINTS_PER_FIGURE // max(n_curves, 1))
+    return evenly_spaced_indices(n_points, per_curve)
+
 
 def plot_isotherms(campaign, ax=None, quantity="auto"):
     """Plot the measured isotherms as read, coloured by temperature, with a colour bar in °C.
@@ -486,13 +500,15 @@ def plot_isotherms(campaign, ax=None, quantity="auto"):
                              if q in iso.values])
     ylabel, yfactor, ylog = _value_axis(campaign, quantities, values)
     colours = _temperature_colours(campaign.temperatures_C)
+    n_curves = len(campaign.isotherms) * len(quantities)
     for iso in campaign.isotherms:
         c = colours.to_rgba(iso.temperature_C)
+        pick = drawn_indices(iso.n_points, n_curves)
         for k, q in enumerate(quantities):
             if q not in iso.values:
                 continue
             filled = k == 0
-            ax.plot(iso.x / xfactor, iso.values[q] / yfactor, marker=_MARKERS[k % len(_MARKERS)],
+            ax.plot(iso.x[pick] / xfactor, iso.values[q][pick] / yfactor, marker=_MARKERS[k % len(_MARKERS)],
                     ms=3.6, lw=0.8, color=c, mfc=c if filled else "white", mec=c, mew=0.9,
                     zorder=3)
     _style(ax, logx=True, logy=ylog)
@@ -548,6 +564,7 @@ def plot_superposition_check(campaign, ax=None):
             c = colours.to_rgba(iso.temperature_C)
             m = iso.values["complex_modulus_Pa"]
             order = np.argsort(m)
+            order = order[drawn_indices(order.size, len(full.isotherms))]
             ax.plot(m[order] / factor, np.degrees(iso.values["phase_angle_rad"][order]),
                     marker="o", ms=3.6, lw=0.8, color=c, mec=c, mfc=c, zorder=3)
         _style(ax, logx=True)
@@ -570,7 +587,9 @@ def plot_superposition_check(campaign, ax=None):
             c = colours.to_rgba(iso.temperature_C)
             y = iso.values[quantity]
             slope = sign * _local_log_slope(iso.x, y)
-            ok = np.isfinite(slope)
+            ok = np.zeros(slope.size, dtype=bool)
+            ok[drawn_indices(slope.size, len(campaign.isotherms))] = True
+            ok &= np.isfinite(slope)
             ax.plot(y[ok] / factor, slope[ok], marker="o", ms=3.6, lw=0.8, color=c, mec=c, mfc=c,
                     zorder=3)
         _style(ax, logx=True)
@@ -621,9 +640,11 @@ def plot_master_curve(result, ax=None):
     for t_C, x, vals, outlier in data:
         c = colours.to_rgba(t_C)
         xs_all.append(x)
+        drawn = np.zeros(x.size, dtype=bool)
+        drawn[drawn_indices(x.size, len(data) * len(quantities))] = True
         for k, q in enumerate(quantities):
             y = vals[q]
-            keep = ~outlier & np.isfinite(y)
+            keep = drawn & ~outlier & np.isfinite(y)
             ax.plot(x[keep] / xfactor, y[keep] / yfactor, ls="none",
                     marker=_MARKERS[k % len(_MARKERS)], ms=3.4, mec=c, mfc=c if k == 0 else "white",
                     mew=0.8, zorder=3)
@@ -914,15 +935,17 @@ def plot_prony_fit(result, axes=None):
     model_cols = {"storage_modulus": "storage_modulus_Pa", "loss_modulus": "loss_modulus_Pa",
                   "relaxation_modulus": "relaxation_modulus_Pa",
                   "creep_compliance": "creep_compliance_1_per_Pa"}
+    pick = np.argsort(x)
+    pick = pick[drawn_indices(x.size, 2 * len(fit.quantities))]   # fit and residual panels
     for q in fit.quantities:
         c = colours.get(q, _INK)
-        ax_fit.plot(x / xfactor, np.asarray(fit.measured[q]) / factor, ls="none", marker="o",
+        ax_fit.plot(x[pick] / xfactor, np.asarray(fit.measured[q])[pick] / factor, ls="none", marker="o",
                     ms=2.8, mfc="none", mec=c, mew=0.6, alpha=0.75, zorder=2,
                     label=f"{symbols.get(q, q)} master curve")
         if q in model_cols:
             _model_line(ax_fit, xs[idx] / xfactor, frame[model_cols[q]].to_numpy()[idx] / factor,
                         ext[idx], colour=c, lw=1.5, label=f"{symbols.get(q, q)} Prony series")
-        ax_res.plot(x / xfactor, np.asarray(fit.residuals_percent[q]), ls="none", marker="o",
+        ax_res.plot(x[pick] / xfactor, np.asarray(fit.residuals_percent[q])[pick], ls="none", marker="o",
                     ms=2.6, mfc=c, mec=c, mew=0.0, alpha=0.8, zorder=2)
     _style(ax_fit, logx=True, logy=True)
     _style(ax_res, logx=True)

@@ -62,9 +62,10 @@ FIGURE_CAPTIONS = {
         "diamonds) carry their bar only when it is under one decade; in the tables a standard "
         "error of 100 decades means the data do not determine that shift."),
     "master_curve": (
-        "Master curve at T<sub>ref</sub> = {tref}: every measured point at its reduced {reduced}, "
-        "coloured by its temperature; line: the fitted Prony series, dashed where it is "
-        "extrapolated."),
+        "Master curve at T<sub>ref</sub> = {tref}: the measured points at their reduced {reduced}, "
+        "coloured by their temperature; line: the fitted Prony series, dashed where it is "
+        "extrapolated. Figures draw at most a few thousand points (an even subset of each dense "
+        "isotherm); every point is in master_curve.csv."),
     "prony_fit": (
         "Prony series fitted to the master curve (left, with the residuals in per cent below) "
         "and its discrete relaxation spectrum: the coefficients {E}<sub>i</sub> at the relaxation "
