@@ -1306,3 +1306,20 @@ def test_starts_on_a_small_budget_still_reach_the_same_optimum(monkeypatch):
     assert short.chi_square == pytest.approx(full.chi_square, rel=1e-6)
     for name in full.params:
         assert short.params[name] == pytest.approx(full.params[name], rel=1e-4)
+
+
+def test_law_choice_on_a_long_shift_table_leaves_out_a_bounded_number_of_rows(monkeypatch):
+    # 500 isotherms: the held-out comparison refitted each law 498 times (70 s); now at most
+    # MAX_HELD_OUT_ROWS rows per law, evenly spread, and the same family is still chosen
+    rng = np.random.default_rng(11)
+    T = np.linspace(250.0, 550.0, 150)
+    law = ArrheniusLaw(400.0, {"activation_energy_kJ_per_mol": 88.0})
+    se = np.full(T.size, 0.02)
+    y = law.log10_aT(T) + rng.normal(0.0, se)
+    refits = []
+    original = laws._refit_from
+    monkeypatch.setattr(laws, "_refit_from", lambda *a, **k: refits.append(1) or original(*a, **k))
+    fit = fit_shift_law(T, y, reference_temperature_K=400.0, model="auto", stderr=se)
+    assert fit.law.model == "arrhenius"
+    n_compared = len([r for r in fit.candidates if r.get("held_out_mean_square") is not None])
+    assert 0 < len(refits) <= laws.MAX_HELD_OUT_ROWS * max(n_compared, 1)

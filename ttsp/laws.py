@@ -37,6 +37,7 @@ from typing import Any, ClassVar, Iterable, Mapping
 import numpy as np
 import scipy.constants
 
+from ._arrays import evenly_spaced_indices
 from ._validation import bad_value, check_choice, check_finite, check_positive
 from .exceptions import DataError, ExtrapolationWarning, FitError, FitQualityWarning
 
@@ -70,6 +71,10 @@ _ARRHENIUS_K_PER_KJ_MOL: float = 1000.0 / (_LN10 * GAS_CONSTANT_J_PER_MOL_K)
 _RANGE_TOLERANCE_K = 1e-9
 #: Resolution floor of the fit (decades), so exact data compare by parameter count, not rounding.
 _RESIDUAL_FLOOR_DECADES = 1e-9
+#: At most this many interior rows are left out in turn when laws are compared by held-out
+#: prediction (evenly spread in temperature): 40 errors estimate a mean square to about ±22 %,
+#: and a campaign of 500 isotherms spent 70 s refitting each law 498 times.
+MAX_HELD_OUT_ROWS = 40
 
 
 # --------------------------------------------------------------------------------------
@@ -1605,10 +1610,12 @@ def _held_out_score(cls, T, y, scale, weighting_without, tr, fixed, bounds, orde
     the others (from the constants fitted to all rows, on the small solver budget) and the
     left-out log10 a_T predicted; the errors are divided by that row's standard error
     (``scale``). Rows at the ends are not left out: predicting them is extrapolation, which
-    the law is not asked to do. Returns inf when a refit fails or no row is interior
+    the law is not asked to do. Past :data:`MAX_HELD_OUT_ROWS` interior rows, that many are
+    left out, evenly spread in temperature. Returns inf when a refit fails or no row is interior
     (leave-one-out cross-validation: Stone, J. R. Stat. Soc. B 36:111, 1974)."""
     order_T = np.argsort(T)
     interior = order_T[1:-1]
+    interior = interior[evenly_spaced_indices(interior.size, MAX_HELD_OUT_ROWS)]
     k_free = len(full.free_names)
     if interior.size == 0 or T.size - 1 <= k_free:
         return math.inf
