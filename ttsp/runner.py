@@ -47,19 +47,59 @@ def read_inputs(inputs, column, unit, sheet, tolerance, modulus_kind,
 
 
 class Progress:
-    """Step names on stderr with the time each took; silent with --quiet."""
+    """Step names on stderr with the time each took; silent with --quiet.
 
-    def __init__(self, quiet: bool):
+    A step that runs longer than ``heartbeat_s`` says so every ``heartbeat_s`` seconds
+    (``ttsp: shift law still running (30 s)``): a million-row build was silent for minutes.
+    The reminder comes from a SIGALRM interval timer in the main thread (no thread is started,
+    so the forks that draw figures stay safe; a forked child inherits no timer); elsewhere, or
+    where the platform has no such timer, steps are reported only when they end."""
+
+    def __init__(self, quiet: bool, heartbeat_s: float = 30.0):
         self.quiet, self.t0, self.name = quiet, None, None
+        self.heartbeat_s = heartbeat_s
+        self._previous_handler = None
 
     def __call__(self, name: str):
         self.done()
         self.name, self.t0 = name, time.perf_counter()
+        self._start_heartbeat()
 
     def done(self):
+        self._stop_heartbeat()
         if self.name is not None and not self.quiet:
             typer.echo(f"ttsp: {self.name} ({time.perf_counter() - self.t0:.1f} s)", err=True)
         self.name = None
+
+    def cancel(self):
+        """Stop the reminders of the current step without reporting it (it failed)."""
+        self._stop_heartbeat()
+        self.name = None
+
+    def _beat(self, _signum, _frame):
+        if self.name is not None:
+            typer.echo(f"ttsp: {self.name} still running ({time.perf_counter() - self.t0:.0f} s)",
+                       err=True)
+
+    def _start_heartbeat(self):
+        import signal
+        import threading
+
+        if (self.quiet or self.heartbeat_s <= 0 or not hasattr(signal, "setitimer")
+                or threading.current_thread() is not threading.main_thread()
+                or signal.getsignal(signal.SIGALRM) not in (signal.SIG_DFL, None)):
+            return                         # someone else's alarm is not ours to take
+        self._previous_handler = signal.signal(signal.SIGALRM, self._beat)
+        signal.setitimer(signal.ITIMER_REAL, self.heartbeat_s, self.heartbeat_s)
+
+    def _stop_heartbeat(self):
+        import signal
+
+        if self._previous_handler is None:
+            return
+        signal.setitimer(signal.ITIMER_REAL, 0.0)
+        signal.signal(signal.SIGALRM, self._previous_handler)
+        self._previous_handler = None
 
 
 # The figures drawn after the fit, in groups of about equal drawing cost: all but the last are
@@ -222,38 +262,41 @@ def run_build(inputs, options, out: Path, *, figures: bool, force: bool, quiet: 
     from .workflow import build
 
     progress = Progress(quiet)
-    progress("reading")
-    with warnings.catch_warnings():
-        warnings.simplefilter("ignore")
-        campaign = read_inputs(inputs, column, unit, sheet, tolerance, modulus_kind,
-                               temperature_from_name, repeats)
-    created = datetime.datetime.now(datetime.timezone.utc).strftime("%Y-%m-%dT%H:%M:%SZ")
-    with atomic_output_dir(out, force=force, protect=inputs, kind=kind,
-                           replaces=replaces) as tmp, warnings.catch_warnings():
-        warnings.simplefilter("ignore")  # all worth saying is in result.warnings already
-        early = start_campaign_figures(campaign, tmp) if figures and parallel_figures else None
-        try:
+    try:
+        progress("reading")
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")
+            campaign = read_inputs(inputs, column, unit, sheet, tolerance, modulus_kind,
+                                   temperature_from_name, repeats)
+        created = datetime.datetime.now(datetime.timezone.utc).strftime("%Y-%m-%dT%H:%M:%SZ")
+        with atomic_output_dir(out, force=force, protect=inputs, kind=kind,
+                               replaces=replaces) as tmp, warnings.catch_warnings():
+            warnings.simplefilter("ignore")  # all worth saying is in result.warnings already
+            early = start_campaign_figures(campaign, tmp) if figures and parallel_figures else None
             try:
-                result = build(campaign, options, input_sha256=hash_inputs(inputs),
-                               input_files=[Path(p).name for p in inputs], progress=progress)
-            except DataError as exc:  # found while fitting: say which input it is about
-                source = str(campaign.source)
-                if source and not str(exc).startswith(source):
-                    raise DataError(f"{source}: {exc}") from None
-                raise
-            progress("writing")
-            write_build_numbers(result, tmp, created_utc=created, units=units)
-            if figures:
-                from .report import render_report
+                try:
+                    result = build(campaign, options, input_sha256=hash_inputs(inputs),
+                                   input_files=[Path(p).name for p in inputs], progress=progress)
+                except DataError as exc:  # found while fitting: say which input it is about
+                    source = str(campaign.source)
+                    if source and not str(exc).startswith(source):
+                        raise DataError(f"{source}: {exc}") from None
+                    raise
+                progress("writing")
+                write_build_numbers(result, tmp, created_utc=created, units=units)
+                if figures:
+                    from .report import render_report
 
-                saved = draw_figures(result, tmp, parallel=parallel_figures, early=early)
-                early = None
-                svg = {name: Path(paths["svg"]).read_text(encoding="utf-8")
-                       for name, paths in saved.items()}
-                (tmp / "report.html").write_text(render_report(result, svg, created_utc=created,
-                                                               title=title),
-                                                 encoding="utf-8")
-        finally:
-            discard_campaign_figures(early)
-    progress.done()
+                    saved = draw_figures(result, tmp, parallel=parallel_figures, early=early)
+                    early = None
+                    svg = {name: Path(paths["svg"]).read_text(encoding="utf-8")
+                           for name, paths in saved.items()}
+                    (tmp / "report.html").write_text(render_report(result, svg, created_utc=created,
+                                                                   title=title),
+                                                     encoding="utf-8")
+            finally:
+                discard_campaign_figures(early)
+        progress.done()
+    finally:
+        progress.cancel()   # after an error: no reminder outlives the run
     return result, Path(out)
