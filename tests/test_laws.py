@@ -1323,3 +1323,15 @@ def test_law_choice_on_a_long_shift_table_leaves_out_a_bounded_number_of_rows(mo
     assert fit.law.model == "arrhenius"
     n_compared = len([r for r in fit.candidates if r.get("held_out_mean_square") is not None])
     assert 0 < len(refits) <= laws.MAX_HELD_OUT_ROWS * max(n_compared, 1)
+
+
+def test_break_temperature_trials_are_bounded_on_long_tables_and_fine_on_short_ones():
+    # 500 isotherms gave 4,000 trial breaks and 2 GB of trial arrays in a million-row build
+    bounds = (-np.inf, np.inf)
+    short = laws._tg_candidates(np.linspace(300.0, 400.0, 20), {}, bounds)
+    assert short.size == 8 * 17                    # 8 in each of the 17 intervals with 2 points beyond
+    long = laws._tg_candidates(np.linspace(250.0, 550.0, 500), {}, bounds)
+    assert long.size == 497                        # one per interval: the intervals are the grid
+    assert np.all(np.diff(long) > 0)
+    medium = laws._tg_candidates(np.linspace(250.0, 550.0, 60), {}, bounds)
+    assert medium.size <= laws._TG_TRIALS_TOTAL and medium.size >= 55
