@@ -1160,9 +1160,13 @@ def _weighted_lstsq(columns: Mapping[str, np.ndarray], y: np.ndarray, weigh: _We
     return {k: float(v[0]) for k, v in coefs.items()}
 
 
+#: steps of the start grids above a lower limit: 0.5 ... 1e4 K, 70 of them log-spaced
+_GRID_STEPS_K = np.geomspace(0.5, 1e4, 70)
+
+
 def _grid_above(lower: float, bounds: tuple[float, float]) -> np.ndarray:
     """Trial values lower + (0.5 ... 1e4) K, restricted to ``bounds``."""
-    grid = lower + np.geomspace(0.5, 1e4, 70)
+    grid = lower + _GRID_STEPS_K
     lo, hi = bounds
     grid = grid[(grid > lo) & (grid < hi)]
     if grid.size == 0:
@@ -1170,7 +1174,7 @@ def _grid_above(lower: float, bounds: tuple[float, float]) -> np.ndarray:
         if np.isfinite(hi):
             grid = np.linspace(lo2, hi, 12)[1:-1] if hi > lo2 else np.array([])
         else:
-            grid = lo2 + np.geomspace(0.5, 1e4, 70)
+            grid = lo2 + _GRID_STEPS_K
     return grid
 
 
@@ -1265,17 +1269,19 @@ def _start_values(cls: type, T, y, weigh, tr, fixed, bounds, order) -> list[dict
         best = next(trials, None)
         return [] if best is None else [best[1]]
     # the remaining law: WLF above Tg, Arrhenius below; every (Tg, C2) pair in one batch
-    pairs = []
+    tg_parts, c2_parts = [], []
     for tg in _tg_candidates(T, fixed, bounds["glass_transition_K"]):
         if "C2_K" in fixed:
             c2_grid = np.array([fixed["C2_K"]])
         else:
             lo, hi = bounds["C2_K"]
             c2_grid = _grid_above(tr - tg, (max(lo, tr - tg), hi))
-        pairs += [(tg, c2) for c2 in c2_grid if c2 + tg - tr > 0]
-    if not pairs:
+        c2_grid = c2_grid[c2_grid + tg - tr > 0]
+        tg_parts.append(np.full(c2_grid.size, float(tg)))
+        c2_parts.append(c2_grid)
+    if not tg_parts or sum(p.size for p in tg_parts) == 0:
         return []
-    tg, c2 = (np.array(v)[:, None] for v in zip(*pairs))
+    tg, c2 = (np.concatenate(v)[:, None] for v in (tg_parts, c2_parts))
     t_hi = np.maximum(T, tg)                      # (G, n): the WLF branch above Tg
     t_r = np.maximum(tr, tg)
     cols = {"C1": -(t_hi - tr) / (c2 + t_hi - tr) + (t_r - tr) / (c2 + t_r - tr),
@@ -1649,7 +1655,9 @@ def _refit_from(cls, T, y, weigh, tr, fixed, bounds, order, full: "_Outcome") ->
     defaults = _default_bounds(cls, T, tr, fixed, order)
     lims = {n: _merge_bounds(n, defaults[n], bounds.get(n)) for n in names}
     if cls in _LINEAR_LAWS and not any(np.any(np.isfinite(lims[n])) for n in free):
-        return _linear_outcome(cls, T, y, weigh, tr, fixed, names, free, order).params
+        # the constants alone: the same solve as _linear_outcome, without its covariance
+        coefs = _weighted_lstsq(_linear_columns(cls, T, tr, order), y, weigh, fixed)
+        return {n: float(coefs[n]) for n in names}
     lo = np.array([lims[n][0] for n in free])
     hi = np.array([lims[n][1] for n in free])
     x0 = np.array([_into_bounds(float(full.params[n]), lims[n][0], lims[n][1]) for n in free])
@@ -1978,10 +1986,14 @@ def fit_shift_law(temperature_K: Any, log10_aT: Any, *, reference_temperature_K:
         w_inf = w[informative]
         C_inf = None if C is None else C[np.ix_(informative, informative)]
 
+        without: dict = {}     # one weighting per left-out row, shared by every law
+
         def weighting_without(keep):
-            if C_inf is not None:
-                return _Weighting(covariance=C_inf[np.ix_(keep, keep)])
-            return _Weighting(w_inf[keep])
+            key = keep.tobytes()
+            if key not in without:
+                without[key] = (_Weighting(covariance=C_inf[np.ix_(keep, keep)])
+                                if C_inf is not None else _Weighting(w_inf[keep]))
+            return without[key]
 
         scale = (np.sqrt(np.diag(C_inf)) if C_inf is not None
                  else (1.0 / w_inf if stderr is not None else np.ones(n)))
