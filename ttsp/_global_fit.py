@@ -189,6 +189,12 @@ class _SplineModel:
         if not jac:
             return F, dF, None
         n = u.size
+        if n * self.n_theta <= _DENSE_SHIFT_JACOBIAN:
+            # small problems (most campaigns): the same entries in a dense array, whose
+            # products cost less than building sparse matrices at every step
+            J = np.zeros((n, self.n_theta))
+            J[np.arange(n)[:, None], cols] = B
+            return F, dF, J
         J = sp.csr_matrix((B.ravel(), (np.repeat(np.arange(n), 4), cols.ravel())),
                           shape=(n, self.n_theta))
         return F, dF, J
