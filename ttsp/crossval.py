@@ -27,7 +27,9 @@ costs one fit instead of one per candidate and fold.
 from __future__ import annotations
 
 import math
+import os
 import warnings
+from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass, replace
 
 import numpy as np
@@ -175,6 +177,10 @@ class CrossValidation:
 #: at most this many isotherms are held out (each costs a rebuild); beyond it, an evenly
 #: spread subset of the interior ones
 MAX_HELD_OUT = 8
+#: a campaign of at least this many measured points has its folds run two at a time (where
+#: two CPUs are free to this process): their large array work releases the interpreter
+#: lock, while on small campaigns the lock-bound Python steps would only take turns
+PARALLEL_FROM_POINTS = 20_000
 
 
 def held_out_indices(n_isotherms: int, limit: int = MAX_HELD_OUT) -> np.ndarray:
@@ -255,20 +261,43 @@ class _Predictor:
         return out
 
 
-def _fold(train: Campaign, options, t_ref: float):
-    """The build's fitting steps on one fold; a law family that cannot be fitted to the
+def _fold(train: Campaign, options, t_ref: float, start_from=None):
+    """The build's fitting steps on one fold, its shift fit iterating from ``start_from``
+    (the full build's shifts) when given; a law family that cannot be fitted to the
     fold's shifts (too few on one side of a break, a solver that stalls) falls back to the
     choice among all laws, as a build of those isotherms would make it."""
     from .workflow import fit_steps
 
-    with warnings.catch_warnings(), threadpool_limits(limits=1, user_api="blas"):
-        warnings.simplefilter("ignore")
-        try:
-            return fit_steps(train, options, t_ref, measure_collapse=False)
-        except FitError:
-            if options.law == "auto":
-                raise
-            return fit_steps(train, replace(options, law="auto"), t_ref, measure_collapse=False)
+    try:
+        return fit_steps(train, options, t_ref, measure_collapse=False, start_from=start_from)
+    except FitError:
+        if options.law == "auto":
+            raise
+        return fit_steps(train, replace(options, law="auto"), t_ref, measure_collapse=False,
+                         start_from=start_from)
+
+
+def _held_out(campaign: Campaign, k: int, options, t_ref: float, functions, start_from):
+    """Leave isotherm k out, build from the rest, predict it."""
+    iso = campaign.isotherms[k]
+    try:
+        fold = _fold(_without(campaign, k), options, t_ref, start_from)
+        law_s = float(fold.model.log10_aT(iso.temperature_K))
+    except (DataError, FitError) as exc:
+        return _failed(iso, functions, str(exc))
+    predictor = _Predictor(fold.model, iso, functions)
+    best_s = predictor.best_shift(law_s)
+    return HeldOutIsotherm(float(iso.temperature_K), int(iso.n_points), law_s, best_s,
+                           predictor.rms_percent(law_s), predictor.rms_percent(best_s))
+
+
+def _fold_workers(campaign: Campaign) -> int:
+    """Two folds at a time for a large campaign where two CPUs are free, else one."""
+    try:
+        cpus = len(os.sched_getaffinity(0))
+    except AttributeError:  # pragma: no cover - not on Linux
+        cpus = os.cpu_count() or 1
+    return 2 if cpus >= 2 and campaign.n_points >= PARALLEL_FROM_POINTS else 1
 
 
 def _failed(iso, functions, reason: str) -> HeldOutIsotherm:
@@ -291,7 +320,8 @@ def cross_validate(campaign: Campaign, options=None, reference_temperature_K: fl
     reference_temperature_K : float, optional
         Default: the build's default reference.
     full : ttsp.workflow.FittedSteps, optional
-        The fit on all isotherms; its master-curve model is kept in every fold.
+        The fit on all isotherms; its master-curve model is kept in every fold, and each
+        fold's shift fit iterates from its shifts (the same optimum in fewer iterations).
 
     Returns
     -------
@@ -310,17 +340,22 @@ def cross_validate(campaign: Campaign, options=None, reference_temperature_K: fl
         if full.master_curve is not None:
             options = replace(options, master_curve=full.master_curve.chosen)
     functions = scored_functions(campaign)
-    held = []
-    for k in held_out_indices(len(campaign)):
-        iso = campaign.isotherms[k]
-        try:
-            fold = _fold(_without(campaign, k), options, t_ref)
-            law_s = float(fold.model.log10_aT(iso.temperature_K))
-        except (DataError, FitError) as exc:
-            held.append(_failed(iso, functions, str(exc)))
-            continue
-        predictor = _Predictor(fold.model, iso, functions)
-        best_s = predictor.best_shift(law_s)
-        held.append(HeldOutIsotherm(float(iso.temperature_K), int(iso.n_points), law_s, best_s,
-                                    predictor.rms_percent(law_s), predictor.rms_percent(best_s)))
+    start_from = None if full is None else full.shifts
+
+    def one(k):
+        return _held_out(campaign, int(k), options, t_ref, functions, start_from)
+
+    ks = held_out_indices(len(campaign))
+    # warnings filters and the BLAS thread count are process-wide: set once around all folds
+    with warnings.catch_warnings(), threadpool_limits(limits=1, user_api="blas"):
+        warnings.simplefilter("ignore")
+        workers = _fold_workers(campaign)
+        if workers > 1 and len(ks) > 1:
+            pool = ThreadPoolExecutor(max_workers=workers)
+            try:
+                held = list(pool.map(one, ks))
+            finally:   # an interrupt does not start the folds still waiting
+                pool.shutdown(wait=True, cancel_futures=True)
+        else:
+            held = [one(k) for k in ks]
     return CrossValidation(tuple(held), functions)

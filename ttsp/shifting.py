@@ -435,7 +435,8 @@ def shift_isotherms(campaign: Campaign, reference_temperature_K: float | None = 
                     fixed_log10_aT: Mapping[float, float] | None = None, gaps: str = "stop",
                     robust: bool = True, outlier_threshold: float = OUTLIER_THRESHOLD,
                     low_information_stderr: float = 0.05, master_curve: str = "auto",
-                    smoothing: float | None = None) -> ShiftResult:
+                    smoothing: float | None = None,
+                    start_from: ShiftResult | None = None) -> ShiftResult:
     """Find the shift factors of all isotherms of a campaign by one joint fit.
 
     Parameters
@@ -478,6 +479,11 @@ def shift_isotherms(campaign: Campaign, reference_temperature_K: float | None = 
     smoothing : float, optional
         Weight λ of the roughness penalty λ ρ ∫ f^(d)(u)² du (ρ: points per decade); on the
         log-spectrum d = 2, default 0.05; on a spline d = 3, default 3. Larger is stiffer.
+    start_from : ShiftResult, optional
+        Shifts fitted earlier to these isotherms or to more of them (a fold of the
+        cross-validation starts from the full build's): the joint fit's iterations start at
+        them. The objective (its prior centred on the pairwise seeds) is unchanged, so the
+        result is the same optimum to the solver's tolerance, in fewer iterations.
 
     Returns
     -------
@@ -511,6 +517,8 @@ def shift_isotherms(campaign: Campaign, reference_temperature_K: float | None = 
     if smoothing is not None:
         smoothing = check_positive("smoothing", smoothing)
     check_choice("master_curve", master_curve, ("auto",) + MASTER_MODELS)
+    if start_from is not None and not isinstance(start_from, ShiftResult):
+        raise bad_value("start_from", "a ShiftResult or None", type(start_from).__name__)
     if vertical == "density":
         if expansion_coefficient_per_K is None:
             raise bad_value("expansion_coefficient_per_K",
@@ -625,6 +633,7 @@ def shift_isotherms(campaign: Campaign, reference_temperature_K: float | None = 
         stop_on_gaps(gap_info)
 
     # joint fit per connected group; a post-fit check may split groups further
+    warm = _start_of(start_from, temps, fit_vertical, chosen)
     for _round in range(n):
         comps, start = [], 0
         for k in range(n - 1):
@@ -638,7 +647,8 @@ def shift_isotherms(campaign: Campaign, reference_temperature_K: float | None = 
             if len(comp) < 2:
                 continue
             fits[ci] = _fit_component(comp, X, Y, pairs, chosen, vsign, fit_vertical,
-                                      direction, fixed, temps, t_ref, robust, model, smoothing)
+                                      direction, fixed, temps, t_ref, robust, model, smoothing,
+                                      warm)
             u = fits[ci]["u_range"]
             for a in range(len(comp) - 1):
                 if u[a + 1][0] > u[a][1] or u[a][0] > u[a + 1][1]:
@@ -859,9 +869,41 @@ def _bridge_groups(comps, s, cov_s, bridged, fixed, temps, t_ref) -> str:
             f"{len(comps[main])} connected isotherms (flag 'bridged')")
 
 
+def _start_of(start_from, temps, fit_vertical, functions):
+    """Per isotherm (log10 a_T, log10 b_T) of an earlier fit, matched by temperature (NaN
+    where it has no such isotherm), and its noise scale per function (None when it fitted
+    other functions); None without an earlier fit."""
+    if start_from is None:
+        return None
+    scales = start_from.residual_scale_log10
+    sigma = (np.array([scales[q] for q in functions], float)
+             if all(q in scales for q in functions) else None)
+    known = np.asarray(start_from.temperature_K, float)
+    s, c = np.full(temps.size, np.nan), np.zeros(temps.size)
+    for k, t in enumerate(temps):
+        j = np.flatnonzero(np.abs(known - t) <= 1e-9 * max(abs(t), 1.0))
+        if j.size:
+            s[k] = start_from.log10_aT[j[0]]
+            if fit_vertical:
+                c[k] = start_from.log10_bT[j[0]]
+    return s, c, sigma
+
+
+def _component_start(start, comp, anchor, gauge_fixed):
+    """The earlier fit's shifts of one group in the group's gauge (0 at its anchor unless
+    fixed shifts set the gauge), or None when it lacks one of the group's isotherms."""
+    if start is None:
+        return None
+    s, c = start[0][comp], start[1][comp]
+    if not np.all(np.isfinite(s)):
+        return None
+    return (s if gauge_fixed else s - s[anchor]), c - c[anchor], start[2]
+
+
 def _fit_component(comp, X, Y, pairs, functions, vsign, fit_vertical, direction, fixed, temps,
-                   t_ref, robust, master_curve, smoothing):
-    """Seed by chained pairwise shifts, then fit one connected group of isotherms jointly."""
+                   t_ref, robust, master_curve, smoothing, start=None):
+    """Seed by chained pairwise shifts, then fit one connected group of isotherms jointly
+    (iterations from ``start``, an earlier fit's shifts, when given)."""
     m = len(comp)
     s0 = np.zeros(m)
     c0 = np.zeros(m)
@@ -870,6 +912,7 @@ def _fit_component(comp, X, Y, pairs, functions, vsign, fit_vertical, direction,
         s0[a + 1] = s0[a] + direction * p["delta"]
         c0[a + 1] = c0[a] + p["offset"]
     local_fixed = {a: fixed[k] for a, k in enumerate(comp) if k in fixed}
+    fixed_here = bool(local_fixed)
     anchor = int(np.argmin(np.abs(temps[comp] - t_ref)))
     if local_fixed:
         s0 += np.mean([v - s0[a] for a, v in local_fixed.items()])
@@ -903,7 +946,8 @@ def _fit_component(comp, X, Y, pairs, functions, vsign, fit_vertical, direction,
                         fit_vertical=fit_vertical, c_fixed={anchor: 0.0},
                         relative_noise=np.where(ratio >= NOISE_RATIO_TRUSTED, ratio, 1.0))
     sol = fit_joint(prob, s0, c0 if fit_vertical else None, model=master_curve, robust=robust,
-                    smoothing=smoothing)
+                    smoothing=smoothing,
+                    start=_component_start(start, comp, anchor, bool(fixed_here)))
     u_range = [(float(sol.u[iso == a].min()), float(sol.u[iso == a].max())) for a in range(m)]
     return {"s": sol.s, "c": sol.c if fit_vertical else np.zeros(m), "cov_s": sol.cov_s,
             "cov_c": sol.cov_c, "solution": sol, "iso": iso, "fn": fn, "point": point,

@@ -579,13 +579,14 @@ class FittedSteps:
 
 
 def fit_steps(campaign: Campaign, options: BuildOptions, t_ref_K: float, step=None, *,
-              measure_collapse: bool = True) -> FittedSteps:
+              measure_collapse: bool = True, start_from=None) -> FittedSteps:
     """Shift factors (with the master-curve model chosen), shift law, Prony series and the
     model they make, for a campaign already checked and with its derived functions.
 
     The build and each fold of the cross-validation run exactly these steps; a fold does not
     measure the collapse of its shifts against chained pairwise shifts
-    (``measure_collapse=False``), which only the build reports.
+    (``measure_collapse=False``), which only the build reports, and starts its shift fit's
+    iterations from the full build's shifts (``start_from``: same optimum, fewer iterations).
     """
     from .model import VerticalShift, ViscoelasticModel
     from .shifting import shift_isotherms
@@ -603,7 +604,8 @@ def fit_steps(campaign: Campaign, options: BuildOptions, t_ref_K: float, step=No
             quantities="tan_delta" if options.shift_on == "tan_delta" else "auto",
             vertical=options.vertical,
             expansion_coefficient_per_K=options.expansion_coefficient_per_K,
-            gaps=options.gaps, master_curve=model_name, fixed_log10_aT=fixed_shifts)
+            gaps=options.gaps, master_curve=model_name, fixed_log10_aT=fixed_shifts,
+            start_from=start_from)
 
     requested = options.master_curve
     if requested == "auto" and options.shift_on != "tan_delta" and {
