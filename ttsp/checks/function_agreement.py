@@ -28,8 +28,9 @@ from dataclasses import replace
 
 import numpy as np
 
-from .data import Campaign
-from .exceptions import DataError, FitError
+from ..data import Campaign
+from ..exceptions import DataError, FitError
+from .result import CheckResult
 
 __all__ = ["check_function_agreement", "AGREEMENT_WARN_DECADES", "AGREEMENT_FAIL_DECADES",
            "AGREEMENT_Z", "AGREEMENT_TOLERANCE_DECADES"]
@@ -96,8 +97,7 @@ def check_function_agreement(campaign: Campaign, shifts):
         functions, or when one function alone cannot be shifted (a gap in it), since then
         the comparison does not exist.
     """
-    from .checks import CheckResult
-    from .shifting import shift_isotherms
+    from ..shifting import shift_isotherms
 
     if not isinstance(campaign, Campaign) or campaign.domain != "frequency" or len(campaign) < 3:
         return None
