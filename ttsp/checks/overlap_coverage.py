@@ -41,6 +41,99 @@ def _ordinate_overlap(ya: np.ndarray, yb: np.ndarray):
     return float(overlap), float(span)
 
 
+def _pair_verdict(pair: dict, tolerance: float) -> str:
+    """"gap" (disjoint beyond ``tolerance`` decades), "gap bridged by tan δ" (a gap in the
+    function that tan δ overlaps), "thin" (too little overlap) or "ok"."""
+    overlap, span = pair["overlap_decades"], pair["narrower_span_decades"]
+    if overlap < -tolerance:
+        if pair.get("tan_delta_overlap_decades", -1.0) >= MIN_OVERLAP_DECADES:
+            return "gap bridged by tan δ"
+        return "gap"
+    if overlap < MIN_OVERLAP_DECADES and (span <= 0 or overlap < MIN_OVERLAP_FRACTION * span):
+        return "thin"
+    return "ok"
+
+
+def _neighbour_pairs(c: Campaign, table, quantity: str, tolerance: float):
+    """Every pair of neighbouring isotherms with its overlap in log10 of ``quantity`` (and of
+    tan δ for frequency data) and its verdict; then the pairs named as gaps, thin overlaps and
+    gaps bridged by tan δ. Points flagged as outliers in ``table`` are left out."""
+    pairs, named = [], {"gap": [], "thin": [], "gap bridged by tan δ": []}
+    for k in range(len(c) - 1):
+        a, b = c.isotherms[k], c.isotherms[k + 1]
+        ka, kb = _keep(table, k, a.n_points), _keep(table, k + 1, b.n_points)
+        overlap, span = _ordinate_overlap(np.log10(a.values[quantity][ka]),
+                                          np.log10(b.values[quantity][kb]))
+        name = f"{a.temperature_C:.4g} °C and {b.temperature_C:.4g} °C"
+        pair = {"temperature_low_C": a.temperature_C, "temperature_high_C": b.temperature_C,
+                "overlap_decades": overlap, "narrower_span_decades": span}
+        if c.domain == "frequency" and "tan_delta" in c.quantities:
+            pair["tan_delta_overlap_decades"], _ = _ordinate_overlap(
+                np.log10(a.values["tan_delta"][ka]), np.log10(b.values["tan_delta"][kb]))
+        pair["verdict"] = _pair_verdict(pair, tolerance)
+        if pair["verdict"] == "thin":
+            named["thin"].append(f"{name} ({max(overlap, 0.0):.2g} decade)")
+        elif pair["verdict"] != "ok":
+            named[pair["verdict"]].append(f"{name} ({-overlap:.2g} decade apart)")
+        pairs.append(pair)
+    return pairs, named["gap"], named["thin"], named["gap bridged by tan δ"]
+
+
+def _flagged_shifts(table) -> tuple[list, list]:
+    """The temperatures (as text) of the shifts that the shifting bridged by a law, and of those
+    it flagged low-information; none without a shift table."""
+    if table is None:
+        return [], []
+    bridged = [_fmt_C(t) for t, f in zip(table.temperature_K, table.flags)
+               if any("bridg" in str(x) for x in f)]
+    weak = [_fmt_C(t) for t, f in zip(table.temperature_K, table.flags)
+            if "low-information" in f]
+    return bridged, weak
+
+
+def _gap_message(symbol: str, gaps: list) -> str:
+    """The failure: the gaps named, and how to close them."""
+    return (f"Neighbouring isotherms do not overlap in {symbol} between {'; '.join(gaps)}, so "
+            "the data cannot fix the shift across the gap. Measure at "
+            "temperatures between them, widen the frequency or time range, or bridge the gap "
+            "with a shift law and treat those shifts as model-based.")
+
+
+def _marginal_message(symbol: str, thin: list, bridged_by_tan: list, bridged: list,
+                      weak: list) -> str:
+    """The warning: thin overlaps, gaps only tan δ bridges, shifts bridged by a law."""
+    parts = []
+    if thin:
+        parts.append(f"thin overlap in {symbol} between {'; '.join(thin)}")
+    if bridged_by_tan:
+        parts.append(f"{symbol} does not overlap between {'; '.join(bridged_by_tan)} but "
+                     "tan δ does")
+    if bridged:
+        parts.append(f"shifts bridged by a law at {', '.join(bridged)}")
+    if weak:
+        parts.append(f"shifts poorly determined (a plateau or little overlap) at "
+                     f"{', '.join(weak)}")
+    return ("Coverage is marginal: " + "; ".join(parts) + ". Those shift factors rest on "
+            "little data; check them or measure at intermediate temperatures.")
+
+
+def _covered_message(symbol: str, value: float, pairs: list, weak: list) -> str:
+    """The pass: the least overlap, and a note on poorly determined shifts."""
+    least = min(pairs, key=lambda p: p["overlap_decades"])
+    flat = (" on a plateau, where the isotherms span little"
+            if least["narrower_span_decades"] < MIN_OVERLAP_DECADES else "")
+    msg = (f"Every pair of neighbouring isotherms overlaps in {symbol} (least "
+           f"{value:.2g} decade, between {least['temperature_low_C']:.4g} °C and "
+           f"{least['temperature_high_C']:.4g} °C{flat})")
+    if weak:
+        # A note, not a warning: plateau isotherms of exact simple campaigns are flagged
+        # low-information too (20 % of benchmarks/bench_checks.py --quick warned on it);
+        # whether superposition holds there is judged by function_agreement.
+        return msg + (f", but the shifts at {', '.join(weak)} are poorly determined (a plateau "
+                      "or little overlap): they rest on little data.")
+    return msg + "; the data can fix every shift."
+
+
 def check_overlap_coverage(campaign: Campaign, *, shifts=None) -> CheckResult | None:
     """Decades of overlap in the ordinate between neighbouring isotherms; gaps named.
 
@@ -72,37 +165,8 @@ def check_overlap_coverage(campaign: Campaign, *, shifts=None) -> CheckResult | 
     table = _align_shifts(c, shifts) if shifts is not None else None
     sigma = estimate_noise(c)["typical"].get(quantity, NOISE_FLOOR_LOG10)
     tolerance = GAP_NOISE_FACTOR * math.sqrt(2.0) * sigma
-    pairs, gaps, thin, bridged_by_tan = [], [], [], []
-    for k in range(len(c) - 1):
-        a, b = c.isotherms[k], c.isotherms[k + 1]
-        ka, kb = _keep(table, k, a.n_points), _keep(table, k + 1, b.n_points)
-        overlap, span = _ordinate_overlap(np.log10(a.values[quantity][ka]),
-                                          np.log10(b.values[quantity][kb]))
-        name = f"{a.temperature_C:.4g} °C and {b.temperature_C:.4g} °C"
-        pair = {"temperature_low_C": a.temperature_C, "temperature_high_C": b.temperature_C,
-                "overlap_decades": overlap, "narrower_span_decades": span}
-        if c.domain == "frequency" and "tan_delta" in c.quantities:
-            pair["tan_delta_overlap_decades"], _ = _ordinate_overlap(
-                np.log10(a.values["tan_delta"][ka]), np.log10(b.values["tan_delta"][kb]))
-        if overlap < -tolerance:
-            if pair.get("tan_delta_overlap_decades", -1.0) >= MIN_OVERLAP_DECADES:
-                pair["verdict"] = "gap bridged by tan δ"
-                bridged_by_tan.append(f"{name} ({-overlap:.2g} decade apart)")
-            else:
-                pair["verdict"] = "gap"
-                gaps.append(f"{name} ({-overlap:.2g} decade apart)")
-        elif overlap < MIN_OVERLAP_DECADES and (span <= 0 or overlap < MIN_OVERLAP_FRACTION * span):
-            pair["verdict"] = "thin"
-            thin.append(f"{name} ({max(overlap, 0.0):.2g} decade)")
-        else:
-            pair["verdict"] = "ok"
-        pairs.append(pair)
-    bridged, weak = [], []
-    if table is not None:
-        bridged = [_fmt_C(t) for t, f in zip(table.temperature_K, table.flags)
-                   if any("bridg" in str(x) for x in f)]
-        weak = [_fmt_C(t) for t, f in zip(table.temperature_K, table.flags)
-                if "low-information" in f]
+    pairs, gaps, thin, bridged_by_tan = _neighbour_pairs(c, table, quantity, tolerance)
+    bridged, weak = _flagged_shifts(table)
     value = min(p["overlap_decades"] for p in pairs)
     symbol = c.symbol(quantity)
     details = {"unit": f"decades of {symbol}", "quantity": quantity, "pairs": pairs,
@@ -112,40 +176,9 @@ def check_overlap_coverage(campaign: Campaign, *, shifts=None) -> CheckResult | 
     threshold = (f">= {MIN_OVERLAP_DECADES:g} decade or >= {MIN_OVERLAP_FRACTION:.0%} of the "
                  "narrower span; no gap")
     if gaps:
-        msg = (f"Neighbouring isotherms do not overlap in {symbol} between {'; '.join(gaps)}, so "
-               "the data cannot fix the shift across the gap. Measure at "
-               "temperatures between them, widen the frequency or time range, or bridge the gap "
-               "with a shift law and treat those shifts as model-based.")
-        status = "fail"
+        status, msg = "fail", _gap_message(symbol, gaps)
     elif thin or bridged_by_tan or bridged:
-        parts = []
-        if thin:
-            parts.append(f"thin overlap in {symbol} between {'; '.join(thin)}")
-        if bridged_by_tan:
-            parts.append(f"{symbol} does not overlap between {'; '.join(bridged_by_tan)} but "
-                         "tan δ does")
-        if bridged:
-            parts.append(f"shifts bridged by a law at {', '.join(bridged)}")
-        if weak:
-            parts.append(f"shifts poorly determined (a plateau or little overlap) at "
-                         f"{', '.join(weak)}")
-        msg = ("Coverage is marginal: " + "; ".join(parts) + ". Those shift factors rest on "
-               "little data; check them or measure at intermediate temperatures.")
-        status = "warn"
+        status, msg = "warn", _marginal_message(symbol, thin, bridged_by_tan, bridged, weak)
     else:
-        least = min(pairs, key=lambda p: p["overlap_decades"])
-        flat = (" on a plateau, where the isotherms span little"
-                if least["narrower_span_decades"] < MIN_OVERLAP_DECADES else "")
-        msg = (f"Every pair of neighbouring isotherms overlaps in {symbol} (least "
-               f"{value:.2g} decade, between {least['temperature_low_C']:.4g} °C and "
-               f"{least['temperature_high_C']:.4g} °C{flat})")
-        if weak:
-            # A note, not a warning: plateau isotherms of exact simple campaigns are flagged
-            # low-information too (20 % of benchmarks/bench_checks.py --quick warned on it);
-            # whether superposition holds there is judged by function_agreement.
-            msg += (f", but the shifts at {', '.join(weak)} are poorly determined (a plateau "
-                    "or little overlap): they rest on little data.")
-        else:
-            msg += "; the data can fix every shift."
-        status = "pass"
+        status, msg = "pass", _covered_message(symbol, value, pairs, weak)
     return CheckResult("overlap_coverage", status, value, threshold, msg, details)
