@@ -144,6 +144,56 @@ def _kk_worst_isotherms(point_T, dev, n=3):
     return sorted(rows, key=lambda r: -r[1])[:n]
 
 
+def _kk_not_judged(why: str, w: np.ndarray, source: str) -> CheckResult:
+    """The warning of a master curve on which the comparison cannot be made."""
+    return CheckResult("kramers_kronig", "warn", None, KK_WARN_PERCENT, why,
+                       {"points": int(w.size), "source": source})
+
+
+def _kk_thresholds(campaign) -> tuple[float, float, float]:
+    """(noise of the campaign in %, warn level, fail level): the warn level is at least
+    :data:`KK_NOISE_FACTOR` times the noise, the fail level at least twice the warn level."""
+    noise_pct = math.nan
+    if campaign is not None:
+        noise_pct = _noise_percent(estimate_noise(campaign))[0]
+    warn = KK_WARN_PERCENT
+    if math.isfinite(noise_pct):
+        warn = max(warn, KK_NOISE_FACTOR * noise_pct)
+    return noise_pct, warn, max(KK_FAIL_PERCENT, 2.0 * warn)
+
+
+def _kk_details(source: str, n_points: int, storage_from_loss, loss_from_storage,
+                noise_pct: float, fail: float) -> dict:
+    """The supporting numbers; each direction is (rms %, deviations %, points used)."""
+    rms1, dev1, use1 = storage_from_loss
+    rms2, dev2, use2 = loss_from_storage
+    return {"unit": "%", "source": source, "points": int(n_points),
+            "loss_from_storage_points": int(use2.sum()),
+            "loss_from_storage_rms_percent": rms2,
+            "loss_from_storage_mean_percent": float(np.mean(dev2)) if dev2.size else None,
+            "storage_from_loss_points": int(use1.sum()),
+            "storage_from_loss_rms_percent": rms1,
+            "storage_from_loss_mean_percent": float(np.mean(dev1)) if dev1.size else None,
+            "noise_percent": noise_pct, "fail_threshold": fail}
+
+
+def _kk_message(status: str, value: float, worse: str, where: str) -> str:
+    """The verdict in words; ``worse`` names the prediction that misses more, ``where`` the
+    isotherms where it misses most."""
+    if status == "pass":
+        return (f"E' and E'' of the master curve agree with one relaxation spectrum within "
+                f"{value:.2g} % (Kramers–Kronig); they are consistent.")
+    if status == "warn":
+        return (f"{worse} misses the measured curve by {value:.2g} % rms{where}: "
+                "E' and E'' agree only roughly with one spectrum. Check the ends of the master "
+                "curve and the shifts; use the Prony series with care.")
+    return (f"{worse} misses the measured curve by {value:.2g} % rms{where}, so "
+            "E' and E'' cannot be the two faces of one relaxation spectrum "
+            "(Kramers–Kronig). Look for instrument "
+            "artefacts (inertia, clamp compliance, phase error), nonlinearity or shifts that "
+            "differ between E' and E''.")
+
+
 def check_kramers_kronig(campaign: Campaign | None = None, *, shifts=None,
                          prony_fit=None) -> CheckResult | None:
     """Kramers–Kronig consistency of E' and E'' of the master curve.
@@ -179,54 +229,28 @@ def check_kramers_kronig(campaign: Campaign | None = None, *, shifts=None,
     lw = np.log10(w)
     inner = (lw >= lw[0] + KK_EDGE_DECADES) & (lw <= lw[-1] - KK_EDGE_DECADES)
     if inner.sum() < 5 or w.size < 8:
-        return CheckResult("kramers_kronig", "warn", None, KK_WARN_PERCENT,
-                           "The master curve is too short to test whether E' and E'' agree; "
-                           "measure over a wider range of reduced frequency.",
-                           {"points": int(w.size), "source": source})
+        return _kk_not_judged("The master curve is too short to test whether E' and E'' agree; "
+                              "measure over a wider range of reduced frequency.", w, source)
     rms1, rms2, dev1, dev2, use1, use2 = _kk_disagreement(w, e1, e2, inner)
     if not (math.isfinite(rms1) or math.isfinite(rms2)):
-        return CheckResult("kramers_kronig", "warn", None, KK_WARN_PERCENT,
-                           "The master curve has too few points where E' and E'' are comparable "
-                           "to test whether they agree; measure over a wider range.",
-                           {"points": int(w.size), "source": source})
+        return _kk_not_judged("The master curve has too few points where E' and E'' are "
+                              "comparable to test whether they agree; measure over a wider "
+                              "range.", w, source)
     value = float(np.nanmax([rms1, rms2]))
-    noise_pct = math.nan
-    if campaign is not None:
-        noise_pct = _noise_percent(estimate_noise(campaign))[0]
-    warn = KK_WARN_PERCENT
-    if math.isfinite(noise_pct):
-        warn = max(warn, KK_NOISE_FACTOR * noise_pct)
-    fail = max(KK_FAIL_PERCENT, 2.0 * warn)
+    noise_pct, warn, fail = _kk_thresholds(campaign)
     status = _grade(value, warn, fail)
-    details = {"unit": "%", "source": source, "points": int(w.size),
-               "loss_from_storage_points": int(use2.sum()),
-               "loss_from_storage_rms_percent": rms2,
-               "loss_from_storage_mean_percent": float(np.mean(dev2)) if dev2.size else None,
-               "storage_from_loss_points": int(use1.sum()),
-               "storage_from_loss_rms_percent": rms1,
-               "storage_from_loss_mean_percent": float(np.mean(dev1)) if dev1.size else None,
-               "noise_percent": noise_pct, "fail_threshold": fail}
+    details = _kk_details(source, w.size, (rms1, dev1, use1), (rms2, dev2, use2), noise_pct,
+                          fail)
     if prony_fit is not None and getattr(prony_fit, "rms_percent_by_quantity", None):
         details["joint_fit_rms_percent"] = {str(k): float(v) for k, v in
                                             prony_fit.rms_percent_by_quantity.items()}
-    worse = ("E'' predicted from E'" if not rms1 >= rms2 else "E' predicted from E''")
-    worst = _kk_worst_isotherms(point_T[use2] if not rms1 >= rms2 else point_T[use1],
-                                dev2 if not rms1 >= rms2 else dev1)
+    loss_worse = not rms1 >= rms2
+    worse = ("E'' predicted from E'" if loss_worse else "E' predicted from E''")
+    worst = _kk_worst_isotherms(point_T[use2] if loss_worse else point_T[use1],
+                                dev2 if loss_worse else dev1)
     details["worst_isotherms"] = [{"temperature_C": t - 273.15, "rms_percent": r}
                                   for t, r in worst]
     where = ("; largest at " + ", ".join(f"{_fmt_C(t)} ({r:.2g} %)" for t, r in worst)
              if worst and status != "pass" else "")
-    if status == "pass":
-        msg = (f"E' and E'' of the master curve agree with one relaxation spectrum within "
-               f"{value:.2g} % (Kramers–Kronig); they are consistent.")
-    elif status == "warn":
-        msg = (f"{worse} misses the measured curve by {value:.2g} % rms{where}: "
-               "E' and E'' agree only roughly with one spectrum. Check the ends of the master "
-               "curve and the shifts; use the Prony series with care.")
-    else:
-        msg = (f"{worse} misses the measured curve by {value:.2g} % rms{where}, so "
-               "E' and E'' cannot be the two faces of one relaxation spectrum "
-               "(Kramers–Kronig). Look for instrument "
-               "artefacts (inertia, clamp compliance, phase error), nonlinearity or shifts that "
-               "differ between E' and E''.")
-    return CheckResult("kramers_kronig", status, value, warn, msg, details)
+    return CheckResult("kramers_kronig", status, value, warn,
+                       _kk_message(status, value, worse, where), details)
