@@ -51,7 +51,8 @@ All computation is numpy/scipy; nothing is printed and no warning is issued: a c
 One module per family of checks
 -------------------------------
 ``result``                  :class:`CheckResult`, :func:`worst_status`, the grading
-``noise``                   the noise estimate every check reads (:func:`estimate_noise`)
+``_inputs``                 the shift table matched to the campaign's isotherms
+``noise``                   the noise estimate several checks read (:func:`estimate_noise`)
 ``spread``                  how far apart isotherms lie in a plane (used by the next two)
 ``simplicity``              van Gurp–Palmen and loss against storage, before any shift
 ``shifted_superposition``   the shifted isotherms about each other
