@@ -27,6 +27,9 @@ from hypothesis import strategies as st
 from ttsp import checks
 from ttsp._noise import third_difference_sigmas
 from ttsp.checks import CheckResult, run_checks
+from ttsp.checks import kramers_kronig as kk_module
+from ttsp.checks import law_residuals as law_residuals_module
+from ttsp.checks import spread as spread_module
 from ttsp.data import Campaign
 from ttsp.exceptions import DataError
 
@@ -309,7 +312,7 @@ def test_kk_prediction_is_the_kramers_kronig_transform():
     tau, mod = gaussian_spectrum(0.0, 1.0, 1e9)
     e1, e2 = prony_moduli(w, tau, mod)
     e1 = e1 + 1e6
-    pred1, pred2 = checks._kk_predictions(w, e1, e2)
+    pred1, pred2 = kk_module._kk_predictions(w, e1, e2)
 
     def storage(x):
         return 1e6 + prony_moduli(np.atleast_1d(x), tau, mod)[0][0]
@@ -549,12 +552,12 @@ def test_runs_test_matches_enumeration():
         runs = [1 + sum(a != b for a, b in zip(s[1:], s[:-1])) for s in arrangements]
         for observed in sorted(set(runs)):
             signs = np.array(next(s for s, r in zip(arrangements, runs) if r == observed))
-            r, expected, p = checks._runs_p_value(signs)
+            r, expected, p = law_residuals_module._runs_p_value(signs)
             assert r == observed
             assert p == pytest.approx(sum(x <= observed for x in runs) / len(runs), rel=1e-12)
             assert expected == pytest.approx(np.mean(runs), rel=1e-12)
     # textbook value: 5 + and 5 − in two runs, P = 2 / C(10, 5) = 2/252 (common practice)
-    assert checks._runs_p_value(np.array([1] * 5 + [-1] * 5))[2] == pytest.approx(2 / 252)
+    assert law_residuals_module._runs_p_value(np.array([1] * 5 + [-1] * 5))[2] == pytest.approx(2 / 252)
 
 
 @dataclass(frozen=True)
@@ -823,7 +826,7 @@ def test_solver_failure_becomes_a_warning(simple_exact, monkeypatch):
     def boom(*a, **k):
         raise FitError("non-negative least squares did not converge")
 
-    monkeypatch.setattr(checks, "_kk_predictions", boom)
+    monkeypatch.setattr(kk_module, "_kk_predictions", boom)
     results = by_name(run_checks(simple_exact, shifts=exact_shifts(simple_exact, simple_law)))
     assert results["kramers_kronig"].status == "warn"
     assert "could not be evaluated" in results["kramers_kronig"].message
@@ -840,7 +843,7 @@ def test_nnls_failure_raises_fit_error(monkeypatch):
 
     monkeypatch.setattr(scipy.optimize, "nnls", stuck)
     with pytest.raises(FitError, match="non-negative least squares did not converge: Maximum"):
-        checks._nnls_relative(np.ones((3, 2)), np.ones(3))
+        kk_module._nnls_relative(np.ones((3, 2)), np.ones(3))
 
 
 def test_module_does_not_load_matplotlib():
@@ -907,8 +910,8 @@ def test_point_to_curve_distances_agree_with_a_direct_computation(monkeypatch):
         b = (np.sort(rng.uniform(0, 3, nb)), rng.normal(0, 1, nb))
         jobs.append((a, b, float(rng.uniform(0.01, 0.1)), float(rng.uniform(0.01, 0.1))))
     expected = [direct(*job) for job in jobs]
-    for batch in (checks._DISTANCE_BATCH, 50):          # one array; many small chunks
-        monkeypatch.setattr(checks, "_DISTANCE_BATCH", batch)
-        for (d, o), (de, oe) in zip(checks._distances(jobs), expected):
+    for batch in (spread_module._DISTANCE_BATCH, 50):          # one array; many small chunks
+        monkeypatch.setattr(spread_module, "_DISTANCE_BATCH", batch)
+        for (d, o), (de, oe) in zip(spread_module._distances(jobs), expected):
             np.testing.assert_allclose(d, de, rtol=1e-12, atol=1e-12)
             np.testing.assert_allclose(o, oe, rtol=1e-12, atol=1e-12)

@@ -17,8 +17,7 @@ import numpy as np
 import pytest
 from typer.testing import CliRunner
 
-from ttsp.checks import worst_status
-from ttsp.checks_agreement import check_function_agreement
+from ttsp.checks import check_function_agreement, worst_status
 from ttsp.cli import app
 from ttsp.data import Campaign, Isotherm
 from ttsp.workflow import build

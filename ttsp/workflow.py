@@ -18,6 +18,8 @@ from .data import REFERENCE_SNAP_K, Campaign
 from .master_choice import MASTER_CURVE_CHOICES, choose_master_curve
 from .exceptions import DataError, FitError, FitQualityWarning, TtspWarning
 from .bands import band_columns
+from . import checks as check_suite   # run_checks looked up at each build: a test may replace it
+from .checks import disagreeing_temperatures_K
 from .units import celsius_to_kelvin, kelvin_to_celsius
 
 __all__ = ["BuildOptions", "BuildResult", "build", "LAW_CHOICES", "VERTICAL_CHOICES",
@@ -482,7 +484,6 @@ def build(campaign: Campaign, options: BuildOptions | None = None, *, input_sha2
 
     Warnings raised by the steps are collected into ``result.warnings`` (and re-emitted).
     """
-    from .checks import run_checks
     from .shifting import default_reference_temperature_K
 
     if options is None:
@@ -533,8 +534,8 @@ def build(campaign: Campaign, options: BuildOptions | None = None, *, input_sha2
             spectrum = _fit_spectrum(campaign, shifts, t_ref_K)
         step("checks")
         check_campaign, check_shifts = _thin_for_checks(campaign, shifts)
-        checks = tuple(run_checks(check_campaign, shifts=check_shifts, law_fit=law_fit,
-                                  prony_fit=prony_fit))
+        checks = tuple(check_suite.run_checks(check_campaign, shifts=check_shifts,
+                                              law_fit=law_fit, prony_fit=prony_fit))
         shifts = _flag_disagreements(shifts, checks)
         glass = None
         if campaign.domain == "frequency":
@@ -783,8 +784,6 @@ def _with_series(prony_fit, series):
 def _flag_disagreements(shifts, checks):
     """The shifts with ``"functions-disagree"`` in the flags of the isotherms that the
     function_agreement check names (shifts of E' alone and E'' alone differ there)."""
-    from .checks_agreement import disagreeing_temperatures_K
-
     agreement = next((c for c in checks if c.name == "function_agreement"), None)
     named = disagreeing_temperatures_K(agreement)
     if not named:

@@ -28,8 +28,9 @@ from dataclasses import replace
 
 import numpy as np
 
-from .data import Campaign
-from .exceptions import DataError, FitError
+from ..data import Campaign
+from ..exceptions import DataError, FitError
+from .result import CheckResult
 
 __all__ = ["check_function_agreement", "AGREEMENT_WARN_DECADES", "AGREEMENT_FAIL_DECADES",
            "AGREEMENT_Z", "AGREEMENT_TOLERANCE_DECADES"]
@@ -78,6 +79,53 @@ def _unshifted_vertically(campaign: Campaign, shifts) -> Campaign:
     return Campaign(tuple(isos), campaign.domain, campaign.modulus_kind, campaign.source)
 
 
+def _reference_temperature_K(shifts) -> float:
+    """The build's reference temperature; for a plain shift table, its isotherm at
+    log10 a_T = 0."""
+    t_ref = getattr(shifts, "reference_temperature_K", None)
+    if t_ref is None:   # a plain shift table: its isotherm at log10 a_T = 0
+        k = int(np.argmin(np.abs(np.asarray(shifts.log10_aT, float))))
+        t_ref = float(np.asarray(shifts.temperature_K, float)[k])
+    return float(t_ref)
+
+
+def _single_function_shifts(data: Campaign, t_ref: float, pair: tuple):
+    """The shifts found on each function of ``pair`` alone (gaps bridged, spline master
+    curve), or None when either cannot be shifted."""
+    from ..shifting import shift_isotherms
+
+    fits = []
+    try:
+        # the single-function fits' own warnings (plateaus, bridges) are about fits the user did
+        # not ask for; what matters from them is in this check's result
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")
+            for q in pair:
+                fits.append(shift_isotherms(data, t_ref, quantities=(q,), gaps="bridge",
+                                            master_curve="spline"))
+    except (DataError, FitError):
+        return None
+    return fits
+
+
+def _agreement_message(status: str, symbols: tuple, T: np.ndarray, d: np.ndarray,
+                       z: np.ndarray, informative: np.ndarray, bad: list) -> str:
+    """The verdict in words: on a pass the largest informative difference, else the
+    disagreeing isotherms (``bad``) with their differences ``d`` (decades) and ``z``."""
+    e1, e2 = symbols
+    if status == "pass":
+        k = int(np.argmax(np.where(informative, np.abs(d), -1.0)))
+        return (f"Shifting {e1} alone and {e2} alone gives the same shift factors within their "
+                f"errors (largest difference {abs(d[k]):.2g} decade at {T[k] - 273.15:.4g} °C, "
+                f"{abs(z[k]):.1f} standard errors).")
+    named = ", ".join(f"{T[k] - 273.15:.4g} °C ({d[k]:+.2g} decade, {abs(z[k]):.0f} σ)"
+                      for k in bad)
+    return (f"{e1} and {e2} shifted alone disagree at {named} (log10 a_T from {e1} minus "
+            f"from {e2}). One shift cannot superpose both functions there: the material "
+            "looks thermorheologically complex (mechanisms with different temperature "
+            "dependences), or one function carries an instrument error.")
+
+
 def check_function_agreement(campaign: Campaign, shifts):
     """Shifts found on E' alone and on E'' alone, compared isotherm by isotherm.
 
@@ -96,30 +144,14 @@ def check_function_agreement(campaign: Campaign, shifts):
         functions, or when one function alone cannot be shifted (a gap in it), since then
         the comparison does not exist.
     """
-    from .checks import CheckResult
-    from .shifting import shift_isotherms
-
     if not isinstance(campaign, Campaign) or campaign.domain != "frequency" or len(campaign) < 3:
         return None
     pair = _pair(campaign)
     if pair is None:
         return None
-    t_ref = getattr(shifts, "reference_temperature_K", None)
-    if t_ref is None:   # a plain shift table: its isotherm at log10 a_T = 0
-        k = int(np.argmin(np.abs(np.asarray(shifts.log10_aT, float))))
-        t_ref = float(np.asarray(shifts.temperature_K, float)[k])
-    t_ref = float(t_ref)
-    data = _unshifted_vertically(campaign, shifts)
-    fits = []
-    try:
-        # the single-function fits' own warnings (plateaus, bridges) are about fits the user did
-        # not ask for; what matters from them is in this check's result
-        with warnings.catch_warnings():
-            warnings.simplefilter("ignore")
-            for q in pair:
-                fits.append(shift_isotherms(data, t_ref, quantities=(q,), gaps="bridge",
-                                            master_curve="spline"))
-    except (DataError, FitError):
+    t_ref = _reference_temperature_K(shifts)
+    fits = _single_function_shifts(_unshifted_vertically(campaign, shifts), t_ref, pair)
+    if fits is None:
         return None
     a, b = fits
     d = np.asarray(a.log10_aT, float) - np.asarray(b.log10_aT, float)
@@ -146,18 +178,7 @@ def check_function_agreement(campaign: Campaign, shifts):
                "disagreeing_temperatures_C": [float(T[k] - 273.15) for k in bad],
                "z_threshold": AGREEMENT_Z, "tolerance_decades": AGREEMENT_TOLERANCE_DECADES,
                "fail_threshold": AGREEMENT_FAIL_DECADES}
-    if status == "pass":
-        k = int(np.argmax(np.where(informative, np.abs(d), -1.0)))
-        msg = (f"Shifting {e1} alone and {e2} alone gives the same shift factors within their "
-               f"errors (largest difference {abs(d[k]):.2g} decade at {T[k] - 273.15:.4g} °C, "
-               f"{abs(z[k]):.1f} standard errors).")
-    else:
-        named = ", ".join(f"{T[k] - 273.15:.4g} °C ({d[k]:+.2g} decade, {abs(z[k]):.0f} σ)"
-                          for k in bad)
-        msg = (f"{e1} and {e2} shifted alone disagree at {named} (log10 a_T from {e1} minus "
-               f"from {e2}). One shift cannot superpose both functions there: the material "
-               "looks thermorheologically complex (mechanisms with different temperature "
-               "dependences), or one function carries an instrument error.")
+    msg = _agreement_message(status, (e1, e2), T, d, z, informative, bad)
     return CheckResult("function_agreement", status, value, AGREEMENT_WARN_DECADES, msg,
                        details)
 
