@@ -144,7 +144,7 @@ class ShiftResult:
         ``"low-information"`` (the shift is poorly determined: stderr above the threshold or
         data on a plateau), ``"outliers:N"`` (N points flagged); a build adds
         ``"functions-disagree"`` where the function_agreement check finds the shifts of E'
-        alone and E'' alone apart (:mod:`ttsp.checks_agreement`).
+        alone and E'' alone apart (:mod:`ttsp.checks.function_agreement`).
     outlier_mask : tuple of bool arrays
         Per isotherm, per point (in the campaign's point order): True where any function's
         residual exceeds ``outlier_threshold`` robust noise scales. Flagged, never deleted.
