@@ -7,6 +7,7 @@ Layer 4 (figures). matplotlib is imported inside the functions only.
 from __future__ import annotations
 
 import warnings
+from dataclasses import dataclass
 
 import numpy as np
 
@@ -103,6 +104,111 @@ def _law_over_isotherms(law_fit, rng, t_K):
     return grid_K, inside, curve, band, at_isotherms
 
 
+@dataclass(frozen=True)
+class _ShiftFigureData:
+    """What the shift-factor figure draws: the isotherms' shifts in temperature order (°C,
+    decades) and the law on a temperature grid."""
+
+    temperature_C: np.ndarray
+    log10_aT: np.ndarray
+    error_bar: np.ndarray         # stderr of each shift; 0 where unknown or longer than the axis
+    residual: np.ndarray          # shift − law at each isotherm, decades
+    bridged: np.ndarray           # placed across a gap by the law
+    weak: np.ndarray              # poorly determined (low information), not bridged
+    law_name: str
+    grid_C: np.ndarray
+    inside: np.ndarray            # grid points within the law's fitted range
+    law_log10_aT: np.ndarray      # the law on the grid
+    law_stderr: np.ndarray | None  # its ± one standard error on the grid
+
+
+def _shift_figure_data(result) -> _ShiftFigureData:
+    """The shifts of a build, their flags and error bars, and its law over every isotherm."""
+    t_K, log_a, se, _ = _shift_table(result)
+    law = result.law_fit.law
+    rng = law.valid_temperature_range_K or (float(t_K.min()), float(t_K.max()))
+    grid_K, inside, curve, band, fitted = _law_over_isotherms(result.law_fit, rng, t_K)
+    flags = _shift_flags(result, t_K)
+    bridged = np.array(["bridged" in f for f in flags], dtype=bool)
+    weak = np.array(["low-information" in f for f in flags], dtype=bool) & ~bridged
+    yerr = np.where(np.isfinite(se), se, 0.0)
+    # a poorly determined shift keeps its error bar only while it fits on the axis (< 1 decade)
+    yerr = np.where(weak & (yerr > 1.0), 0.0, yerr)
+    return _ShiftFigureData(
+        temperature_C=kelvin_to_celsius(t_K), log10_aT=log_a, error_bar=yerr,
+        residual=log_a - fitted, bridged=bridged, weak=weak,
+        law_name=_LAW_NAMES.get(law.model, law.model), grid_C=kelvin_to_celsius(grid_K),
+        inside=inside, law_log10_aT=curve, law_stderr=band)
+
+
+def _marker_groups(data: _ShiftFigureData):
+    """(mask, marker, colour, label) of the three kinds of shift: ordinary, poorly determined,
+    bridged."""
+    bridged, weak = data.bridged, data.weak
+    return ((~bridged & ~weak, "o", _INK, "shift factors ± 1 s.e."),
+            (weak, "D", _GREY, "poorly determined (low information)"),
+            (bridged, "s", _VERMILLION, "placed across a gap by the law"))
+
+
+def _shift_factor_axes():
+    """A new figure: the shifts and the law above, the residuals below, sharing temperature."""
+    from matplotlib.figure import Figure
+
+    fig = Figure(figsize=(6.0, 5.2), layout="constrained")
+    grid = fig.add_gridspec(2, 1, height_ratios=(3.0, 1.1))
+    ax = fig.add_subplot(grid[0])
+    residual_ax = fig.add_subplot(grid[1], sharex=ax)
+    fig.align_ylabels([ax, residual_ax])
+    return ax, residual_ax
+
+
+def _draw_law(ax, data: _ShiftFigureData):
+    """The law with its band over its fitted range, dashed beyond it (over bridged isotherms)."""
+    grid_C, inside, curve, band = data.grid_C, data.inside, data.law_log10_aT, data.law_stderr
+    name = data.law_name
+    if band is not None:
+        ax.fill_between(grid_C, curve - band, curve + band, where=inside, color=_BLUE,
+                        alpha=0.22, lw=0, label=f"{name} ± 1 s.e.", zorder=1)
+    ax.plot(grid_C, np.where(inside, curve, np.nan), color=_BLUE, lw=1.6,
+            label=f"{name} law, fitted", zorder=2)
+    if not inside.all():   # the law over isotherms beyond its fitted range (bridged ones)
+        ax.plot(grid_C, np.where(_widen(~inside), curve, np.nan), color=_BLUE, lw=1.3,
+                ls=(0, (4, 2.5)), label=f"{name} law, extrapolated", zorder=2)
+
+
+def _draw_shifts(ax, data: _ShiftFigureData, groups):
+    for mask, marker, colour, label in groups:
+        if mask.any():
+            ax.errorbar(data.temperature_C[mask], data.log10_aT[mask],
+                        yerr=data.error_bar[mask], fmt=marker, ms=4.2, color=colour,
+                        mfc="white", mew=1.0, elinewidth=0.9, capsize=2.2, label=label,
+                        zorder=3)
+
+
+def _draw_residuals(residual_ax, data: _ShiftFigureData, groups):
+    """Residuals of the shifts about the law used for each isotherm (beyond the law's fitted
+    range too: a bridged isotherm is placed by it), with the law's own uncertainty as a band."""
+    resid, band, inside = data.residual, data.law_stderr, data.inside
+    if band is not None:
+        residual_ax.fill_between(data.grid_C, -band, band, where=inside, color=_BLUE,
+                                 alpha=0.22, lw=0, zorder=1)
+    residual_ax.axhline(0.0, color=_BLUE, lw=1.2, zorder=2)
+    for mask, marker, colour, _label in groups:
+        if mask.any():
+            residual_ax.errorbar(data.temperature_C[mask], resid[mask],
+                                 yerr=data.error_bar[mask], fmt=marker, ms=3.6, color=colour,
+                                 mfc="white", mew=0.9, elinewidth=0.8, capsize=2.0, zorder=3)
+    _style(residual_ax)
+    residual_ax.set_xlabel("Temperature T (°C)")
+    residual_ax.set_ylabel("Data − law\n(decades)")
+    # scaled to the residuals (and the band), not to the error bars of poorly determined shifts,
+    # which may run off the panel
+    lim = float(np.nanmax(np.abs(resid))) if resid.size else 0.0
+    lim = max(lim * 1.4, float(np.nanmax(band[inside])) * 1.25 if band is not None else 0.0,
+              0.01)
+    residual_ax.set_ylim(-lim, lim)
+
+
 def plot_shift_factors(result, ax=None, residual_ax=None):
     """log10 a_T against temperature: the shifts found (± one standard error) and the fitted
     law with its ± one-standard-error band propagated from the parameter covariance; below it,
@@ -124,43 +230,11 @@ def plot_shift_factors(result, ax=None, residual_ax=None):
         Temperature in °C on x, log10 a_T on y (linear: it is already a logarithm).
     """
     if ax is None:
-        from matplotlib.figure import Figure
-
-        fig = Figure(figsize=(6.0, 5.2), layout="constrained")
-        grid = fig.add_gridspec(2, 1, height_ratios=(3.0, 1.1))
-        ax = fig.add_subplot(grid[0])
-        residual_ax = fig.add_subplot(grid[1], sharex=ax)
-        fig.align_ylabels([ax, residual_ax])
-    t_K, log_a, se, _ = _shift_table(result)
-    t_C = kelvin_to_celsius(t_K)
-    law_fit = result.law_fit
-    law = law_fit.law
-    rng = law.valid_temperature_range_K or (float(t_K.min()), float(t_K.max()))
-    grid_K, inside, curve, band, fitted = _law_over_isotherms(law_fit, rng, t_K)
-    grid_C = kelvin_to_celsius(grid_K)
-    name = _LAW_NAMES.get(law.model, law.model)
-    if band is not None:
-        ax.fill_between(grid_C, curve - band, curve + band, where=inside, color=_BLUE,
-                        alpha=0.22, lw=0, label=f"{name} ± 1 s.e.", zorder=1)
-    ax.plot(grid_C, np.where(inside, curve, np.nan), color=_BLUE, lw=1.6,
-            label=f"{name} law, fitted", zorder=2)
-    if not inside.all():   # the law over isotherms beyond its fitted range (bridged ones)
-        ax.plot(grid_C, np.where(_widen(~inside), curve, np.nan), color=_BLUE, lw=1.3,
-                ls=(0, (4, 2.5)), label=f"{name} law, extrapolated", zorder=2)
-    flags = _shift_flags(result, t_K)
-    bridged = np.array(["bridged" in f for f in flags], dtype=bool)
-    weak = np.array(["low-information" in f for f in flags], dtype=bool) & ~bridged
-    yerr = np.where(np.isfinite(se), se, 0.0)
-    # a poorly determined shift keeps its error bar only while it fits on the axis (< 1 decade)
-    yerr = np.where(weak & (yerr > 1.0), 0.0, yerr)
-    groups = ((~bridged & ~weak, "o", _INK, "shift factors ± 1 s.e."),
-              (weak, "D", _GREY, "poorly determined (low information)"),
-              (bridged, "s", _VERMILLION, "placed across a gap by the law"))
-    for mask, marker, colour, label in groups:
-        if mask.any():
-            ax.errorbar(t_C[mask], log_a[mask], yerr=yerr[mask], fmt=marker, ms=4.2,
-                        color=colour, mfc="white", mew=1.0, elinewidth=0.9, capsize=2.2,
-                        label=label, zorder=3)
+        ax, residual_ax = _shift_factor_axes()
+    data = _shift_figure_data(result)
+    groups = _marker_groups(data)
+    _draw_law(ax, data)
+    _draw_shifts(ax, data, groups)
     for a in (ax, residual_ax):
         if a is not None:
             a.axvline(result.reference_temperature_C, color=_GREY, lw=0.8, ls=(0, (2, 2)),
@@ -169,31 +243,11 @@ def plot_shift_factors(result, ax=None, residual_ax=None):
     _style(ax)
     ax.set_ylabel(r"Shift factor $\log_{10} a_T$")
     ax.legend(fontsize=8.5, frameon=False, loc="upper right")
-    _note(ax, _law_text(law_fit), loc="lower left")
+    _note(ax, _law_text(result.law_fit), loc="lower left")
     _tref_title(ax, result)
     if residual_ax is None:
         ax.set_xlabel("Temperature T (°C)")
         return ax
-    # residuals of the shifts about the law used for each isotherm (beyond the law's fitted
-    # range too: a bridged isotherm is placed by it), with the law's own uncertainty as a band
-    resid = log_a - fitted
-    if band is not None:
-        residual_ax.fill_between(grid_C, -band, band, where=inside, color=_BLUE, alpha=0.22,
-                                 lw=0, zorder=1)
-    residual_ax.axhline(0.0, color=_BLUE, lw=1.2, zorder=2)
-    for mask, marker, colour, _label in groups:
-        if mask.any():
-            residual_ax.errorbar(t_C[mask], resid[mask], yerr=yerr[mask], fmt=marker, ms=3.6,
-                                 color=colour, mfc="white", mew=0.9, elinewidth=0.8,
-                                 capsize=2.0, zorder=3)
-    _style(residual_ax)
+    _draw_residuals(residual_ax, data, groups)
     ax.tick_params(labelbottom=False)
-    residual_ax.set_xlabel("Temperature T (°C)")
-    residual_ax.set_ylabel("Data − law\n(decades)")
-    # scaled to the residuals (and the band), not to the error bars of poorly determined shifts,
-    # which may run off the panel
-    lim = float(np.nanmax(np.abs(resid))) if resid.size else 0.0
-    lim = max(lim * 1.4, float(np.nanmax(band[inside])) * 1.25 if band is not None else 0.0,
-              0.01)
-    residual_ax.set_ylim(-lim, lim)
     return ax
