@@ -56,7 +56,7 @@ def test_build_writes_the_isochrone_at_the_chosen_frequency(tmp_path):
 
 def test_the_figure_marks_the_readings(tmp_path):
     import ttsp
-    from ttsp.plot_isochrone import plot_isochrone
+    from ttsp.plotting import plot_isochrone
 
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")

@@ -5,8 +5,8 @@ invented here (seeded)."""
 import numpy as np
 import pytest
 
-from ttsp import plotting
 from ttsp._log_slope import local_log_slope
+from ttsp.plotting.checks_figures import _local_log_slope as figure_log_slope
 
 
 def test_exact_power_law_gives_its_exponent_dense_and_sparse():
@@ -19,7 +19,7 @@ def test_dense_noisy_record_gives_physical_slopes():
     rng = np.random.default_rng(7)
     t = np.geomspace(0.2, 3e4, 2500)          # 480 points per decade
     g = 1e5 * t ** -0.3 * np.exp(rng.normal(0, 0.01, t.size))   # 1 % noise
-    slope = -plotting._local_log_slope(t, g)
+    slope = -figure_log_slope(t, g)
     # the window of ±0.15 decade holds about 145 points spread over 0.3 decade: the slope's
     # noise is about 0.01/ln(10)/(0.3 * sqrt(145/12)) = 0.004 decades/decade; 0.1 is 25 of them.
     # Adjacent-point slopes here swing by several units.

@@ -25,6 +25,10 @@ from hypothesis import strategies as st
 from ttsp import plotting
 from ttsp.data import Campaign
 from ttsp.exceptions import DataError
+from ttsp.plotting._labels import _MODULUS_UNITS, _compliance_unit, _modulus_unit
+from ttsp.plotting._look import _BLUE, _plain_label, _power_label, _style, _tidy_log_axis
+from ttsp.plotting.checks_figures import _local_log_slope
+from ttsp.plotting.saving import _merge_minor_ticks
 from ttsp.workflow import build
 
 R_J_PER_MOL_K = 8.314462618  # CODATA 2018 molar gas constant
@@ -140,7 +144,9 @@ def test_drawing_never_loads_pyplot():
 def test_plotting_and_report_do_not_import_each_other():
     """Layer rule (DESIGN.md): modules of layer 4 never import each other sideways."""
     import ast
+    import importlib
     import inspect
+    import pkgutil
 
     from ttsp import report
 
@@ -154,7 +160,11 @@ def test_plotting_and_report_do_not_import_each_other():
                 names.update(a.name.split(".")[-1] for a in node.names)
         return names
 
-    assert "report" not in imported(plotting)
+    figure_modules = [plotting] + [importlib.import_module(f"ttsp.plotting.{m.name}")
+                                   for m in pkgutil.iter_modules(plotting.__path__)]
+    assert len(figure_modules) > 1
+    for module in figure_modules:
+        assert "report" not in imported(module), module.__name__
     assert "plotting" not in imported(report)
     assert "matplotlib" not in imported(report)
 
@@ -165,21 +175,21 @@ def test_plotting_and_report_do_not_import_each_other():
 @pytest.mark.parametrize("value, unit", [(3e9, "GPa"), (2e6, "MPa"), (999e3, "kPa"),
                                          (5e3, "kPa"), (50.0, "Pa"), (0.5, "Pa")])
 def test_modulus_unit_follows_the_magnitude(value, unit):
-    assert plotting._modulus_unit([value / 3, value, value * 3])[0] == unit
+    assert _modulus_unit([value / 3, value, value * 3])[0] == unit
 
 
 @given(st.floats(min_value=0.0, max_value=12.0))
 def test_shown_moduli_and_compliances_have_one_to_three_digits(log10_value):
     """The unit chosen puts the typical value in [1, 1000) (Pa ≥ 1 Pa; 1/GPa ≤ 1/Pa)."""
     value = 10.0 ** log10_value
-    unit, factor = plotting._modulus_unit([value])
+    unit, factor = _modulus_unit([value])
     assert 1.0 <= value / factor < 1000.0 or (unit == "GPa" and value >= 1e9)
-    unit, factor = plotting._compliance_unit([1.0 / value])
+    unit, factor = _compliance_unit([1.0 / value])
     assert 1.0 - 1e-9 <= (1.0 / value) / factor < 1000.0 or (unit == "GPa⁻¹" and value > 1e9)
 
 
 def test_compliance_unit_is_the_inverse_unit():
-    unit, factor = plotting._compliance_unit([1e-9, 2e-9])   # 1/Pa around 1/GPa·1
+    unit, factor = _compliance_unit([1e-9, 2e-9])   # 1/Pa around 1/GPa·1
     assert unit == "GPa⁻¹" and factor == pytest.approx(1e-9)
 
 
@@ -187,15 +197,15 @@ def test_local_log_slope_of_a_power_law_is_its_exponent():
     # exact: d log10(t^-0.3)/d log10 t = -0.3 at every point, whatever the spacing
     t = np.sort(np.random.default_rng(0).uniform(0, 4, 15))
     t = 10.0 ** t
-    slope = plotting._local_log_slope(t, 7.0 * t ** -0.3)
+    slope = _local_log_slope(t, 7.0 * t ** -0.3)
     assert np.allclose(slope, -0.3, atol=1e-12)
 
 
 def test_power_labels_are_plain_unicode():
-    assert plotting._power_label(1e-3) == "10⁻³"
-    assert plotting._power_label(1e12) == "10¹²"
-    assert plotting._power_label(2e5) == "2×10⁵"
-    assert plotting._plain_label(0.5) == "0.5" and plotting._plain_label(2e-5) == "2×10⁻⁵"
+    assert _power_label(1e-3) == "10⁻³"
+    assert _power_label(1e12) == "10¹²"
+    assert _power_label(2e5) == "2×10⁵"
+    assert _plain_label(0.5) == "0.5" and _plain_label(2e-5) == "2×10⁻⁵"
 
 
 # ----------------------------------------------------------------------------------------------
@@ -362,7 +372,7 @@ def test_prony_fit_panels(freq_result):
     assert len(stems[0].get_segments()) == n_terms
     # the stem tops are the coefficients, in the unit of the axis label
     unit = ax_spec.get_ylabel().split("(")[-1].rstrip(")")
-    factor = dict(plotting._MODULUS_UNITS)[unit]
+    factor = dict(_MODULUS_UNITS)[unit]
     tops = np.sort([seg[1, 1] for seg in stems[0].get_segments()])
     assert np.allclose(tops, np.sort(freq_result.series.modulus_Pa[
         freq_result.series.modulus_Pa > 0]) / factor)
@@ -498,7 +508,7 @@ def test_relaxation_spectrum_figure_shows_H_its_window_and_the_choice_of_lambda(
     unit = ax.get_ylabel().split("(")[-1].rstrip(")")
     factor = dict(plotting.DISPLAY_MODULUS_UNITS)[unit]
     solid = [ln for ln in ax.get_lines() if ln.get_linestyle() == "-" and ln.get_color() ==
-             plotting._BLUE]
+             _BLUE]
     x = np.concatenate([ln.get_xdata() for ln in solid])
     y = np.concatenate([ln.get_ydata() for ln in solid])
     lo, hi = spectrum.valid_tau_range_s
@@ -526,7 +536,7 @@ def test_minor_ticks_merged_for_saving_look_the_same():
 
     def figure():
         fig = Figure(figsize=(3.0, 2.5))
-        ax = plotting._style(fig.add_subplot(), logx=True, logy=True)
+        ax = _style(fig.add_subplot(), logx=True, logy=True)
         ax.plot([1e-2, 1e3], [1e5, 1e9], color="k")
         ax.set_xlim(1e-2, 1e3)
         return fig
@@ -542,7 +552,7 @@ def test_minor_ticks_merged_for_saving_look_the_same():
     expected = np.asarray(merged.axes[0].yaxis.get_minorticklocs())
     expected = np.sort(expected[(expected >= lo) & (expected <= hi)])
     assert expected.size > 20
-    plotting._merge_minor_ticks(merged)
+    _merge_minor_ticks(merged)
     ax = merged.axes[0]
     assert isinstance(ax.xaxis.get_minor_locator(), NullLocator)
     assert isinstance(ax.yaxis.get_minor_locator(), NullLocator)
@@ -566,28 +576,28 @@ def test_merged_minor_ticks_on_shared_hidden_and_labelled_axes():
                 and a.get_linestyle() == "None" and a.get_label() == "_nolegend_"]
 
     fig = Figure(figsize=(3.0, 4.0))
-    top = plotting._style(fig.add_subplot(2, 1, 1), logx=True)
-    bottom = plotting._style(fig.add_subplot(2, 1, 2, sharex=top), logx=True)
+    top = _style(fig.add_subplot(2, 1, 1), logx=True)
+    bottom = _style(fig.add_subplot(2, 1, 2, sharex=top), logx=True)
     for ax in (top, bottom):
         ax.plot([1.0, 1e4], [0.0, 1.0])
     expected = np.asarray(bottom.xaxis.get_minorticklocs())
     lo, hi = sorted(bottom.xaxis.get_view_interval())
     expected = np.sort(expected[(expected >= lo) & (expected <= hi)])
-    hidden = plotting._style(fig.add_axes((0.8, 0.8, 0.1, 0.1)), logy=True)
+    hidden = _style(fig.add_axes((0.8, 0.8, 0.1, 0.1)), logy=True)
     hidden.plot([0, 1], [1.0, 1e3])
     hidden.set_axis_off()
-    plotting._merge_minor_ticks(fig)
+    _merge_minor_ticks(fig)
     for ax in (top, bottom):
         assert any(np.array_equal(np.sort(m.get_xdata()), expected) for m in marks(ax))
     assert isinstance(bottom.xaxis.get_minor_locator(), NullLocator)
     assert not marks(hidden)
 
     labelled = Figure(figsize=(3.0, 2.5))
-    ax = plotting._style(labelled.add_subplot(), logy=True)
+    ax = _style(labelled.add_subplot(), logy=True)
     ax.plot([0, 1], [2.0, 6.0])
-    plotting._tidy_log_axis(ax.yaxis)                 # under a decade: plain labels
+    _tidy_log_axis(ax.yaxis)                 # under a decade: plain labels
     from matplotlib.ticker import ScalarFormatter
 
     ax.yaxis.set_minor_formatter(ScalarFormatter())
-    plotting._merge_minor_ticks(labelled)
+    _merge_minor_ticks(labelled)
     assert not marks(ax) and not isinstance(ax.yaxis.get_minor_locator(), NullLocator)

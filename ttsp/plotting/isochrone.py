@@ -11,6 +11,11 @@ import warnings
 
 import numpy as np
 
+from .._validation import bad_value
+from ..exceptions import ExtrapolationWarning
+from ._labels import _letters, _modulus_unit
+from ._look import _BLUE, _GREEN, _INK, _VERMILLION, _new_axes, _style, _style_twin
+
 __all__ = ["plot_isochrone"]
 
 
@@ -30,14 +35,8 @@ def plot_isochrone(result, ax=None):
     matplotlib Axes
         The modulus axes; the tan δ axes is its twin.
     """
-    from .exceptions import ExtrapolationWarning
-    from .plotting import (_BLUE, _GREEN, _INK, _VERMILLION, _letters, _modulus_unit,
-                           _new_axes, _style, _style_twin)
-
     est = result.glass_transition
     if est is None:
-        from ._validation import bad_value
-
         raise bad_value("result", "a build of frequency data (with a glass transition "
                                   "estimate)", "a build without one")
     ax = _new_axes(ax, size=(6.4, 4.4))
