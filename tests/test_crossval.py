@@ -175,17 +175,19 @@ def test_folds_in_two_threads_give_the_same_answer_as_one_after_another(monkeypa
 
 
 def test_a_fold_started_from_the_full_shifts_reaches_the_same_shifts():
-    """The folds start their shift fit from the full build's shifts and noise scales (fewer
-    iterations); the optimum is the same to the noise scales' settling tolerance (5 %), which
-    moves the shifts by a small fraction of their stderr (measured ≤ 4e-4 decade on the demo
-    campaign against a stderr of about 0.01)."""
-    camp, _ = campaign(noise=0.02, seed=5, n_points=12)
+    """The folds start their shift fit from the full build's shifts (fewer iterations); the
+    objective is the same, so is the optimum, to the solver's tolerance (measured ≤ 2e-5
+    decade on the demo campaign, against a stderr of about 0.01). Starting the noise scales
+    from the full fit's too was tried and dropped: their fixed point is found only to 5 %,
+    and on real binder lane 10 that was enough to tip a fold's law fit into another family."""
+    camp, _ = campaign(300 + 1.5 * np.arange(40.0), noise=0.02, seed=6, n_points=12)
     camp = camp.with_derived()
     full = quiet(shift_isotherms, camp, 320.0)
-    train = Campaign(camp.isotherms[:4] + camp.isotherms[5:], "frequency")
+    # measured: 22 iterations from the pairwise seeds, 19 from the full fit's shifts
+    train = Campaign(camp.isotherms[:17] + camp.isotherms[18:], "frequency")
     cold = quiet(shift_isotherms, train, 320.0)
     warm = quiet(shift_isotherms, train, 320.0, start_from=full)
-    assert np.max(np.abs(warm.log10_aT - cold.log10_aT)) < 0.1 * np.max(cold.log10_aT_stderr)
+    assert np.max(np.abs(warm.log10_aT - cold.log10_aT)) < 0.01 * np.max(cold.log10_aT_stderr)
     assert warm.iterations < cold.iterations
     with pytest.raises(ttsp.DataError, match="start_from"):
         shift_isotherms(train, 320.0, start_from={"a": 1})

@@ -483,7 +483,7 @@ class _Fit:
         self.s_prior, self.c_prior = self.s.copy(), self.c.copy()
         if start is not None:
             # iterations start elsewhere; the prior (the objective) stays where s0, c0 put it
-            s_start, c_start, _ = start
+            s_start, c_start = start
             self.s[self.free_s] = np.asarray(s_start, float)[self.free_s]
             if c_start is not None:
                 self.c[self.free_c] = np.asarray(c_start, float)[self.free_c]
@@ -728,11 +728,11 @@ def fit_joint(prob: JointProblem, s0, c0=None, *, model="spectrum", robust=True,
         Penalty weight λ in λ ρ ∫ (f^(d))² (ρ: points per decade; d = 2 on the log-spectrum,
         d = 3 on a spline). Defaults 0.05 (spectrum) and 3 (spline), chosen on synthetic
         benchmark campaigns (benchmarks/bench_shifting.py).
-    start : (array, array or None, array or None), optional
-        Where the iterations start instead of ``s0, c0``, and the noise scales per function
-        to start from (e.g. the shifts and scales of a fit on more isotherms). The objective,
-        prior included, is unchanged, so the result is the same optimum to the solver's
-        tolerance (the noise scales to their settling tolerance), in fewer iterations.
+    start : (array, array or None), optional
+        Where the iterations start instead of ``s0, c0`` (e.g. the shifts of a fit on more
+        isotherms). The objective, prior included, is unchanged; the noise scales start as
+        without it, so that they settle along the same path (their fixed point is found only
+        to 5 %, and a different start settles elsewhere within that).
     """
     if model == "spectrum":
         m = _SpectrumModel(prob, prob.y, 0.05 if smoothing is None else smoothing)
@@ -742,12 +742,10 @@ def fit_joint(prob: JointProblem, s0, c0=None, *, model="spectrum", robust=True,
     # the curve at the starting shifts with a typical noise scale (0.01 decades, 2 %), then
     # the noise scales of its residuals, so that the penalty weighs against the data in the
     # right units from the first joint step on
-    sigma0 = None if start is None else start[2]
-    fit.sigma = np.full(prob.n_fn, 0.01) if sigma0 is None else np.asarray(sigma0, float).copy()
+    fit.sigma = np.full(prob.n_fn, 0.01)
     fit.gauss_newton(max_iter=min(max_iter, 50), tol=1e-4, curve_only=True)
     # then the joint fit, with the noise scales re-estimated from its residuals until they
-    # settle (the first round's come from the curve at the starting shifts, so at least two,
-    # unless they started from an earlier fit's)
+    # settle (the first round's come from the curve at the starting shifts, so at least two)
     for round_ in range(4):
         r, raw, _, _, _ = fit.evaluate(fit.theta, fit.s, fit.c, jac=False)
         new_sigma = fit.estimate_sigma(raw)
@@ -755,7 +753,7 @@ def fit_joint(prob: JointProblem, s0, c0=None, *, model="spectrum", robust=True,
         fit.sigma = new_sigma
         fit.huber = huber if robust else None
         fit.gauss_newton(max_iter=max_iter)
-        if (round_ > 0 or sigma0 is not None) and change < 0.05:
+        if round_ > 0 and change < 0.05:
             break
     r, raw, dF, u, J = fit.evaluate(fit.theta, fit.s, fit.c)
     w = fit.weights(r)

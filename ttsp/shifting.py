@@ -633,7 +633,7 @@ def shift_isotherms(campaign: Campaign, reference_temperature_K: float | None = 
         stop_on_gaps(gap_info)
 
     # joint fit per connected group; a post-fit check may split groups further
-    warm = _start_of(start_from, temps, fit_vertical, chosen)
+    warm = _start_of(start_from, temps, fit_vertical)
     for _round in range(n):
         comps, start = [], 0
         for k in range(n - 1):
@@ -869,15 +869,11 @@ def _bridge_groups(comps, s, cov_s, bridged, fixed, temps, t_ref) -> str:
             f"{len(comps[main])} connected isotherms (flag 'bridged')")
 
 
-def _start_of(start_from, temps, fit_vertical, functions):
+def _start_of(start_from, temps, fit_vertical):
     """Per isotherm (log10 a_T, log10 b_T) of an earlier fit, matched by temperature (NaN
-    where it has no such isotherm), and its noise scale per function (None when it fitted
-    other functions); None without an earlier fit."""
+    where it has no such isotherm); None without an earlier fit."""
     if start_from is None:
         return None
-    scales = start_from.residual_scale_log10
-    sigma = (np.array([scales[q] for q in functions], float)
-             if all(q in scales for q in functions) else None)
     known = np.asarray(start_from.temperature_K, float)
     s, c = np.full(temps.size, np.nan), np.zeros(temps.size)
     for k, t in enumerate(temps):
@@ -886,7 +882,7 @@ def _start_of(start_from, temps, fit_vertical, functions):
             s[k] = start_from.log10_aT[j[0]]
             if fit_vertical:
                 c[k] = start_from.log10_bT[j[0]]
-    return s, c, sigma
+    return s, c
 
 
 def _component_start(start, comp, anchor, gauge_fixed):
@@ -897,7 +893,7 @@ def _component_start(start, comp, anchor, gauge_fixed):
     s, c = start[0][comp], start[1][comp]
     if not np.all(np.isfinite(s)):
         return None
-    return (s if gauge_fixed else s - s[anchor]), c - c[anchor], start[2]
+    return (s if gauge_fixed else s - s[anchor]), c - c[anchor]
 
 
 def _fit_component(comp, X, Y, pairs, functions, vsign, fit_vertical, direction, fixed, temps,
