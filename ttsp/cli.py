@@ -191,10 +191,15 @@ class Law(str, Enum):
     polynomial = "polynomial"
 
 
+VERTICAL_HELP = ("Vertical shift b_T: none, density (needs --expansion-coefficient), fit, or "
+                 "auto (each built, the one that predicts held-out isotherms best kept).")
+
+
 class Vertical(str, Enum):
     none = "none"
     density = "density"
     fit = "fit"
+    auto = "auto"
 
 
 class ShiftOn(str, Enum):
@@ -290,7 +295,7 @@ def build_cmd(inputs: List[Path] = typer.Argument(..., help="Files or folders of
                   None, "--reference-temperature", "-T",
                   help="Reference temperature in °C (default: the measured one nearest the median)."),
               law: Law = typer.Option(Law.auto, "--law", help="Shift law to fit."),
-              vertical: Vertical = typer.Option(Vertical.none, "--vertical", help="Vertical shift."),
+              vertical: Vertical = typer.Option(Vertical.none, "--vertical", help=VERTICAL_HELP),
               expansion_coefficient: Optional[float] = typer.Option(
                   None, "--expansion-coefficient",
                   help="Volumetric expansion coefficient in 1/K (for --vertical density)."),
@@ -402,7 +407,7 @@ def check_cmd(inputs: List[Path] = typer.Argument(..., help="Files or folders of
               reference_temperature: Optional[float] = typer.Option(
                   None, "--reference-temperature", "-T", help="Reference temperature in °C."),
               law: Law = typer.Option(Law.auto, "--law", help="Shift law to fit."),
-              vertical: Vertical = typer.Option(Vertical.none, "--vertical", help="Vertical shift."),
+              vertical: Vertical = typer.Option(Vertical.none, "--vertical", help=VERTICAL_HELP),
               expansion_coefficient: Optional[float] = typer.Option(
                   None, "--expansion-coefficient",
                   help="Volumetric expansion coefficient in 1/K (for --vertical density)."),

@@ -352,6 +352,18 @@ def _master_curve(result) -> dict | None:
             "collapse": _fixed(ratio, 2) if ratio == ratio else ""}
 
 
+_VERTICAL_NAMES = {"none": "none (horizontal shifts only)",
+                   "fit": "a fitted log10 b_T per isotherm",
+                   "density": "b_T = Tρ/(T_ref ρ_ref) from the expansion coefficient"}
+
+
+def _vertical_choice(result) -> dict | None:
+    choice = getattr(result, "vertical_choice", None)
+    if choice is None:
+        return None
+    return {"name": _VERTICAL_NAMES[choice.chosen], "reason": _sentence(choice.reason)}
+
+
 def _cross_validation(result) -> dict | None:
     cv = getattr(result, "cross_validation", None)
     if cv is None or not cv.per_isotherm:
@@ -675,6 +687,7 @@ def render_report(result, figures_svg: dict, *, created_utc: str, title: str | N
         "prony": _prony(result),
         "checks": _checks(result),
         "master_curve": _master_curve(result),
+        "vertical_choice": _vertical_choice(result),
         "cross_validation": _cross_validation(result),
         "warnings": [str(w) for w in result.warnings],
         "caution": CAUTION,

@@ -27,7 +27,7 @@ __all__ = ["BuildOptions", "BuildResult", "build", "LAW_CHOICES", "VERTICAL_CHOI
 
 SCHEMA_VERSION = "1"
 LAW_CHOICES = ("auto", "wlf", "arrhenius", "wlf-arrhenius", "vft", "polynomial")
-VERTICAL_CHOICES = ("none", "density", "fit")
+VERTICAL_CHOICES = ("none", "density", "fit", "auto")
 SHIFT_ON_CHOICES = ("auto", "tan_delta")
 GAP_CHOICES = ("stop", "bridge")
 MATERIAL_CHOICES = ("solid", "liquid")
@@ -47,7 +47,9 @@ class BuildOptions:
         ``wlf-arrhenius``, ``vft`` or ``polynomial``.
     vertical : str
         Vertical shift: ``none``, ``density`` (b_T = Tρ/(T_ref ρ_ref), needs
-        ``expansion_coefficient_per_K``) or ``fit``.
+        ``expansion_coefficient_per_K``), ``fit``, or ``auto``: each of those that can be
+        built, judged by held-out isotherms (:mod:`ttsp.vertical_choice`; the result's
+        options then carry the chosen one).
     shift_on : str
         ``auto`` (all measured functions jointly) or ``tan_delta`` (frequency data only).
     gaps : str
@@ -199,6 +201,8 @@ class BuildResult:
         Which model of the master curve the shifts were fitted with, and why.
     cross_validation : ttsp.crossval.CrossValidation or None
         Held-out isotherm predictions (None when ``options.cross_validation`` is off).
+    vertical_choice : ttsp.vertical_choice.VerticalChoice or None
+        The vertical shift chosen and why, when ``vertical="auto"`` was asked for.
     """
 
     campaign: Campaign
@@ -215,6 +219,7 @@ class BuildResult:
     relaxation_spectrum: object = None
     master_curve: object = None
     cross_validation: object = None
+    vertical_choice: object = None
 
     @property
     def reference_temperature_K(self) -> float:
@@ -353,6 +358,8 @@ class BuildResult:
             "master_model": self.master_curve.to_dict() if self.master_curve is not None else None,
             "cross_validation": (self.cross_validation.to_dict()
                                  if self.cross_validation is not None else None),
+            "vertical_choice": (self.vertical_choice.to_dict()
+                                if self.vertical_choice is not None else None),
             "bands": (self.model.ensemble.to_dict()
                       if getattr(self.model, "ensemble", None) is not None else None),
             "checks": [c.to_dict() for c in self.checks],
@@ -525,7 +532,12 @@ def build(campaign: Campaign, options: BuildOptions | None = None, *, input_sha2
     with threadpool_limits(limits=1, user_api="blas"), \
             warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always", TtspWarning)
-        fitted = fit_steps(campaign, options, t_ref_K, step)
+        held_out = vertical_choice = None
+        if options.vertical == "auto":
+            options, fitted, held_out, vertical_choice = _choose_vertical(campaign, options,
+                                                                          t_ref_K, step)
+        else:
+            fitted = fit_steps(campaign, options, t_ref_K, step)
         shifts, law_fit, prony_fit, model = (fitted.shifts, fitted.law_fit, fitted.prony_fit,
                                              fitted.model)
         spectrum = None
@@ -547,8 +559,9 @@ def build(campaign: Campaign, options: BuildOptions | None = None, *, input_sha2
             step("uncertainty bands")
             model = replace(model, ensemble=_fit_bands(campaign, shifts, law_fit, prony_fit,
                                                        options))
-        held_out = None
-        if options.cross_validation:
+        if not options.cross_validation:
+            held_out = None
+        elif held_out is None:
             from .crossval import cross_validate
 
             step("cross-validation")
@@ -565,7 +578,19 @@ def build(campaign: Campaign, options: BuildOptions | None = None, *, input_sha2
                 messages.append(text)
     return BuildResult(campaign, options, shifts, law_fit, prony_fit, model, checks, tuple(messages),
                        input_sha256 or _campaign_hash(campaign), tuple(str(f) for f in input_files),
-                       glass, spectrum, fitted.master_curve, held_out)
+                       glass, spectrum, fitted.master_curve, held_out, vertical_choice)
+
+
+def _choose_vertical(campaign, options, t_ref_K, step):
+    """``vertical="auto"``: every candidate built and cross-validated
+    (:func:`ttsp.vertical_choice.choose_vertical_shift`), the progress named once."""
+    from .crossval import cross_validate
+    from .vertical_choice import choose_vertical_shift
+
+    step("shift factors (vertical shift chosen by held-out isotherms)")
+    return choose_vertical_shift(
+        options, lambda o: fit_steps(campaign, o, t_ref_K),
+        lambda o, fitted: cross_validate(campaign, o, t_ref_K, full=fitted))
 
 
 @dataclass(frozen=True)
