@@ -29,10 +29,16 @@ from typing import Any, Callable, Mapping
 
 import numpy as np
 
+from ._arrays import fmt_html as _fmt
+from ._arrays import nonnegative_argument as _evaluation_argument
+from ._arrays import readonly as _readonly
+from ._arrays import scalar_or_array as _scalar_or_array
+from ._arrays import to_plain as _plain
 from ._validation import bad_value, check_choice
 from .exceptions import FitError
-from .prony import (PronyFit, PronySeries, _abscissa, _evaluation_argument, _fmt, _frozen_map,
-                    _measured, _plain, _readonly, _scalar_or_array)
+from .prony import PronyFit, PronySeries
+from .prony.fit_result import frozen_map
+from .prony.nnls import measured_values, positive_abscissa
 
 __all__ = ["ClosedFormModel", "MODELS", "ClosedFormFit", "FitComparison",
            "fit_closed_form", "fit_sigmoid", "fit_havriliak_negami", "compare_models",
@@ -370,13 +376,13 @@ def compare_models(omega_rad_s, models: Mapping[str, Any], *, storage_modulus_Pa
         If no quantity is given, the models share no quantity they can evaluate, or the
         inputs break their rules.
     """
-    w = _abscissa("omega_rad_s", omega_rad_s)
+    w = positive_abscissa("omega_rad_s", omega_rad_s)
     data = {}
     for name, values in (("storage_modulus", storage_modulus_Pa),
                          ("loss_modulus", loss_modulus_Pa),
                          ("abs_complex_modulus", abs_complex_modulus_Pa)):
         if values is not None:
-            data[name] = _measured(f"{name}_Pa", values, w.size, True)
+            data[name] = measured_values(f"{name}_Pa", values, w.size, True)
     if not data:
         raise bad_value("storage_modulus_Pa, loss_modulus_Pa or abs_complex_modulus_Pa",
                         "given (at least one)", None)
@@ -418,7 +424,7 @@ def compare_models(omega_rad_s, models: Mapping[str, Any], *, storage_modulus_Pa
         row["aic"], row["bic"] = _uniform_information(rel, row["n_parameters"])
         rows.append(row)
     data = {q: data[q] for q in common}
-    return FitComparison(rows=tuple(_frozen_map(r) for r in rows), quantities=tuple(data),
+    return FitComparison(rows=tuple(frozen_map(r) for r in rows), quantities=tuple(data),
                          n_points=int(w.size))
 
 
@@ -474,8 +480,8 @@ def fit_sigmoid(omega_rad_s, abs_complex_modulus_Pa) -> ClosedFormFit:
     """
     import lmfit
 
-    w = _abscissa("omega_rad_s", omega_rad_s)
-    y = _measured("abs_complex_modulus_Pa", abs_complex_modulus_Pa, w.size, True)
+    w = positive_abscissa("omega_rad_s", omega_rad_s)
+    y = measured_values("abs_complex_modulus_Pa", abs_complex_modulus_Pa, w.size, True)
     if w.size < 5:
         raise bad_value("omega_rad_s", "at least 5 points for a 4-parameter model",
                         f"{w.size} points")
@@ -538,9 +544,9 @@ def fit_havriliak_negami(omega_rad_s, storage_modulus_Pa, loss_modulus_Pa, *,
     import lmfit
 
     check_choice("model", model, ("havriliak_negami", "cole_cole", "cole_davidson"))
-    w = _abscissa("omega_rad_s", omega_rad_s)
-    e1 = _measured("storage_modulus_Pa", storage_modulus_Pa, w.size, True)
-    e2 = _measured("loss_modulus_Pa", loss_modulus_Pa, w.size, True)
+    w = positive_abscissa("omega_rad_s", omega_rad_s)
+    e1 = measured_values("storage_modulus_Pa", storage_modulus_Pa, w.size, True)
+    e2 = measured_values("loss_modulus_Pa", loss_modulus_Pa, w.size, True)
     if w.size < 3:
         raise bad_value("omega_rad_s", "at least 3 points", f"{w.size} points")
     scale = float(max(e1.max(), e2.max()))
@@ -611,12 +617,12 @@ def _make_fit(model, out, params, stderr, w, measured, fitted) -> ClosedFormFit:
     resid = {q: 100.0 * (fitted[q] / measured[q] - 1.0) for q in measured}
     allr = np.concatenate(list(resid.values()))
     return ClosedFormFit(
-        model=model, params=_frozen_map(params), stderr=_frozen_map(stderr),
+        model=model, params=frozen_map(params), stderr=frozen_map(stderr),
         aic=float(out.aic), bic=float(out.bic),
         rms_percent=float(np.sqrt(np.mean(allr ** 2))), max_percent=float(np.abs(allr).max()),
         n_points=int(allr.size), quantities=tuple(measured), x=_readonly(w),
-        measured=_frozen_map(measured), fitted=_frozen_map(fitted),
-        residuals_percent=_frozen_map(resid), success=bool(out.success),
+        measured=frozen_map(measured), fitted=frozen_map(fitted),
+        residuals_percent=frozen_map(resid), success=bool(out.success),
         message=str(out.message), reference=MODELS[model].reference)
 
 

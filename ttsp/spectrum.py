@@ -30,11 +30,18 @@ from typing import Mapping
 
 import numpy as np
 
+from ._arrays import fmt_html as _fmt
+from ._arrays import nonnegative_argument as _evaluation_argument
 from ._arrays import outside_log_range
+from ._arrays import readonly as _readonly
+from ._arrays import scalar_or_array as _scalar_or_array
+from ._arrays import to_plain as _plain
 from ._validation import bad_value, check_choice, check_positive
 from .exceptions import FitError
-from .prony import (PronySeries, _abscissa, _evaluation_argument, _fmt, _frozen_map, _log_grid,
-                    _measured, _plain, _readonly, _scalar_or_array, _solve_nnls)
+from .prony import PronySeries
+from .prony.fit_result import frozen_map
+from .prony.nnls import log_grid, measured_values, positive_abscissa
+from .prony.nnls import solve_nnls as _solve_nnls  # a module name tests replace
 
 __all__ = ["RelaxationSpectrum", "fit_relaxation_spectrum"]
 
@@ -306,9 +313,9 @@ def fit_relaxation_spectrum(omega_rad_s, storage_modulus_Pa, loss_modulus_Pa, *,
     FitError
         If the solver fails.
     """
-    w = _abscissa("omega_rad_s", omega_rad_s)
-    e1 = _measured("storage_modulus_Pa", storage_modulus_Pa, w.size, True)
-    e2 = _measured("loss_modulus_Pa", loss_modulus_Pa, w.size, True)
+    w = positive_abscissa("omega_rad_s", omega_rad_s)
+    e1 = measured_values("storage_modulus_Pa", storage_modulus_Pa, w.size, True)
+    e2 = measured_values("loss_modulus_Pa", loss_modulus_Pa, w.size, True)
     density = check_positive("points_per_decade", points_per_decade)
     margin = check_positive("margin_decades", margin_decades, allow_zero=True)
     check_choice("method", method, _METHODS)
@@ -326,7 +333,7 @@ def fit_relaxation_spectrum(omega_rad_s, storage_modulus_Pa, loss_modulus_Pa, *,
                                  allow_zero=True)
 
     wmin, wmax = float(w.min()), float(w.max())
-    tau = _log_grid(math.log10(1 / wmax) - margin, math.log10(1 / wmin) + margin, density)
+    tau = log_grid(math.log10(1 / wmax) - margin, math.log10(1 / wmin) + margin, density)
     if tau.size < 3:
         raise bad_value("points_per_decade", "large enough for at least 3 grid points",
                         points_per_decade)
@@ -408,9 +415,9 @@ def fit_relaxation_spectrum(omega_rad_s, storage_modulus_Pa, loss_modulus_Pa, *,
         rms_percent=float(np.sqrt(np.mean(rel ** 2))), max_percent=float(np.abs(rel).max()),
         effective_parameters=float(trc[chosen]), valid_tau_range_s=(1 / wmax, 1 / wmin),
         modulus_kind=modulus_kind, reference_temperature_K=reference_temperature_K,
-        settings=_frozen_map(dict(points_per_decade=density, margin_decades=margin,
-                                  method=method, n_lambda=int(n_lambda),
-                                  equilibrium_fixed=e_fixed is not None,
-                                  penalty="second difference of H/E_ref",
-                                  weights="relative (1/E', 1/E'')")))
+        settings=frozen_map(dict(points_per_decade=density, margin_decades=margin,
+                                 method=method, n_lambda=int(n_lambda),
+                                 equilibrium_fixed=e_fixed is not None,
+                                 penalty="second difference of H/E_ref",
+                                 weights="relative (1/E', 1/E'')")))
 
