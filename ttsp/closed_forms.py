@@ -377,6 +377,35 @@ def compare_models(omega_rad_s, models: Mapping[str, Any], *, storage_modulus_Pa
         inputs break their rules.
     """
     w = positive_abscissa("omega_rad_s", omega_rad_s)
+    data = _measured_quantities(w, storage_modulus_Pa, loss_modulus_Pa, abs_complex_modulus_Pa)
+    if not isinstance(models, Mapping) or not models:
+        raise bad_value("models", "a non-empty mapping of label to model", models)
+    resolved = {str(label): (m.series if isinstance(m, PronyFit) else m)
+                for label, m in models.items()}
+    if "abs_complex_modulus" not in data and {"storage_modulus", "loss_modulus"} <= set(data):
+        derived = np.hypot(data["storage_modulus"], data["loss_modulus"])
+    else:
+        derived = None
+    preds = _predictions(resolved, w, list(data) + (["abs_complex_modulus"]
+                                                    if derived is not None else []))
+    common = [q for q in data if all(q in p for p in preds.values())]
+    if not common and derived is not None and all("abs_complex_modulus" in p
+                                                  for p in preds.values()):
+        data["abs_complex_modulus"] = derived
+        common = ["abs_complex_modulus"]
+    if not common:
+        raise bad_value("models", "able to evaluate a common quantity among "
+                        + ", ".join(data), {k: sorted(v) for k, v in preds.items()})
+    rows = [_comparison_row(label, model, preds[label], data, common)
+            for label, model in resolved.items()]
+    data = {q: data[q] for q in common}
+    return FitComparison(rows=tuple(frozen_map(r) for r in rows), quantities=tuple(data),
+                         n_points=int(w.size))
+
+
+def _measured_quantities(w: np.ndarray, storage_modulus_Pa, loss_modulus_Pa,
+                         abs_complex_modulus_Pa) -> dict[str, np.ndarray]:
+    """The quantities given (Pa), checked; at least one."""
     data = {}
     for name, values in (("storage_modulus", storage_modulus_Pa),
                          ("loss_modulus", loss_modulus_Pa),
@@ -386,46 +415,37 @@ def compare_models(omega_rad_s, models: Mapping[str, Any], *, storage_modulus_Pa
     if not data:
         raise bad_value("storage_modulus_Pa, loss_modulus_Pa or abs_complex_modulus_Pa",
                         "given (at least one)", None)
-    if not isinstance(models, Mapping) or not models:
-        raise bad_value("models", "a non-empty mapping of label to model", models)
-    resolved = {str(label): (m.series if isinstance(m, PronyFit) else m)
-                for label, m in models.items()}
-    if "abs_complex_modulus" not in data and {"storage_modulus", "loss_modulus"} <= set(data):
-        derived = np.hypot(data["storage_modulus"], data["loss_modulus"])
-    else:
-        derived = None
+    return data
+
+
+def _predictions(models: Mapping[str, Any], w: np.ndarray,
+                 quantities: list[str]) -> dict[str, dict[str, np.ndarray]]:
+    """Each model's values of each quantity it can evaluate at ω (Pa)."""
     preds: dict[str, dict[str, np.ndarray]] = {}
-    for label, model in resolved.items():
+    for label, model in models.items():
         preds[label] = {}
-        for q in list(data) + (["abs_complex_modulus"] if derived is not None else []):
+        for q in quantities:
             try:
                 preds[label][q] = np.asarray(getattr(model, q)(w), dtype=float)
             except (AttributeError, ValueError):
                 continue
-    common = [q for q in data if all(q in p for p in preds.values())]
-    if not common and derived is not None and all("abs_complex_modulus" in p
-                                                  for p in preds.values()):
-        data["abs_complex_modulus"] = derived
-        common = ["abs_complex_modulus"]
-    if not common:
-        raise bad_value("models", "able to evaluate a common quantity among "
-                        + ", ".join(data), {k: sorted(v) for k, v in preds.items()})
-    rows = []
-    for label, model in resolved.items():
-        row = {"model": label, "n_parameters": _count_parameters(model)}
-        for q in data:
-            if q in preds[label]:
-                r = preds[label][q] / data[q] - 1.0
-                row[f"rms_percent_{q}"] = 100 * float(np.sqrt(np.mean(r * r)))
-        rel = np.concatenate([preds[label][q] / data[q] - 1.0 for q in common])
-        row["n_residuals"] = int(rel.size)
-        row["rms_percent"] = 100 * float(np.sqrt(np.mean(rel * rel)))
-        row["max_percent"] = 100 * float(np.max(np.abs(rel)))
-        row["aic"], row["bic"] = _uniform_information(rel, row["n_parameters"])
-        rows.append(row)
-    data = {q: data[q] for q in common}
-    return FitComparison(rows=tuple(frozen_map(r) for r in rows), quantities=tuple(data),
-                         n_points=int(w.size))
+    return preds
+
+
+def _comparison_row(label: str, model: Any, pred: dict[str, np.ndarray],
+                    data: dict[str, np.ndarray], common: list[str]) -> dict:
+    """One model's row: rms per quantity it evaluates, and rms, max, AIC, BIC on ``common``."""
+    row = {"model": label, "n_parameters": _count_parameters(model)}
+    for q in data:
+        if q in pred:
+            r = pred[q] / data[q] - 1.0
+            row[f"rms_percent_{q}"] = 100 * float(np.sqrt(np.mean(r * r)))
+    rel = np.concatenate([pred[q] / data[q] - 1.0 for q in common])
+    row["n_residuals"] = int(rel.size)
+    row["rms_percent"] = 100 * float(np.sqrt(np.mean(rel * rel)))
+    row["max_percent"] = 100 * float(np.max(np.abs(rel)))
+    row["aic"], row["bic"] = _uniform_information(rel, row["n_parameters"])
+    return row
 
 
 # --------------------------------------------------------------------------- fitting
@@ -582,14 +602,26 @@ def fit_havriliak_negami(omega_rad_s, storage_modulus_Pa, loss_modulus_Pa, *,
             p.add("beta", expr="alpha_beta/alpha")
         return lmfit.minimize(residual, p, method="leastsq")
 
+    out = _best_of(minimize, _hn_starts(model))
+    params, stderr = _hn_params_and_stderr(out.params, model, scale)
+    z = model_of(out.params.valuesdict())
+    return _make_fit(model, out, params, stderr, w,
+                     {"storage_modulus": e1, "loss_modulus": e2},
+                     {"storage_modulus": z.real, "loss_modulus": z.imag})
+
+
+def _hn_starts(model: str) -> list[tuple[float, float, float]]:
+    """Starting points (α, αβ, offset of log10 τ from the E'' peak) for each family member."""
     if model == "havriliak_negami":
-        starts = [(a, ab, t) for a in (0.4, 0.8) for ab in (0.3, 0.6) for t in (-0.5, 0.5)]
-    elif model == "cole_cole":
-        starts = [(a, 0.0, t) for a in (0.3, 0.6, 0.9) for t in (-0.5, 0.5)]
-    else:
-        starts = [(1.0, b, t) for b in (0.3, 0.6, 0.9) for t in (-0.5, 0.5)]
-    out = _best_of(minimize, starts)
-    pv = out.params
+        return [(a, ab, t) for a in (0.4, 0.8) for ab in (0.3, 0.6) for t in (-0.5, 0.5)]
+    if model == "cole_cole":
+        return [(a, 0.0, t) for a in (0.3, 0.6, 0.9) for t in (-0.5, 0.5)]
+    return [(1.0, b, t) for b in (0.3, 0.6, 0.9) for t in (-0.5, 0.5)]
+
+
+def _hn_params_and_stderr(pv, model: str, scale: float) -> tuple[dict, dict]:
+    """The fitted parameters in Pa and s (α and/or β as the member has them) and their
+    standard errors, from the scaled lmfit parameters."""
     params = {"relaxed_modulus_Pa": float(pv["relaxed"].value) * scale,
               "relaxation_strength_Pa": float(pv["strength"].value) * scale,
               "tau_s": float(10.0 ** pv["log10_tau"].value)}
@@ -603,10 +635,7 @@ def fit_havriliak_negami(omega_rad_s, storage_modulus_Pa, loss_modulus_Pa, *,
     if model != "cole_cole":
         params["beta"] = float(pv["beta"].value)
         stderr["beta"] = _stderr_of(pv["beta"])
-    z = model_of(pv.valuesdict())
-    return _make_fit(model, out, params, stderr, w,
-                     {"storage_modulus": e1, "loss_modulus": e2},
-                     {"storage_modulus": z.real, "loss_modulus": z.imag})
+    return params, stderr
 
 
 def _scaled(v: float | None, factor: float) -> float | None:
