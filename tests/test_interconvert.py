@@ -20,9 +20,10 @@ from hypothesis import strategies as st
 from scipy import integrate
 
 from ttsp.exceptions import DataError, FitError
-from ttsp.interconvert import (CreepSeries, _secular_roots, creep_to_relaxation,
-                               relaxation_to_creep, shear_to_tensile, tensile_to_shear)
+from ttsp.interconvert import (CreepSeries, creep_to_relaxation, relaxation_to_creep,
+                               shear_to_tensile, tensile_to_shear)
 from ttsp.prony import PronySeries
+from ttsp.prony.secular import secular_roots as _secular_roots
 
 # test spectrum: five terms over eight decades, E_inf = 1, E_0 = 1041 (its exact creep series
 # computed independently with NumPy/SciPy)

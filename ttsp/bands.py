@@ -345,7 +345,8 @@ def _refit_frequency(omega, values: dict, tau, modulus_kind):
     relative residuals, E_∞ free when E' is there, NNLS; Lawson & Hanson 1974) on a fixed τ
     grid, without its diagnostics, which the members do not need (they cost three times the
     solve)."""
-    from .prony import PronySeries, _solve_nnls
+    from .prony import PronySeries
+    from .prony.nnls import solve_nnls as _solve_nnls
 
     wt = omega[:, None] * tau[None, :]
     den = 1.0 + wt * wt

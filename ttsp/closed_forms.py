@@ -29,10 +29,16 @@ from typing import Any, Callable, Mapping
 
 import numpy as np
 
+from ._arrays import fmt_html as _fmt
+from ._arrays import nonnegative_argument as _evaluation_argument
+from ._arrays import readonly as _readonly
+from ._arrays import scalar_or_array as _scalar_or_array
+from ._arrays import to_plain as _plain
 from ._validation import bad_value, check_choice
 from .exceptions import FitError
-from .prony import (PronyFit, PronySeries, _abscissa, _evaluation_argument, _fmt, _frozen_map,
-                    _measured, _plain, _readonly, _scalar_or_array)
+from .prony import PronyFit, PronySeries
+from .prony.fit_result import frozen_map
+from .prony.nnls import measured_values, positive_abscissa
 
 __all__ = ["ClosedFormModel", "MODELS", "ClosedFormFit", "FitComparison",
            "fit_closed_form", "fit_sigmoid", "fit_havriliak_negami", "compare_models",
@@ -370,16 +376,8 @@ def compare_models(omega_rad_s, models: Mapping[str, Any], *, storage_modulus_Pa
         If no quantity is given, the models share no quantity they can evaluate, or the
         inputs break their rules.
     """
-    w = _abscissa("omega_rad_s", omega_rad_s)
-    data = {}
-    for name, values in (("storage_modulus", storage_modulus_Pa),
-                         ("loss_modulus", loss_modulus_Pa),
-                         ("abs_complex_modulus", abs_complex_modulus_Pa)):
-        if values is not None:
-            data[name] = _measured(f"{name}_Pa", values, w.size, True)
-    if not data:
-        raise bad_value("storage_modulus_Pa, loss_modulus_Pa or abs_complex_modulus_Pa",
-                        "given (at least one)", None)
+    w = positive_abscissa("omega_rad_s", omega_rad_s)
+    data = _measured_quantities(w, storage_modulus_Pa, loss_modulus_Pa, abs_complex_modulus_Pa)
     if not isinstance(models, Mapping) or not models:
         raise bad_value("models", "a non-empty mapping of label to model", models)
     resolved = {str(label): (m.series if isinstance(m, PronyFit) else m)
@@ -388,14 +386,8 @@ def compare_models(omega_rad_s, models: Mapping[str, Any], *, storage_modulus_Pa
         derived = np.hypot(data["storage_modulus"], data["loss_modulus"])
     else:
         derived = None
-    preds: dict[str, dict[str, np.ndarray]] = {}
-    for label, model in resolved.items():
-        preds[label] = {}
-        for q in list(data) + (["abs_complex_modulus"] if derived is not None else []):
-            try:
-                preds[label][q] = np.asarray(getattr(model, q)(w), dtype=float)
-            except (AttributeError, ValueError):
-                continue
+    preds = _predictions(resolved, w, list(data) + (["abs_complex_modulus"]
+                                                    if derived is not None else []))
     common = [q for q in data if all(q in p for p in preds.values())]
     if not common and derived is not None and all("abs_complex_modulus" in p
                                                   for p in preds.values()):
@@ -404,22 +396,56 @@ def compare_models(omega_rad_s, models: Mapping[str, Any], *, storage_modulus_Pa
     if not common:
         raise bad_value("models", "able to evaluate a common quantity among "
                         + ", ".join(data), {k: sorted(v) for k, v in preds.items()})
-    rows = []
-    for label, model in resolved.items():
-        row = {"model": label, "n_parameters": _count_parameters(model)}
-        for q in data:
-            if q in preds[label]:
-                r = preds[label][q] / data[q] - 1.0
-                row[f"rms_percent_{q}"] = 100 * float(np.sqrt(np.mean(r * r)))
-        rel = np.concatenate([preds[label][q] / data[q] - 1.0 for q in common])
-        row["n_residuals"] = int(rel.size)
-        row["rms_percent"] = 100 * float(np.sqrt(np.mean(rel * rel)))
-        row["max_percent"] = 100 * float(np.max(np.abs(rel)))
-        row["aic"], row["bic"] = _uniform_information(rel, row["n_parameters"])
-        rows.append(row)
+    rows = [_comparison_row(label, model, preds[label], data, common)
+            for label, model in resolved.items()]
     data = {q: data[q] for q in common}
-    return FitComparison(rows=tuple(_frozen_map(r) for r in rows), quantities=tuple(data),
+    return FitComparison(rows=tuple(frozen_map(r) for r in rows), quantities=tuple(data),
                          n_points=int(w.size))
+
+
+def _measured_quantities(w: np.ndarray, storage_modulus_Pa, loss_modulus_Pa,
+                         abs_complex_modulus_Pa) -> dict[str, np.ndarray]:
+    """The quantities given (Pa), checked; at least one."""
+    data = {}
+    for name, values in (("storage_modulus", storage_modulus_Pa),
+                         ("loss_modulus", loss_modulus_Pa),
+                         ("abs_complex_modulus", abs_complex_modulus_Pa)):
+        if values is not None:
+            data[name] = measured_values(f"{name}_Pa", values, w.size, True)
+    if not data:
+        raise bad_value("storage_modulus_Pa, loss_modulus_Pa or abs_complex_modulus_Pa",
+                        "given (at least one)", None)
+    return data
+
+
+def _predictions(models: Mapping[str, Any], w: np.ndarray,
+                 quantities: list[str]) -> dict[str, dict[str, np.ndarray]]:
+    """Each model's values of each quantity it can evaluate at ω (Pa)."""
+    preds: dict[str, dict[str, np.ndarray]] = {}
+    for label, model in models.items():
+        preds[label] = {}
+        for q in quantities:
+            try:
+                preds[label][q] = np.asarray(getattr(model, q)(w), dtype=float)
+            except (AttributeError, ValueError):
+                continue
+    return preds
+
+
+def _comparison_row(label: str, model: Any, pred: dict[str, np.ndarray],
+                    data: dict[str, np.ndarray], common: list[str]) -> dict:
+    """One model's row: rms per quantity it evaluates, and rms, max, AIC, BIC on ``common``."""
+    row = {"model": label, "n_parameters": _count_parameters(model)}
+    for q in data:
+        if q in pred:
+            r = pred[q] / data[q] - 1.0
+            row[f"rms_percent_{q}"] = 100 * float(np.sqrt(np.mean(r * r)))
+    rel = np.concatenate([pred[q] / data[q] - 1.0 for q in common])
+    row["n_residuals"] = int(rel.size)
+    row["rms_percent"] = 100 * float(np.sqrt(np.mean(rel * rel)))
+    row["max_percent"] = 100 * float(np.max(np.abs(rel)))
+    row["aic"], row["bic"] = _uniform_information(rel, row["n_parameters"])
+    return row
 
 
 # --------------------------------------------------------------------------- fitting
@@ -474,8 +500,8 @@ def fit_sigmoid(omega_rad_s, abs_complex_modulus_Pa) -> ClosedFormFit:
     """
     import lmfit
 
-    w = _abscissa("omega_rad_s", omega_rad_s)
-    y = _measured("abs_complex_modulus_Pa", abs_complex_modulus_Pa, w.size, True)
+    w = positive_abscissa("omega_rad_s", omega_rad_s)
+    y = measured_values("abs_complex_modulus_Pa", abs_complex_modulus_Pa, w.size, True)
     if w.size < 5:
         raise bad_value("omega_rad_s", "at least 5 points for a 4-parameter model",
                         f"{w.size} points")
@@ -538,9 +564,9 @@ def fit_havriliak_negami(omega_rad_s, storage_modulus_Pa, loss_modulus_Pa, *,
     import lmfit
 
     check_choice("model", model, ("havriliak_negami", "cole_cole", "cole_davidson"))
-    w = _abscissa("omega_rad_s", omega_rad_s)
-    e1 = _measured("storage_modulus_Pa", storage_modulus_Pa, w.size, True)
-    e2 = _measured("loss_modulus_Pa", loss_modulus_Pa, w.size, True)
+    w = positive_abscissa("omega_rad_s", omega_rad_s)
+    e1 = measured_values("storage_modulus_Pa", storage_modulus_Pa, w.size, True)
+    e2 = measured_values("loss_modulus_Pa", loss_modulus_Pa, w.size, True)
     if w.size < 3:
         raise bad_value("omega_rad_s", "at least 3 points", f"{w.size} points")
     scale = float(max(e1.max(), e2.max()))
@@ -576,14 +602,26 @@ def fit_havriliak_negami(omega_rad_s, storage_modulus_Pa, loss_modulus_Pa, *,
             p.add("beta", expr="alpha_beta/alpha")
         return lmfit.minimize(residual, p, method="leastsq")
 
+    out = _best_of(minimize, _hn_starts(model))
+    params, stderr = _hn_params_and_stderr(out.params, model, scale)
+    z = model_of(out.params.valuesdict())
+    return _make_fit(model, out, params, stderr, w,
+                     {"storage_modulus": e1, "loss_modulus": e2},
+                     {"storage_modulus": z.real, "loss_modulus": z.imag})
+
+
+def _hn_starts(model: str) -> list[tuple[float, float, float]]:
+    """Starting points (α, αβ, offset of log10 τ from the E'' peak) for each family member."""
     if model == "havriliak_negami":
-        starts = [(a, ab, t) for a in (0.4, 0.8) for ab in (0.3, 0.6) for t in (-0.5, 0.5)]
-    elif model == "cole_cole":
-        starts = [(a, 0.0, t) for a in (0.3, 0.6, 0.9) for t in (-0.5, 0.5)]
-    else:
-        starts = [(1.0, b, t) for b in (0.3, 0.6, 0.9) for t in (-0.5, 0.5)]
-    out = _best_of(minimize, starts)
-    pv = out.params
+        return [(a, ab, t) for a in (0.4, 0.8) for ab in (0.3, 0.6) for t in (-0.5, 0.5)]
+    if model == "cole_cole":
+        return [(a, 0.0, t) for a in (0.3, 0.6, 0.9) for t in (-0.5, 0.5)]
+    return [(1.0, b, t) for b in (0.3, 0.6, 0.9) for t in (-0.5, 0.5)]
+
+
+def _hn_params_and_stderr(pv, model: str, scale: float) -> tuple[dict, dict]:
+    """The fitted parameters in Pa and s (α and/or β as the member has them) and their
+    standard errors, from the scaled lmfit parameters."""
     params = {"relaxed_modulus_Pa": float(pv["relaxed"].value) * scale,
               "relaxation_strength_Pa": float(pv["strength"].value) * scale,
               "tau_s": float(10.0 ** pv["log10_tau"].value)}
@@ -597,10 +635,7 @@ def fit_havriliak_negami(omega_rad_s, storage_modulus_Pa, loss_modulus_Pa, *,
     if model != "cole_cole":
         params["beta"] = float(pv["beta"].value)
         stderr["beta"] = _stderr_of(pv["beta"])
-    z = model_of(pv.valuesdict())
-    return _make_fit(model, out, params, stderr, w,
-                     {"storage_modulus": e1, "loss_modulus": e2},
-                     {"storage_modulus": z.real, "loss_modulus": z.imag})
+    return params, stderr
 
 
 def _scaled(v: float | None, factor: float) -> float | None:
@@ -611,12 +646,12 @@ def _make_fit(model, out, params, stderr, w, measured, fitted) -> ClosedFormFit:
     resid = {q: 100.0 * (fitted[q] / measured[q] - 1.0) for q in measured}
     allr = np.concatenate(list(resid.values()))
     return ClosedFormFit(
-        model=model, params=_frozen_map(params), stderr=_frozen_map(stderr),
+        model=model, params=frozen_map(params), stderr=frozen_map(stderr),
         aic=float(out.aic), bic=float(out.bic),
         rms_percent=float(np.sqrt(np.mean(allr ** 2))), max_percent=float(np.abs(allr).max()),
         n_points=int(allr.size), quantities=tuple(measured), x=_readonly(w),
-        measured=_frozen_map(measured), fitted=_frozen_map(fitted),
-        residuals_percent=_frozen_map(resid), success=bool(out.success),
+        measured=frozen_map(measured), fitted=frozen_map(fitted),
+        residuals_percent=frozen_map(resid), success=bool(out.success),
         message=str(out.message), reference=MODELS[model].reference)
 
 

@@ -30,11 +30,18 @@ from typing import Mapping
 
 import numpy as np
 
+from ._arrays import fmt_html as _fmt
+from ._arrays import nonnegative_argument as _evaluation_argument
 from ._arrays import outside_log_range
+from ._arrays import readonly as _readonly
+from ._arrays import scalar_or_array as _scalar_or_array
+from ._arrays import to_plain as _plain
 from ._validation import bad_value, check_choice, check_positive
 from .exceptions import FitError
-from .prony import (PronySeries, _abscissa, _evaluation_argument, _fmt, _frozen_map, _log_grid,
-                    _measured, _plain, _readonly, _scalar_or_array, _solve_nnls)
+from .prony import PronySeries
+from .prony.fit_result import frozen_map
+from .prony.nnls import log_grid, measured_values, positive_abscissa
+from .prony.nnls import solve_nnls as _solve_nnls  # a module name tests replace
 
 __all__ = ["RelaxationSpectrum", "fit_relaxation_spectrum"]
 
@@ -306,17 +313,12 @@ def fit_relaxation_spectrum(omega_rad_s, storage_modulus_Pa, loss_modulus_Pa, *,
     FitError
         If the solver fails.
     """
-    w = _abscissa("omega_rad_s", omega_rad_s)
-    e1 = _measured("storage_modulus_Pa", storage_modulus_Pa, w.size, True)
-    e2 = _measured("loss_modulus_Pa", loss_modulus_Pa, w.size, True)
+    w = positive_abscissa("omega_rad_s", omega_rad_s)
+    e1 = measured_values("storage_modulus_Pa", storage_modulus_Pa, w.size, True)
+    e2 = measured_values("loss_modulus_Pa", loss_modulus_Pa, w.size, True)
     density = check_positive("points_per_decade", points_per_decade)
     margin = check_positive("margin_decades", margin_decades, allow_zero=True)
-    check_choice("method", method, _METHODS)
-    check_choice("modulus_kind", modulus_kind, ("tensile", "shear"))
-    if reference_temperature_K is not None:
-        check_positive("reference_temperature_K", reference_temperature_K)
-    if not isinstance(n_lambda, (int, np.integer)) or isinstance(n_lambda, bool) or n_lambda < 5:
-        raise bad_value("n_lambda", "an integer of at least 5", n_lambda)
+    _check_options(method, modulus_kind, reference_temperature_K, n_lambda)
     lam_fixed = None
     if regularisation is not None:
         lam_fixed = check_positive("regularisation", regularisation)
@@ -324,37 +326,90 @@ def fit_relaxation_spectrum(omega_rad_s, storage_modulus_Pa, loss_modulus_Pa, *,
     if equilibrium_modulus_Pa is not None:
         e_fixed = check_positive("equilibrium_modulus_Pa", equilibrium_modulus_Pa,
                                  allow_zero=True)
+    tau = _tau_grid(w, density, margin, points_per_decade)
+    problem = _TikhonovProblem.build(w, e1, e2, tau, e_fixed)
+    grid = _lambda_grid(problem, lam_fixed, n_lambda)
+    sols = [problem.solve(lam) for lam in grid]
+    chosen, used, crit = _choose(sols, problem, method, lam_fixed)
+    settings = dict(points_per_decade=density, margin_decades=margin, method=method,
+                    n_lambda=int(n_lambda), equilibrium_fixed=e_fixed is not None,
+                    penalty="second difference of H/E_ref", weights="relative (1/E', 1/E'')")
+    return _spectrum(problem, sols, grid, chosen, used, crit, w, modulus_kind,
+                     reference_temperature_K, settings)
 
+
+def _check_options(method, modulus_kind, reference_temperature_K, n_lambda) -> None:
+    """Check the options that are not numbers of the grid (DataError on a broken rule)."""
+    check_choice("method", method, _METHODS)
+    check_choice("modulus_kind", modulus_kind, ("tensile", "shear"))
+    if reference_temperature_K is not None:
+        check_positive("reference_temperature_K", reference_temperature_K)
+    if not isinstance(n_lambda, (int, np.integer)) or isinstance(n_lambda, bool) or n_lambda < 5:
+        raise bad_value("n_lambda", "an integer of at least 5", n_lambda)
+
+
+def _tau_grid(w: np.ndarray, density: float, margin: float, points_per_decade) -> np.ndarray:
+    """The log grid of τ (s) over [1/ω_max, 1/ω_min] widened by ``margin`` decades; at least
+    three points, for the second differences."""
     wmin, wmax = float(w.min()), float(w.max())
-    tau = _log_grid(math.log10(1 / wmax) - margin, math.log10(1 / wmin) + margin, density)
+    tau = log_grid(math.log10(1 / wmax) - margin, math.log10(1 / wmin) + margin, density)
     if tau.size < 3:
         raise bad_value("points_per_decade", "large enough for at least 3 grid points",
                         points_per_decade)
-    dln = _trapezoid_weights(np.log(tau))
-    x = w[:, None] * tau[None, :]
-    k1 = x * x / (1 + x * x) * dln
-    k2 = x / (1 + x * x) * dln
-    y = np.concatenate([e1, e2])
-    e_ref = float(y.max())
-    # scaled unknowns u = H/E_ref (and E_e/E_ref); rows relative
-    kern = np.vstack([k1, k2]) * e_ref / y[:, None]
-    off = np.zeros(y.size)
-    if e_fixed is None:
-        col = np.concatenate([np.ones(w.size), np.zeros(w.size)]) * e_ref / y
-        kern = np.hstack([col[:, None], kern])
-        n_fixed = 1
-    else:
-        off[:w.size] = e_fixed
-        n_fixed = 0
-    b = (y - off) / y
-    m, n = kern.shape
-    L = np.hstack([np.zeros((tau.size - 2, n_fixed)), _second_difference(tau.size)])
+    return tau
 
-    def solve(lam: float):
+
+@dataclass(frozen=True, eq=False)
+class _TikhonovProblem:
+    """The scaled problem min ||K u − b||² + λ²||L u||², u = (E_e, H)/E_ref ≥ 0.
+
+    ``k1``, ``k2``: the E' and E'' kernels with the trapezoid weights in ln τ (unscaled);
+    ``kern``: the stacked kernel with relative rows and unknowns scaled by E_ref (a first
+    column of ones on the E' rows when E_e is free, ``n_fixed = 1``); ``b``: the scaled right
+    side; ``L``: second differences of H (none on E_e).
+    """
+
+    tau: np.ndarray
+    k1: np.ndarray
+    k2: np.ndarray
+    y: np.ndarray
+    e_ref: float
+    kern: np.ndarray
+    b: np.ndarray
+    L: np.ndarray
+    n_fixed: int
+    e_fixed: float | None
+
+    @classmethod
+    def build(cls, w, e1, e2, tau, e_fixed) -> "_TikhonovProblem":
+        dln = _trapezoid_weights(np.log(tau))
+        x = w[:, None] * tau[None, :]
+        k1 = x * x / (1 + x * x) * dln
+        k2 = x / (1 + x * x) * dln
+        y = np.concatenate([e1, e2])
+        e_ref = float(y.max())
+        # scaled unknowns u = H/E_ref (and E_e/E_ref); rows relative
+        kern = np.vstack([k1, k2]) * e_ref / y[:, None]
+        off = np.zeros(y.size)
+        if e_fixed is None:
+            col = np.concatenate([np.ones(w.size), np.zeros(w.size)]) * e_ref / y
+            kern = np.hstack([col[:, None], kern])
+            n_fixed = 1
+        else:
+            off[:w.size] = e_fixed
+            n_fixed = 0
+        b = (y - off) / y
+        L = np.hstack([np.zeros((tau.size - 2, n_fixed)), _second_difference(tau.size)])
+        return cls(tau, k1, k2, y, e_ref, kern, b, L, n_fixed, e_fixed)
+
+    def solve(self, lam: float):
+        """The NNLS solution at λ, its residual and penalty norms, and the trace of the
+        influence matrix over the free (non-zero) unknowns (effective parameters)."""
+        kern, L = self.kern, self.L
         a = np.vstack([kern, lam * L])
-        rhs = np.concatenate([b, np.zeros(L.shape[0])])
+        rhs = np.concatenate([self.b, np.zeros(L.shape[0])])
         u = _solve_nnls(a, rhs)
-        r = kern @ u - b
+        r = kern @ u - self.b
         act = np.flatnonzero(u > 0)
         if act.size:
             ka, la = kern[:, act], L[:, act]
@@ -368,18 +423,25 @@ def fit_relaxation_spectrum(omega_rad_s, storage_modulus_Pa, loss_modulus_Pa, *,
             trace = 0.0
         return u, float(np.linalg.norm(r)), float(np.linalg.norm(L @ u)), trace
 
+
+def _lambda_grid(problem: _TikhonovProblem, lam_fixed: float | None, n_lambda) -> np.ndarray:
+    """The λ tried: the given one, or ``n_lambda`` log-spaced from 1e-8 to 10 times the
+    Frobenius norm of the kernel (a cheap bound on its largest singular value)."""
     if lam_fixed is not None:
-        grid = np.array([lam_fixed])
-    else:
-        scale = float(np.linalg.norm(kern))  # Frobenius norm: a cheap bound on the largest
-        grid = np.logspace(math.log10(scale) - 8, math.log10(scale) + 1, int(n_lambda))
-    sols = [solve(lam) for lam in grid]
+        return np.array([lam_fixed])
+    scale = float(np.linalg.norm(problem.kern))
+    return np.logspace(math.log10(scale) - 8, math.log10(scale) + 1, int(n_lambda))
+
+
+def _choose(sols, problem: _TikhonovProblem, method: str, lam_fixed: float | None):
+    """Index of the chosen λ, how it was chosen, and the criterion at each λ."""
     res = np.array([s[1] for s in sols])
     pen = np.array([s[2] for s in sols])
     trc = np.array([s[3] for s in sols])
     if lam_fixed is not None:
-        chosen, used, crit = 0, "fixed", np.array([math.nan])
-    elif method == "gcv":
+        return 0, "fixed", np.array([math.nan])
+    if method == "gcv":
+        m = problem.kern.shape[0]
         denom = np.maximum(m - trc, 1e-12)
         crit = m * res ** 2 / denom ** 2
         # GCV is often nearly flat over decades of λ near its minimum, where the argmin is
@@ -387,30 +449,32 @@ def fit_relaxation_spectrum(omega_rad_s, storage_modulus_Pa, loss_modulus_Pa, *,
         # (largest λ), in the spirit of the one-standard-error rule (Breiman, Friedman,
         # Olshen & Stone, Classification and Regression Trees, 1984).
         near = np.flatnonzero(crit <= crit.min() * (1 + _GCV_TIE))
-        chosen, used = int(near.max()), "gcv"
-    else:
-        crit = _lcurve_corner_score(np.log(np.maximum(res, 1e-300)),
-                                    np.log(np.maximum(pen, 1e-300)))
-        chosen, used = int(np.argmax(crit)), "lcurve"
+        return int(near.max()), "gcv", crit
+    crit = _lcurve_corner_score(np.log(np.maximum(res, 1e-300)),
+                                np.log(np.maximum(pen, 1e-300)))
+    return int(np.argmax(crit)), "lcurve", crit
+
+
+def _spectrum(problem: _TikhonovProblem, sols, grid, chosen: int, used: str, crit, w,
+              modulus_kind: str, reference_temperature_K, settings: dict) -> RelaxationSpectrum:
+    """The result at the chosen λ: H and E_e back in Pa, and the fit's deviations (%)."""
+    n_fixed = problem.n_fixed
     u = sols[chosen][0]
     if not np.any(u[n_fixed:] > 0):
         raise FitError("the regularised spectrum is zero everywhere; the data carry no "
                        "relaxation (or the regularisation is far too strong)")
-    h = u[n_fixed:] * e_ref
-    e_e = float(u[0] * e_ref) if n_fixed else float(e_fixed)
-    fitted = np.concatenate([e_e + k1 @ h, k2 @ h])
-    rel = 100 * (fitted / y - 1)
+    h = u[n_fixed:] * problem.e_ref
+    e_e = float(u[0] * problem.e_ref) if n_fixed else float(problem.e_fixed)
+    fitted = np.concatenate([e_e + problem.k1 @ h, problem.k2 @ h])
+    rel = 100 * (fitted / problem.y - 1)
+    wmin, wmax = float(w.min()), float(w.max())
     return RelaxationSpectrum(
-        tau_s=_readonly(tau), H_Pa=_readonly(h), equilibrium_modulus_Pa=e_e,
+        tau_s=_readonly(problem.tau), H_Pa=_readonly(h), equilibrium_modulus_Pa=e_e,
         regularisation=float(grid[chosen]), method=used, lambda_grid=_readonly(grid),
-        residual_norm=_readonly(res), penalty_norm=_readonly(pen),
+        residual_norm=_readonly(np.array([s[1] for s in sols])),
+        penalty_norm=_readonly(np.array([s[2] for s in sols])),
         criterion=_readonly(np.where(np.isfinite(crit), crit, np.nan)),
         rms_percent=float(np.sqrt(np.mean(rel ** 2))), max_percent=float(np.abs(rel).max()),
-        effective_parameters=float(trc[chosen]), valid_tau_range_s=(1 / wmax, 1 / wmin),
+        effective_parameters=float(sols[chosen][3]), valid_tau_range_s=(1 / wmax, 1 / wmin),
         modulus_kind=modulus_kind, reference_temperature_K=reference_temperature_K,
-        settings=_frozen_map(dict(points_per_decade=density, margin_decades=margin,
-                                  method=method, n_lambda=int(n_lambda),
-                                  equilibrium_fixed=e_fixed is not None,
-                                  penalty="second difference of H/E_ref",
-                                  weights="relative (1/E', 1/E'')")))
-
+        settings=frozen_map(settings))

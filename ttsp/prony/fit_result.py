@@ -1,0 +1,220 @@
+"""The result of a Prony fit (:class:`PronyFit`) and its assembly from the solved problem.
+
+Both fits (:mod:`ttsp.prony.fit_frequency`, :mod:`ttsp.prony.fit_time`) end here: residuals
+per quantity (%, relative), rms and largest deviation, the coefficients with their linearised
+standard errors (from the weighted design at the solution: the usual least-squares covariance
+of the non-zero coefficients, Lawson & Hanson, *Solving Least Squares Problems*, 1974), and the
+plateau verdicts (:mod:`ttsp.prony.plateaus`), emitted as :class:`FitQualityWarning`.
+
+Imports numpy only (pandas lazily inside ``to_frame``).
+"""
+
+from __future__ import annotations
+
+import html
+import warnings
+from dataclasses import dataclass
+from types import MappingProxyType
+from typing import Any, Callable, Mapping
+
+import numpy as np
+
+from .._arrays import fmt_html as _fmt
+from .._arrays import readonly as _readonly
+from .._arrays import to_plain as _plain
+from ..exceptions import FitQualityWarning
+from .nnls import LinearProblem
+from .series import PronySeries
+
+__all__ = ["PronyFit", "assemble_fit", "frozen_map", "QUANTITY_SYMBOL"]
+
+QUANTITY_SYMBOL = {"storage_modulus": "E'", "loss_modulus": "E''",
+                   "relaxation_modulus": "E(t)", "creep_compliance": "D(t)"}
+
+#: Where the plateau warnings point: the caller of ``fit_prony_frequency``/``fit_prony_time``
+#: (user -> public fit -> its steps -> :func:`assemble_fit`).
+_WARN_STACKLEVEL = 4
+
+
+@dataclass(frozen=True, eq=False)
+class PronyFit:
+    """Result of a non-negative Prony fit (frozen): the series, its quality and its verdicts.
+
+    Attributes
+    ----------
+    series : PronySeries
+        The fitted relaxation series (zero terms dropped), carrying the valid reduced-time
+        range and the fit rms/max deviations.
+    domain : {"frequency", "time"}
+        Kind of data fitted.
+    quantities : tuple of str
+        Fitted quantities, e.g. ``("storage_modulus", "loss_modulus")``.
+    x : numpy.ndarray
+        Abscissa of the data: reduced angular frequency (rad/s) or reduced time (s).
+    measured, fitted, residuals_percent : mapping of str to numpy.ndarray
+        Per quantity: the data, the fitted model at the data, and 100·(fitted/measured − 1).
+    rms_percent, max_percent : float
+        Root-mean-square and largest absolute relative deviation (%) over all fitted points.
+    rms_percent_by_quantity : mapping of str to float
+        The rms deviation (%) of each quantity.
+    reaches_glassy_plateau, reaches_rubbery_plateau : bool
+        Whether the local log-log slope of the fitted curve at the short-time (high-frequency)
+        and long-time (low-frequency) end of the data is within ``plateau_slope``.
+    reaches_terminal_zone : bool
+        Whether the long-time end reaches terminal flow instead (E' ∝ ω² or fast decay).
+    warnings : tuple of str
+        Human-readable warnings (also emitted as :class:`FitQualityWarning`).
+    candidate_tau_s : numpy.ndarray
+        The full grid of relaxation times offered to the solver (s).
+    params, stderr : mapping of str to float
+        Fitted coefficients (Pa) and their linearised standard errors (None at the bound 0).
+    settings : mapping
+        The options of the fit.
+    creep : object or None
+        For ``quantity="creep_compliance"``: the fitted retardation series.
+    """
+
+    series: PronySeries
+    domain: str
+    quantities: tuple
+    x: np.ndarray
+    measured: Mapping
+    fitted: Mapping
+    residuals_percent: Mapping
+    rms_percent: float
+    max_percent: float
+    rms_percent_by_quantity: Mapping
+    reaches_glassy_plateau: bool
+    reaches_rubbery_plateau: bool
+    reaches_terminal_zone: bool
+    warnings: tuple
+    candidate_tau_s: np.ndarray
+    params: Mapping
+    stderr: Mapping
+    settings: Mapping
+    creep: Any = None
+
+    @property
+    def x_name(self) -> str:
+        """Column name of the abscissa: ``omega_rad_s`` or ``time_s``."""
+        return "omega_rad_s" if self.domain == "frequency" else "time_s"
+
+    @property
+    def n_terms(self) -> int:
+        """Number of non-zero terms in the fitted series."""
+        return self.series.n_terms
+
+    def to_dict(self) -> dict:
+        """JSON-ready summary (no data arrays; see :meth:`to_frame` for those)."""
+        return _plain({
+            "series": self.series.to_dict(),
+            "domain": self.domain,
+            "quantities": list(self.quantities),
+            "n_points": int(self.x.size),
+            "n_terms": self.n_terms,
+            "n_candidate_terms": int(self.candidate_tau_s.size),
+            "rms_percent": self.rms_percent,
+            "max_percent": self.max_percent,
+            "rms_percent_by_quantity": dict(self.rms_percent_by_quantity),
+            "reaches_glassy_plateau": self.reaches_glassy_plateau,
+            "reaches_rubbery_plateau": self.reaches_rubbery_plateau,
+            "reaches_terminal_zone": self.reaches_terminal_zone,
+            "warnings": list(self.warnings),
+            "params": dict(self.params),
+            "stderr": dict(self.stderr),
+            "settings": dict(self.settings),
+        })
+
+    def to_frame(self):
+        """Tidy table of the fitted data: abscissa, quantity, measured, fitted, residual_percent."""
+        import pandas as pd
+
+        parts = [pd.DataFrame({self.x_name: self.x, "quantity": q,
+                               "measured": self.measured[q], "fitted": self.fitted[q],
+                               "residual_percent": self.residuals_percent[q]})
+                 for q in self.quantities]
+        return pd.concat(parts, ignore_index=True)
+
+    def _repr_html_(self) -> str:
+        rows = "".join(
+            f"<tr><td>{html.escape(QUANTITY_SYMBOL.get(q, q))}</td>"
+            f"<td>{self.rms_percent_by_quantity[q]:.3g}</td>"
+            f"<td>{np.max(np.abs(self.residuals_percent[q])):.3g}</td></tr>"
+            for q in self.quantities)
+        rng = self.series.valid_reduced_time_range_s
+        warn = "".join(f"<li>{html.escape(w)}</li>" for w in self.warnings)
+        return (f"<div><b>Prony fit</b> ({self.domain} data, {self.x.size} points, "
+                f"{self.n_terms} of {self.candidate_tau_s.size} terms non-zero)<br>"
+                f"valid reduced time {_fmt(rng[0])} &ndash; {_fmt(rng[1])} s; "
+                f"glassy plateau {'reached' if self.reaches_glassy_plateau else 'not reached'}, "
+                f"rubbery plateau {'reached' if self.reaches_rubbery_plateau else 'not reached'}"
+                f"<table><thead><tr><th>quantity</th><th>rms (%)</th><th>max (%)</th></tr>"
+                f"</thead><tbody>{rows}</tbody></table>"
+                + (f"<ul>{warn}</ul>" if warn else "") + "</div>"
+                + self.series._repr_html_())
+
+
+def frozen_map(d: dict) -> Mapping:
+    """A read-only view of ``d`` whose array values are read-only too."""
+    return MappingProxyType({k: (_readonly(v) if isinstance(v, np.ndarray) else v)
+                             for k, v in d.items()})
+
+
+def assemble_fit(problem: LinearProblem, x: np.ndarray, tau: np.ndarray, *, domain, quantities,
+                 abscissa, blocks, fixed_names, term_name, series, settings,
+                 verdicts: Callable, creep=None) -> PronyFit:
+    """Assemble the frozen result: residuals, rms/max, params/stderr, plateau verdicts.
+
+    ``blocks`` are the row slices of each quantity in the stacked problem; ``fixed_names``
+    name the fixed columns, ``term_name`` (a format with one field) the non-zero terms;
+    ``verdicts`` returns the plateau verdicts and their messages, which are warned here.
+    """
+    fitted_all = problem.model(x)
+    rel_all = 100.0 * (fitted_all / problem.measured - 1.0)
+    measured, fitted, resid, rms_by = _per_quantity(problem, fitted_all, rel_all, quantities,
+                                                    blocks)
+    rms = float(np.sqrt(np.mean(rel_all ** 2)))
+    mx = float(np.max(np.abs(rel_all)))
+    series = series.replace(fit_rms_percent=rms, fit_max_percent=mx)
+    params, stderr = _params_and_stderr(problem, x, fixed_names, term_name)
+    glassy, rubbery, terminal, msgs = verdicts()
+    for m in msgs:
+        warnings.warn(m, FitQualityWarning, stacklevel=_WARN_STACKLEVEL)
+    return PronyFit(series=series, domain=domain, quantities=tuple(quantities),
+                    x=_readonly(abscissa), measured=frozen_map(measured),
+                    fitted=frozen_map(fitted), residuals_percent=frozen_map(resid),
+                    rms_percent=rms, max_percent=mx, rms_percent_by_quantity=frozen_map(rms_by),
+                    reaches_glassy_plateau=glassy, reaches_rubbery_plateau=rubbery,
+                    reaches_terminal_zone=terminal, warnings=tuple(msgs),
+                    candidate_tau_s=_readonly(tau), params=frozen_map(params),
+                    stderr=frozen_map(stderr), settings=frozen_map(_plain(settings)),
+                    creep=creep)
+
+
+def _per_quantity(problem: LinearProblem, fitted_all: np.ndarray, rel_all: np.ndarray,
+                  quantities, blocks) -> tuple[dict, dict, dict, dict]:
+    """Measured, fitted, residuals (%) and rms (%) of each quantity's block of rows."""
+    measured, fitted, resid, rms_by = {}, {}, {}, {}
+    for q, sl in zip(quantities, blocks):
+        measured[q] = problem.measured[sl]
+        fitted[q] = fitted_all[sl]
+        resid[q] = rel_all[sl]
+        rms_by[q] = float(np.sqrt(np.mean(rel_all[sl] ** 2)))
+    return measured, fitted, resid, rms_by
+
+
+def _params_and_stderr(problem: LinearProblem, x: np.ndarray, fixed_names,
+                       term_name: str) -> tuple[dict, dict]:
+    """The fixed columns and the non-zero terms as plain floats, with their standard errors
+    (None at the bound 0 or where not finite)."""
+    err = problem.stderr(x)
+    nf = problem.n_fixed
+    params, stderr = {}, {}
+    for k, name in enumerate(fixed_names):
+        params[name] = float(x[k])
+        stderr[name] = float(err[k]) if x[k] > 0 and np.isfinite(err[k]) else None
+    keep = np.flatnonzero(x[nf:] > 0) + nf
+    for i, k in enumerate(keep, start=1):
+        params[term_name.format(i)] = float(x[k])
+        stderr[term_name.format(i)] = float(err[k]) if np.isfinite(err[k]) else None
+    return params, stderr
