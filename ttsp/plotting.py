@@ -28,6 +28,7 @@ import numpy as np
 from ._arrays import evenly_spaced_indices, outside_log_range
 from ._validation import bad_value, check_choice
 from .laws import law_prediction_stderr
+from .laws.names import LAW_SHORT_TITLES as _LAW_NAMES
 from .units import DISPLAY_MODULUS_UNITS, display_modulus_unit, kelvin_to_celsius
 
 __all__ = [
@@ -688,10 +689,6 @@ def plot_master_curve(result, ax=None):
     _tref_title(ax, result, "master curve")
     _colour_bar(ax, colours)
     return ax
-
-
-_LAW_NAMES = {"wlf": "WLF", "arrhenius": "Arrhenius", "wlf-arrhenius": "WLF/Arrhenius",
-              "vft": "VFT", "polynomial": "Polynomial"}
 
 
 def _law_text(law_fit) -> str:

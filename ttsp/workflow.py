@@ -18,13 +18,14 @@ from .data import REFERENCE_SNAP_K, Campaign
 from .master_choice import MASTER_CURVE_CHOICES, choose_master_curve
 from .exceptions import DataError, FitError, FitQualityWarning, TtspWarning
 from .bands import band_columns
+from .laws.names import LAW_MODELS
 from .units import celsius_to_kelvin, kelvin_to_celsius
 
 __all__ = ["BuildOptions", "BuildResult", "build", "LAW_CHOICES", "VERTICAL_CHOICES",
            "SHIFT_ON_CHOICES", "SCHEMA_VERSION"]
 
 SCHEMA_VERSION = "1"
-LAW_CHOICES = ("auto", "wlf", "arrhenius", "wlf-arrhenius", "vft", "polynomial")
+LAW_CHOICES = ("auto",) + LAW_MODELS
 VERTICAL_CHOICES = ("none", "density", "fit")
 SHIFT_ON_CHOICES = ("auto", "tan_delta")
 GAP_CHOICES = ("stop", "bridge")
