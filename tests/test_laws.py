@@ -941,6 +941,24 @@ def test_computation_module_does_not_import_plotting_or_pandas():
     assert out.stdout.split() == ["False", "False"]
 
 
+def test_law_names_have_one_source_and_load_nothing():
+    # the registry, the build's choices and the command line's --law all list ttsp.laws.names;
+    # the command line reads them at start-up, so the names must not load the laws (scipy)
+    from ttsp.cli import Law
+    from ttsp.laws.names import LAW_MODELS, LAW_SHORT_TITLES, LAW_TITLES
+    from ttsp.workflow import LAW_CHOICES
+
+    assert tuple(SHIFT_LAWS) == LAW_MODELS
+    assert all(cls.model == name for name, cls in SHIFT_LAWS.items())
+    assert set(AUTO_MODELS) <= set(LAW_MODELS)
+    assert LAW_CHOICES == ("auto",) + LAW_MODELS == tuple(m.value for m in Law)
+    assert list(LAW_TITLES) == list(LAW_SHORT_TITLES) == list(LAW_MODELS)
+    code = ("import sys, ttsp.laws.names; "
+            "print(sorted(m for m in sys.modules if m.startswith(('ttsp.laws.', 'scipy'))))")
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
+    assert out.stdout.strip() == "['ttsp.laws.names']"
+
+
 @pytest.mark.parametrize("model, bounds", [
     ("arrhenius", {"activation_energy_kJ_per_mol": (-1e6, 1e6)}),
     ("polynomial", {"a1_per_K": (-1e3, 1e3), "a2_per_K2": (-1e3, 1e3)})])

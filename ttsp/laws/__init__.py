@@ -5,7 +5,10 @@ temperature T about a reference temperature T_ref, where log10 a_T(T_ref) = 0. T
 follows the convention of the package: log10 a_T > 0 below the reference temperature, the
 reduced frequency is omega * a_T and the reduced time t / a_T.
 
-Contents (each name is importable from ``ttsp.laws``; modules load when first used)
+Every public name below is importable from ``ttsp.laws``; its module loads when first used,
+so importing the package (or reading the law names) loads nothing else.
+
+Contents
 --------
 * ``names``: the law names in one place (:data:`LAW_MODELS`, :data:`AUTO_MODELS`, display
   titles), read by the build's choices and the command line;
