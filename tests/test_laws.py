@@ -20,7 +20,7 @@ import scipy.constants
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from ttsp import laws
+from ttsp.laws import _solver, _start_grid, _weighting, choice, wlf_arrhenius
 from ttsp.exceptions import DataError, ExtrapolationWarning, FitError, FitQualityWarning
 from ttsp.laws import (
     AUTO_MODELS,
@@ -941,6 +941,24 @@ def test_computation_module_does_not_import_plotting_or_pandas():
     assert out.stdout.split() == ["False", "False"]
 
 
+def test_law_names_have_one_source_and_load_nothing():
+    # the registry, the build's choices and the command line's --law all list ttsp.laws.names;
+    # the command line reads them at start-up, so the names must not load the laws (scipy)
+    from ttsp.cli import Law
+    from ttsp.laws.names import LAW_MODELS, LAW_SHORT_TITLES, LAW_TITLES
+    from ttsp.workflow import LAW_CHOICES
+
+    assert tuple(SHIFT_LAWS) == LAW_MODELS
+    assert all(cls.model == name for name, cls in SHIFT_LAWS.items())
+    assert set(AUTO_MODELS) <= set(LAW_MODELS)
+    assert LAW_CHOICES == ("auto",) + LAW_MODELS == tuple(m.value for m in Law)
+    assert list(LAW_TITLES) == list(LAW_SHORT_TITLES) == list(LAW_MODELS)
+    code = ("import sys, ttsp.laws.names; "
+            "print(sorted(m for m in sys.modules if m.startswith(('ttsp.laws.', 'scipy'))))")
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
+    assert out.stdout.strip() == "['ttsp.laws.names']"
+
+
 @pytest.mark.parametrize("model, bounds", [
     ("arrhenius", {"activation_energy_kJ_per_mol": (-1e6, 1e6)}),
     ("polynomial", {"a1_per_K": (-1e3, 1e3), "a2_per_K2": (-1e3, 1e3)})])
@@ -974,10 +992,10 @@ def test_start_grids_solved_in_chunks_agree_with_one_batch(monkeypatch):
     y = rng.normal(0.0, 1.0, T.size)
     w = rng.uniform(0.5, 2.0, T.size)
     cols = {"C1": rng.normal(size=(301, T.size)), "activation_energy_kJ_per_mol": T / 300.0}
-    weigh = laws._Weighting(w)
-    whole = laws._grid_lstsq(cols, y, weigh, {})
-    monkeypatch.setattr(laws, "_GRID_BATCH", 1000)
-    split = laws._grid_lstsq(cols, y, weigh, {})
+    weigh = _weighting.Weighting(w)
+    whole = _start_grid.grid_lstsq(cols, y, weigh, {})
+    monkeypatch.setattr(_start_grid, "GRID_BATCH", 1000)
+    split = _start_grid.grid_lstsq(cols, y, weigh, {})
     np.testing.assert_allclose(split[1], whole[1], rtol=1e-12)
     for name in whole[0]:
         np.testing.assert_allclose(split[0][name], whole[0][name], rtol=1e-10, atol=1e-12)
@@ -991,7 +1009,7 @@ def test_batched_start_solutions_match_lstsq_and_survive_singular_trials():
     A[2, :, 1] = 3.0 * A[2, :, 0]                 # collinear columns: singular
     A[4, :, 1] = A[4, :, 0] * (1 + 1e-9)          # nearly so
     b = rng.normal(size=(6, 12))
-    got = laws._batched_lstsq(A, b)
+    got = _start_grid.batched_lstsq(A, b)
     for g in range(6):
         expected = np.linalg.lstsq(A[g], b[g], rcond=None)[0]
         # the minimum-norm solution for the singular trial, the same fitted values otherwise
@@ -1301,7 +1319,7 @@ def test_starts_on_a_small_budget_still_reach_the_same_optimum(monkeypatch):
                                  "activation_energy_kJ_per_mol": 300.0})
     y = truth.log10_aT(T) + rng.normal(0.0, 0.01, T.size)
     full = fit_shift_law(T, y, reference_temperature_K=tr, model="wlf-arrhenius")
-    monkeypatch.setattr(laws, "_START_BUDGET", 1)
+    monkeypatch.setattr(_solver, "START_BUDGET", 1)
     short = fit_shift_law(T, y, reference_temperature_K=tr, model="wlf-arrhenius")
     assert short.chi_square == pytest.approx(full.chi_square, rel=1e-6)
     for name in full.params:
@@ -1317,21 +1335,21 @@ def test_law_choice_on_a_long_shift_table_leaves_out_a_bounded_number_of_rows(mo
     se = np.full(T.size, 0.02)
     y = law.log10_aT(T) + rng.normal(0.0, se)
     refits = []
-    original = laws._refit_from
-    monkeypatch.setattr(laws, "_refit_from", lambda *a, **k: refits.append(1) or original(*a, **k))
+    original = choice.refit_from
+    monkeypatch.setattr(choice, "refit_from", lambda *a, **k: refits.append(1) or original(*a, **k))
     fit = fit_shift_law(T, y, reference_temperature_K=400.0, model="auto", stderr=se)
     assert fit.law.model == "arrhenius"
     n_compared = len([r for r in fit.candidates if r.get("held_out_mean_square") is not None])
-    assert 0 < len(refits) <= laws.MAX_HELD_OUT_ROWS * max(n_compared, 1)
+    assert 0 < len(refits) <= choice.MAX_HELD_OUT_ROWS * max(n_compared, 1)
 
 
 def test_break_temperature_trials_are_bounded_on_long_tables_and_fine_on_short_ones():
     # 500 isotherms gave 4,000 trial breaks and 2 GB of trial arrays in a million-row build
     bounds = (-np.inf, np.inf)
-    short = laws._tg_candidates(np.linspace(300.0, 400.0, 20), {}, bounds)
+    short = wlf_arrhenius._tg_candidates(np.linspace(300.0, 400.0, 20), {}, bounds)
     assert short.size == 8 * 17                    # 8 in each of the 17 intervals with 2 points beyond
-    long = laws._tg_candidates(np.linspace(250.0, 550.0, 500), {}, bounds)
+    long = wlf_arrhenius._tg_candidates(np.linspace(250.0, 550.0, 500), {}, bounds)
     assert long.size == 497                        # one per interval: the intervals are the grid
     assert np.all(np.diff(long) > 0)
-    medium = laws._tg_candidates(np.linspace(250.0, 550.0, 60), {}, bounds)
-    assert medium.size <= laws._TG_TRIALS_TOTAL and medium.size >= 55
+    medium = wlf_arrhenius._tg_candidates(np.linspace(250.0, 550.0, 60), {}, bounds)
+    assert medium.size <= wlf_arrhenius._TG_TRIALS_TOTAL and medium.size >= 55

@@ -125,7 +125,7 @@ _BLAS_VARIABLES = ("OPENBLAS_NUM_THREADS", "OMP_NUM_THREADS", "MKL_NUM_THREADS",
                    "VECLIB_MAXIMUM_THREADS", "NUMEXPR_NUM_THREADS")
 # Imported once by the fork server, so that every worker starts warm.
 _PRELOAD = ("ttsp.batch", "ttsp.runner", "ttsp.workflow", "ttsp.io.readers", "ttsp.io.writers",
-            "ttsp.shifting", "ttsp.laws", "ttsp.prony", "ttsp.checks", "ttsp.model",
+            "ttsp.shifting", "ttsp.laws.fit", "ttsp.prony", "ttsp.checks", "ttsp.model",
             "ttsp.transition", "ttsp.interconvert", "pandas", "lmfit", "threadpoolctl")
 
 _HEAD = ("id", "status", "error", "skipped", "path", "input_sha256", "domain", "modulus_kind",

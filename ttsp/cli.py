@@ -21,6 +21,7 @@ import typer
 from . import __version__
 from ._validation import printable
 from .exceptions import DataError, TtspError
+from .laws.names import LAW_MODELS
 from .runner import read_inputs, run_build
 
 from . import _help_words
@@ -182,13 +183,8 @@ def inspect_cmd(inputs: List[Path] = typer.Argument(..., help="Files or folders 
 
 
 
-class Law(str, Enum):
-    auto = "auto"
-    wlf = "wlf"
-    arrhenius = "arrhenius"
-    wlf_arrhenius = "wlf-arrhenius"
-    vft = "vft"
-    polynomial = "polynomial"
+# --law's choices, from the laws' one list of names (member wlf_arrhenius = "wlf-arrhenius")
+Law = Enum("Law", {m.replace("-", "_"): m for m in ("auto",) + LAW_MODELS}, type=str)
 
 
 VERTICAL_HELP = ("Vertical shift b_T: none, density (needs --expansion-coefficient), fit, or "

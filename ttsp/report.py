@@ -24,6 +24,7 @@ from markupsafe import Markup
 from .units import display_modulus_unit
 from ._validation import bad_value
 from .exceptions import DataError
+from .laws.names import LAW_TITLES as _LAW_NAMES
 from .units import kelvin_to_celsius
 
 __all__ = ["render_report", "FIGURE_CAPTIONS", "CAUTION"]
@@ -119,9 +120,6 @@ _CHECK_TITLES = {
 
 _STATUS_WORDS = {"pass": ("pass", "✓", "Pass"), "warn": ("warn", "!", "Warning"),
                  "fail": ("fail", "✗", "Fail")}
-
-_LAW_NAMES = {"wlf": "WLF", "arrhenius": "Arrhenius", "wlf-arrhenius": "WLF above Tg, Arrhenius "
-              "below", "vft": "Vogel–Fulcher–Tammann (VFT)", "polynomial": "Polynomial"}
 
 _PARAMETERS = {  # name → (label, unit, shown in °C?)
     "C1": ("C₁", "", False),

@@ -20,13 +20,14 @@ from .exceptions import DataError, FitError, FitQualityWarning, TtspWarning
 from .bands import band_columns
 from . import checks as check_suite   # run_checks looked up at each build: a test may replace it
 from .checks import disagreeing_temperatures_K
+from .laws.names import LAW_MODELS
 from .units import celsius_to_kelvin, kelvin_to_celsius
 
 __all__ = ["BuildOptions", "BuildResult", "build", "LAW_CHOICES", "VERTICAL_CHOICES",
            "SHIFT_ON_CHOICES", "SCHEMA_VERSION"]
 
 SCHEMA_VERSION = "1"
-LAW_CHOICES = ("auto", "wlf", "arrhenius", "wlf-arrhenius", "vft", "polynomial")
+LAW_CHOICES = ("auto",) + LAW_MODELS
 VERTICAL_CHOICES = ("none", "density", "fit", "auto")
 SHIFT_ON_CHOICES = ("auto", "tan_delta")
 GAP_CHOICES = ("stop", "bridge")

@@ -13,6 +13,7 @@ import numpy as np
 
 from ..exceptions import ExtrapolationWarning
 from ..laws import law_prediction_stderr
+from ..laws.names import LAW_SHORT_TITLES as _LAW_NAMES
 from ..units import kelvin_to_celsius
 from ._build_data import _shift_table
 from ._look import _BLUE, _GREY, _INK, _VERMILLION, _note, _style, _tref_title
@@ -45,10 +46,6 @@ def _fmt(value, digits=3) -> str:
     if value is None or not np.isfinite(value):
         return "–"
     return f"{value:.{digits}g}"
-
-
-_LAW_NAMES = {"wlf": "WLF", "arrhenius": "Arrhenius", "wlf-arrhenius": "WLF/Arrhenius",
-              "vft": "VFT", "polynomial": "Polynomial"}
 
 
 def _law_text(law_fit) -> str:
