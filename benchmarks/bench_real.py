@@ -24,7 +24,8 @@ Targets (issue 18): collapse ≤ 1.10 on every campaign; held-out binder isother
 cross-validation at most twice the cost of the build. The synthetic suite's rows stay in
 ``bench_shifting.py``.
 
-Run: ``python benchmarks/bench_real.py``. Prints a table; asserts nothing.
+Run: ``python benchmarks/bench_real.py`` (``--vertical auto`` or ``fit`` to build with a
+vertical shift). Prints a table; asserts nothing.
 """
 
 from __future__ import annotations
@@ -49,6 +50,12 @@ HELD_OUT_C = (34.0, 46.0, 70.0)
 
 
 def main() -> None:
+    import argparse
+
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--vertical", default="none", choices=("none", "fit", "auto"),
+                        help="the build's vertical shift (default: the build's default, none)")
+    vertical = parser.parse_args().vertical
     warnings.simplefilter("ignore")
     data, _ = load()
     print(f"{'binder':>6}{'model':>10}{'collapse':>9}{'law':>15}{'CV law':>8}{'CV best':>8}"
@@ -58,9 +65,10 @@ def main() -> None:
     for lane, rows in data.groupby("lane"):
         camp = campaign(rows)
         t0 = time.process_time()
-        quick = ttsp.build(camp, reference_temperature_C=TREF_C, cross_validation=False)
+        quick = ttsp.build(camp, reference_temperature_C=TREF_C, cross_validation=False,
+                           vertical=vertical)
         t1 = time.process_time()
-        r = ttsp.build(camp, reference_temperature_C=TREF_C)
+        r = ttsp.build(camp, reference_temperature_C=TREF_C, vertical=vertical)
         t2 = time.process_time()
         cv = r.cross_validation
         p = cv.params
@@ -79,6 +87,8 @@ def main() -> None:
         plain += base
         ratio = r.master_curve.collapse_ratio
         collapse.append(ratio)
+        if r.vertical_choice is not None:
+            print(f"       vertical {r.vertical_choice.chosen}: {r.vertical_choice.reason}")
         print(f"{lane:>6}{r.master_curve.chosen:>10}{ratio:>9.3f}{r.law_fit.law.model:>15}"
               f"{p['median_rms_percent_at_law_aT']:>8.2f}{p['median_rms_percent_at_best_aT']:>8.2f}"
               + "".join(f"{e:>9.2f}" for e in cells)
