@@ -24,6 +24,9 @@ START_BUDGET, FULL_BUDGET = 100, 4000
 #: precision, which the strict tolerances here (1e-12) ask for and lmfit does not count as
 #: success
 AT_PRECISION_LIMIT = (6, 7, 8)
+#: a continuation on the full budget that lowers χ² by less than this fraction of itself has
+#: stalled in a flat valley: more evaluations would not change the law's predictions
+STALL_RELATIVE = 1e-4
 
 _SINGULAR_NOTE = "parameter uncertainties could not be estimated (singular covariance)"
 
@@ -166,8 +169,14 @@ class _LawSolver:
     def best_from(self, starts, names, fixed, bounds):
         """The best solve over the starts: every start on the small budget (a start that
         wanders off towards a degenerate corner would otherwise cost thousands of
-        evaluations); of several starts, the best one, if still unconverged, continues with
-        the full budget. With nothing free, the starting constants themselves."""
+        evaluations); the best one, if still unconverged, continues with the full budget —
+        also when it is the only start (it once did not: a single start that ran out of its
+        small budget was reported as not converged, lmfit's "Tolerance seems to be too small"
+        for an aborted run). A continuation that used its whole budget while χ² fell by
+        less than ``STALL_RELATIVE`` of itself stands in a flat valley of χ² (WLF constants
+        running off together towards the Arrhenius limit, a break temperature anywhere between
+        two isotherms): its constants are taken, with a message that says so. With nothing
+        free, the starting constants themselves."""
         best = None
         for start in starts:
             params = self.parameters(start, names, fixed, bounds)
@@ -178,9 +187,12 @@ class _LawSolver:
             out = self.solve(params, START_BUDGET)
             if out is not None and (best is None or out[0] < best[0]):
                 best = out
-        if best is not None and best[2] is not None and not best[2].success \
-                and len(starts) > 1:
-            best = self.solve(best[1], FULL_BUDGET) or best
+        if best is not None and best[2] is not None and not best[2].success:
+            more = self.solve(best[1], FULL_BUDGET)
+            if more is not None and not more[2].success \
+                    and best[0] - more[0] <= STALL_RELATIVE * best[0]:
+                accept_stalled(more[2], self.residual, self.free)
+            best = more or best
         if best is None:
             raise FitError(f"{self.cls.model}: the fit produced no finite parameters")
         return best
@@ -232,6 +244,15 @@ def into_bounds(value: float, lo: float, hi: float) -> float:
     if value <= lo:
         return lo + max(1e-3 * abs(lo), 1e-3)
     return hi - max(1e-3 * abs(hi), 1e-3)
+
+
+def accept_stalled(res, residual, free) -> None:
+    """Take a run that crept along a flat valley of χ² until its budget ran out: the
+    covariance as at the precision limit (large where the valley is flat), and a message."""
+    accept_at_precision_limit(res, residual, free)
+    res.message = (f"χ² stopped falling (by less than {STALL_RELATIVE:g} of itself over "
+                   f"{int(res.nfev)} evaluations) along a flat valley: some constants are "
+                   f"poorly determined, the fitted curve is not")
 
 
 def accept_at_precision_limit(res, residual, free) -> None:
