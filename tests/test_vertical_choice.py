@@ -121,3 +121,26 @@ def test_cli_vertical_auto(tmp_path):
     summary = json.loads((out / "summary.json").read_text())
     assert summary["vertical_choice"]["chosen"] == "fit"
     assert "auto" in CliRunner().invoke(app, ["build", "--help"]).output
+
+
+def test_a_free_vertical_shift_that_trades_against_the_horizontal_one_is_refused():
+    """Real binder (tests/data, lane 1, MIT licence): G' and G'' are nearly straight in
+    log-log, so a free b_T trades against a_T (measured log10 b_T down to -1.0 on lanes 2-10)
+    and some folds cannot even be built; ``auto`` keeps horizontal shifts and says why."""
+    import pandas as pd
+
+    data = Path(__file__).parent / "data" / "asphalt_binder_ptf_lanes1-5.csv"
+    rows = pd.read_csv(data)
+    rows = rows[(rows["rep"] == 1) & (rows["lane"] == 2)]
+    frame = pd.DataFrame({"temperature_K": rows["T_C"] + 273.15,
+                          "frequency_rad_s": rows["omega_rad_s"],
+                          "storage_modulus_Pa": rows["Gp_Pa"], "loss_modulus_Pa": rows["Gpp_Pa"]})
+    camp = Campaign.from_frame(frame, modulus_kind="shear", source="binder lane 2")
+    r = quiet(ttsp.build, camp, reference_temperature_C=58.0, vertical="auto")
+    choice = r.vertical_choice
+    assert choice.chosen == "none"
+    assert "fit" in choice.failed
+    assert "could not be built" in choice.failed["fit"] or "trading" in choice.failed["fit"]
+    rows_out = choice.to_dict()["candidates"]
+    assert [c["vertical"] for c in rows_out] == ["none", "fit"]   # one row per candidate
+    assert rows_out[1]["error"]

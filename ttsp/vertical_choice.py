@@ -18,7 +18,11 @@ shift is real. The isotherms the build has not seen can: ``auto`` builds each ca
 predicts every held-out isotherm from the others (:mod:`ttsp.crossval`; b_T at the held-out
 temperature is interpolated from its neighbours, :class:`ttsp.model.VerticalShift`), and keeps
 horizontal shifts only unless a vertical shift lowers the median held-out error by more than
-``VERTICAL_GAIN`` (relative). Measured on exact synthetic campaigns with 2 % noise and nine
+``VERTICAL_GAIN`` (relative), over the same held-out isotherms. A candidate that cannot predict
+an isotherm that horizontal shifts predict is not chosen, nor a fitted b_T beyond
+``MAX_PLAUSIBLE_LOG10_BT``: on curves that are nearly straight in log–log (the real binders
+of tests/data) a free b_T trades against a_T, reaching a factor of ten, and predicts the
+interior isotherms well with shift factors that mean nothing. Measured on exact synthetic campaigns with 2 % noise and nine
 isotherms (tests/test_vertical_choice.py): without a vertical shift in the data, ``fit``
 predicts 1–8 % worse than ``none``; with log10 b_T changing 0.002 per kelvin, 31–44 % better.
 """
@@ -36,6 +40,12 @@ __all__ = ["VerticalChoice", "VERTICAL_GAIN", "choose_vertical_shift"]
 
 #: a vertical shift must lower the median held-out error by more than this fraction
 VERTICAL_GAIN = 0.05
+#: a fitted vertical shift beyond this (decades, a factor of two) anywhere in the campaign is
+#: not taken as one: the density-and-temperature factor T ρ/(T_ref ρ_ref) changes by about 0.1
+#: decade over 100 K (Ferry 1980, ch. 11; from memory), so values this large mean that the
+#: horizontal and vertical shifts trade against each other along curves that are nearly
+#: straight in log–log (measured on the real binders of tests/data: log10 b_T down to −1.0)
+MAX_PLAUSIBLE_LOG10_BT = 0.3
 
 
 @dataclass(frozen=True)
@@ -50,7 +60,8 @@ class VerticalChoice:
         Candidate → median over the held-out isotherms of the pooled rms error at the law's
         a_T (%); NaN when the candidate has no held-out isotherm to judge by.
     failed : dict
-        Candidate → why it could not be built.
+        Candidate → why it could not be built or chosen (it failed a fold that horizontal
+        shifts alone passed, or its fitted b_T is implausibly large).
     reason : str
         One sentence for the report.
     """
@@ -64,10 +75,11 @@ class VerticalChoice:
         def num(v):
             return float(v) if math.isfinite(v) else None
 
-        rows = [{"vertical": k, "median_held_out_rms_percent": num(v), "error": ""}
-                for k, v in self.held_out_rms_percent.items()]
-        rows += [{"vertical": k, "median_held_out_rms_percent": None, "error": e}
-                 for k, e in self.failed.items()]
+        names = list(self.held_out_rms_percent) + [k for k in self.failed
+                                                   if k not in self.held_out_rms_percent]
+        rows = [{"vertical": k,
+                 "median_held_out_rms_percent": num(self.held_out_rms_percent.get(k, math.nan)),
+                 "error": self.failed.get(k, "")} for k in names]
         return {"requested": "auto", "chosen": self.chosen, "candidates": rows,
                 "reason": self.reason}
 
@@ -78,9 +90,29 @@ def candidates(options) -> tuple:
                               else ())
 
 
-def _median_error(cv) -> float:
-    values = [h.rms_percent_at_law_aT["all"] for h in cv.per_isotherm]
-    values = [v for v in values if math.isfinite(v)]
+def _errors_by_temperature(cv) -> dict:
+    return {round(h.temperature_K, 6): h.rms_percent_at_law_aT["all"] for h in cv.per_isotherm}
+
+
+def _not_eligible(mode, fitted, errors, base) -> str:
+    """Why a vertical-shift candidate cannot be chosen ('' when it can): it must predict every
+    held-out isotherm that horizontal shifts alone predict, and its b_T must be plausible."""
+    missed = [t for t, e in base.items()
+              if math.isfinite(e) and not math.isfinite(errors.get(t, math.nan))]
+    if missed:
+        listed = ", ".join(f"{t - 273.15:g} °C" for t in sorted(missed))
+        return f"it could not be built without the isotherm(s) at {listed}"
+    if mode == "fit":
+        worst = float(np.max(np.abs(fitted.shifts.log10_bT)))
+        if worst > MAX_PLAUSIBLE_LOG10_BT:
+            return (f"its fitted log10 b_T reaches {worst:.2f} decade, beyond any density and "
+                    f"temperature factor ({MAX_PLAUSIBLE_LOG10_BT:g}): horizontal and vertical "
+                    f"shifts are trading against each other, not a real vertical shift")
+    return ""
+
+
+def _median(errors: dict, keys) -> float:
+    values = [errors[t] for t in keys if math.isfinite(errors.get(t, math.nan))]
     return float(np.median(values)) if values else math.nan
 
 
@@ -102,7 +134,7 @@ def choose_vertical_shift(options, fit, validate):
         The options with the chosen vertical mode, and that candidate's fit and held-out
         predictions.
     """
-    built, errors, failed = {}, {}, {}
+    built, by_t, failed = {}, {}, {}
     for mode in candidates(options):
         alpha = options.expansion_coefficient_per_K if mode == "density" else None
         o = replace(options, vertical=mode, expansion_coefficient_per_K=alpha)
@@ -113,27 +145,34 @@ def choose_vertical_shift(options, fit, validate):
                 raise
             failed[mode] = str(exc)
             continue
-        cv = validate(o, fitted)
-        built[mode] = (o, fitted, cv)
-        errors[mode] = _median_error(cv)
-    base = errors["none"]
-    better = {m: e for m, e in errors.items()
-              if m != "none" and math.isfinite(e) and e < base * (1.0 - VERTICAL_GAIN)}
-    if not math.isfinite(base):
-        chosen = "none"
-        reason = ("horizontal shifts only: there are too few isotherms to judge a vertical "
-                  "shift by isotherms held out")
-    elif better:
-        chosen = min(better, key=better.get)
-        reason = (f"a vertical shift ({chosen}) predicts held-out isotherms better: median "
-                  f"error {errors[chosen]:.2f} % against {base:.2f} % with horizontal shifts "
-                  f"only")
-    else:
-        chosen = "none"
-        rest = ", ".join(f"{m} {e:.2f} %" for m, e in errors.items()
-                         if m != "none" and math.isfinite(e))
-        reason = (f"horizontal shifts only: a vertical shift does not predict held-out "
-                  f"isotherms better by more than {100 * VERTICAL_GAIN:.0f} % (median error "
-                  f"{base:.2f} %" + (f"; {rest}" if rest else "") + ")")
+        built[mode] = (o, fitted, validate(o, fitted))
+        by_t[mode] = _errors_by_temperature(built[mode][2])
+    base = by_t["none"]
+    judged = [t for t, e in base.items() if math.isfinite(e)]
+    errors = {m: _median(e, judged) for m, e in by_t.items()}
+    for mode in list(built):
+        why = "" if mode == "none" else _not_eligible(mode, built[mode][1], by_t[mode], base)
+        if why:
+            failed[mode] = why
+    better = {m: errors[m] for m in built if m != "none" and m not in failed
+              and errors[m] < errors["none"] * (1.0 - VERTICAL_GAIN)}
+    chosen = min(better, key=better.get) if better else "none"
     o, fitted, cv = built[chosen]
-    return o, fitted, cv, VerticalChoice(chosen, errors, failed, reason)
+    return o, fitted, cv, VerticalChoice(chosen, errors, failed,
+                                         _reason(chosen, errors, failed, judged))
+
+
+def _reason(chosen, errors, failed, judged) -> str:
+    base = errors["none"]
+    if not judged:
+        return ("horizontal shifts only: there are too few isotherms to judge a vertical shift "
+                "by isotherms held out")
+    if chosen != "none":
+        return (f"a vertical shift ({chosen}) predicts held-out isotherms better: median error "
+                f"{errors[chosen]:.2f} % against {base:.2f} % with horizontal shifts only")
+    rest = "; ".join([f"{m} {e:.2f} %" for m, e in errors.items()
+                      if m != "none" and m not in failed and math.isfinite(e)]
+                     + [f"{m} not used: {why}" for m, why in failed.items()])
+    return (f"horizontal shifts only: no vertical shift predicts held-out isotherms better by "
+            f"more than {100 * VERTICAL_GAIN:.0f} % (median error {base:.2f} %"
+            + (f"; {rest}" if rest else "") + ")")
