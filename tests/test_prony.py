@@ -612,6 +612,10 @@ def test_time_fit_warns_on_truncated_data():
     fit, rec = quiet(fit_prony_time, t, cole_cole_half_relaxation(t, 1e6, 1e9, 1.0))
     assert len(rec) == 2 and "glassy plateau: |d ln E/d ln t|" in str(rec[0].message)
     assert not fit.reaches_glassy_plateau and not fit.reaches_rubbery_plateau
+    # shear data are named G(t) (issue 23: shear labelled shear throughout)
+    _, rec = quiet(fit_prony_time, t, cole_cole_half_relaxation(t, 1e6, 1e9, 1.0),
+                   modulus_kind="shear")
+    assert all("d ln G/d ln t" in str(r.message) for r in rec) and len(rec) == 2
 
 
 def test_creep_fit_converts_to_the_exact_relaxation_series():

@@ -165,7 +165,7 @@ def _fit(data: _TimeData, options: FitOptions) -> PronyFit:
     coef, times = nonzero_terms(x, tau, problem.n_fixed)
     series, creep, level, rate = _series(x, coef, times, data, options, settings)
     verdicts = partial(time_verdicts, level, rate, coef, times, *data.time_range_s,
-                       options.plateau_slope, data.creep)
+                       options.plateau_slope, data.creep, options.modulus_kind)
     return assemble_fit(problem, x, tau, domain="time", quantities=[data.quantity], abscissa=t,
                         blocks=[slice(0, t.size)], fixed_names=fixed_names,
                         term_name=term_name, series=series, settings=settings,

@@ -94,11 +94,14 @@ def frequency_verdicts(series: PronySeries, omega_min: float, omega_max: float,
 
 
 def time_verdicts(level: float, rate: float, coef: np.ndarray, times: np.ndarray,
-                  t_min: float, t_max: float, plateau_slope: float, creep: bool):
-    """The verdicts of a time fit, from the slopes of E(t) or D(t) at t_min and t_max
-    (terminal from a slope of 2 for E(t), 1 for D(t), whose flow term grows as t)."""
+                  t_min: float, t_max: float, plateau_slope: float, creep: bool,
+                  modulus_kind: str = "tensile"):
+    """The verdicts of a time fit, from the slopes of E(t) or D(t) (G(t) or J(t) in shear)
+    at t_min and t_max (terminal from a slope of 2 for E(t), 1 for D(t), whose flow term grows
+    as t)."""
+    shear = modulus_kind == "shear"
     return plateau_verdicts(slope_time(level, rate, coef, times, t_min, creep),
                             slope_time(level, rate, coef, times, t_max, creep),
                             plateau_slope, 1.0 if creep else 2.0,
                             "shortest reduced time", "longest reduced time",
-                            "D" if creep else "E", "t")
+                            ("J" if shear else "D") if creep else ("G" if shear else "E"), "t")
