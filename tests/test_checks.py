@@ -2,7 +2,7 @@
 
 Ground truth first: every campaign here is generated in this file from a generalized Maxwell
 (Prony) spectrum, E'(ω) = E_∞ + Σ E_i ω²τ_i²/(1+ω²τ_i²), E''(ω) = Σ E_i ωτ_i/(1+ω²τ_i²)
-(Ferry, Viscoelastic Properties of Polymers, 3rd ed., 1980, ch. 4; REFERENCE §4.1), with its
+(Ferry, Viscoelastic Properties of Polymers, 3rd ed., 1980, ch. 4; docs/methods.md §1), with its
 relaxation times scaled by a_T from a WLF or Arrhenius law (sign convention of the package:
 log10 a_T > 0 below the reference, reduced frequency ω·a_T). The shift factors are therefore
 known exactly and the checks are judged against what the data were built to be.
@@ -278,7 +278,7 @@ def test_complex_campaign_fails_tan_delta_superposition_after_shifting():
 
 def test_spread_grows_as_the_second_process_departs_from_wlf():
     """The two-process material with the fast process at 60, 100 and 150 kJ/mol (the WLF law has
-    an apparent activation energy of about 170 kJ/mol at 40 °C, REFERENCE §10.6 formula), 2 %
+    an apparent activation energy of about 170 kJ/mol at 40 °C, docs/methods.md §3.1), 2 %
     noise. Measured van Gurp–Palmen spread 11.8 / 2.9 / 0.6 (17°, 3.5°, 0.55° rms at the worst
     separation) and E''–E' 9.5 / 6.0 / 0.9: the verdict goes fail, doubtful, pass."""
     tau_b, mod_b = gaussian_spectrum(-3.0, 0.8, 1e9)
@@ -303,7 +303,7 @@ def test_spread_grows_as_the_second_process_departs_from_wlf():
 # ----------------------------------------------------------------------------------------------
 def test_kk_prediction_is_the_kramers_kronig_transform():
     """Ground truth for the machinery: E'' predicted from E' alone equals the subtracted
-    Kramers–Kronig integral E''(ω) = (2ω/π) ∫ [E'(x) − E'(ω)]/(x² − ω²) dx (REFERENCE §5.5,
+    Kramers–Kronig integral E''(ω) = (2ω/π) ∫ [E'(x) − E'(ω)]/(x² − ω²) dx (docs/methods.md §6.2,
     Booij & Thoone 1982), evaluated independently with scipy.integrate.quad, and the exact
     Prony E''."""
     from scipy.integrate import quad
