@@ -23,6 +23,7 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
+import ttsp
 from ttsp import batch
 from ttsp.batch import BatchItem, batch_exit_code, read_manifest, run_batch
 from ttsp.exceptions import DataError
@@ -35,7 +36,7 @@ TAU = 10.0 ** np.arange(-6.0, 4.01, 0.25)
 E_I = 1e9 * np.exp(-0.5 * ((np.log10(TAU) + 1.0) / 1.5) ** 2)
 E_I *= (1e9 - 1e6) / E_I.sum()
 E_INF = 1e6
-DEMO = Path(batch.__file__).resolve().parent / "demo_data" / "damping_elastomer_dma.csv"
+DEMO = Path(ttsp.__file__).resolve().parent / "demo_data" / "damping_elastomer_dma.csv"
 
 
 def log10_aT(t_C, c1=C1, c2=C2_K):
