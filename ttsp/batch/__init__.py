@@ -14,11 +14,14 @@ table for the whole batch, one row per campaign in manifest order, is written as
 
 Manifest
     A CSV file (comma, semicolon or tab) or a JSON Lines file (one object per line) with the
-    columns ``id`` and ``path`` and, optionally, per-campaign options: ``reference_temperature_C``,
-    ``law``, ``vertical``, ``expansion_coefficient_per_K``, ``shift_on``, ``gaps``,
-    ``prony_terms_per_decade``, ``glass_transition_C``, ``spectrum`` (true/false),
-    ``master_curve`` (auto/spectrum/splines), ``cross_validation`` (true/false) (the fields of
-    :class:`ttsp.workflow.BuildOptions`) and ``modulus_kind`` (``tensile`` or ``shear``). An empty
+    columns ``id`` and ``path`` and, optionally, per-campaign options: every field of
+    :class:`ttsp.workflow.BuildOptions` (``reference_temperature_C``, ``law``, ``vertical``,
+    ``expansion_coefficient_per_K``, ``shift_on``, ``gaps``, ``prony_terms_per_decade``,
+    ``glass_transition_C``, ``spectrum`` (true/false), ``master_curve``
+    (auto/spectrum/splines), ``cross_validation`` (true/false), ``material``, ...; the list is
+    :data:`OPTION_COLUMNS`, read from the dataclass) and ``modulus_kind`` (``tensile`` or
+    ``shear``). Numbers, words and true/false go in any manifest; a list or a mapping
+    (``exclude_C``, ``fixed_log10_aT``) only as a JSON value in a JSON Lines manifest. An empty
     cell (or ``null``) means the default. ``path`` is a file or a folder of one campaign, relative
     to the manifest's folder; in JSON Lines it may also be a list of files. Blank lines and lines
     starting with ``#`` are ignored. Or a *folder of campaigns*: each table file (``.csv``,

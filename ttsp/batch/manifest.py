@@ -1,18 +1,21 @@
 """The campaigns of a batch: a manifest (CSV or JSON Lines) or a folder of campaigns, read into
 validated :class:`BatchItem` s.
 
-Layer 5 (a shell). The per-campaign option columns are fields of
-:class:`ttsp.workflow.BuildOptions` plus the batch's own ``modulus_kind``; ``id`` and ``path``
-name the campaign. The rules of ids and cells are in the package docstring (:mod:`ttsp.batch`).
+Layer 5 (a shell). The per-campaign option columns are the fields of
+:class:`ttsp.workflow.BuildOptions` (read from the dataclass, so a new build option is a
+manifest column at once) plus the batch's own ``modulus_kind``; ``id`` and ``path`` name the
+campaign. The rules of ids and cells are in the package docstring (:mod:`ttsp.batch`).
 """
 
 from __future__ import annotations
 
 import csv
+import dataclasses
 import json
 import math
 import os
 import re
+import typing
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -23,20 +26,41 @@ from .results_table import RESULT_FILES
 
 __all__ = ["BatchItem", "MANIFEST_COLUMNS", "OPTION_COLUMNS", "check_unique", "read_manifest"]
 
-#: Per-campaign options a manifest may give, with the type of their values.
-OPTION_COLUMNS = {
-    "reference_temperature_C": float,
-    "law": str,
-    "vertical": str,
-    "expansion_coefficient_per_K": float,
-    "shift_on": str,
-    "gaps": str,
-    "prony_terms_per_decade": float,
-    "glass_transition_C": float,
-    "spectrum": bool,
-    "master_curve": str,
-    "cross_validation": bool,
-}
+#: how a cell of a structured option (a list or a mapping, such as ``exclude_C``) is read: a
+#: JSON Lines manifest gives the JSON value, which :class:`BuildOptions` checks and normalises
+STRUCTURED = "structured"
+_TYPE_NAMES = {"float": float, "int": int, "bool": bool, "str": str}
+
+
+def _cell_kind(annotation):
+    """``float``, ``bool`` or ``str`` for an option of that type (``None`` allowed beside it),
+    else :data:`STRUCTURED`. ``annotation`` is a type, or its text when it could not be
+    evaluated."""
+    if isinstance(annotation, str):
+        names = {a.strip() for a in annotation.split("|")} - {"None"}
+        kinds = [_TYPE_NAMES.get(n, n) for n in names]
+    else:
+        kinds = [a for a in typing.get_args(annotation) if a is not type(None)] or [annotation]
+    if len(kinds) == 1 and kinds[0] in (float, int):
+        return float
+    if len(kinds) == 1 and kinds[0] in (bool, str):
+        return kinds[0]
+    return STRUCTURED
+
+
+def option_columns(options_class=BuildOptions) -> dict:
+    """``{field name: cell kind}`` for every field of a build-settings dataclass, in its order."""
+    try:
+        hints = typing.get_type_hints(options_class)
+    except Exception:   # a hint naming a type that is not importable at run time: its text
+        hints = {}
+    return {f.name: _cell_kind(hints.get(f.name, f.type))
+            for f in dataclasses.fields(options_class)}
+
+
+#: Per-campaign options a manifest may give (every field of BuildOptions, in its order), with
+#: the kind of their values: ``float``, ``bool``, ``str`` or :data:`STRUCTURED`.
+OPTION_COLUMNS = option_columns()
 #: Columns only a batch has: the modulus kind, overriding detection from the headers.
 BATCH_ONLY_COLUMNS = ("modulus_kind",)
 MANIFEST_COLUMNS = ("id", "path", *OPTION_COLUMNS, *BATCH_ONLY_COLUMNS)
@@ -244,6 +268,11 @@ def _option_value(name, kind, value, file, row):
         return _number(name, value, file, row)
     if kind is bool:
         return _flag(name, value, file, row)
+    if kind is STRUCTURED:   # a list or a mapping: only JSON Lines can give one
+        if isinstance(value, (list, dict)):
+            return value
+        raise bad_value(name, "a JSON list or object (in a JSON Lines manifest)", value,
+                        file=file, column=name, row=row)
     if not isinstance(value, str):
         raise bad_value(name, "a text value", value, file=file, column=name, row=row)
     return value.strip()
