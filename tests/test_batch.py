@@ -10,6 +10,7 @@ once, for its documented generating law.
 
 from __future__ import annotations
 
+import dataclasses
 import json
 import os
 import shutil
@@ -23,8 +24,10 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
+import ttsp
 from ttsp import batch
-from ttsp.batch import BatchItem, batch_exit_code, read_manifest, run_batch
+from ttsp.batch import (MANIFEST_COLUMNS, OPTION_COLUMNS, BatchItem, batch_exit_code,
+                        read_manifest, run_batch)
 from ttsp.exceptions import DataError
 from ttsp.io.writers import NUMBER_FILES
 from ttsp.runner import run_build
@@ -35,7 +38,7 @@ TAU = 10.0 ** np.arange(-6.0, 4.01, 0.25)
 E_I = 1e9 * np.exp(-0.5 * ((np.log10(TAU) + 1.0) / 1.5) ** 2)
 E_I *= (1e9 - 1e6) / E_I.sum()
 E_INF = 1e6
-DEMO = Path(batch.__file__).resolve().parent / "demo_data" / "damping_elastomer_dma.csv"
+DEMO = Path(ttsp.__file__).resolve().parent / "demo_data" / "damping_elastomer_dma.csv"
 
 
 def log10_aT(t_C, c1=C1, c2=C2_K):
@@ -311,7 +314,7 @@ def test_progress_lines_on_stderr_and_quiet(data, tmp_path, capfd):
 # ---- manifests --------------------------------------------------------------------------------
 def test_json_lines_manifest_with_options_and_file_lists(data, tmp_path):
     lines = [{"id": "shear", "path": str(data / "c0.csv"), "law": "wlf",
-              "reference_temperature_C": T_REF_C, "modulus_kind": "shear"},
+              "reference_temperature_C": T_REF_C, "modulus_kind": "shear", "bands": False},
              {"id": 7, "path": [str(data / "c1.csv")], "law": None,
               "prony_terms_per_decade": "1.5"},
              {"id": "rel", "path": "c2.csv"}]
@@ -328,6 +331,54 @@ def test_json_lines_manifest_with_options_and_file_lists(data, tmp_path):
     assert table["modulus_kind"][0] == "shear" and table["status"][0] == "ok"
     summary = json.loads((tmp_path / "out" / "shear" / "summary.json").read_text())
     assert summary["modulus_kind"] == "shear"
+    assert summary["options"]["bands"] is False   # any build option reaches the build
+
+
+def test_every_build_option_is_a_manifest_column():
+    # read from the dataclass, so that a new build option needs no second edit in the batch
+    assert list(OPTION_COLUMNS) == [f.name for f in dataclasses.fields(BuildOptions)]
+    assert MANIFEST_COLUMNS == ("id", "path", *OPTION_COLUMNS, "modulus_kind")
+    kinds = {name: OPTION_COLUMNS[name] for name in
+             ("reference_temperature_C", "law", "spectrum", "material", "exclude_C")}
+    assert kinds == {"reference_temperature_C": float, "law": str, "spectrum": bool,
+                     "material": str, "exclude_C": "structured"}
+
+
+@dataclasses.dataclass(frozen=True)
+class _WiderOptions(BuildOptions):
+    smoothing_decades: float | None = None
+    window: int = 3
+    note: str = ""
+    weights: dict | None = None
+
+
+@dataclasses.dataclass(frozen=True)
+class _WiderOptionsUnresolvable(_WiderOptions):
+    model: NotImportedHere | None = None   # noqa: F821 -- a hint only a type checker resolves
+
+
+@pytest.mark.parametrize("options_class", [_WiderOptions, _WiderOptionsUnresolvable])
+def test_a_new_build_option_becomes_a_manifest_column(options_class):
+    columns = batch.manifest.option_columns(options_class)
+    assert list(columns)[:len(OPTION_COLUMNS)] == list(OPTION_COLUMNS)
+    assert {k: columns[k] for k in ("smoothing_decades", "window", "note", "weights")} == \
+        {"smoothing_decades": float, "window": float, "note": str, "weights": "structured"}
+    assert {k: columns[k] for k in OPTION_COLUMNS} == OPTION_COLUMNS
+
+
+def test_manifest_columns_of_the_other_build_options(tmp_path):
+    m = tmp_path / "m.csv"
+    m.write_text("id,path,material,bands,isochrone_frequency_Hz,service_temperature_C\n"
+                 "a,x.csv,liquid,no,10,25\n", encoding="utf-8")
+    (item,) = read_manifest(m)
+    assert (item.options.material, item.options.bands, item.options.isochrone_frequency_Hz,
+            item.options.service_temperature_C) == ("liquid", False, 10.0, 25.0)
+    m = tmp_path / "m.jsonl"
+    m.write_text(json.dumps({"id": "a", "path": "x.csv", "exclude_C": [40, 30],
+                             "fixed_log10_aT": {"35": 1.25}}) + "\n", encoding="utf-8")
+    (item,) = read_manifest(m)
+    assert item.options.exclude_C == (30.0, 40.0)
+    assert item.options.fixed_log10_aT == ((35.0, 1.25),)
 
 
 def test_csv_manifest_forms(tmp_path):
@@ -379,6 +430,8 @@ def test_folder_of_campaigns_as_manifest(data, tmp_path):
     ("id,path,glass_transition_C\na,x.csv,nan\n", "must be a finite number"),
     ("id,path,modulus_kind\na,x.csv,bulk\n", "modulus_kind must be tensile, shear or empty"),
     ("id,path,spectrum\na,x.csv,maybe\n", r"column 'spectrum', row 2: spectrum must be true or false"),
+    ("id,path,exclude_C\na,x.csv,35\n",
+     r"column 'exclude_C', row 2: exclude_C must be a JSON list or object \(in a JSON Lines"),
     ("id,path\na,x.csv,extra\n", r"row 2: 3 cells where the header has 2"),
     ("id,path,id\na,x.csv,b\n", "a manifest column appears twice"),
     ("id,path\n", "lists no campaigns"),
@@ -399,6 +452,12 @@ def test_manifest_errors_name_file_column_and_row(tmp_path, text, match):
     ('{"id": "a", "path": "x.csv", "law": 3}', "law must be a text value"),
     ('{"id": "a", "path": "x.csv", "reference_temperature_C": true}', "must be a number"),
     ('{"id": null, "path": "x.csv"}', "id must be a non-empty name"),
+    ('{"id": "a", "path": "x.csv", "exclude_C": ["warm"]}',
+     r"m.jsonl, row 1 \(id 'a'\): exclude_C must be a list of temperatures"),
+    ('{"id": "a", "path": "x.csv", "fixed_log10_aT": {"35": "steep"}}',
+     "fixed_log10_aT must be a mapping of temperature"),
+    ('{"id": "a", "path": "x.csv", "exclude_C": 35}',
+     r"column 'exclude_C', row 1: exclude_C must be a JSON list or object"),
 ])
 def test_json_lines_manifest_errors(tmp_path, line, match):
     m = tmp_path / "m.jsonl"

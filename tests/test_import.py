@@ -28,6 +28,9 @@ def loaded_after(statement: str) -> dict:
     ("import ttsp.io.headers", ("matplotlib", "pandas", "typer")),
     ("import ttsp.io.readers", ("matplotlib", "pandas", "typer")),
     ("from ttsp import read_campaign, Campaign", ("matplotlib",)),
+    # the library's batch and build steps stand without the command-line framework
+    ("import ttsp.runner", ("matplotlib", "typer")),
+    ("import ttsp.batch", ("matplotlib", "typer")),
 ])
 def test_import_stays_light(statement, not_loaded):
     loaded = loaded_after(statement)

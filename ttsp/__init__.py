@@ -6,7 +6,7 @@ when first used, so ``import ttsp`` stays fast and never loads matplotlib.
 
 from __future__ import annotations
 
-__version__ = "0.1.0"
+__version__ = "0.1.0"   # the one place: pyproject.toml reads it (tool.setuptools.dynamic)
 
 _LAZY = {
     "read_campaign": ("ttsp.io.readers", "read_campaign"),

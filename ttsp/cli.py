@@ -20,7 +20,7 @@ import typer
 
 from . import __version__
 from ._validation import printable
-from .exceptions import DataError, TtspError
+from .exceptions import DataError, OptionValueError, TtspError
 from .laws.names import LAW_MODELS
 from .runner import read_inputs, run_build
 
@@ -81,6 +81,8 @@ def guarded(func):
             return func(*args, **kwargs)
         except typer.Exit:
             raise
+        except OptionValueError as exc:   # a bad option value: typer's usage error for it
+            raise typer.BadParameter(exc.reason, param_hint=exc.option) from None
         except TtspError as exc:
             # one line: a newline (from a file name, say) is shown escaped, never cut at
             _say_error(printable(str(exc)) if str(exc) else type(exc).__name__)

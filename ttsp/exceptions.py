@@ -10,6 +10,7 @@ from __future__ import annotations
 __all__ = [
     "TtspError",
     "DataError",
+    "OptionValueError",
     "FitError",
     "TtspWarning",
     "ExtrapolationWarning",
@@ -27,6 +28,29 @@ class DataError(TtspError, ValueError):
 
     The message names the file, the column and the first bad row where they are known.
     """
+
+
+class OptionValueError(DataError):
+    """An option was given a value it cannot take (``--column oops``, ``--repeats sum``).
+
+    Raised by the shared build steps (:mod:`ttsp.runner`) without knowing who called them: the
+    command line reports it as a usage error of that option (``Invalid value for --column:
+    ...``, exit 2), and a batch or a script sees a :class:`DataError` with the same text.
+
+    Parameters
+    ----------
+    option : str
+        The option as the user typed it (``"--column"``).
+    reason : str
+        What is wrong with the value, naming the value.
+    """
+
+    def __init__(self, option: str, reason: str):
+        super().__init__(option, reason)   # both in args: the error survives pickling
+        self.option, self.reason = option, reason
+
+    def __str__(self) -> str:
+        return f"Invalid value for {self.option}: {self.reason}"
 
 
 class FitError(TtspError, RuntimeError):

@@ -8,25 +8,23 @@ from __future__ import annotations
 
 import contextlib
 import datetime
+import sys
 import time
 import warnings
 from pathlib import Path
 
-import typer
-
-from .exceptions import DataError
+from .exceptions import DataError, OptionValueError
 
 __all__ = ["Progress", "read_inputs", "run_build", "parse_pairs"]
 
 
 def parse_pairs(values, option: str) -> dict:
-    """Parse repeated ``NAME=VALUE`` options into a dict (usage error on a malformed one)."""
-    import typer
-
+    """Parse repeated ``NAME=VALUE`` options into a dict (:class:`OptionValueError` naming
+    ``option`` on a malformed one)."""
     out = {}
     for item in values or []:
         if "=" not in item:
-            raise typer.BadParameter(f"must look like NAME=VALUE; got {item!r}", param_hint=option)
+            raise OptionValueError(option, f"must look like NAME=VALUE; got {item!r}")
         k, v = item.split("=", 1)
         out[k.strip()] = v.strip()
     return out
@@ -37,13 +35,18 @@ def read_inputs(inputs, column, unit, sheet, tolerance, modulus_kind,
     from .io.readers import read_campaign
 
     if modulus_kind not in (None, "tensile", "shear"):
-        raise typer.BadParameter("must be tensile or shear", param_hint="--modulus-kind")
+        raise OptionValueError("--modulus-kind", "must be tensile or shear")
     if repeats not in ("merge", "refuse"):
-        raise typer.BadParameter("must be merge or refuse", param_hint="--repeats")
+        raise OptionValueError("--repeats", "must be merge or refuse")
     return read_campaign([str(p) for p in inputs], columns=parse_pairs(column, "--column"),
                          units=parse_pairs(unit, "--unit"), sheet=sheet,
                          temperature_tolerance_K=tolerance, modulus_kind=modulus_kind,
                          temperature_from_name=temperature_from_name, repeats=repeats)
+
+
+def _say(line: str) -> None:
+    """One progress line on stderr, at once (the stream in use now: a test may have replaced it)."""
+    print(line, file=sys.stderr, flush=True)
 
 
 class Progress:
@@ -68,7 +71,7 @@ class Progress:
     def done(self):
         self._stop_heartbeat()
         if self.name is not None and not self.quiet:
-            typer.echo(f"ttsp: {self.name} ({time.perf_counter() - self.t0:.1f} s)", err=True)
+            _say(f"ttsp: {self.name} ({time.perf_counter() - self.t0:.1f} s)")
         self.name = None
 
     def cancel(self):
@@ -78,8 +81,7 @@ class Progress:
 
     def _beat(self, _signum, _frame):
         if self.name is not None:
-            typer.echo(f"ttsp: {self.name} still running ({time.perf_counter() - self.t0:.0f} s)",
-                       err=True)
+            _say(f"ttsp: {self.name} still running ({time.perf_counter() - self.t0:.0f} s)")
 
     def _start_heartbeat(self):
         import signal
