@@ -449,7 +449,7 @@ def test_errors(base):
 def test_non_finite_fit_is_a_fit_error(base, monkeypatch):
     # a numerical failure inside the solver (here simulated: the master curve returns NaN)
     # must surface as FitError, never as silent NaN shifts
-    import ttsp._global_fit as gf
+    import ttsp.shifting._joint_fit as gf
 
     camp, _, _ = base
 
@@ -518,11 +518,11 @@ def test_asphalt_binders_collapse_as_well_as_chained_pairwise_shifts(lane, maste
 def test_sparse_and_dense_shift_jacobians_give_the_same_shifts(monkeypatch):
     """Small problems hold the Jacobian in the shifts dense, large ones sparse; the two must
     be the same fit (checked here by forcing the sparse form on a small problem)."""
-    from ttsp import _global_fit
+    from ttsp.shifting import _joint_fit
 
     camp, _ = campaign(log10_bT=0.01 * np.arange(9.0))
     dense = [quiet(shift_isotherms, camp, 320.0, vertical=v) for v in ("none", "fit")]
-    monkeypatch.setattr(_global_fit, "_DENSE_SHIFT_JACOBIAN", 0)
+    monkeypatch.setattr(_joint_fit, "_DENSE_SHIFT_JACOBIAN", 0)
     sparse = [quiet(shift_isotherms, camp, 320.0, vertical=v) for v in ("none", "fit")]
     for d, s in zip(dense, sparse):
         np.testing.assert_allclose(s.log10_aT, d.log10_aT, atol=1e-9)
@@ -572,7 +572,7 @@ def test_gauge_interpolation_is_exact_for_cubics_and_close_on_a_steep_wlf_curve(
     Tg = 300 K, the universal constants of Williams, Landel & Ferry 1955; reference 25 K above
     Tg, midway between two isotherms) the cubic gauge misses log10 a_T by 0.004 decade, where a
     quadratic through the three nearest misses by 0.022."""
-    from ttsp.shifting import _gauge_weights
+    from ttsp.shifting.shift import _gauge_weights
 
     temps = 283.15 + 12.0 * np.arange(7)
     t_ref = 0.5 * (temps[3] + temps[4])
@@ -607,7 +607,7 @@ def test_a_much_noisier_function_counts_less(monkeypatch):
     noise (third differences), so the precise E' sets the shifts. Measured over 8 seeds: rms
     error 0.005 decade, against 0.014 when both count alike (the noise estimate forced
     equal)."""
-    import ttsp.shifting as shifting_module
+    import ttsp.shifting.shift as shifting_module
 
     def errors():
         out = []

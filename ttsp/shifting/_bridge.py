@@ -21,7 +21,7 @@ from dataclasses import dataclass
 import numpy as np
 from scipy.optimize import least_squares
 
-from .exceptions import DataError
+from ..exceptions import DataError
 
 __all__ = ["OffsetLaw", "fit_offset_law"]
 

@@ -61,8 +61,8 @@ from scipy.linalg import LinAlgError, lu_factor, lu_solve
 from scipy.linalg.lapack import dpotrf, dpotrs
 from scipy.optimize import nnls
 
-from ._residual_correlation import lag_one_correlation, variance_inflation
-from .exceptions import FitError
+from .._residual_correlation import lag_one_correlation, variance_inflation
+from ..exceptions import FitError
 
 __all__ = ["JointProblem", "JointSolution", "fit_joint", "MASTER_MODELS"]
 

@@ -17,9 +17,9 @@ discuss this kind of estimate), so every overlap — not only that of neighbours
 every shift, and errors do not add up along a chain of pairwise shifts. Pairwise overlap
 shifts only provide the starting point. The loss is Huber's (Robust Statistics, 1981) on
 residuals scaled by a per-function noise level estimated from the median absolute residual,
-so an outlier is down-weighted and flagged but never deleted. :mod:`ttsp._global_fit` has the
-numerics, :mod:`ttsp._overlap` the pairwise shifts and the gap test, :mod:`ttsp._bridge` the
-small shift law used to bridge gaps.
+so an outlier is down-weighted and flagged but never deleted. :mod:`ttsp.shifting._joint_fit`
+has the numerics, :mod:`ttsp.shifting._overlap` the pairwise shifts and the gap test,
+:mod:`ttsp.shifting._bridge` the small shift law used to bridge gaps.
 
 Conventions
 -----------
@@ -62,14 +62,14 @@ from typing import Mapping, Sequence
 import numpy as np
 
 from ._bridge import fit_offset_law
-from ._global_fit import MASTER_MODELS, JointProblem, fit_joint
-from ._noise import typical_log_noise
+from ._joint_fit import MASTER_MODELS, JointProblem, fit_joint
+from .._noise import typical_log_noise
 from ._overlap import ordinate_gap, pair_shift
-from ._arrays import evenly_spaced_indices
-from ._validation import bad_value, check_choice, check_finite, check_positive
-from .data import QUANTITIES, REFERENCE_SNAP_K, Campaign
-from .exceptions import DataError, ExtrapolationWarning, FitQualityWarning
-from .units import kelvin_to_celsius
+from .._arrays import evenly_spaced_indices
+from .._validation import bad_value, check_choice, check_finite, check_positive
+from ..data import QUANTITIES, REFERENCE_SNAP_K, Campaign
+from ..exceptions import DataError, ExtrapolationWarning, FitQualityWarning
+from ..units import kelvin_to_celsius
 
 __all__ = ["ShiftResult", "shift_isotherms", "default_reference_temperature_K",
            "VERTICAL_MODES", "GAP_MODES"]
