@@ -449,7 +449,7 @@ def test_errors(base):
 def test_non_finite_fit_is_a_fit_error(base, monkeypatch):
     # a numerical failure inside the solver (here simulated: the master curve returns NaN)
     # must surface as FitError, never as silent NaN shifts
-    import ttsp.shifting._joint_fit as gf
+    import ttsp.shifting._curve_models as gf
 
     camp, _, _ = base
 
@@ -457,8 +457,8 @@ def test_non_finite_fit_is_a_fit_error(base, monkeypatch):
         F, dF, J = original(self, u, theta, jac)
         return np.full_like(F, np.nan), dF, J
 
-    original = gf._SpectrumModel.evaluate
-    monkeypatch.setattr(gf._SpectrumModel, "evaluate", broken)
+    original = gf.SpectrumModel.evaluate
+    monkeypatch.setattr(gf.SpectrumModel, "evaluate", broken)
     with pytest.raises(FitError, match="non-finite residuals"):
         quiet(shift_isotherms, camp, 320.0)
 
@@ -518,11 +518,11 @@ def test_asphalt_binders_collapse_as_well_as_chained_pairwise_shifts(lane, maste
 def test_sparse_and_dense_shift_jacobians_give_the_same_shifts(monkeypatch):
     """Small problems hold the Jacobian in the shifts dense, large ones sparse; the two must
     be the same fit (checked here by forcing the sparse form on a small problem)."""
-    from ttsp.shifting import _joint_fit
+    from ttsp.shifting import _curve_models
 
     camp, _ = campaign(log10_bT=0.01 * np.arange(9.0))
     dense = [quiet(shift_isotherms, camp, 320.0, vertical=v) for v in ("none", "fit")]
-    monkeypatch.setattr(_joint_fit, "_DENSE_SHIFT_JACOBIAN", 0)
+    monkeypatch.setattr(_curve_models, "DENSE_JACOBIAN_MAX_ENTRIES", 0)
     sparse = [quiet(shift_isotherms, camp, 320.0, vertical=v) for v in ("none", "fit")]
     for d, s in zip(dense, sparse):
         np.testing.assert_allclose(s.log10_aT, d.log10_aT, atol=1e-9)

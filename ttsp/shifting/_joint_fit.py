@@ -5,26 +5,9 @@ The model, in log–log coordinates (decades), for point i of isotherm k and fun
     y_i = F_q(u_i; θ) + v_q * c_k + noise,   u_i = x_i + d * s_k,   d = +1 (frequency), -1 (time)
 
 ``s_k`` = log10 a_T of isotherm k, ``c_k`` = log10 b_T (free only in the vertical "fit" mode),
-``v_q`` = +1 for a modulus, -1 for a compliance, 0 for tan δ or δ. Two master models F:
-
-``"spectrum"`` (default)
-    One relaxation spectrum shared by every measured function: a generalized Maxwell model
-    E(t) = E_e + Σ g_j exp(−t/τ_j) with τ_j on a fixed grid (five per decade, two decades
-    beyond the data on each side: a mode further out acts on the data only as a constant or
-    not at all, which E_e and the nearer modes carry), g_j = exp(φ_j) > 0 and E_e ≥ 0, so E', E'', |E*|, δ and
-    tan δ all follow from the same parameters and are consistent with each other (the
-    Kramers–Kronig relations hold by construction; Ferry, Viscoelastic Properties of Polymers,
-    3rd ed., 1980, ch. 3). Creep compliance uses a retardation spectrum
-    D(t) = D_g + Σ h_j (1 − exp(−t/λ_j)) the same way. The log-spectrum is penalised by its
-    squared second differences (a smooth spectrum); a spectrum model of the master curve fitted
-    with the shifts is among the options Honerkamp & Weese discuss (Rheol. Acta 32:57, 1993).
-    Because E' and E'' are tied together, each isotherm's shift is pinned by both at once,
-    which is what makes the joint fit more precise than a fit of two independent curves (on the
-    benchmark, rms error 0.015 against 0.020 decades). It starts from a non-negative
-    least-squares spectrum at the pairwise shifts.
-``"spline"``
-    One cubic B-spline per function on uniform knots with a third-difference penalty (P-spline,
-    Eilers & Marx, Statistical Science 11:89, 1996): no physics, any function.
+``v_q`` = +1 for a modulus, -1 for a compliance, 0 for tan δ or δ. The master curves F come
+from one of the models of :mod:`ttsp.shifting._curve_models`: one relaxation spectrum shared by
+every function (default), or a penalised B-spline per function.
 
 Shifts, vertical shifts and curve parameters are fitted together by damped Gauss–Newton
 (Levenberg–Marquardt) on the stacked residuals: a full step over every parameter, which
@@ -59,16 +42,15 @@ import numpy as np
 import scipy.sparse as sp
 from scipy.linalg import LinAlgError, lu_factor, lu_solve
 from scipy.linalg.lapack import dpotrf, dpotrs
-from scipy.optimize import nnls
 
 from .._residual_correlation import lag_one_correlation, variance_inflation
 from ..exceptions import FitError
+from . import _curve_models
+from ._curve_models import make_curve_model
 
-__all__ = ["JointProblem", "JointSolution", "fit_joint", "MASTER_MODELS"]
+__all__ = ["JointProblem", "JointSolution", "fit_joint"]
 
-MASTER_MODELS = ("spectrum", "spline")
 _MAD_TO_SIGMA = 1.482602218505602  # 1 / Φ⁻¹(3/4): MAD of a normal sample to its σ
-_LN10 = np.log(10.0)
 #: a weak prior keeps each shift within about this many decades of its start (pairwise seed):
 #: negligible wherever the data determine a shift (stderr ~0.01), it stops a shift that the
 #: data do not constrain (a plateau) from wandering off
@@ -122,331 +104,6 @@ class JointSolution:
     correlation_inflation: float = 1.0           # factor applied to cov_s and cov_c
 
 
-# ---- master models ------------------------------------------------------------------------------
-def _basis(u, u0, h, nb):
-    """Uniform cubic B-spline basis: column indices, values and first derivatives (4 per row)."""
-    z = (u - u0) / h
-    j = np.clip(np.floor(z).astype(np.int64), 0, nb - 4)
-    t = z - j
-    t2 = t * t
-    t3 = t2 * t
-    omt = 1.0 - t
-    B = np.column_stack([omt ** 3 / 6.0, (3 * t3 - 6 * t2 + 4) / 6.0,
-                         (-3 * t3 + 3 * t2 + 3 * t + 1) / 6.0, t3 / 6.0])
-    dB = np.column_stack([-omt ** 2 / 2.0, (3 * t2 - 4 * t) / 2.0,
-                          (-3 * t2 + 2 * t + 1) / 2.0, t2 / 2.0]) / h
-    cols = j[:, None] + np.arange(4)
-    return cols, B, dB
-
-
-class _SplineModel:
-    """One penalised cubic B-spline per function: F_q(u) = Σ_b θ_qb B_b(u)."""
-
-    linear = True
-
-    def __init__(self, prob, smoothing, spacing=0.2, order=3, margin=1.5):
-        self.p = prob
-        self.h = float(spacing)
-        self.order = int(order)
-        self.margin = float(margin)
-        self.lam = float(smoothing)
-
-    def build(self, u, theta_old=None):
-        lo, hi = float(u.min()), float(u.max())
-        m = self.margin + 3 * self.h
-        self.u0 = lo - m
-        self.nb = int(np.ceil((hi - lo + 2 * m) / self.h)) + 3
-        self.lo_ok, self.hi_ok = self.u0, self.u0 + (self.nb - 3) * self.h
-        self.n_theta = self.nb * self.p.n_fn
-        D = np.diff(np.eye(self.nb), self.order, axis=0)
-        counts = np.bincount(self.p.fn, minlength=self.p.n_fn)
-        rho = np.maximum(counts, 1) / max(hi - lo, 1.0)
-        # λ ρ_q ∫ F_q'''(u)² du, the integral being h^(1-2d) Σ (Δ^d θ)²; ρ_q (points per
-        # decade) keeps one λ meaning one bandwidth at any data density
-        scale = self.lam * rho * self.h ** (1 - 2 * self.order)
-        self.pen_rows = np.zeros((D.shape[0] * self.p.n_fn, self.n_theta))
-        for q in range(self.p.n_fn):
-            self.pen_rows[q * D.shape[0]:(q + 1) * D.shape[0],
-                          q * self.nb:(q + 1) * self.nb] = np.sqrt(scale[q]) * D
-        self.pen = self.pen_rows.T @ self.pen_rows
-        return np.zeros(self.n_theta)   # a linear model: the first Gauss–Newton step solves it
-
-    def on_grid(self, u):
-        return u.min() >= self.lo_ok + 1e-9 and u.max() <= self.hi_ok - 1e-9
-
-    def project(self, theta):
-        return theta
-
-    def at_bound(self, theta, grad):
-        return np.zeros(theta.size, bool)
-
-    def evaluate(self, u, theta, jac=True):
-        cols, B, dB = _basis(u, self.u0, self.h, self.nb)
-        cols = cols + (self.p.fn * self.nb)[:, None]
-        th = theta[cols]
-        F = np.einsum("ij,ij->i", B, th)
-        dF = np.einsum("ij,ij->i", dB, th)
-        if not jac:
-            return F, dF, None
-        n = u.size
-        if n * self.n_theta <= _DENSE_SHIFT_JACOBIAN:
-            # small problems (most campaigns): the same entries in a dense array, whose
-            # products cost less than building sparse matrices at every step
-            J = np.zeros((n, self.n_theta))
-            J[np.arange(n)[:, None], cols] = B
-            return F, dF, J
-        J = sp.csr_matrix((B.ravel(), (np.repeat(np.arange(n), 4), cols.ravel())),
-                          shape=(n, self.n_theta))
-        return F, dF, J
-
-
-def _rows_of(mask: np.ndarray):
-    """The rows where ``mask`` holds: a slice when they are contiguous (a view, no copy)."""
-    idx = np.flatnonzero(mask)
-    if idx.size and idx[-1] - idx[0] + 1 == idx.size:
-        return slice(int(idx[0]), int(idx[-1]) + 1)
-    return idx
-
-
-#: which kernel family each function belongs to and how it follows from (E1, E2)
-_SPECTRAL_KIND = {"storage_modulus_Pa": "E1", "loss_modulus_Pa": "E2",
-                  "complex_modulus_Pa": "abs", "tan_delta": "tan", "phase_angle_rad": "phase",
-                  "relaxation_modulus_Pa": "relax", "creep_compliance_1_per_Pa": "creep"}
-
-
-class _SpectrumModel:
-    """A smooth positive spectrum shared by all functions (see the module docstring).
-
-    θ = [E_0, φ_1 … φ_M]: E_0 ≥ 0 is the equilibrium modulus E_e (or glassy compliance D_g),
-    exp(φ_j) the strength of the mode at τ_j, both in units of ``10**log10_scale`` (Pa or
-    1/Pa). The constant is linear, not exp(φ_0): a logarithmic parameter has a gradient
-    proportional to its value, so once it had shrunk the fit could not bring it back and slow
-    modes would imitate it, with a spurious tail in E''.
-    """
-
-    linear = False
-
-    def __init__(self, prob, y, smoothing, spacing=0.2, order=2, margin=2.0):
-        self.p = prob
-        self.h = float(spacing)
-        self.order = int(order)
-        self.margin = float(margin)
-        self.lam = float(smoothing)
-        self.kinds = [_SPECTRAL_KIND[f] for f in prob.functions]
-        self.kind_of_row = np.array(self.kinds, dtype=object)[prob.fn]
-        self.row_groups = [(kind, _rows_of(prob.fn == q)) for q, kind in enumerate(self.kinds)
-                           if np.any(prob.fn == q)]
-        self.time = prob.direction < 0
-        scaled = [q for q, k in enumerate(self.kinds) if k not in ("tan", "phase")]
-        sel = np.isin(prob.fn, scaled)
-        self.log10_scale = float(np.median(y[sel])) if sel.any() else 0.0
-        self.offset = np.array([self.log10_scale if k not in ("tan", "phase") else 0.0
-                                for k in self.kinds])[prob.fn]
-        self.y = y
-
-    def build(self, u, theta_old=None):
-        lo, hi = float(u.min()), float(u.max())
-        m = self.margin
-        # grid of log10 τ: in frequency ω τ = 1 at log τ = -u; in time t/τ = 1 at log τ = u
-        a, b = (lo - m, hi + m) if self.time else (-hi - m, -lo + m)
-        old = getattr(self, "ltau", None)
-        self.ltau = np.arange(a, b + 1e-9, self.h)
-        self.lo_ok, self.hi_ok = lo - (m - 1.0), hi + (m - 1.0)
-        M = self.ltau.size
-        self.n_theta = M + 1
-        D = np.diff(np.eye(M), self.order, axis=0)
-        rho = self.p.x.size / max(hi - lo, 1.0)
-        scale = self.lam * rho * self.h ** (1 - 2 * self.order)
-        scaled = any(k not in ("tan", "phase") for k in self.kinds)
-        self.pen_rows = np.zeros((D.shape[0] + (0 if scaled else 1), self.n_theta))
-        self.pen_rows[:D.shape[0], 1:] = np.sqrt(scale) * D
-        if not scaled:
-            # tan δ and δ do not see the modulus scale: fix it with a tiny ridge on Σ φ
-            self.pen_rows[-1, 1:] = np.sqrt(1e-6 * rho) / np.sqrt(M)
-        self.pen = self.pen_rows.T @ self.pen_rows
-        if theta_old is not None and old is not None:
-            phi = np.interp(self.ltau, old, theta_old[1:])
-            return np.concatenate([[theta_old[0]], phi])
-        return self._start(u)
-
-    def _kernels(self, u):
-        """Kernel matrices at reduced abscissae u: (K, dK/dln x) for E1/E2 (frequency) or for
-        relaxation/creep (time), as a dict by kind."""
-        X = self._x(u)
-        if self.time:
-            ex = np.exp(-X)
-            return {"relax": (ex, -X * ex), "creep": (1.0 - ex, X * ex)}
-        X2 = X * X
-        den = 1.0 + X2
-        return {"E1": (X2 / den, 2.0 * X2 / den ** 2), "E2": (X / den, X * (1.0 - X2) / den ** 2)}
-
-    def _start(self, u):
-        """Starting spectrum: non-negative least squares (Lawson & Hanson, Solving Least Squares
-        Problems, 1974) of the relative misfit of the functions that are linear in the spectrum
-        (E', E'', E(t), D(t)) at the starting shifts, smoothed over 0.4 decade so that its
-        logarithm is finite and smooth; a flat spectrum when no such function is measured."""
-        lin = np.flatnonzero(np.isin(self.kind_of_row, ["E1", "E2", "relax", "creep"]))
-        if lin.size < 3:
-            return self._flat_start(u)
-        if lin.size > 3000:
-            lin = lin[np.linspace(0, lin.size - 1, 3000).astype(int)]
-        kern = self._kernels(u[lin])
-        kinds = self.kind_of_row[lin]
-        K = np.zeros((lin.size, self.ltau.size))
-        const = np.zeros(lin.size)
-        for kind, (Kk, _) in kern.items():
-            r = kinds == kind
-            K[r] = Kk[r]
-            const[r] = 0.0 if kind == "E2" else 1.0
-        E = 10.0 ** (self.y[lin] - self.offset[lin])
-        A = np.column_stack([const, K]) / E[:, None]
-        try:
-            sol, _ = nnls(A, np.ones(lin.size), maxiter=50 * A.shape[1])
-        except RuntimeError:   # pragma: no cover - nnls iteration limit
-            return self._flat_start(u)
-        g = sol[1:]
-        if not np.any(g > 0):
-            return self._flat_start(u)
-        k = np.exp(-0.5 * (np.arange(-6, 7) * self.h / 0.4) ** 2)
-        g = np.convolve(g, k / k.sum(), mode="same")
-        g = g + 1e-4 * g.max()
-        return np.concatenate([[sol[0]], np.log(g)])
-
-    def _flat_start(self, u):
-        """A flat spectrum spanning the measured range of the (scaled) values, and a constant
-        term of half the smallest value of a function that contains it (E', |E*|, E(t), D(t)).
-
-        The constant must not start near zero: its gradient is proportional to it, so a tiny
-        start would stay tiny and slow modes would have to imitate it, with a wrong E'' tail.
-        """
-        y = self.y - self.offset
-        scaled = np.array([k not in ("tan", "phase") for k in self.kind_of_row])
-        if scaled.any():
-            lo_v, hi_v = 10.0 ** np.min(y[scaled]), 10.0 ** np.max(y[scaled])
-        else:
-            lo_v, hi_v = 1.0, 100.0
-        with_constant = np.isin(self.kind_of_row, ["E1", "abs", "relax", "creep"])
-        base = 10.0 ** np.min(y[with_constant]) if with_constant.any() else lo_v
-        n_win = max((u.max() - u.min()) / self.h, 1.0)
-        phi = np.full(self.ltau.size, np.log(max(hi_v - lo_v, 1e-3 * hi_v) / n_win))
-        return np.concatenate([[base / 2.0], phi])
-
-    def on_grid(self, u):
-        return u.min() >= self.lo_ok and u.max() <= self.hi_ok
-
-    #: modes weaker than exp(-30) ≈ 1e-13 of the strongest are held there: they are invisible
-    #: in any data, and letting their logarithm slide towards -∞ only makes the fit creep
-    _FLOOR = 30.0
-
-    def project(self, theta):
-        """Keep the constant term non-negative (a value below 1e-8 of the scale, no measurable
-        equilibrium modulus, is set to 0) and the log-strengths above the floor."""
-        floor = np.max(theta[1:]) - self._FLOOR
-        if theta[0] < 1e-8 or np.any(theta[1:] < floor):
-            theta = theta.copy()
-            if theta[0] < 1e-8:
-                theta[0] = 0.0
-            theta[1:] = np.maximum(theta[1:], floor)
-        return theta
-
-    def at_bound(self, theta, grad):
-        """Parameters held at their bound this step (an active set): the constant at 0 and
-        log-strengths at the floor, each with a gradient that would take it further."""
-        held = np.zeros(theta.size, bool)
-        held[0] = theta[0] <= 0.0 and grad[0] > 0.0
-        floor = np.max(theta[1:]) - self._FLOOR
-        held[1:] = (theta[1:] <= floor + 1e-12) & (grad[1:] > 0.0)
-        return held
-
-    def _x(self, u):
-        """x = ω τ_j (frequency) or t/τ_j (time) for every row and mode, as an outer product
-        (no power per element)."""
-        b = 10.0 ** (-self.ltau if self.time else self.ltau)
-        return np.multiply.outer(10.0 ** np.clip(u, -150, 150), b)
-
-    def evaluate(self, u, theta, jac=True):
-        n = u.size
-        g = np.exp(np.clip(theta[1:], -700, 700))
-        e0 = float(theta[0])
-        X = self._x(u)
-        F = np.empty(n)
-        dF = np.empty(n)
-        J = np.empty((n, self.n_theta)) if jac else None
-        kinds = self.kind_of_row
-        if self.time:
-            for kind in ("relax", "creep"):
-                r = np.flatnonzero(kinds == kind)
-                if r.size == 0:
-                    continue
-                Xr = X[r]
-                ex = np.exp(-Xr)
-                dK = Xr * ex
-                if kind == "relax":
-                    K = ex
-                    dK = -dK
-                else:
-                    K = 1.0 - ex
-                E = e0 + K @ g
-                F[r] = np.log(E)
-                dF[r] = (dK @ g) / E
-                if jac:
-                    J[r, 0] = 1.0 / E
-                    J[r, 1:] = K * g * (1.0 / E)[:, None]
-        else:
-            # each function on its own rows (contiguous when the problem is ordered by
-            # function), with only the kernels and derivatives that function needs
-            for kind, r in self.row_groups:
-                Xr = X[r]
-                inv = 1.0 / (1.0 + Xr * Xr)
-                K2 = Xr * inv                      # ωτ/(1 + ω²τ²)
-                K1 = Xr * K2                       # ω²τ²/(1 + ω²τ²)
-                if kind == "E1":
-                    a1 = e0 + K1 @ g
-                    F[r] = np.log(a1)
-                    dF[r] = 2.0 * ((K1 * inv) @ g) / a1       # dE'/dln ω / E'
-                    if jac:
-                        J[r, 0] = 1.0 / a1
-                        J[r, 1:] = K1 * ((1.0 / a1)[:, None] * g)
-                    continue
-                if kind == "E2":
-                    a2 = K2 @ g
-                    F[r] = np.log(a2)
-                    dF[r] = ((K2 * (inv - K1)) @ g) / a2      # dE''/dln ω / E''
-                    if jac:
-                        J[r, 0] = 0.0
-                        J[r, 1:] = K2 * ((1.0 / a2)[:, None] * g)
-                    continue
-                a1, a2 = e0 + K1 @ g, K2 @ g
-                E1u, E2u = 2.0 * ((K1 * inv) @ g), (K2 * (inv - K1)) @ g
-                if kind == "abs":
-                    m2 = a1 * a1 + a2 * a2
-                    F[r] = 0.5 * np.log(m2)
-                    c1, c2 = a1 / m2, a2 / m2
-                elif kind == "tan":
-                    F[r] = np.log(a2 / a1)
-                    c1, c2 = -1.0 / a1, 1.0 / a2
-                else:  # phase angle δ = atan2(E2, E1)
-                    m2 = a1 * a1 + a2 * a2
-                    d = np.arctan2(a2, a1)
-                    F[r] = np.log(d)
-                    c1, c2 = -a2 / (m2 * d), a1 / (m2 * d)
-                dF[r] = c1 * E1u + c2 * E2u
-                if jac:
-                    J[r, 0] = c1
-                    J[r, 1:] = (c1[:, None] * K1 + c2[:, None] * K2) * g
-        # natural log of the scaled value -> log10 of the value in SI
-        F = F / _LN10 + self.offset
-        if jac:
-            J /= _LN10
-        return F, dF, J
-
-
-# ---- the joint fit ----------------------------------------------------------------------------
-#: the Jacobian of the residuals in the shifts (one or two nonzeros per row) is held dense up
-#: to this many entries: small problems (most campaigns) then skip the fixed cost of sparse
-#: matrices, large ones keep the sparse products that grow linearly with the data
-_DENSE_SHIFT_JACOBIAN = 200_000
-
 
 def _cholesky_solve(M: np.ndarray, b: np.ndarray) -> np.ndarray:
     """Solve M x = b for a symmetric positive definite M by Cholesky (LAPACK potrf/potrs
@@ -464,7 +121,41 @@ def _dense(M) -> np.ndarray:
     return M.toarray() if sp.issparse(M) else np.asarray(M)
 
 
+@dataclass
+class _Point:
+    """Parameters of one iterate (packed, and as curve, shifts and vertical shifts) with the
+    scaled residuals there, their Jacobian blocks and the objective."""
+
+    vec: np.ndarray
+    theta: np.ndarray
+    s: np.ndarray
+    c: np.ndarray
+    r: np.ndarray
+    J: tuple
+    phi: float
+
+
+@dataclass
+class _Step:
+    """An accepted step: where it leads, and its largest shift change (decades)."""
+
+    point: _Point
+    big: float
+
+
+@dataclass
+class _OffGrid:
+    """A trial step that moved the data off the model's grid (curve, shifts, vertical)."""
+
+    theta: np.ndarray
+    s: np.ndarray
+    c: np.ndarray
+
+
 class _Fit:
+    """The state of one joint fit: problem, model, current parameters, noise scales and the
+    robust loss; the Gauss–Newton iteration and what it needs."""
+
     def __init__(self, prob: JointProblem, model, s0, c0, start=None):
         self.p = prob
         self.model = model
@@ -539,7 +230,7 @@ class _Fit:
         cols.append(self.c_col[p.iso][fc] - self.n_theta)
         vals.append(-self.vs[fc] / sig[fc])
         n_sc = self.n_par - self.n_theta
-        if n * n_sc <= _DENSE_SHIFT_JACOBIAN:
+        if n * n_sc <= _curve_models.DENSE_JACOBIAN_MAX_ENTRIES:
             Jsc = np.zeros((n, n_sc))
             for rr, cc, vv in zip(rows, cols, vals):
                 Jsc[rr, cc] += vv
@@ -598,86 +289,115 @@ class _Fit:
         return data + 0.5 * float(theta @ (self.model.pen @ theta)) + 0.5 * prior
 
     def gauss_newton(self, max_iter=100, tol=1e-10, max_shift_step=0.3, curve_only=False):
+        """Damped Gauss–Newton (Levenberg–Marquardt) from the current parameters; the curve
+        alone with ``curve_only``. Each iteration takes the first damped step that does not
+        raise the objective; it stops when the objective and the shifts have settled, when no
+        step descends, or after ``max_iter`` iterations. Returns whether it converged."""
         vec = self.pack()
         theta, s, c = self.unpack(vec)
-        r, _, _, _, J = self.evaluate(theta, s, c)
-        phi = self.loss(r, theta, s, c)
+        point = self._point(vec, theta, s, c)
         mu = 1e-4 if self.model.linear else 1e-3
         converged = False
-        nt = self.n_theta
         it = 0
         slow = 0
         for it in range(1, max_iter + 1):
-            w = self.weights(r)
-            A = self.normal(J, w)
-            g = self.gradient(J, w, r, theta, s, c)
-            # free parameters of this step: all but the shifts (curve only) and any parameter
-            # held at its bound with the gradient pushing outwards (an active set)
-            free = np.ones(self.n_par, bool)
-            if curve_only:
-                free[nt:] = False
-            at_bound = self.model.at_bound(theta, g[:nt])
-            free[:nt][at_bound] = False
-            A, g_f = A[np.ix_(free, free)], g[free]
-            dA = np.diag(A).copy()
-            accepted = False
-            for _ in range(40):
-                Mx = A + np.diag(mu * dA + 1e-12 * (dA.max() + 1.0))
-                try:
-                    sf = _cholesky_solve(Mx, -g_f)
-                except (LinAlgError, ValueError):
-                    mu *= 10.0
-                    continue
-                step = np.zeros(self.n_par)
-                step[free] = sf
-                big = np.max(np.abs(step[self.sc])) if step[self.sc].size else 0.0
-                if big > max_shift_step:
-                    step *= max_shift_step / big
-                    big = max_shift_step
-                trial = vec + step
-                if not np.all(np.isfinite(trial)):
-                    mu *= 4.0
-                    continue
-                trial[:nt] = self.model.project(trial[:nt])
-                th_t, s_t, c_t = self.unpack(trial)
-                if not self.model.on_grid(self.u(s_t)):
-                    # the shifts moved the data off the model's grid: rebuild it around the
-                    # trial shifts (carrying the curve over) and start the iteration afresh
-                    self.s, self.c = s_t, c_t
-                    self.theta = self.model.build(self.u(s_t), th_t)
-                    self._layout()
-                    self.iterations += it
-                    if self.model.linear:
-                        self.gauss_newton(max_iter=3, curve_only=True)
-                    return self.gauss_newton(max_iter, tol, max_shift_step, curve_only)
-                # with the Jacobian at once: most trial steps are accepted, and evaluating the
-                # model a second time for it cost more than building it for a rejected step
-                r_t, _, _, _, J_t = self.evaluate(th_t, s_t, c_t)
-                phi_t = self.loss(r_t, th_t, s_t, c_t)
-                if np.isfinite(phi_t) and phi_t <= phi:
-                    dphi = phi - phi_t
-                    vec, theta, s, c, r, J, phi = trial, th_t, s_t, c_t, r_t, J_t, phi_t
-                    mu = max(mu / 3.0, 1e-10)
-                    accepted = True
-                    # converged: the objective no longer changes, or the shifts have stopped
-                    # (< 1e-5 decades per step for two steps running) while the objective only
-                    # creeps (< 1e-4 of itself per step: the spectrum trading its constant
-                    # against modes beyond the data along a flat valley does this); with no
-                    # free shift (a curve-only pass) that is two steps of such creeping
-                    creep = big < 1e-5 and dphi <= 1e-4 * (1.0 + phi)
-                    slow = slow + 1 if creep else 0
-                    if (dphi <= tol * (1.0 + phi) and big < 1e-6) or slow >= 2:
-                        converged = True
-                    break
-                mu *= 4.0
-            self.theta, self.s, self.c = theta, s, c
-            if not accepted:
+            A, g_f, free = self._step_system(point, curve_only)
+            mu, outcome = self._damped_step(point, A, g_f, free, mu, max_shift_step)
+            if isinstance(outcome, _OffGrid):
+                # the shifts moved the data off the model's grid: rebuild it around the trial
+                # shifts (carrying the curve over) and start the iteration afresh
+                self._rebuild_grid(outcome, it)
+                return self.gauss_newton(max_iter, tol, max_shift_step, curve_only)
+            if outcome is not None:
+                dphi = point.phi - outcome.point.phi
+                point, big = outcome.point, outcome.big
+                # converged: the objective no longer changes, or the shifts have stopped
+                # (< 1e-5 decades per step for two steps running) while the objective only
+                # creeps (< 1e-4 of itself per step: the spectrum trading its constant
+                # against modes beyond the data along a flat valley does this); with no
+                # free shift (a curve-only pass) that is two steps of such creeping
+                creep = big < 1e-5 and dphi <= 1e-4 * (1.0 + point.phi)
+                slow = slow + 1 if creep else 0
+                if (dphi <= tol * (1.0 + point.phi) and big < 1e-6) or slow >= 2:
+                    converged = True
+            self.theta, self.s, self.c = point.theta, point.s, point.c
+            if outcome is None:
                 converged = True  # no descent possible at machine precision: a minimum
             if converged:
                 break
         self.iterations += it
         self.converged = converged
         return converged
+
+    def _point(self, vec, theta, s, c) -> _Point:
+        # with the Jacobian at once: most trial steps are accepted, and evaluating the
+        # model a second time for it cost more than building it for a rejected step
+        r, _, _, _, J = self.evaluate(theta, s, c)
+        return _Point(vec, theta, s, c, r, J, self.loss(r, theta, s, c))
+
+    def _step_system(self, point: _Point, curve_only: bool):
+        """The normal matrix and gradient at ``point`` over the parameters free this step, and
+        which those are: all but the shifts (curve only) and any parameter held at its bound
+        with the gradient pushing outwards (an active set)."""
+        nt = self.n_theta
+        w = self.weights(point.r)
+        A = self.normal(point.J, w)
+        g = self.gradient(point.J, w, point.r, point.theta, point.s, point.c)
+        free = np.ones(self.n_par, bool)
+        if curve_only:
+            free[nt:] = False
+        at_bound = self.model.at_bound(point.theta, g[:nt])
+        free[:nt][at_bound] = False
+        return A[np.ix_(free, free)], g[free], free
+
+    def _damped_step(self, point: _Point, A, g_f, free, mu: float, max_shift_step: float):
+        """Levenberg–Marquardt: solve (A + µ diag A) δ = −g, raising the damping µ until the
+        step does not raise the objective (at most 40 tries). Returns the damping for the next
+        iteration and the outcome: an accepted :class:`_Step`, an :class:`_OffGrid` trial, or
+        None when no step descends."""
+        nt = self.n_theta
+        dA = np.diag(A).copy()
+        for _ in range(40):
+            Mx = A + np.diag(mu * dA + 1e-12 * (dA.max() + 1.0))
+            try:
+                sf = _cholesky_solve(Mx, -g_f)
+            except (LinAlgError, ValueError):
+                mu *= 10.0
+                continue
+            trial, big = self._limited_step(point.vec, sf, free, max_shift_step)
+            if not np.all(np.isfinite(trial)):
+                mu *= 4.0
+                continue
+            trial[:nt] = self.model.project(trial[:nt])
+            th_t, s_t, c_t = self.unpack(trial)
+            if not self.model.on_grid(self.u(s_t)):
+                return mu, _OffGrid(th_t, s_t, c_t)
+            new = self._point(trial, th_t, s_t, c_t)
+            if np.isfinite(new.phi) and new.phi <= point.phi:
+                return max(mu / 3.0, 1e-10), _Step(new, big)
+            mu *= 4.0
+        return mu, None
+
+    def _limited_step(self, vec, step_free, free, max_shift_step: float):
+        """The trial parameters ``vec + step``, the step scaled down so that no shift moves by
+        more than ``max_shift_step`` decades, and the largest shift change of the step."""
+        step = np.zeros(self.n_par)
+        step[free] = step_free
+        big = np.max(np.abs(step[self.sc])) if step[self.sc].size else 0.0
+        if big > max_shift_step:
+            step *= max_shift_step / big
+            big = max_shift_step
+        return vec + step, big
+
+    def _rebuild_grid(self, off: _OffGrid, iterations: int) -> None:
+        """Rebuild the model's grid around the trial shifts, the curve carried over (a linear
+        model is first refitted at them by a short curve-only pass)."""
+        self.s, self.c = off.s, off.c
+        self.theta = self.model.build(self.u(off.s), off.theta)
+        self._layout()
+        self.iterations += iterations
+        if self.model.linear:
+            self.gauss_newton(max_iter=3, curve_only=True)
 
     def estimate_sigma(self, r_raw, floor=1e-5):
         """Noise scale per function: one pooled scale for all moduli and compliances (their
@@ -734,15 +454,33 @@ def fit_joint(prob: JointProblem, s0, c0=None, *, model="spectrum", robust=True,
         without it, so that they settle along the same path (their fixed point is found only
         to 5 %, and a different start settles elsewhere within that).
     """
-    if model == "spectrum":
-        m = _SpectrumModel(prob, prob.y, 0.05 if smoothing is None else smoothing)
-    else:
-        m = _SplineModel(prob, 3.0 if smoothing is None else smoothing)
-    fit = _Fit(prob, m, s0, c0, start)
+    fit = _Fit(prob, make_curve_model(prob, model, smoothing), s0, c0, start)
+    _settle(fit, huber if robust else None, max_iter)
+    r, raw, dF, u, J = fit.evaluate(fit.theta, fit.s, fit.c)
+    w = fit.weights(r)
+    if not np.all(np.isfinite(r)):
+        raise FitError("the joint shift fit produced non-finite residuals")
+    factor = _inverse_curvature(fit, J, r)
+    p_eff = _effective_parameters(fit, factor)
+    psi, var = _variance_factor(fit, r, w, p_eff)
+    rho, inflation = _correlation_inflation(prob, psi, r.size, p_eff)
+    cov_s, cov_c = _shift_covariances(fit, factor, var * inflation)
+    return JointSolution(s=fit.s.copy(), c=fit.c.copy(), cov_s=cov_s, cov_c=cov_c,
+                         residual=raw, scaled_residual=raw / fit.sigma[prob.fn],
+                         sigma=fit.sigma.copy(), slope=dF, u=u, weights=w,
+                         objective=float(fit.loss(r, fit.theta, fit.s, fit.c)), variance_factor=var,
+                         effective_parameters=p_eff, iterations=fit.iterations,
+                         converged=bool(fit.converged), model=model,
+                         residual_correlation=rho, correlation_inflation=inflation)
+
+
+def _settle(fit: _Fit, huber: float | None, max_iter: int) -> None:
+    """The curve at the starting shifts, then the joint fit with the noise scales
+    re-estimated from its residuals until they settle."""
     # the curve at the starting shifts with a typical noise scale (0.01 decades, 2 %), then
     # the noise scales of its residuals, so that the penalty weighs against the data in the
     # right units from the first joint step on
-    fit.sigma = np.full(prob.n_fn, 0.01)
+    fit.sigma = np.full(fit.p.n_fn, 0.01)
     fit.gauss_newton(max_iter=min(max_iter, 50), tol=1e-4, curve_only=True)
     # then the joint fit, with the noise scales re-estimated from its residuals until they
     # settle (the first round's come from the curve at the starting shifts, so at least two)
@@ -751,35 +489,51 @@ def fit_joint(prob: JointProblem, s0, c0=None, *, model="spectrum", robust=True,
         new_sigma = fit.estimate_sigma(raw)
         change = np.max(np.abs(np.log(new_sigma / fit.sigma)))
         fit.sigma = new_sigma
-        fit.huber = huber if robust else None
+        fit.huber = huber
         fit.gauss_newton(max_iter=max_iter)
         if round_ > 0 and change < 0.05:
             break
-    r, raw, dF, u, J = fit.evaluate(fit.theta, fit.s, fit.c)
-    w = fit.weights(r)
-    if not np.all(np.isfinite(r)):
-        raise FitError("the joint shift fit produced non-finite residuals")
 
-    # curvature of the penalised objective, its inverse, the effective number of parameters.
-    # With the Huber loss the covariance is Huber's asymptotic one for M-estimators (Robust
-    # Statistics, 1981, regression chapter): Σψ(r)²/(n − p) / (mean ψ'(r))² times the inverse
-    # of the unweighted curvature; with least squares (ψ(r) = r) the usual residual variance
+
+# ---- the covariance of the shifts -------------------------------------------------------------
+# Curvature of the penalised objective, its inverse, the effective number of parameters. With
+# the Huber loss the covariance is Huber's asymptotic one for M-estimators (Robust Statistics,
+# 1981, regression chapter): Σψ(r)²/(n − p) / (mean ψ'(r))² times the inverse of the
+# unweighted curvature; with least squares (ψ(r) = r) the usual residual variance.
+def _inverse_curvature(fit: _Fit, J, r):
+    """LU factors of the unweighted Gauss–Newton curvature H = JᵀJ + penalty + prior (with a
+    ridge of 1e-10 of its largest diagonal entry)."""
     H = fit.normal(J, np.ones_like(r))
     H[np.diag_indices_from(H)] += 1e-10 * (np.max(np.diag(H)) + 1.0)
     try:
-        factor = lu_factor(H, check_finite=False)
+        return lu_factor(H, check_finite=False)
     except (LinAlgError, ValueError) as exc:  # pragma: no cover - degenerate input only
         raise FitError(f"the joint shift fit is singular: {exc}") from None
-    R = m.pen_rows
+
+
+def _effective_parameters(fit: _Fit, factor) -> float:
+    """p = P − tr(H⁻¹ RᵀR), the trace of the hat matrix, R the rows of the penalty and of the
+    prior on the shifts."""
+    R = fit.model.pen_rows
     n_sc = fit.n_par - fit.n_theta
     Rt = np.zeros((fit.n_par, R.shape[0] + n_sc))
     Rt[:fit.n_theta, :R.shape[0]] = R.T
     Rt[fit.n_theta + np.arange(n_sc), R.shape[0] + np.arange(n_sc)] = 1.0 / _PRIOR_SD
-    p_eff = fit.n_par - float(np.sum(Rt * lu_solve(factor, Rt, check_finite=False)))
+    return fit.n_par - float(np.sum(Rt * lu_solve(factor, Rt, check_finite=False)))
+
+
+def _variance_factor(fit: _Fit, r, w, p_eff: float):
+    """ψ(r) per residual and Huber's variance factor Σψ(r)²/(n − p)/(mean ψ'(r))² (the mean
+    slope held at 0.5 at least)."""
     dof = max(r.size - p_eff, 1.0)
     psi = w * r
     dpsi = np.mean(np.abs(r) <= fit.huber) if fit.huber is not None else 1.0
-    var = float(np.sum(psi * psi) / dof / max(dpsi, 0.5) ** 2)
+    return psi, float(np.sum(psi * psi) / dof / max(dpsi, 0.5) ** 2)
+
+
+def _correlation_inflation(prob: JointProblem, psi, n: int, p_eff: float):
+    """The pooled lag-one correlation ρ of ψ along each isotherm and function, and the AR(1)
+    factor by which the covariance grows (:mod:`ttsp._residual_correlation`)."""
     # residuals correlated along each isotherm carry fewer independent pieces of information
     # than points: the covariance is inflated by the AR(1) factor of their pooled lag-one
     # correlation (ttsp._residual_correlation), 1 for uncorrelated residuals; the bias of the
@@ -787,23 +541,24 @@ def fit_joint(prob: JointProblem, s0, c0=None, *, model="spectrum", robust=True,
     seq = prob.iso * prob.n_fn + prob.fn
     rho = lag_one_correlation(psi, seq)
     n_seq = max(np.unique(seq).size, 1)
-    inflation = variance_inflation(rho, (r.size - p_eff) / n_seq, r.size - n_seq)
+    return rho, variance_inflation(rho, (n - p_eff) / n_seq, n - n_seq)
+
+
+def _shift_covariances(fit: _Fit, factor, scale: float):
+    """Covariance of log10 a_T and of log10 b_T per isotherm: the shift block of H⁻¹ times
+    ``scale`` (variance factor × correlation inflation), zero rows and columns for fixed
+    entries."""
+    n_iso = fit.p.n_iso
     n_s, n_c = int(fit.free_s.sum()), int(fit.free_c.sum())
-    cov_s = np.zeros((prob.n_iso, prob.n_iso))
-    cov_c = np.zeros((prob.n_iso, prob.n_iso))
+    cov_s = np.zeros((n_iso, n_iso))
+    cov_c = np.zeros((n_iso, n_iso))
     if n_s + n_c:
         E = np.zeros((fit.n_par, n_s + n_c))
         E[fit.n_theta + np.arange(n_s + n_c), np.arange(n_s + n_c)] = 1.0
-        X = lu_solve(factor, E, check_finite=False)[fit.n_theta:] * (var * inflation)
+        X = lu_solve(factor, E, check_finite=False)[fit.n_theta:] * scale
         X = 0.5 * (X + X.T)
         fs = np.flatnonzero(fit.free_s)
         fc = np.flatnonzero(fit.free_c)
         cov_s[np.ix_(fs, fs)] = X[:n_s, :n_s]
         cov_c[np.ix_(fc, fc)] = X[n_s:, n_s:]
-    return JointSolution(s=fit.s.copy(), c=fit.c.copy(), cov_s=cov_s, cov_c=cov_c,
-                         residual=raw, scaled_residual=raw / fit.sigma[prob.fn],
-                         sigma=fit.sigma.copy(), slope=dF, u=u, weights=w,
-                         objective=float(fit.loss(r, fit.theta, fit.s, fit.c)), variance_factor=var,
-                         effective_parameters=p_eff, iterations=fit.iterations,
-                         converged=bool(fit.converged), model=model,
-                         residual_correlation=rho, correlation_inflation=inflation)
+    return cov_s, cov_c

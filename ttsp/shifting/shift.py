@@ -62,7 +62,8 @@ from typing import Mapping, Sequence
 import numpy as np
 
 from ._bridge import fit_offset_law
-from ._joint_fit import MASTER_MODELS, JointProblem, fit_joint
+from ._curve_models import MASTER_MODELS
+from ._joint_fit import JointProblem, fit_joint
 from .._noise import typical_log_noise
 from ._overlap import ordinate_gap, pair_shift
 from .._arrays import evenly_spaced_indices
