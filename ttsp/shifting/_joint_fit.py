@@ -441,7 +441,7 @@ def fit_joint(prob: JointProblem, s0, c0=None, *, model="spectrum", robust=True,
         Starting log10 a_T (and log10 b_T) per isotherm, e.g. from pairwise overlaps; the
         weak prior on the shifts is centred on them.
     model : {"spectrum", "spline"}
-        Master-curve model (see the module docstring).
+        Master-curve model (:mod:`ttsp.shifting._curve_models`).
     robust : bool
         Huber loss with threshold ``huber`` noise scales; else plain least squares.
     smoothing : float, optional
