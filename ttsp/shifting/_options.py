@@ -4,8 +4,8 @@
 the order it always has (so the first bad argument is the one named), chooses the functions to
 shift on and the master-curve model, matches the fixed shifts to isotherms, and computes the
 known vertical shifts of the ``"density"`` mode: b_T = T ρ(T)/(T_ref ρ_ref) with
-ρ(T) = ρ_ref [1 − α_v (T − T_ref)] (Ferry, Viscoelastic Properties of Polymers, 3rd ed., 1980,
-ch. 11). Every later step reads the frozen :class:`ShiftOptions`.
+ρ(T) = ρ_ref [1 − α_v (T − T_ref)] (Ferry, Viscoelastic Properties of Polymers, 3rd ed.,
+1980, ch. 11). Every later step reads the frozen :class:`ShiftOptions`.
 """
 
 from __future__ import annotations

@@ -1,12 +1,12 @@
 """The shift fit as named steps: :func:`shift_isotherms`.
 
-Options resolved once (:mod:`._options`), the log data of every isotherm thinned for the fit
-(:mod:`._fit_data`), pairwise seeds and gaps between neighbours (:mod:`._neighbours`), one
-joint fit per connected group (:mod:`._groups`, on :mod:`._joint_fit` and
-:mod:`._curve_models`), groups beyond a gap placed by a law (:mod:`._bridge`), the gauge at the
-reference temperature (:mod:`._gauge`), outliers and flags per isotherm (:mod:`._diagnostics`),
-and the frozen :class:`~ttsp.shifting.result.ShiftResult`. The package docstring of
-:mod:`ttsp.shifting` holds the model and its conventions.
+Options resolved once (``_options``), the log data of every isotherm thinned for the fit
+(``_fit_data``), pairwise seeds and gaps between neighbours (``_neighbours``), one joint fit
+per connected group (``_groups``, on ``_joint_fit`` and ``_curve_models``), the groups put
+together and those beyond a gap placed by a law (``_bridge``), the gauge at the reference
+temperature (``_gauge``), outliers and flags per isotherm (``_diagnostics``), and the frozen
+:class:`~ttsp.shifting.result.ShiftResult`. The package docstring of :mod:`ttsp.shifting`
+holds the model and its conventions.
 """
 
 from __future__ import annotations
@@ -110,7 +110,8 @@ def shift_isotherms(campaign: Campaign, reference_temperature_K: float | None = 
     return _result(campaign, options, data, shifts, diagnosis)
 
 
-def _ro(a, dtype=float):
+def _read_only(a, dtype=float):
+    """A read-only copy of ``a`` (the result's arrays cannot be changed in place)."""
     arr = np.array(a, dtype=dtype, copy=True)
     arr.setflags(write=False)
     return arr
@@ -133,14 +134,14 @@ def _result(campaign: Campaign, options: ShiftOptions, data: FitData, shifts: Sh
               f"({'Huber loss' if options.robust else 'least squares'}), seeded by pairwise "
               f"overlaps")
     return ShiftResult(
-        reference_temperature_K=float(options.t_ref), temperature_K=_ro(options.temps),
-        log10_aT=_ro(shifts.s), log10_aT_stderr=_ro(shifts.stderr),
-        log10_bT=_ro(shifts.log10_bT), log10_bT_stderr=_ro(shifts.log10_bT_stderr),
-        overlap_quality=_ro(diag.quality), flags=diag.flags,
-        outlier_mask=tuple(_ro(m, bool) for m in diag.outlier_mask), quantities_used=tuple(chosen),
-        vertical_mode=options.vertical, method=method, objective=float(diag.objective),
-        rms_residual=diag.rms_residual, domain=campaign.domain, residual_scale_log10=scale,
-        expansion_coefficient_per_K=options.alpha, converged=bool(diag.converged),
-        iterations=diag.iterations, warnings=tuple(notes), log10_aT_covariance=_ro(shifts.cov_s),
-        residual_correlation=float(diag.rho_all),
+        reference_temperature_K=float(options.t_ref), temperature_K=_read_only(options.temps),
+        log10_aT=_read_only(shifts.s), log10_aT_stderr=_read_only(shifts.stderr),
+        log10_bT=_read_only(shifts.log10_bT), log10_bT_stderr=_read_only(shifts.log10_bT_stderr),
+        overlap_quality=_read_only(diag.quality), flags=diag.flags,
+        outlier_mask=tuple(_read_only(m, bool) for m in diag.outlier_mask),
+        quantities_used=tuple(chosen), vertical_mode=options.vertical, method=method,
+        objective=float(diag.objective), rms_residual=diag.rms_residual, domain=campaign.domain,
+        residual_scale_log10=scale, expansion_coefficient_per_K=options.alpha,
+        converged=bool(diag.converged), iterations=diag.iterations, warnings=tuple(notes),
+        log10_aT_covariance=_read_only(shifts.cov_s), residual_correlation=float(diag.rho_all),
         correlation_inflation=float(diag.inflation_all))
