@@ -449,7 +449,7 @@ def test_errors(base):
 def test_non_finite_fit_is_a_fit_error(base, monkeypatch):
     # a numerical failure inside the solver (here simulated: the master curve returns NaN)
     # must surface as FitError, never as silent NaN shifts
-    import ttsp._global_fit as gf
+    import ttsp.shifting._curve_models as gf
 
     camp, _, _ = base
 
@@ -457,8 +457,8 @@ def test_non_finite_fit_is_a_fit_error(base, monkeypatch):
         F, dF, J = original(self, u, theta, jac)
         return np.full_like(F, np.nan), dF, J
 
-    original = gf._SpectrumModel.evaluate
-    monkeypatch.setattr(gf._SpectrumModel, "evaluate", broken)
+    original = gf.SpectrumModel.evaluate
+    monkeypatch.setattr(gf.SpectrumModel, "evaluate", broken)
     with pytest.raises(FitError, match="non-finite residuals"):
         quiet(shift_isotherms, camp, 320.0)
 
@@ -518,11 +518,11 @@ def test_asphalt_binders_collapse_as_well_as_chained_pairwise_shifts(lane, maste
 def test_sparse_and_dense_shift_jacobians_give_the_same_shifts(monkeypatch):
     """Small problems hold the Jacobian in the shifts dense, large ones sparse; the two must
     be the same fit (checked here by forcing the sparse form on a small problem)."""
-    from ttsp import _global_fit
+    from ttsp.shifting import _curve_models
 
     camp, _ = campaign(log10_bT=0.01 * np.arange(9.0))
     dense = [quiet(shift_isotherms, camp, 320.0, vertical=v) for v in ("none", "fit")]
-    monkeypatch.setattr(_global_fit, "_DENSE_SHIFT_JACOBIAN", 0)
+    monkeypatch.setattr(_curve_models, "DENSE_JACOBIAN_MAX_ENTRIES", 0)
     sparse = [quiet(shift_isotherms, camp, 320.0, vertical=v) for v in ("none", "fit")]
     for d, s in zip(dense, sparse):
         np.testing.assert_allclose(s.log10_aT, d.log10_aT, atol=1e-9)
@@ -572,11 +572,11 @@ def test_gauge_interpolation_is_exact_for_cubics_and_close_on_a_steep_wlf_curve(
     Tg = 300 K, the universal constants of Williams, Landel & Ferry 1955; reference 25 K above
     Tg, midway between two isotherms) the cubic gauge misses log10 a_T by 0.004 decade, where a
     quadratic through the three nearest misses by 0.022."""
-    from ttsp.shifting import _gauge_weights
+    from ttsp.shifting._gauge import gauge_weights
 
     temps = 283.15 + 12.0 * np.arange(7)
     t_ref = 0.5 * (temps[3] + temps[4])
-    w, inside = _gauge_weights(temps, t_ref)
+    w, inside = gauge_weights(temps, t_ref)
     assert inside and np.count_nonzero(w) == 4 and w.sum() == pytest.approx(1.0, abs=1e-12)
     cubic = lambda t: 0.3 - 0.02 * (t - 300) + 1e-3 * (t - 300) ** 2 - 4e-5 * (t - 300) ** 3
     assert w @ cubic(temps) == pytest.approx(cubic(t_ref), abs=1e-10)
@@ -590,12 +590,12 @@ def test_gauge_interpolation_is_exact_for_cubics_and_close_on_a_steep_wlf_curve(
     quadratic_error = abs(q @ law(temps) - law(t_ref))
     assert cubic_error < 0.006 and quadratic_error > 0.02
     # outside the range: the straight line through the two nearest
-    w_out, inside = _gauge_weights(temps, temps[-1] + 5.0)
+    w_out, inside = gauge_weights(temps, temps[-1] + 5.0)
     assert not inside and np.count_nonzero(w_out) == 2
     # a cluster on one side: the four nearest by distance alone (306, 312, 313, 314 K) would
     # extrapolate the cubic with weights up to 6.4; two on each side keep them small
     clustered = np.array([300.0, 306.0, 312.0, 313.0, 314.0, 315.0, 321.0, 327.0])
-    w, _ = _gauge_weights(clustered, 309.0)
+    w, _ = gauge_weights(clustered, 309.0)
     used = clustered[w != 0]
     assert list(used) == [300.0, 306.0, 312.0, 313.0]
     assert np.abs(w).max() < 2.0 and w @ cubic(clustered) == pytest.approx(cubic(309.0), abs=1e-9)
@@ -607,7 +607,7 @@ def test_a_much_noisier_function_counts_less(monkeypatch):
     noise (third differences), so the precise E' sets the shifts. Measured over 8 seeds: rms
     error 0.005 decade, against 0.014 when both count alike (the noise estimate forced
     equal)."""
-    import ttsp.shifting as shifting_module
+    import ttsp.shifting._groups as groups_module
 
     def errors():
         out = []
@@ -624,7 +624,7 @@ def test_a_much_noisier_function_counts_less(monkeypatch):
         return np.sqrt(np.mean(np.concatenate(out) ** 2))
 
     weighted = errors()
-    monkeypatch.setattr(shifting_module, "typical_log_noise", lambda x, y: 1.0)
+    monkeypatch.setattr(groups_module, "typical_log_noise", lambda x, y: 1.0)
     alike = errors()
     assert weighted < 0.01 and weighted < 0.6 * alike
 

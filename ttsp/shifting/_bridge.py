@@ -12,6 +12,9 @@ fits both when there are at least five shifts and keeps the lower small-sample A
 (AICc, Hurvich & Tsai, Biometrika 76:297, 1989); with three or four shifts only Arrhenius is
 fitted. This is a private helper of :mod:`ttsp.shifting`, independent of :mod:`ttsp.laws`
 (whose laws pass through zero at the reference and so have no offset).
+
+:func:`bridge_across_gaps` places the groups of isotherms that a gap separates from the main
+group by the law fitted to that group (the step ``gaps="bridge"`` of the shift fit).
 """
 
 from __future__ import annotations
@@ -21,9 +24,11 @@ from dataclasses import dataclass
 import numpy as np
 from scipy.optimize import least_squares
 
-from .exceptions import DataError
+from ..exceptions import DataError
+from ._groups import GroupFits, Shifts, assemble_shifts
+from ._options import ShiftOptions
 
-__all__ = ["OffsetLaw", "fit_offset_law"]
+__all__ = ["OffsetLaw", "fit_offset_law", "bridge_across_gaps"]
 
 
 @dataclass(frozen=True)
@@ -125,3 +130,53 @@ def fit_offset_law(temperature_K, log10_aT, *, all_temperatures_K, model="auto")
         best = min(fits, key=lambda f: f[0])[1]
     others = tuple(f[1] for f in fits if f[1] is not best)
     return OffsetLaw(best.model, best.params, best.cov, best.scatter, best.t_mean_K, others)
+
+
+def bridge_across_gaps(groups: GroupFits, options: ShiftOptions) -> Shifts:
+    """The shifts of every isotherm: each group's in the campaign's arrays
+    (:func:`~ttsp.shifting._groups.assemble_shifts`) and, with more than one connected group,
+    the others placed by a law fitted to the main one (flag ``bridged``, and a note that is
+    also a warning of the shift fit).
+
+    Raises
+    ------
+    DataError
+        The main group has fewer than 3 isotherms.
+    """
+    shifts = assemble_shifts(groups, options)
+    if len(groups.comps) > 1:
+        note = _bridge_groups(groups.comps, shifts.s, shifts.cov_s, shifts.bridged,
+                              options.fixed, options.temps, options.t_ref)
+        if options.fit_vertical:
+            note += ("; the bridge places a_T only: each group keeps its own vertical "
+                     "gauge (log10 b_T = 0 at one of its isotherms), so b_T across the "
+                     "gap is not determined by the data")
+        shifts.bridge_note = note
+        shifts.notes.append(note)
+    return shifts
+
+
+def _bridge_groups(comps, s, cov_s, bridged, fixed, temps, t_ref) -> str:
+    """Place disconnected groups by a shift law fitted to the main group (in place).
+
+    The main group is the largest one (the one nearest the reference on a tie); with user-fixed
+    shifts, the largest group holding one, and groups holding fixed shifts keep their own gauge.
+    Every other group is moved as a block by the mean difference between the law and its
+    shifts; its covariance gains the law's prediction variance (parameters, scatter and
+    disagreement between WLF and Arrhenius).
+    """
+    has_fixed = [ci for ci, comp in enumerate(comps) if any(k in fixed for k in comp)]
+    pool = has_fixed or list(range(len(comps)))
+    main = max(pool, key=lambda ci: (len(comps[ci]),
+                                     -min(abs(temps[k] - t_ref) for k in comps[ci])))
+    law = fit_offset_law(temps[comps[main]], s[comps[main]], all_temperatures_K=temps)
+    for ci, comp in enumerate(comps):
+        if ci == main or ci in has_fixed:
+            continue
+        pred, pred_se = law.predict(temps[comp])
+        s[comp] += float(np.mean(pred - s[comp]))
+        cov_s[np.ix_(comp, comp)] += float(np.mean(pred_se ** 2))
+        bridged[comp] = True
+    return (f"{int(bridged.sum())} isotherm(s) placed across a gap by a "
+            f"{'WLF' if law.model == 'wlf' else 'Arrhenius'} law fitted to "
+            f"{len(comps[main])} connected isotherms (flag 'bridged')")

@@ -1,0 +1,241 @@
+"""The result of a shift fit: :class:`ShiftResult` (shift factors, their uncertainties, flags).
+
+The result evaluates and exports itself: the shift table (:meth:`ShiftResult.to_frame`), the
+JSON summary (:meth:`ShiftResult.to_dict`, whose ``shift_factors`` list is the output
+contract), every point of the campaign reduced to the reference temperature
+(:meth:`ShiftResult.shifted_frame`) and an HTML table for notebooks.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from html import escape
+from typing import Mapping
+
+import numpy as np
+
+from .._validation import bad_value
+from ..data import QUANTITIES, Campaign
+from ..exceptions import DataError
+from ..units import kelvin_to_celsius
+
+__all__ = ["ShiftResult", "STDERR_METHOD"]
+
+#: how the stderr are computed (summary.json ``shifting.stderr_method``)
+STDERR_METHOD = ("inverse Gauss-Newton curvature times Huber's variance factor, inflated by "
+                 "(1 + rho)/(1 - rho) for the lag-one correlation rho of the residuals along "
+                 "each isotherm (an AR(1) effective number of points; 1 when uncorrelated)")
+
+
+def _num(v):
+    v = float(v)
+    return v if np.isfinite(v) else None
+
+
+@dataclass(frozen=True)
+class ShiftResult:
+    """Shift factors of a campaign, their uncertainties and how well the isotherms overlap.
+
+    Attributes
+    ----------
+    reference_temperature_K : float
+        Where log10 a_T = 0 (and log10 b_T = 0), in K.
+    temperature_K : array
+        Isotherm temperatures, ascending, in K.
+    log10_aT, log10_aT_stderr : array
+        Horizontal shift (decades; > 0 below the reference) and its standard error. The
+        stderr is 0 for the measured reference isotherm and NaN for a user-fixed shift.
+    log10_bT, log10_bT_stderr : array
+        Vertical shift b_T = T ρ/(T_ref ρ_ref) (decades); zeros when ``vertical_mode`` is
+        ``"none"``. Reduced modulus = E/b_T, reduced compliance = D·b_T.
+    overlap_quality : array
+        Per isotherm: rms misfit, in decades of log10 value, of its points (outliers left out)
+        against the master curve, counting only the points whose reduced abscissa lies within
+        the range of a neighbouring isotherm, i.e. where it overlaps. Smaller is better; the
+        noise of the data (``residual_scale_log10``) is the floor. NaN where nothing overlaps.
+    flags : tuple of tuple of str
+        Per isotherm: ``"reference"``, ``"fixed"``, ``"bridged"`` (placed by a fitted shift law
+        across a gap), ``"gap-below"`` / ``"gap-above"`` (no overlap with that neighbour),
+        ``"low-information"`` (the shift is poorly determined: stderr above the threshold or
+        data on a plateau), ``"outliers:N"`` (N points flagged); a build adds
+        ``"functions-disagree"`` where the function_agreement check finds the shifts of E'
+        alone and E'' alone apart (:mod:`ttsp.checks.function_agreement`).
+    outlier_mask : tuple of bool arrays
+        Per isotherm, per point (in the campaign's point order): True where any function's
+        residual exceeds ``outlier_threshold`` robust noise scales. Flagged, never deleted.
+    quantities_used : tuple of str
+        The functions the shifts were fitted on.
+    vertical_mode : str
+        ``"none"``, ``"density"`` or ``"fit"``.
+    method : str
+        A one-line description of the estimator.
+    objective : float
+        Final value of the robust penalised objective (in squared noise scales).
+    rms_residual : float
+        rms residual of all non-outlier points against the master curves, decades.
+    residual_scale_log10 : mapping
+        Robust noise scale of each function, decades.
+    warnings : tuple of str
+        Everything the caller should know (also emitted as Python warnings).
+    log10_aT_covariance : array
+        Covariance matrix of ``log10_aT`` (decades²) from the same curvature as the stderr, in
+        the reference's gauge; with ``fixed_log10_aT`` the fixed shifts are the gauge and their
+        rows and columns are zero. Shifts found together along a chain of overlaps are
+        correlated; a shift law fitted with this matrix (``fit_shift_law(covariance=...)``)
+        averages out their common drift. The low-information floor of the stderr is not in it.
+    residual_correlation, correlation_inflation : float
+        Pooled lag-one correlation of the fit's residuals along each isotherm, and the factor
+        (1 + ρ)/(1 − ρ) ≥ 1 by which the covariance (and the stderr²) was inflated because
+        correlated residuals carry fewer independent points than they number
+        (:mod:`ttsp._residual_correlation`); the largest over connected groups.
+    """
+
+    reference_temperature_K: float
+    temperature_K: np.ndarray
+    log10_aT: np.ndarray
+    log10_aT_stderr: np.ndarray
+    log10_bT: np.ndarray
+    log10_bT_stderr: np.ndarray
+    overlap_quality: np.ndarray
+    flags: tuple
+    outlier_mask: tuple
+    quantities_used: tuple
+    vertical_mode: str
+    method: str
+    objective: float
+    rms_residual: float
+    domain: str = "frequency"
+    residual_scale_log10: Mapping[str, float] = field(default_factory=dict)
+    expansion_coefficient_per_K: float | None = None
+    converged: bool = True
+    iterations: int = 0
+    warnings: tuple = ()
+    log10_aT_covariance: np.ndarray | None = None
+    residual_correlation: float = float("nan")
+    correlation_inflation: float = 1.0
+
+    # ---- views -------------------------------------------------------------------------------
+    @property
+    def reference_temperature_C(self) -> float:
+        return float(kelvin_to_celsius(self.reference_temperature_K))
+
+    @property
+    def temperature_C(self) -> np.ndarray:
+        return kelvin_to_celsius(self.temperature_K)
+
+    @property
+    def params(self) -> dict:
+        """``{"log10_aT[<T> °C]": value}`` as plain floats."""
+        return {f"log10_aT[{t:g} °C]": float(v)
+                for t, v in zip(np.round(self.temperature_C, 6), self.log10_aT)}
+
+    @property
+    def stderr(self) -> dict:
+        """``{"log10_aT[<T> °C]": stderr}`` as plain floats (NaN for fixed shifts)."""
+        return {f"log10_aT[{t:g} °C]": float(v)
+                for t, v in zip(np.round(self.temperature_C, 6), self.log10_aT_stderr)}
+
+    def __len__(self) -> int:
+        return int(self.temperature_K.size)
+
+    # ---- export ------------------------------------------------------------------------------
+    def to_frame(self):
+        """The shift table, one row per isotherm (DataFrame)."""
+        import pandas as pd
+
+        return pd.DataFrame({
+            "temperature_K": self.temperature_K,
+            "temperature_C": self.temperature_C,
+            "log10_aT": self.log10_aT,
+            "log10_aT_stderr": self.log10_aT_stderr,
+            "log10_bT": self.log10_bT,
+            "log10_bT_stderr": self.log10_bT_stderr,
+            "overlap_quality": self.overlap_quality,
+            "n_outliers": [int(m.sum()) for m in self.outlier_mask],
+            "flags": [";".join(f) for f in self.flags],
+        })
+
+    def to_dict(self) -> dict:
+        """JSON-ready summary; ``shift_factors`` is the list of the output contract."""
+        rows = [{"temperature_C": float(tc), "log10_aT": float(a), "log10_aT_stderr": _num(e),
+                 "log10_bT": float(b), "overlap_quality": _num(q), "flags": list(f)}
+                for tc, a, e, b, q, f in zip(self.temperature_C, self.log10_aT,
+                                            self.log10_aT_stderr, self.log10_bT,
+                                            self.overlap_quality, self.flags)]
+        return {"reference_temperature_C": self.reference_temperature_C,
+                "domain": self.domain,
+                "quantities_used": list(self.quantities_used),
+                "vertical_mode": self.vertical_mode,
+                "vertical_shift_convention": "reduced modulus = E / b_T, reduced compliance = "
+                                             "D * b_T, b_T = T rho / (T_ref rho_ref)",
+                "expansion_coefficient_per_K": (None if self.expansion_coefficient_per_K is None
+                                                else float(self.expansion_coefficient_per_K)),
+                "method": self.method, "objective": float(self.objective),
+                "rms_residual": float(self.rms_residual),
+                "residual_scale_log10": {k: float(v) for k, v in self.residual_scale_log10.items()},
+                "converged": bool(self.converged), "warnings": list(self.warnings),
+                "stderr_method": STDERR_METHOD,
+                "residual_lag1_correlation": _num(self.residual_correlation),
+                "stderr_correlation_inflation": float(self.correlation_inflation),
+                "shift_factors": rows}
+
+    def shifted_frame(self, campaign: Campaign):
+        """Every point of ``campaign`` with its reduced abscissa and shifted values (DataFrame).
+
+        Columns: ``isotherm``, ``temperature_K``, ``temperature_C``, the measured abscissa
+        (``frequency_rad_s`` or ``time_s``), the reduced one (``reduced_frequency_rad_s`` =
+        ω·a_T or ``reduced_time_s`` = t/a_T), ``log10_aT``, ``log10_bT``, every measured
+        function as a *reduced* value (moduli divided by b_T, compliances multiplied by b_T,
+        tan δ and δ unchanged; with b_T = 1 these are the measured values), ``source_row`` and
+        ``outlier``. No point is dropped.
+        """
+        import pandas as pd
+
+        if not isinstance(campaign, Campaign):
+            raise bad_value("campaign", "a Campaign", type(campaign).__name__)
+        if (len(campaign) != len(self)
+                or not np.allclose(campaign.temperatures_K, self.temperature_K, atol=1e-6)
+                or any(i.n_points != m.size for i, m in zip(campaign.isotherms,
+                                                             self.outlier_mask))):
+            raise DataError("shifted_frame: the campaign does not match these shift factors "
+                            f"(it has {len(campaign)} isotherms, the shifts cover {len(self)}; "
+                            "temperatures and point counts must agree)")
+        names = [q for q in QUANTITIES if any(q in i.values for i in campaign.isotherms)]
+        xr_name = "reduced_" + campaign.x_name
+        isos = campaign.isotherms
+        counts = np.array([iso.n_points for iso in isos])
+
+        def per_point(values):
+            return np.repeat(np.asarray(values), counts)
+
+        x = np.concatenate([iso.x for iso in isos])
+        a_T = per_point(10.0 ** self.log10_aT)
+        b_T = per_point(10.0 ** self.log10_bT)
+        cols = {"isotherm": per_point(np.arange(len(isos))),
+                "temperature_K": per_point([iso.temperature_K for iso in isos]),
+                "temperature_C": per_point([iso.temperature_C for iso in isos]),
+                campaign.x_name: x,
+                xr_name: x * a_T if campaign.domain == "frequency" else x / a_T,
+                "log10_aT": per_point(self.log10_aT), "log10_bT": per_point(self.log10_bT)}
+        for q in names:
+            v = np.concatenate([np.asarray(iso.values.get(q, np.full(iso.n_points, np.nan)),
+                                           float) for iso in isos])
+            kind = QUANTITIES[q].unit_kind
+            cols[q] = v / b_T if kind == "modulus" else (v * b_T if kind == "compliance" else v)
+        cols["source_row"] = np.concatenate([iso.source_rows for iso in isos])
+        cols["outlier"] = np.concatenate([np.asarray(m, bool) for m in self.outlier_mask])
+        return pd.DataFrame(cols)
+
+    def _repr_html_(self) -> str:
+        head = (f"<b>Shift factors</b>: T<sub>ref</sub> = {self.reference_temperature_C:.2f} °C, "
+                f"{len(self)} isotherms, on {', '.join(self.quantities_used)}; vertical "
+                f"{self.vertical_mode}; rms residual {self.rms_residual:.4f} decades")
+        rows = "".join(
+            f"<tr><td>{tc:.2f}</td><td>{a:.4f}</td><td>{e:.4f}</td><td>{b:.4f}</td>"
+            f"<td>{q:.4f}</td><td>{escape(', '.join(f))}</td></tr>"
+            for tc, a, e, b, q, f in zip(self.temperature_C, self.log10_aT, self.log10_aT_stderr,
+                                         self.log10_bT, self.overlap_quality, self.flags))
+        warn = "".join(f"<li>{escape(w)}</li>" for w in self.warnings)
+        return (f"<div>{head}<table><tr><th>T (°C)</th><th>log10 a<sub>T</sub></th>"
+                f"<th>stderr</th><th>log10 b<sub>T</sub></th><th>overlap rms</th><th>flags</th>"
+                f"</tr>{rows}</table>{'<ul>' + warn + '</ul>' if warn else ''}</div>")
