@@ -172,8 +172,8 @@ class _LawSolver:
         evaluations); the best one, if still unconverged, continues with the full budget —
         also when it is the only start (it once did not: a single start that ran out of its
         small budget was reported as not converged, lmfit's "Tolerance seems to be too small"
-        for an aborted run). A continuation that used its whole budget while χ² fell by
-        less than ``STALL_RELATIVE`` of itself stands in a flat valley of χ² (WLF constants
+        for an aborted run). A continuation that used its whole budget (lmfit: aborted) while
+        χ² fell by less than ``STALL_RELATIVE`` of itself stands in a flat valley of χ² (WLF constants
         running off together towards the Arrhenius limit, a break temperature anywhere between
         two isotherms): its constants are taken, with a message that says so. With nothing
         free, the starting constants themselves."""
@@ -189,7 +189,7 @@ class _LawSolver:
                 best = out
         if best is not None and best[2] is not None and not best[2].success:
             more = self.solve(best[1], FULL_BUDGET)
-            if more is not None and not more[2].success \
+            if more is not None and not more[2].success and getattr(more[2], "aborted", False) \
                     and best[0] - more[0] <= STALL_RELATIVE * best[0]:
                 accept_stalled(more[2], self.residual, self.free)
             best = more or best
