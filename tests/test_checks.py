@@ -915,3 +915,25 @@ def test_point_to_curve_distances_agree_with_a_direct_computation(monkeypatch):
         for (d, o), (de, oe) in zip(spread_module._distances(jobs), expected):
             np.testing.assert_allclose(d, de, rtol=1e-12, atol=1e-12)
             np.testing.assert_allclose(o, oe, rtol=1e-12, atol=1e-12)
+
+
+def test_an_isotherm_whose_every_point_is_flagged_is_judged_on_all_its_points():
+    """Shifts held far from where two isotherms' data lie (``--fix-shift 50=-1.2 --fix-shift
+    60=-1.9`` on the demo campaign, where the fitted shifts are about -3.6 and -4.3) flag
+    every point of those isotherms as an outlier; the overlap check then had no points and
+    the build stopped with an internal error. It is judged on all their points instead."""
+    from pathlib import Path
+
+    import ttsp
+
+    demo = Path(ttsp.__file__).parent / "demo_data" / "damping_elastomer_dma.csv"
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        r = ttsp.build(ttsp.read_campaign(demo), reference_temperature_C=27.0,
+                       fixed_log10_aT={50.0: -1.2, 60.0: -1.9}, cross_validation=False,
+                       bands=False)
+    flagged = [k for k, m in enumerate(r.shifts.outlier_mask) if m.all()]
+    assert flagged   # the case this test is about
+    (coverage,) = [c for c in r.checks if c.name == "overlap_coverage"]
+    assert coverage.status in ("pass", "warn", "fail")
+    assert all(math.isfinite(p["overlap_decades"]) for p in coverage.details["pairs"])

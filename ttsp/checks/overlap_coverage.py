@@ -62,6 +62,9 @@ def _neighbour_pairs(c: Campaign, table, quantity: str, tolerance: float):
     for k in range(len(c) - 1):
         a, b = c.isotherms[k], c.isotherms[k + 1]
         ka, kb = _keep(table, k, a.n_points), _keep(table, k + 1, b.n_points)
+        # an isotherm whose every point is flagged (shifts held far from where its data lie)
+        # is judged on all its points: the flags drop stray points, not whole isotherms
+        ka, kb = (m if m.any() else np.ones_like(m) for m in (ka, kb))
         overlap, span = _ordinate_overlap(np.log10(a.values[quantity][ka]),
                                           np.log10(b.values[quantity][kb]))
         name = f"{a.temperature_C:.4g} °C and {b.temperature_C:.4g} °C"
