@@ -62,7 +62,8 @@ def read_campaign(paths, *, columns: Mapping[str, str] | None = None,
         path or file name to °C gives each file its own, before anything the file says.
     max_points : int, optional
         Refuse campaigns with more data rows than this, before they fill the memory (default:
-        the environment variable ``TTSP_MAX_POINTS``, else :data:`DEFAULT_MAX_POINTS`).
+        the environment variable ``TTSP_MAX_POINTS``, else
+        :data:`ttsp.io.size_limit.DEFAULT_MAX_POINTS`).
     temperature_from_name : bool
         Read a file name holding one number without a unit letter (``sweep_130.csv``) as the
         temperature in °C, for files that state no temperature otherwise (default False: such a
@@ -94,17 +95,16 @@ def read_campaign(paths, *, columns: Mapping[str, str] | None = None,
     files = expand_paths(paths)
     _refuse_sheet_of_text_tables(files, sheet)
     reads = _read_files(files, options)
-    modulus_kind, domain = _kind_and_domain(reads, modulus_kind, domain)
+    campaign_kind, campaign_domain = _kind_and_domain(reads, modulus_kind, domain)
     source = files[0] if len(files) == 1 else f"{len(files)} files in {_common_folder(files)}"
     metadata, dropped, skipped_listing = _metadata_and_dropped(reads, several=len(files) > 1)
     labels, units_read = _labels_and_units(reads)
     combined = (pd.concat([r.frame for r in reads], ignore_index=True) if len(reads) > 1
                 else reads[0].frame)
-    campaign = Campaign.from_frame(combined, domain=domain, modulus_kind=modulus_kind,
-                                   source=source,
-                                   temperature_tolerance_K=options.temperature_tolerance_K,
-                                   column_labels=labels, units_as_read=units_read,
-                                   metadata=metadata, dropped_rows=dropped, repeats=repeats)
+    campaign = Campaign.from_frame(
+        combined, domain=campaign_domain, modulus_kind=campaign_kind, source=source,
+        temperature_tolerance_K=options.temperature_tolerance_K, column_labels=labels,
+        units_as_read=units_read, metadata=metadata, dropped_rows=dropped, repeats=repeats)
     if dropped:
         listed = f" ({skipped_listing})" if skipped_listing is not None else ""
         warnings.warn(f"{source}: left out " + ", ".join(f"{v} {k}" for k, v in dropped.items())
@@ -140,6 +140,7 @@ class _ReadOptions:
 
 
 def _refuse_sheet_of_text_tables(files: list, sheet) -> None:
+    """A sheet names a sheet of a workbook: refused when no file is one."""
     if sheet is not None and not any(f.lower().endswith(".xlsx") for f in files):
         raise DataError(f"{where(files[0])}sheet (--sheet) applies to .xlsx workbooks only; got "
                         f"{sheet!r} for {'a text table' if len(files) == 1 else 'text tables'}")

@@ -271,6 +271,7 @@ def _split_footer(rows: list, numbers: list, decimal_comma: bool, raw_lines) -> 
 
 
 def _bare_unit(cell: str) -> str:
+    """A cell of a units line without its brackets: ``(°C)`` and ``[°C]`` are ``°C``."""
     u = cell.strip()
     if len(u) >= 2 and u[0] in "([" and u[-1] in ")]":
         u = u[1:-1].strip()
