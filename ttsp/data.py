@@ -9,6 +9,9 @@ units as they were read. Both are frozen; their arrays are read-only.
 Tidy frames use the column names of :data:`QUANTITIES` plus ``temperature_K``, ``x`` named
 ``frequency_rad_s`` or ``time_s``, ``isotherm`` (0-based, in temperature order) and ``source_row``
 (the line of the input file a point came from, 1-based, or -1 when unknown).
+
+The material functions and the column names are those of :mod:`ttsp.quantities` (re-exported
+here); :meth:`Campaign.from_frame` checks a frame's values through :mod:`ttsp._frame_checks`.
 """
 
 from __future__ import annotations
@@ -21,58 +24,22 @@ from typing import Mapping
 import numpy as np
 
 from ._arrays import readonly as _readonly
+from ._frame_checks import (FrameRows, checked_measured_values, checked_temperature_and_x,
+                            columns_found, measured_quantities, needed_quantities)
 from ._repeats import REPEAT_POLICIES, merge_repeats
 from ._validation import bad_value, check_positive, where
 from .exceptions import DataError
-from .units import kelvin_to_celsius, parse_unit
+from .quantities import (MAX_MAGNITUDE, MAX_TEMPERATURE_K,  # noqa: F401  (re-exported)
+                         DOMAINS, MODULUS_KINDS, QUANTITIES, X_COLUMN, Quantity)
+from .units import kelvin_to_celsius
 
 __all__ = ["Quantity", "QUANTITIES", "Isotherm", "Campaign", "DOMAINS", "MODULUS_KINDS",
            "X_COLUMN", "REPEATS_MERGED"]
 
-DOMAINS = ("frequency", "time")
-MODULUS_KINDS = ("tensile", "shear")
-X_COLUMN = {"frequency": "frequency_rad_s", "time": "time_s"}
 #: a reference temperature this close (K) to an isotherm's temperature is that isotherm's
 REFERENCE_SNAP_K = 0.05
 #: the ``dropped_rows`` entry counting rows merged into a repeated time stamp's point
 REPEATS_MERGED = "repeated time stamps merged (mean in log)"
-
-
-@dataclass(frozen=True)
-class Quantity:
-    """A measured material function: its column name, unit kind and symbols."""
-
-    name: str
-    unit_kind: str
-    domain: str
-    tensile_symbol: str
-    shear_symbol: str
-    positive: bool  # must be > 0 (it is taken in a logarithm)
-    label: str
-
-    def symbol(self, modulus_kind: str) -> str:
-        return self.tensile_symbol if modulus_kind == "tensile" else self.shear_symbol
-
-
-# Largest values a measurement may report, far beyond any real material, so that the squares
-# and products of the fits stay finite (moduli near 1e300 Pa overflowed inside them): the stiffest
-# solid, diamond, has a Young's modulus of about 1.2e12 Pa, and no viscoelastic test runs above a
-# few hundred °C (both facts of common knowledge, recalled from memory).
-MAX_MAGNITUDE = {"modulus": 1e15, "compliance": 1e15}   # Pa, 1/Pa
-MAX_TEMPERATURE_K = 10_000.0
-
-QUANTITIES: Mapping[str, Quantity] = MappingProxyType({q.name: q for q in (
-    Quantity("storage_modulus_Pa", "modulus", "frequency", "E'", "G'", True, "storage modulus"),
-    Quantity("loss_modulus_Pa", "modulus", "frequency", "E''", "G''", True, "loss modulus"),
-    Quantity("tan_delta", "dimensionless", "frequency", "tan δ", "tan δ", True, "loss factor tan δ"),
-    Quantity("complex_modulus_Pa", "modulus", "frequency", "|E*|", "|G*|", True,
-             "complex modulus magnitude"),
-    Quantity("phase_angle_rad", "angle", "frequency", "δ", "δ", True, "phase angle"),
-    Quantity("relaxation_modulus_Pa", "modulus", "time", "E(t)", "G(t)", True,
-             "relaxation modulus"),
-    Quantity("creep_compliance_1_per_Pa", "compliance", "time", "D(t)", "J(t)", True,
-             "creep compliance"),
-)})
 
 
 def _same_array(a, b) -> bool:
@@ -357,184 +324,33 @@ class Campaign:
             or below absolute zero, a duplicate point, fewer than ``min_isotherms`` isotherms.
         """
         labels = dict(column_labels or {})
-        attrs = getattr(frame, "attrs", {}) or {}
-        if not domain:
-            domain = attrs.get("domain")
-        if not domain:  # from the x column, else from the measured functions
-            named = [QUANTITIES[q].domain for q in QUANTITIES if q in frame.columns]
-            domain = ("frequency" if "frequency_rad_s" in frame.columns else
-                      "time" if "time_s" in frame.columns else
-                      named[0] if named else "frequency")
-        modulus_kind = modulus_kind or attrs.get("modulus_kind") or "tensile"
-        source = source or attrs.get("source", "")
-        if units_as_read is None:
-            units_as_read = attrs.get("units_as_read") or {}
-        if metadata is None:
-            metadata = attrs.get("metadata") or {}
-        if dropped_rows is None:
-            dropped_rows = attrs.get("dropped_rows") or {}
-        if domain not in DOMAINS:
-            raise bad_value("domain", "'frequency' or 'time'", domain, file=source)
-        if modulus_kind not in MODULUS_KINDS:
-            raise bad_value("modulus_kind", "'tensile' or 'shear'", modulus_kind, file=source)
-        tol = check_positive("temperature_tolerance_K", temperature_tolerance_K, allow_zero=True)
-        if repeats not in REPEAT_POLICIES:
-            raise bad_value("repeats", "'merge' or 'refuse'", repeats, file=source)
-        x_name = X_COLUMN[domain]
-
-        def label(col):
-            return labels.get(col, col)
-
-        found = ", ".join(map(str, labels.values() or frame.columns))
-        for col in ("temperature_K", x_name):
-            if col not in frame.columns:
-                what = "a temperature column" if col == "temperature_K" else (
-                    "a frequency column" if domain == "frequency" else "a time column")
-                raise DataError(f"{where(source)}missing {what} ({col}); columns found: {found}")
-        quantities = [q for q in QUANTITIES if q in frame.columns]
-        needed = ", ".join(q for q in QUANTITIES if QUANTITIES[q].domain == domain)
-        if not quantities:
-            raise DataError(f"{where(source)}no measured material function found: need at least "
-                            f"one of {needed}; columns found: {found}")
-        wrong = [q for q in quantities if QUANTITIES[q].domain != domain]
-        if wrong:
-            raise DataError(f"{where(source, label(wrong[0]))}{QUANTITIES[wrong[0]].label} does not "
-                            f"belong to {domain}-domain data")
-        if len(frame) == 0:
-            raise DataError(f"{where(source)}no data rows")
-        rows = (np.asarray(frame["source_row"], dtype=np.int64) if "source_row" in frame.columns
-                else np.arange(len(frame), dtype=np.int64) + 2)
-        files = (np.asarray(frame["source_file"], dtype=object) if "source_file" in frame.columns
-                 else None)
-
-        def at(col, i):
-            file = str(files[i]) if files is not None else source
-            return where(file, label(col), int(rows[i]))
-
-        def shown(col, v):
-            """The value as the user wrote it: in the unit as read where that is known."""
-            if not np.isfinite(v):
-                return f"{float(v)}"
-            unit = units_as_read.get(label(col))
-            if unit is not None and unit.strip() not in ("", "-", "1"):
-                try:
-                    return f"{float(parse_unit(unit).from_si(v)):.10g} {unit}".rstrip()
-                except DataError:
-                    pass
-            return f"{float(v):.10g}"
-
-        def numbers(col):
-            raw = frame[col]
-            try:
-                return np.asarray(raw, dtype=float)
-            except (TypeError, ValueError):
-                import pandas as pd
-
-                num = pd.to_numeric(raw, errors="coerce")
-                bad = int(np.flatnonzero(np.asarray(num.isna() & raw.notna()))[0])
-                raise DataError(f"{at(col, bad)}value must be a number; "
-                                f"got {raw.iloc[bad]!r}") from None
-
-        def first(mask):
-            return int(np.flatnonzero(mask)[0])
-
-        # the temperature and x: every row must have a finite, positive value
-        temps = numbers("temperature_K")
-        x_all = numbers(x_name)
-        for col, vals, rule in (("temperature_K", temps, "above absolute zero"),
-                                (x_name, x_all, "positive (it is taken in a logarithm)")):
-            if not np.isfinite(vals).all():
-                bad = first(~np.isfinite(vals))
-                raise DataError(f"{at(col, bad)}value must be a finite number; "
-                                f"got {shown(col, vals[bad])}")
-            if (vals <= 0).any():
-                bad = first(vals <= 0)
-                raise DataError(f"{at(col, bad)}value must be {rule}; got {shown(col, vals[bad])}")
-        if (temps > MAX_TEMPERATURE_K).any():
-            bad = first(temps > MAX_TEMPERATURE_K)
-            raise DataError(f"{at('temperature_K', bad)}value must be at most "
-                            f"{MAX_TEMPERATURE_K:,.0f} K ({MAX_TEMPERATURE_K - 273.15:,.2f} °C), "
-                            f"hotter than any viscoelastic test; got "
-                            f"{shown('temperature_K', temps[bad])}")
-
-        # isotherms: by the isotherm label of to_frame, else by temperature within the tolerance
-        if "isotherm" in frame.columns:
-            tags = np.asarray(frame["isotherm"])
-            groups = [np.flatnonzero(tags == tag) for tag in dict.fromkeys(tags.tolist())]
-        else:
-            groups = group_temperatures(temps, tol)
-        group_of = np.empty(len(frame), dtype=np.int64)
-        for g, members in enumerate(groups):
-            group_of[members] = g
-
-        # the measured functions: finite where present; missing (NaN) only for a whole isotherm
-        values = {}
-        for q in quantities:
-            vals = numbers(q)
-            nan = np.isnan(vals)
-            infinite = np.isinf(vals)
-            all_nan_group = np.array([nan[m].all() for m in groups])
-            partly = nan & ~all_nan_group[group_of]
-            bad_mask = infinite | partly
-            if bad_mask.any():
-                bad = first(bad_mask)
-                missing = (" (a missing value where the rest of its isotherm has values)"
-                           if partly[bad] else "")
-                raise DataError(f"{at(q, bad)}value must be a finite number; "
-                                f"got {shown(q, vals[bad])}{missing}")
-            if QUANTITIES[q].positive and (vals[~nan] <= 0).any():
-                bad = first(~nan & (vals <= 0))
-                raise DataError(f"{at(q, bad)}value must be positive (it is taken in a "
-                                f"logarithm); got {shown(q, vals[bad])}")
-            limit = MAX_MAGNITUDE.get(QUANTITIES[q].unit_kind)
-            if limit is not None and (vals[~nan] > limit).any():
-                bad = first(~nan & (vals > limit))
-                unit = "Pa" if QUANTITIES[q].unit_kind == "modulus" else "1/Pa"
-                raise DataError(f"{at(q, bad)}value must be at most {limit:g} {unit}, beyond "
-                                f"any real material; got {shown(q, vals[bad])}")
-            if not nan.all():
-                values[q] = (vals, all_nan_group)
+        settings = _frame_settings(
+            frame, domain=domain, modulus_kind=modulus_kind, source=source,
+            units_as_read=units_as_read, metadata=metadata, dropped_rows=dropped_rows,
+            temperature_tolerance_K=temperature_tolerance_K, repeats=repeats)
+        x_name = X_COLUMN[settings.domain]
+        quantities = measured_quantities(frame, settings.domain, x_name, settings.source, labels)
+        rows = FrameRows.of(frame, settings.source, labels, settings.units_as_read)
+        temps, x_all = checked_temperature_and_x(frame, x_name, rows)
+        groups = _isotherm_groups(frame, temps, settings.temperature_tolerance_K)
+        values = checked_measured_values(frame, quantities, groups, rows)
         if not values:
-            raise DataError(f"{where(source)}no measured material function has any value: need at "
-                            f"least one of {needed}; columns found: {found}")
-
-        isotherms, merged = [], 0
-        for g, members in enumerate(groups):
-            x = x_all[members]
-            vals = {q: v[members] for q, (v, absent) in values.items() if not absent[g]}
-            if domain == "time" and repeats == "merge":
-                m = merge_repeats(x, vals, {q: QUANTITIES[q].positive for q in vals})
-                if m.conflict is not None:
-                    q, a, b, spread, limit = m.conflict
-                    a, b = members[a], members[b]
-                    prior = (f"row {int(rows[a])} of {files[a]}" if files is not None
-                             and files[a] != files[b] else f"row {int(rows[a])}")
-                    raise DataError(f"{at(q, b)}repeated time {shown(x_name, x_all[b])} at the "
-                                    f"same temperature as {prior}, with values {spread:.3g} "
-                                    f"decade apart, far beyond the noise ({limit:.3g} decade): "
-                                    f"not a rounded time stamp; check the file")
-                merged += m.merged
-                members, x, vals = members[m.order], x[m.order], m.values
-            dup = _first_duplicate(x)
-            if dup is not None:
-                a, b = members[dup[0]], members[dup[1]]
-                what = "frequency" if domain == "frequency" else "time"
-                prior = (f"row {int(rows[a])} of {files[a]}" if files is not None
-                         and files[a] != files[b] else f"row {int(rows[a])}")
-                raise DataError(f"{at(x_name, b)}duplicate point: the same {what} "
-                                f"{shown(x_name, x_all[b])} at the same temperature as {prior}")
-            t = temps[members]
-            t_mean = float(t[0]) if np.all(t == t[0]) else float(np.mean(t))
-            isotherms.append(Isotherm(t_mean, x, vals, rows[members]))
+            raise DataError(f"{where(settings.source)}no measured material function has any "
+                            f"value: need at least one of {needed_quantities(settings.domain)}; "
+                            f"columns found: {columns_found(frame, labels)}")
+        isotherms, merged = _isotherms_of_groups(groups, temps, x_all, values, rows,
+                                                 settings, x_name)
         if len(isotherms) < min_isotherms:
             t = ", ".join(f"{kelvin_to_celsius(i.temperature_K):.4g} °C" for i in isotherms)
-            raise DataError(f"{where(source, label('temperature_K'))}superposition needs at least "
-                            f"{min_isotherms} isotherms; found {len(isotherms)} ({t}) with a "
-                            f"grouping tolerance of {tol:g} K")
+            raise DataError(f"{where(settings.source, rows.label('temperature_K'))}superposition "
+                            f"needs at least {min_isotherms} isotherms; found {len(isotherms)} "
+                            f"({t}) with a grouping tolerance of "
+                            f"{settings.temperature_tolerance_K:g} K")
+        dropped = settings.dropped_rows
         if merged:
-            dropped_rows = {**dict(dropped_rows), REPEATS_MERGED: merged}
-        return cls(tuple(isotherms), domain, modulus_kind, source, units_as_read,
-                   metadata, dropped_rows)
+            dropped = {**dict(dropped), REPEATS_MERGED: merged}
+        return cls(tuple(isotherms), settings.domain, settings.modulus_kind, settings.source,
+                   settings.units_as_read, settings.metadata, dropped)
 
     # ---- notebooks ---------------------------------------------------------------------------
     def summary_rows(self) -> list:
@@ -565,6 +381,103 @@ class Campaign:
         span = f"{t.min():.4g} to {t.max():.4g} °C" if len(t) else "no isotherms"
         return (f"Campaign({len(self)} isotherms, {span}, {self.n_points} points, {self.domain}, "
                 f"{self.modulus_kind}, source={str(self.source)!r})")
+
+
+@dataclass(frozen=True)
+class _FrameSettings:
+    """The settings of one :meth:`Campaign.from_frame` call: as given, else from the frame's
+    ``attrs`` (as :meth:`Campaign.to_frame` writes them), else the defaults; checked."""
+
+    domain: str
+    modulus_kind: str
+    source: str
+    units_as_read: Mapping[str, str]
+    metadata: Mapping[str, str]
+    dropped_rows: Mapping[str, int]
+    temperature_tolerance_K: float
+    repeats: str
+
+
+def _frame_settings(frame, *, domain, modulus_kind, source, units_as_read, metadata,
+                    dropped_rows, temperature_tolerance_K, repeats) -> _FrameSettings:
+    """Fill what :meth:`Campaign.from_frame` was not given from ``frame.attrs``; a domain
+    neither given nor stored is the x column's, else that of the measured functions."""
+    attrs = getattr(frame, "attrs", {}) or {}
+    if not domain:
+        domain = attrs.get("domain")
+    if not domain:  # from the x column, else from the measured functions
+        named = [QUANTITIES[q].domain for q in QUANTITIES if q in frame.columns]
+        domain = ("frequency" if "frequency_rad_s" in frame.columns else
+                  "time" if "time_s" in frame.columns else
+                  named[0] if named else "frequency")
+    modulus_kind = modulus_kind or attrs.get("modulus_kind") or "tensile"
+    source = source or attrs.get("source", "")
+    if units_as_read is None:
+        units_as_read = attrs.get("units_as_read") or {}
+    if metadata is None:
+        metadata = attrs.get("metadata") or {}
+    if dropped_rows is None:
+        dropped_rows = attrs.get("dropped_rows") or {}
+    if domain not in DOMAINS:
+        raise bad_value("domain", "'frequency' or 'time'", domain, file=source)
+    if modulus_kind not in MODULUS_KINDS:
+        raise bad_value("modulus_kind", "'tensile' or 'shear'", modulus_kind, file=source)
+    tol = check_positive("temperature_tolerance_K", temperature_tolerance_K, allow_zero=True)
+    if repeats not in REPEAT_POLICIES:
+        raise bad_value("repeats", "'merge' or 'refuse'", repeats, file=source)
+    return _FrameSettings(domain, modulus_kind, source, units_as_read, metadata, dropped_rows,
+                          tol, repeats)
+
+
+def _isotherm_groups(frame, temperature_K: np.ndarray, tolerance_K: float) -> list:
+    """The rows of each isotherm, as index arrays: by the ``isotherm`` label that
+    :meth:`Campaign.to_frame` writes, else by temperature within the tolerance
+    (:func:`group_temperatures`)."""
+    if "isotherm" in frame.columns:
+        tags = np.asarray(frame["isotherm"])
+        return [np.flatnonzero(tags == tag) for tag in dict.fromkeys(tags.tolist())]
+    return group_temperatures(temperature_K, tolerance_K)
+
+
+def _isotherms_of_groups(groups: list, temperature_K: np.ndarray, x_all: np.ndarray,
+                         values: Mapping, rows: FrameRows, settings: _FrameSettings,
+                         x_name: str) -> tuple:
+    """``(isotherms, merged)``: one :class:`Isotherm` per group of rows, at the mean
+    temperature of its points, with the functions present in it; time-domain repeats merged
+    (``merged`` counts the rows merged away) or refused; a repeated x refused."""
+    isotherms, merged = [], 0
+    for g, members in enumerate(groups):
+        x = x_all[members]
+        vals = {q: v[members] for q, (v, absent) in values.items() if not absent[g]}
+        if settings.domain == "time" and settings.repeats == "merge":
+            m = merge_repeats(x, vals, {q: QUANTITIES[q].positive for q in vals})
+            if m.conflict is not None:
+                _refuse_conflicting_repeat(m.conflict, members, x_all, rows, x_name)
+            merged += m.merged
+            members, x, vals = members[m.order], x[m.order], m.values
+        dup = _first_duplicate(x)
+        if dup is not None:
+            a, b = members[dup[0]], members[dup[1]]
+            what = "frequency" if settings.domain == "frequency" else "time"
+            raise DataError(f"{rows.at(x_name, b)}duplicate point: the same {what} "
+                            f"{rows.shown(x_name, x_all[b])} at the same temperature as "
+                            f"{rows.earlier_row(a, b)}")
+        t = temperature_K[members]
+        t_mean = float(t[0]) if np.all(t == t[0]) else float(np.mean(t))
+        isotherms.append(Isotherm(t_mean, x, vals, rows.rows[members]))
+    return isotherms, merged
+
+
+def _refuse_conflicting_repeat(conflict: tuple, members: np.ndarray, x_all: np.ndarray,
+                               rows: FrameRows, x_name: str) -> None:
+    """Two rows at one printed time whose values differ far beyond the noise
+    (:func:`ttsp._repeats.merge_repeats`): not a rounded time stamp."""
+    q, a, b, spread, limit = conflict
+    a, b = members[a], members[b]
+    raise DataError(f"{rows.at(q, b)}repeated time {rows.shown(x_name, x_all[b])} at the "
+                    f"same temperature as {rows.earlier_row(a, b)}, with values {spread:.3g} "
+                    f"decade apart, far beyond the noise ({limit:.3g} decade): "
+                    f"not a rounded time stamp; check the file")
 
 
 def group_temperatures(temperature_K, tolerance_K: float) -> list:

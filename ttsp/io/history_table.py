@@ -16,7 +16,8 @@ from .._validation import where
 from ..exceptions import DataError
 from ..units import parse_unit
 from .headers import split_unit
-from .readers import _column_floats, read_table
+from .cell_numbers import column_floats
+from .tables import read_table
 
 __all__ = ["LoadingHistory", "read_history_table", "check_temperatures_for_law",
            "refuse_overflow"]
@@ -104,7 +105,7 @@ def read_history_table(path) -> LoadingHistory:
         j, header, unit = found[role]
         # the campaign reader's rules: the same numbers are read (no 1_000, no thousands
         # separators taken for decimal marks), and the first bad row is named
-        values = _column_floats(table, j, header, empty_allowed=False)
+        values = column_floats(table, j, header, empty_allowed=False)
         bad = np.flatnonzero(~np.isfinite(values))
         if bad.size:
             i = int(bad[0])

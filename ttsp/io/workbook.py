@@ -1,4 +1,4 @@
-"""Cells of one sheet of an .xlsx workbook, read as text lines for :mod:`ttsp.io.readers`.
+"""Cells of one sheet of an .xlsx workbook, read as text lines for :mod:`ttsp.io.tables`.
 
 The sheet is streamed (openpyxl's read-only mode) without trusting its declared dimension: a
 single stray cell at ``XFD1000000`` declares a used range of 1.6e10 cells, and padding every row
