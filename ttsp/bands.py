@@ -365,6 +365,25 @@ def _refit_frequency(omega, values: dict, tau, modulus_kind):
     return PronySeries(e_inf, tau[keep], g[keep], modulus_kind=modulus_kind)
 
 
+def _refit_member(xs, values: dict, domain: str, tau, quantity, terms_per_decade: float,
+                  modulus_kind: str):
+    """One member's Prony series refitted to a resampled master curve, or None when that
+    resample cannot be fitted (the ensemble goes on without it)."""
+    from .exceptions import FitError
+    from .prony import PronySeries, fit_prony_time
+
+    try:
+        if domain == "frequency":
+            return _refit_frequency(xs, values, tau, modulus_kind)
+        (y,) = values.values()
+        fit = fit_prony_time(xs, y, quantity=quantity, terms_per_decade=terms_per_decade,
+                             modulus_kind=modulus_kind)
+    except (DataError, FitError):
+        return None
+    s = fit.series
+    return PronySeries(s.equilibrium_modulus_Pa, s.tau_s, s.modulus_Pa, modulus_kind=modulus_kind)
+
+
 def fit_band_ensemble(x, values: dict, isotherm, *, domain: str, series, shifts, law_fit,
                       terms_per_decade: float, quantity: str | None = None,
                       n_members: int = DEFAULT_MEMBERS, seed: int = 0) -> BandEnsemble:
@@ -395,7 +414,7 @@ def fit_band_ensemble(x, values: dict, isotherm, *, domain: str, series, shifts,
         Seed of the generator: the same build gives the same band.
     """
     from .exceptions import FitError, FitQualityWarning
-    from .prony import PronySeries, fit_prony_time, log_spaced_relaxation_times
+    from .prony import log_spaced_relaxation_times
 
     rng = np.random.default_rng(seed)
     x = np.asarray(x, dtype=float)
@@ -428,19 +447,10 @@ def fit_band_ensemble(x, values: dict, isotherm, *, domain: str, series, shifts,
             # one draw per point for all its functions: E' and E'' of a point share its errors
             pick = order[start[group] + (rng.random(x.size) * size[group]).astype(int)]
             new = [f * np.exp(r[pick]) for f, r in zip(fitted, resid)]
-            try:
-                if domain == "frequency":
-                    members.append(_refit_frequency(xs, dict(zip(cols, new)), tau,
-                                                    series.modulus_kind))
-                    continue
-                fit = fit_prony_time(xs, new[0], quantity=quantity,
-                                         terms_per_decade=terms_per_decade,
-                                         modulus_kind=series.modulus_kind)
-            except (DataError, FitError):
-                continue
-            s = fit.series
-            members.append(PronySeries(s.equilibrium_modulus_Pa, s.tau_s, s.modulus_Pa,
-                                       modulus_kind=series.modulus_kind))
+            member = _refit_member(xs, dict(zip(cols, new)), domain, tau, quantity,
+                                   terms_per_decade, series.modulus_kind)
+            if member is not None:
+                members.append(member)
     if len(members) < 3:
         raise FitError("the band's bootstrap could not refit the Prony series on resampled "
                        "master curves (fewer than 3 of them fitted)")

@@ -362,11 +362,18 @@ def build_cmd(inputs: List[Path] = typer.Argument(..., help="Files or folders of
                                    tolerance=tolerance, modulus_kind=modulus_kind,
                                    temperature_from_name=temperature_from_name,
                                    repeats=repeats, title=title, units=units.value)
-    typer.echo(str(folder / ("report.html" if not no_figures else "summary.json")))
+    _say_built(result, folder / ("report.html" if not no_figures else "summary.json"),
+               spectrum_asked=spectrum, strict=strict)
+
+
+def _say_built(result, written: Path, *, spectrum_asked: bool, strict: bool) -> None:
+    """After a build: the main file written, the terminal summary, a spectrum that could not be
+    fitted, and exit 3 under --strict when a check failed."""
+    typer.echo(str(written))
     from .terminal import build_summary_lines
 
     typer.echo("\n".join(build_summary_lines(result)))
-    if spectrum and result.relaxation_spectrum is None:
+    if spectrum_asked and result.relaxation_spectrum is None:
         why = next((w for w in result.warnings if "continuous relaxation spectrum" in w),
                    "the continuous relaxation spectrum was not fitted")
         typer.echo(f"ttsp: no relaxation_spectrum.csv: {why}", err=True)
