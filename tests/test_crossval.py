@@ -155,25 +155,6 @@ def test_a_requested_model_is_used_and_said():
 
 
 # ---- speed without a change of answer ------------------------------------------------------
-def test_folds_in_two_threads_give_the_same_answer_as_one_after_another(monkeypatch):
-    """A large campaign's folds run two at a time; the folds share nothing, so the numbers
-    must be identical to the last digit to those of the folds run in turn."""
-    import ttsp.crossval as cvmod
-
-    from ttsp.workflow import fit_steps
-
-    camp, _ = campaign(noise=0.02, seed=3, n_points=12)
-    opts = BuildOptions(reference_temperature_C=TREF_C)
-    full = quiet(fit_steps, camp.with_derived(), opts, 320.0, measure_collapse=False)
-    monkeypatch.setattr(cvmod, "PARALLEL_FROM_POINTS", 10 ** 9)
-    monkeypatch.setattr(cvmod.os, "sched_getaffinity", lambda pid: {0, 1}, raising=False)
-    serial = quiet(cross_validate, camp, opts, 320.0, full=full)
-    monkeypatch.setattr(cvmod, "PARALLEL_FROM_POINTS", 0)
-    assert cvmod._fold_workers(camp.with_derived()) == 2
-    threaded = quiet(cross_validate, camp, opts, 320.0, full=full)
-    assert json.dumps(threaded.to_dict()) == json.dumps(serial.to_dict())
-
-
 def test_a_fold_started_from_the_full_shifts_reaches_the_same_shifts():
     """The folds start their shift fit from the full build's shifts (fewer iterations); the
     objective is the same, so is the optimum, to the solver's tolerance (measured ≤ 2e-5

@@ -27,9 +27,7 @@ costs one fit instead of one per candidate and fold.
 from __future__ import annotations
 
 import math
-import os
 import warnings
-from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass, replace
 
 import numpy as np
@@ -177,10 +175,6 @@ class CrossValidation:
 #: at most this many isotherms are held out (each costs a rebuild); beyond it, an evenly
 #: spread subset of the interior ones
 MAX_HELD_OUT = 8
-#: a campaign of at least this many measured points has its folds run two at a time (where
-#: two CPUs are free to this process): their large array work releases the interpreter
-#: lock, while on small campaigns the lock-bound Python steps would only take turns
-PARALLEL_FROM_POINTS = 20_000
 
 
 def held_out_indices(n_isotherms: int, limit: int = MAX_HELD_OUT) -> np.ndarray:
@@ -291,15 +285,6 @@ def _held_out(campaign: Campaign, k: int, options, t_ref: float, functions, star
                            predictor.rms_percent(law_s), predictor.rms_percent(best_s))
 
 
-def _fold_workers(campaign: Campaign) -> int:
-    """Two folds at a time for a large campaign where two CPUs are free, else one."""
-    try:
-        cpus = len(os.sched_getaffinity(0))
-    except AttributeError:  # pragma: no cover - not on Linux
-        cpus = os.cpu_count() or 1
-    return 2 if cpus >= 2 and campaign.n_points >= PARALLEL_FROM_POINTS else 1
-
-
 def _failed(iso, functions, reason: str) -> HeldOutIsotherm:
     nan = {f: math.nan for f in ("all",) + functions}
     return HeldOutIsotherm(float(iso.temperature_K), int(iso.n_points), math.nan, math.nan,
@@ -342,20 +327,8 @@ def cross_validate(campaign: Campaign, options=None, reference_temperature_K: fl
     functions = scored_functions(campaign)
     start_from = None if full is None else full.shifts
 
-    def one(k):
-        return _held_out(campaign, int(k), options, t_ref, functions, start_from)
-
-    ks = held_out_indices(len(campaign))
-    # warnings filters and the BLAS thread count are process-wide: set once around all folds
     with warnings.catch_warnings(), threadpool_limits(limits=1, user_api="blas"):
         warnings.simplefilter("ignore")
-        workers = _fold_workers(campaign)
-        if workers > 1 and len(ks) > 1:
-            pool = ThreadPoolExecutor(max_workers=workers)
-            try:
-                held = list(pool.map(one, ks))
-            finally:   # an interrupt does not start the folds still waiting
-                pool.shutdown(wait=True, cancel_futures=True)
-        else:
-            held = [one(k) for k in ks]
+        held = [_held_out(campaign, int(k), options, t_ref, functions, start_from)
+                for k in held_out_indices(len(campaign))]
     return CrossValidation(tuple(held), functions)

@@ -131,6 +131,20 @@ class SplineModel:
         return F, dF, J
 
 
+#: the spectrum model's kernels are made for at most this many rows at a time: the temporaries
+#: of one evaluation then stay a few MB whatever the campaign's size (a 500-isotherm
+#: campaign's folds, run two at a time, held several hundred MB each without it)
+EVAL_CHUNK_ROWS = 4096
+
+
+def _row_chunks(rows):
+    """``rows`` (a slice or an index array) in pieces of at most EVAL_CHUNK_ROWS rows."""
+    if isinstance(rows, slice):
+        return [slice(a, min(a + EVAL_CHUNK_ROWS, rows.stop))
+                for a in range(rows.start, rows.stop, EVAL_CHUNK_ROWS)]
+    return [rows[a:a + EVAL_CHUNK_ROWS] for a in range(0, rows.size, EVAL_CHUNK_ROWS)]
+
+
 def _rows_of(mask: np.ndarray):
     """The rows where ``mask`` holds: a slice when they are contiguous (a view, no copy)."""
     idx = np.flatnonzero(mask)
@@ -299,17 +313,16 @@ class SpectrumModel:
         n = u.size
         g = np.exp(np.clip(theta[1:], -700, 700))
         e0 = float(theta[0])
-        X = self._x(u)
         F = np.empty(n)
         dF = np.empty(n)
         J = np.empty((n, self.n_theta)) if jac else None
         kinds = self.kind_of_row
         if self.time:
-            for kind in ("relax", "creep"):
-                r = np.flatnonzero(kinds == kind)
+            for kind, r in ((k, rr) for k in ("relax", "creep")
+                            for rr in _row_chunks(np.flatnonzero(kinds == k))):
                 if r.size == 0:
                     continue
-                Xr = X[r]
+                Xr = self._x(u[r])
                 ex = np.exp(-Xr)
                 dK = Xr * ex
                 if kind == "relax":
@@ -326,8 +339,8 @@ class SpectrumModel:
         else:
             # each function on its own rows (contiguous when the problem is ordered by
             # function), with only the kernels and derivatives that function needs
-            for kind, r in self.row_groups:
-                Xr = X[r]
+            for kind, r in ((k, rr) for k, rows in self.row_groups for rr in _row_chunks(rows)):
+                Xr = self._x(u[r])
                 inv = 1.0 / (1.0 + Xr * Xr)
                 K2 = Xr * inv                      # ωτ/(1 + ω²τ²)
                 K1 = Xr * K2                       # ω²τ²/(1 + ω²τ²)

@@ -179,7 +179,7 @@ class ShiftResult:
                 "stderr_correlation_inflation": float(self.correlation_inflation),
                 "shift_factors": rows}
 
-    def shifted_frame(self, campaign: Campaign):
+    def shifted_frame(self, campaign: Campaign, functions=None):
         """Every point of ``campaign`` with its reduced abscissa and shifted values (DataFrame).
 
         Columns: ``isotherm``, ``temperature_K``, ``temperature_C``, the measured abscissa
@@ -187,7 +187,8 @@ class ShiftResult:
         ω·a_T or ``reduced_time_s`` = t/a_T), ``log10_aT``, ``log10_bT``, every measured
         function as a *reduced* value (moduli divided by b_T, compliances multiplied by b_T,
         tan δ and δ unchanged; with b_T = 1 these are the measured values), ``source_row`` and
-        ``outlier``. No point is dropped.
+        ``outlier``. No point is dropped. ``functions`` (names): only those of the measured
+        functions (a fit that needs two of them need not hold every column of a dense campaign).
         """
         import pandas as pd
 
@@ -200,7 +201,8 @@ class ShiftResult:
             raise DataError("shifted_frame: the campaign does not match these shift factors "
                             f"(it has {len(campaign)} isotherms, the shifts cover {len(self)}; "
                             "temperatures and point counts must agree)")
-        names = [q for q in QUANTITIES if any(q in i.values for i in campaign.isotherms)]
+        names = [q for q in QUANTITIES if any(q in i.values for i in campaign.isotherms)
+                 and (functions is None or q in functions)]
         xr_name = "reduced_" + campaign.x_name
         isos = campaign.isotherms
         counts = np.array([iso.n_points for iso in isos])
