@@ -114,3 +114,24 @@ def test_build_draws_the_measured_creep_under_the_interconverted_curve():
     inside = (t > 1.0) & (t < 1e4)
     model = result.series.creep_compliance(t[inside])
     assert np.median(np.abs(j[inside] / model - 1)) < 0.01
+
+
+def test_relaxation_and_creep_in_two_files_are_refused_with_what_to_do(tmp_path):
+    """An instrument exports G(t) and J(t) of two tests as two files at the same temperatures;
+    read together, each lacks the other's column. The message says so (it named a missing
+    cell in row 2 before) and what to do; exit code 2 through the CLI."""
+    from typer.testing import CliRunner
+
+    from ttsp.cli import app
+
+    t = np.geomspace(1.0, 1000.0, 12)
+    g = 1e6 * (0.1 + np.exp(-t / 50.0))
+    (tmp_path / "relax.csv").write_text("Temperature (°C),Time (s),G(t) (Pa)\n" + "\n".join(
+        f"{T},{a:.6g},{b:.6g}" for T in (130, 150) for a, b in zip(t, g)) + "\n")
+    (tmp_path / "creep.csv").write_text("Temperature (°C),Time (s),J(t) (1/Pa)\n" + "\n".join(
+        f"{T},{a:.6g},{1 / b:.6g}" for T in (130, 150) for a, b in zip(t, g)) + "\n")
+    res = CliRunner().invoke(app, ["inspect", str(tmp_path / "relax.csv"),
+                                   str(tmp_path / "creep.csv")])
+    assert res.exit_code == 2
+    assert "creep.csv has no G(t) (Pa) column, while" in res.output
+    assert "put both in one table at the same times" in res.output

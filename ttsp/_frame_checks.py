@@ -184,6 +184,8 @@ def checked_measured_values(frame, quantities: list, groups: list, rows: FrameRo
         bad_mask = np.isinf(vals) | partly
         if bad_mask.any():
             bad = _first(bad_mask)
+            if partly[bad]:
+                _refuse_file_without_column(q, bad, nan, rows)
             missing = (" (a missing value where the rest of its isotherm has values)"
                        if partly[bad] else "")
             raise DataError(f"{rows.at(q, bad)}value must be a finite number; "
@@ -192,6 +194,24 @@ def checked_measured_values(frame, quantities: list, groups: list, rows: FrameRo
         if not nan.all():
             values[q] = (vals, all_nan_group)
     return values
+
+
+def _refuse_file_without_column(q: str, bad: int, nan: np.ndarray, rows: FrameRows) -> None:
+    """Files read together where one has no column for a function that another has at the
+    same temperature (relaxation and creep exported as two files): said as such, not as a
+    missing cell."""
+    if rows.files is None:
+        return
+    this = rows.files[bad]
+    in_file = rows.files == this
+    if not nan[in_file].all():
+        return
+    other = next(str(f) for f in rows.files[~nan])
+    raise DataError(f"{this} has no {rows.label(q)} column, while {other}, read with it, has "
+                    f"one at the same temperatures: files read together must carry the same "
+                    f"functions at each temperature. To check relaxation against creep measured "
+                    f"in two tests, put both in one table at the same times; or build each "
+                    f"file on its own")
 
 
 def _refuse_out_of_range(q: str, vals: np.ndarray, nan: np.ndarray, rows: FrameRows) -> None:
