@@ -63,9 +63,24 @@ rows        run                 wall s  peak RSS GB  notes
                                                      43.8, writing 9.1 s
 ==========  ==================  ======  ===========  ==============================================
 
-The target of 60 s is not met: cross-validation refits the joint shifts of 499 isotherms in
-each of its 8 folds (about 5 s each); without it (``--no-cross-validation``) the build takes
-about 45 s. The peak memory is now in writing (1.8 GB).
+The target of 60 s was not met then: cross-validation refitted the joint shifts of 499
+isotherms in each of its 8 folds (about 5 s each).
+
+After the folds start from the full build's shifts and the spectrum model evaluates 4096 rows
+at a time (4 December 2026, idle two-core machine, old = a871828 and new run alternately, two
+rounds each; ``/usr/bin/time``):
+
+==========  ==================  =========  ===========  =========================================
+rows        run                 wall s     peak RSS GB  notes
+==========  ==================  =========  ===========  =========================================
+1 000 000   old                 74.5, 75.9  1.91        shift factors 13.1-13.8, cross-validation
+                                                        41.3-42.0, writing 8.2 s; report 12.6 MB
+1 000 000   new                 50.4, 51.1  1.82        shift factors 11.6, cross-validation
+                                                        19.2-19.5, writing 7.9-8.0 s; report 12.6 MB
+==========  ==================  =========  ===========  =========================================
+
+Targets met: under 60 s, under 2 GB, report under 20 MB. Two folds at a time in threads were
+tried (44-55 s, but 2.0-2.3 GB: each fold's transient frames and matrices doubled) and dropped.
 
 Before that change: reading met the target with room to spare; the shift factors (a dense rows x modes model
 matrix per Gauss-Newton step) and the checks (dense point-to-polyline distances between every
