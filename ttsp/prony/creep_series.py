@@ -30,6 +30,7 @@ from .._arrays import readonly as _readonly
 from .._arrays import scalar_or_array as _shape_like
 from .._arrays import to_plain as _plain
 from .._validation import bad_value, check_choice, check_positive
+from ._terms import terms_from_dict
 from .secular import merge_terms, residue_weights, secular_roots
 
 if TYPE_CHECKING:
@@ -280,20 +281,8 @@ class CreepSeries:
         DataError
             If a required key is missing or a term is malformed.
         """
-        if not isinstance(data, Mapping):
-            raise bad_value("creep series data", "a dict", data)
-        for key in ("glassy_compliance_1_per_Pa", "terms"):
-            if key not in data:
-                raise bad_value("creep series data", f"a dict with the key {key!r}",
-                                sorted(data))
-        terms = data["terms"]
-        try:
-            lam = [float(t["retardation_time_s"]) for t in terms]
-            dj = [float(t["compliance_1_per_Pa"]) for t in terms]
-        except (TypeError, KeyError, ValueError):
-            raise bad_value("terms",
-                            "a list of {'retardation_time_s': ..., 'compliance_1_per_Pa': ...}",
-                            terms) from None
+        lam, dj = terms_from_dict(data, "creep series data", "glassy_compliance_1_per_Pa",
+                                 "retardation_time_s", "compliance_1_per_Pa")
         rng = data.get("valid_reduced_time_range_s")
         return cls(data["glassy_compliance_1_per_Pa"], np.array(lam), np.array(dj),
                    data.get("fluidity_1_per_Pa_s", 0.0),

@@ -39,6 +39,7 @@ from .._arrays import readonly as _readonly
 from .._arrays import scalar_or_array as _scalar_or_array
 from .._arrays import to_plain as _plain
 from .._validation import bad_value, check_choice, check_positive
+from ._terms import terms_from_dict
 from ..exceptions import FitQualityWarning
 from ..units import ZERO_CELSIUS_K
 from .creep_series import CreepSeries, creep_series_of
@@ -418,19 +419,8 @@ class PronySeries:
         DataError
             If a required key is missing or a term is malformed.
         """
-        if not isinstance(data, Mapping):
-            raise bad_value("Prony series data", "a dict", data)
-        for key in ("equilibrium_modulus_Pa", "terms"):
-            if key not in data:
-                raise bad_value("Prony series data", f"a dict with the key {key!r}",
-                                sorted(data))
-        terms = data["terms"]
-        try:
-            tau = [float(t["tau_s"]) for t in terms]
-            mod = [float(t["modulus_Pa"]) for t in terms]
-        except (TypeError, KeyError, ValueError):
-            raise bad_value("terms", "a list of {'tau_s': ..., 'modulus_Pa': ...}",
-                            terms) from None
+        tau, mod = terms_from_dict(data, "Prony series data", "equilibrium_modulus_Pa",
+                                 "tau_s", "modulus_Pa")
         t_ref = data.get("reference_temperature_K")
         if t_ref is None and data.get("reference_temperature_C") is not None:
             t_ref = float(data["reference_temperature_C"]) + _KELVIN_OFFSET
