@@ -57,8 +57,7 @@ ROOT = Path(__file__).resolve().parents[1]
 if str(ROOT) not in sys.path:
     sys.path.insert(0, str(ROOT))
 
-from benchmarks.generator import (SHAPES, make_campaign, prony_storage_loss,  # noqa: E402
-                                  spectrum, wlf_log10_aT)
+from benchmarks.generator import SHAPES, make_campaign, prony_storage_loss, spectrum, wlf_log10_aT  # noqa: E402
 from ttsp.data import Campaign, Isotherm  # noqa: E402
 from ttsp.exceptions import DataError, FitError  # noqa: E402
 

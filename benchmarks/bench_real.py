@@ -42,8 +42,9 @@ ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
 sys.path.insert(0, str(ROOT / "benchmarks"))
 
-import ttsp  # noqa: E402
 from bench_binders import baseline_prediction, campaign, load  # noqa: E402
+
+import ttsp  # noqa: E402
 
 TREF_C = 58.0
 HELD_OUT_C = (34.0, 46.0, 70.0)

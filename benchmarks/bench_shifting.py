@@ -46,8 +46,7 @@ HERE = Path(__file__).resolve().parent
 sys.path.insert(0, str(HERE))
 sys.path.insert(0, str(HERE.parent))
 
-from generator import (benchmark_cases, case_campaign, make_campaign,  # noqa: E402
-                       prony_storage_loss)
+from generator import benchmark_cases, case_campaign, make_campaign, prony_storage_loss  # noqa: E402
 
 from ttsp.data import Campaign  # noqa: E402
 from ttsp.pairwise import chained_pairwise_log10_aT, neighbour_mismatch  # noqa: E402

@@ -18,6 +18,7 @@ import warnings
 import numpy as np
 import pandas as pd
 import pytest
+from test_shifting import campaign, spectrum, wlf  # the exact-campaign generator of the shift tests
 from typer.testing import CliRunner
 
 import ttsp
@@ -28,8 +29,6 @@ from ttsp.interconvert import relaxation_to_creep
 from ttsp.model import ViscoelasticModel
 from ttsp.prony import PronySeries
 from ttsp.workflow import band_columns, predict
-
-from test_shifting import campaign, spectrum, wlf  # the exact-campaign generator of the shift tests
 
 TREF_K = 320.0
 TREF_C = TREF_K - 273.15

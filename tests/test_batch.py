@@ -26,8 +26,14 @@ from hypothesis import strategies as st
 
 import ttsp
 from ttsp import batch
-from ttsp.batch import (MANIFEST_COLUMNS, OPTION_COLUMNS, BatchItem, batch_exit_code,
-                        read_manifest, run_batch)
+from ttsp.batch import (
+    MANIFEST_COLUMNS,
+    OPTION_COLUMNS,
+    BatchItem,
+    batch_exit_code,
+    read_manifest,
+    run_batch,
+)
 from ttsp.exceptions import DataError
 from ttsp.io.writers import NUMBER_FILES
 from ttsp.runner import run_build

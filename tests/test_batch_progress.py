@@ -5,11 +5,10 @@ temperature of the table."""
 from __future__ import annotations
 
 import pytest
+from test_batch import T_REF_C, write_campaign, write_manifest
 
 from ttsp import batch
 from ttsp.batch import run_batch
-
-from test_batch import T_REF_C, write_campaign, write_manifest
 
 
 def test_start_line_count_and_time_left(tmp_path, capfd):

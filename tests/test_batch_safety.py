@@ -23,6 +23,8 @@ from pathlib import Path
 
 import pandas as pd
 import pytest
+from fault_injection import tagged_processes
+from test_batch import write_campaign, write_manifest
 from typer.testing import CliRunner
 
 from ttsp import batch
@@ -31,9 +33,6 @@ from ttsp.cli import app
 from ttsp.exceptions import DataError
 from ttsp.io.marker import read_marker
 from ttsp.io.writers import frame_to_csv_text, neutralise_formula
-
-from fault_injection import tagged_processes
-from test_batch import write_campaign, write_manifest
 
 pytestmark = pytest.mark.slow  # end-to-end: whole commands and processes
 

@@ -11,12 +11,11 @@ import json
 
 import pandas as pd
 import pytest
+from test_cli import write_campaign
 from typer.testing import CliRunner
 
 from ttsp.cli import app
 from ttsp.workflow import BuildOptions
-
-from test_cli import write_campaign
 
 runner = CliRunner()
 FAST = ["-T", "20", "--law", "wlf", "--no-cross-validation", "-q"]

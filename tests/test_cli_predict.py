@@ -11,12 +11,11 @@ import io
 import numpy as np
 import pandas as pd
 import pytest
+from test_cli import write_campaign
 from typer.testing import CliRunner
 
 from ttsp.axis_text import FREQUENCY_UNITS_HZ, TIME_UNITS_S, parse_axis
 from ttsp.cli import app
-
-from test_cli import write_campaign
 
 runner = CliRunner()
 YEAR_S = 365.25 * 86400.0   # the Julian year (common practice; 3.15576e7 s)

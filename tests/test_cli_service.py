@@ -12,11 +12,10 @@ import json
 import numpy as np
 import pandas as pd
 import pytest
+from test_cli import exact, log10_aT, write_campaign
 from typer.testing import CliRunner
 
 from ttsp.cli import app, load_model
-
-from test_cli import exact, log10_aT, write_campaign
 
 runner = CliRunner()
 

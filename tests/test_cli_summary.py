@@ -9,11 +9,10 @@ from __future__ import annotations
 
 import json
 
+from test_cli import write_campaign
 from typer.testing import CliRunner
 
 from ttsp.cli import app
-
-from test_cli import write_campaign
 
 runner = CliRunner()
 

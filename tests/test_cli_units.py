@@ -13,11 +13,10 @@ import math
 import numpy as np
 import pandas as pd
 import pytest
+from test_cli import write_campaign
 from typer.testing import CliRunner
 
 from ttsp.cli import app
-
-from test_cli import write_campaign
 
 runner = CliRunner()
 TABLES = ("master_curve.csv", "material_functions.csv", "prony.csv", "prony_finite_element.csv",

@@ -14,10 +14,18 @@ import numpy as np
 import pytest
 from scipy.optimize import minimize_scalar
 
-from ttsp.closed_forms import (MODELS, ClosedFormFit, FitComparison, compare_models,
-                               fit_closed_form, fit_havriliak_negami, fit_sigmoid,
-                               havriliak_negami_modulus, hn_loss_peak_omega_tau,
-                               sigmoid_log10_modulus)
+from ttsp.closed_forms import (
+    MODELS,
+    ClosedFormFit,
+    FitComparison,
+    compare_models,
+    fit_closed_form,
+    fit_havriliak_negami,
+    fit_sigmoid,
+    havriliak_negami_modulus,
+    hn_loss_peak_omega_tau,
+    sigmoid_log10_modulus,
+)
 from ttsp.exceptions import DataError, FitError
 from ttsp.prony import PronySeries, fit_prony_frequency
 

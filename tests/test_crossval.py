@@ -15,6 +15,7 @@ from pathlib import Path
 import jsonschema
 import numpy as np
 import pytest
+from test_shifting import campaign  # the exact-campaign generator of the shift tests
 
 import ttsp
 from ttsp.crossval import CrossValidation, cross_validate, held_out_indices
@@ -22,8 +23,6 @@ from ttsp.data import Campaign, Isotherm
 from ttsp.master_choice import SPECTRUM_TOLERANCE, choose_master_curve
 from ttsp.shifting import shift_isotherms
 from ttsp.workflow import BuildOptions
-
-from test_shifting import campaign  # the exact-campaign generator of the shift tests
 
 SCHEMA = Path(ttsp.__file__).parent / "schema" / "summary.schema.json"
 TREF_C = 320.0 - 273.15

@@ -12,7 +12,6 @@ import os
 from pathlib import Path
 
 import pytest
-
 from fault_injection import run_trial
 
 TRIALS = int(os.environ.get("TTSP_FAULT_TRIALS", "1"))

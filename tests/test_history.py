@@ -17,8 +17,13 @@ import pytest
 from scipy import integrate
 
 from ttsp.exceptions import DataError, ExtrapolationWarning
-from ttsp.history import (HistoryResponse, _linear_recurrence, reduced_time,
-                          strain_under_stress, stress_under_strain)
+from ttsp.history import (
+    HistoryResponse,
+    _linear_recurrence,
+    reduced_time,
+    strain_under_stress,
+    stress_under_strain,
+)
 from ttsp.interconvert import relaxation_to_creep
 from ttsp.prony import PronySeries
 

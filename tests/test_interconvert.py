@@ -20,8 +20,13 @@ from hypothesis import strategies as st
 from scipy import integrate
 
 from ttsp.exceptions import DataError, FitError
-from ttsp.interconvert import (CreepSeries, creep_to_relaxation, relaxation_to_creep,
-                               shear_to_tensile, tensile_to_shear)
+from ttsp.interconvert import (
+    CreepSeries,
+    creep_to_relaxation,
+    relaxation_to_creep,
+    shear_to_tensile,
+    tensile_to_shear,
+)
 from ttsp.prony import PronySeries
 from ttsp.prony.secular import secular_roots as _secular_roots
 

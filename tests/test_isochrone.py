@@ -12,12 +12,11 @@ import warnings
 
 import numpy as np
 import pytest
+from test_cli import write_campaign
 from typer.testing import CliRunner
 
 from ttsp.cli import app
 from ttsp.transition import storage_onset
-
-from test_cli import write_campaign
 
 runner = CliRunner()
 

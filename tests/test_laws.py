@@ -20,7 +20,6 @@ import scipy.constants
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from ttsp.laws import _solver, _start_grid, _weighting, choice, wlf_arrhenius
 from ttsp.exceptions import DataError, ExtrapolationWarning, FitError, FitQualityWarning
 from ttsp.laws import (
     AUTO_MODELS,
@@ -31,10 +30,15 @@ from ttsp.laws import (
     ShiftLawFit,
     WLFArrheniusLaw,
     WLFLaw,
+    _solver,
+    _start_grid,
+    _weighting,
+    choice,
     fit_shift_law,
     law_prediction_stderr,
     make_shift_law,
     vft_to_wlf,
+    wlf_arrhenius,
     wlf_at_reference,
     wlf_to_vft,
 )

@@ -11,10 +11,9 @@ import re
 import warnings
 
 import numpy as np
+from test_shifting import campaign
 
 from ttsp.data import Campaign, Isotherm
-
-from test_shifting import campaign
 
 
 def test_legend_count_equals_the_checks_count_of_points():

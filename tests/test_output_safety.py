@@ -23,6 +23,7 @@ import time
 from pathlib import Path
 
 import pytest
+from test_robustness import tree_hash, write_campaign
 from typer.testing import CliRunner
 
 from ttsp.cli import app
@@ -30,8 +31,6 @@ from ttsp.exceptions import DataError
 from ttsp.io import atomic, renames
 from ttsp.io.atomic import atomic_output_dir
 from ttsp.io.marker import MARKER, read_marker, why_not_replaceable
-
-from test_robustness import tree_hash, write_campaign
 
 ROOT = Path(__file__).resolve().parents[1]
 runner = CliRunner()

@@ -8,10 +8,9 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
+from test_shifting import campaign  # the exact-campaign generator of the shift tests
 
 from ttsp.pairwise import chained_pairwise_log10_aT, collapse_functions, neighbour_mismatch
-
-from test_shifting import campaign  # the exact-campaign generator of the shift tests
 
 
 @pytest.mark.parametrize("domain", ["frequency", "time"])

@@ -12,7 +12,6 @@ import warnings
 
 import numpy as np
 import pytest
-
 from test_shifting import campaign
 
 pytest.importorskip("matplotlib")
@@ -43,9 +42,9 @@ def _residual_points(residual_ax):
 
 
 def test_bridged_residuals_are_about_the_law_used_and_in_range(bridged_result):
-    from ttsp.plotting import plot_shift_factors
-
     from matplotlib.figure import Figure
+
+    from ttsp.plotting import plot_shift_factors
 
     fig = Figure()
     ax, rax = fig.add_subplot(211), fig.add_subplot(212)
@@ -67,9 +66,9 @@ def test_bridged_residuals_are_about_the_law_used_and_in_range(bridged_result):
 
 
 def test_the_law_reaches_the_bridged_isotherms_dashed(bridged_result):
-    from ttsp.plotting import plot_shift_factors
-
     from matplotlib.figure import Figure
+
+    from ttsp.plotting import plot_shift_factors
 
     fig = Figure()
     ax, rax = fig.add_subplot(211), fig.add_subplot(212)

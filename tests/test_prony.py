@@ -22,8 +22,13 @@ from scipy.integrate import quad
 from scipy.special import erfcx
 
 from ttsp.exceptions import DataError, FitError, FitQualityWarning
-from ttsp.prony import (PronyFit, PronySeries, fit_prony_frequency, fit_prony_time,
-                        log_spaced_relaxation_times)
+from ttsp.prony import (
+    PronyFit,
+    PronySeries,
+    fit_prony_frequency,
+    fit_prony_time,
+    log_spaced_relaxation_times,
+)
 
 
 # --------------------------------------------------------------------------- closed forms

@@ -64,7 +64,7 @@ def exact_log_isochrone(quantity, T_K, frequency_Hz=1.0):
     return float(np.log10(exact_loss(w) / exact_storage(w)))
 
 
-@functools.lru_cache(maxsize=None)
+@functools.cache
 def true_peak_K(quantity, frequency_Hz=1.0):
     """Independent reference: scipy.optimize.minimize_scalar (bounded) on the exact functions."""
     res = minimize_scalar(lambda T: -exact_log_isochrone(quantity, T, frequency_Hz),
@@ -73,7 +73,7 @@ def true_peak_K(quantity, frequency_Hz=1.0):
     return float(res.x)
 
 
-@functools.lru_cache(maxsize=None)
+@functools.cache
 def parabola_bound_K(quantity, spacing_K):
     """Leading error of a three-point parabola vertex: |y'''| h^2 / (6 |y''|).
 

@@ -19,8 +19,7 @@ from hypothesis import given
 from hypothesis import strategies as st
 
 from ttsp.exceptions import DataError
-from ttsp.units import (PSI_PA, celsius_to_kelvin, from_si, kelvin_to_celsius, parse_unit,
-                        to_si)
+from ttsp.units import PSI_PA, celsius_to_kelvin, from_si, kelvin_to_celsius, parse_unit, to_si
 
 TWO_PI = 2.0 * math.pi
 

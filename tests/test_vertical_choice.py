@@ -16,14 +16,13 @@ from pathlib import Path
 import jsonschema
 import numpy as np
 import pytest
+from test_shifting import campaign  # the exact-campaign generator of the shift tests
 from typer.testing import CliRunner
 
 import ttsp
 from ttsp.cli import app
 from ttsp.data import Campaign
 from ttsp.vertical_choice import VERTICAL_GAIN
-
-from test_shifting import campaign  # the exact-campaign generator of the shift tests
 
 SCHEMA = Path(ttsp.__file__).parent / "schema" / "summary.schema.json"
 TREF_K = 320.0

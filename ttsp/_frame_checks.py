@@ -12,8 +12,8 @@ the bad value in the unit it was read in (:class:`FrameRows`).
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from dataclasses import dataclass
-from typing import Mapping
 
 import numpy as np
 
@@ -44,7 +44,7 @@ class FrameRows:
 
     @classmethod
     def of(cls, frame, source: str, labels: Mapping[str, str],
-           units_as_read: Mapping[str, str]) -> "FrameRows":
+           units_as_read: Mapping[str, str]) -> FrameRows:
         rows = (np.asarray(frame["source_row"], dtype=np.int64) if "source_row" in frame.columns
                 else np.arange(len(frame), dtype=np.int64) + 2)
         files = (np.asarray(frame["source_file"], dtype=object)

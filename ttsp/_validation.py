@@ -6,7 +6,8 @@ Template: ``<name> must be <rule>; got <value>``, prefixed with where the value 
 
 from __future__ import annotations
 
-from typing import Any, Iterable
+from collections.abc import Iterable
+from typing import Any
 
 import numpy as np
 

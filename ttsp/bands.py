@@ -266,7 +266,7 @@ class BandEnsemble:
                 "modulus_kind": self.modulus_kind}
 
     @classmethod
-    def from_dict(cls, data, law) -> "BandEnsemble":
+    def from_dict(cls, data, law) -> BandEnsemble:
         """From :meth:`to_dict` output (the ``bands`` section of a summary) and the build's law."""
         from .prony import PronySeries
 

@@ -5,10 +5,9 @@ from __future__ import annotations
 import math
 from dataclasses import asdict, dataclass
 
-
 from ._validation import bad_value, check_choice
-from .master_choice import MASTER_CURVE_CHOICES
 from .laws.names import LAW_MODELS
+from .master_choice import MASTER_CURVE_CHOICES
 
 SCHEMA_VERSION = "1"
 LAW_CHOICES = ("auto",) + LAW_MODELS

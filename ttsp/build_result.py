@@ -15,10 +15,11 @@ import numpy as np
 
 from . import __version__
 from ._arrays import outside_log_range
-from .data import Campaign
 from .bands import band_columns
 from .build_options import SCHEMA_VERSION, BuildOptions
+from .data import Campaign
 from .units import celsius_to_kelvin, kelvin_to_celsius
+
 
 def _spectrum_summary(spectrum):
     """The summary.json entry of the continuous spectrum (its table is in the CSV file)."""
@@ -162,7 +163,7 @@ class BuildResult:
         import pandas as pd
 
         from .exceptions import ExtrapolationWarning
-        from .selection import MATCH_K   # the isotherm tolerance: within it, not beyond
+        from .selection import MATCH_K  # the isotherm tolerance: within it, not beyond
 
         lo, hi = self.series.valid_reduced_time_range_s
         T_K = float(celsius_to_kelvin(temperature_C))

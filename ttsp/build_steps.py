@@ -14,8 +14,8 @@ import numpy as np
 from ._arrays import evenly_spaced_indices
 from .build_options import BuildOptions
 from .data import REFERENCE_SNAP_K, Campaign
-from .master_choice import choose_master_curve
 from .exceptions import DataError, FitError, FitQualityWarning, TtspWarning
+from .master_choice import choose_master_curve
 from .units import celsius_to_kelvin
 
 #: The Prony fit uses at most this many master-curve points (evenly by rank of reduced x): a
@@ -105,9 +105,8 @@ def fit_steps(campaign: Campaign, options: BuildOptions, t_ref_K: float, step=No
     iterations from the full build's shifts (``start_from``: same optimum, fewer iterations).
     """
     from .model import VerticalShift, ViscoelasticModel
-    from .shifting import shift_isotherms
-
     from .selection import fixed_shifts_K
+    from .shifting import shift_isotherms
 
     step = step or (lambda name: None)
     step("shift factors")

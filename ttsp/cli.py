@@ -14,17 +14,14 @@ from contextlib import contextmanager
 from enum import Enum
 from functools import wraps
 from pathlib import Path
-from typing import List, Optional
 
 import typer
 
-from . import __version__
+from . import __version__, _help_words
 from ._validation import printable
 from .exceptions import DataError, OptionValueError, TtspError
 from .laws.names import LAW_MODELS
 from .runner import read_inputs, run_build
-
-from . import _help_words
 
 _help_words.apply()
 # plain help: rich's option table cuts long option names at 80 columns
@@ -169,10 +166,10 @@ def describe(campaign) -> str:
 
 @app.command("inspect")
 @guarded
-def inspect_cmd(inputs: List[Path] = typer.Argument(..., help="Files or folders of one campaign."),
-                column: Optional[List[str]] = COLUMN_OPT, unit: Optional[List[str]] = UNIT_OPT,
-                sheet: Optional[str] = SHEET_OPT, tolerance: float = TOL_OPT,
-                modulus_kind: Optional[str] = KIND_OPT,
+def inspect_cmd(inputs: list[Path] = typer.Argument(..., help="Files or folders of one campaign."),
+                column: list[str] | None = COLUMN_OPT, unit: list[str] | None = UNIT_OPT,
+                sheet: str | None = SHEET_OPT, tolerance: float = TOL_OPT,
+                modulus_kind: str | None = KIND_OPT,
                 temperature_from_name: bool = NAME_T_OPT, repeats: str = REPEATS_OPT):
     """Show what the reader understood (isotherms, ranges, units, dropped rows), fitting nothing."""
     import warnings
@@ -288,13 +285,13 @@ def _check_lines(result) -> str:
 
 @app.command("build")
 @guarded
-def build_cmd(inputs: List[Path] = typer.Argument(..., help="Files or folders of one campaign."),
-              reference_temperature: Optional[float] = typer.Option(
+def build_cmd(inputs: list[Path] = typer.Argument(..., help="Files or folders of one campaign."),
+              reference_temperature: float | None = typer.Option(
                   None, "--reference-temperature", "-T",
                   help="Reference temperature in °C (default: the measured one nearest the median)."),
               law: Law = typer.Option(Law.auto, "--law", help="Shift law to fit."),
               vertical: Vertical = typer.Option(Vertical.none, "--vertical", help=VERTICAL_HELP),
-              expansion_coefficient: Optional[float] = typer.Option(
+              expansion_coefficient: float | None = typer.Option(
                   None, "--expansion-coefficient",
                   help="Volumetric expansion coefficient in 1/K (for --vertical density)."),
               shift_on: ShiftOn = typer.Option(ShiftOn.auto, "--shift-on",
@@ -303,7 +300,7 @@ def build_cmd(inputs: List[Path] = typer.Argument(..., help="Files or folders of
                                         help="stop at isotherms that do not overlap, or bridge them."),
               prony_density: float = typer.Option(2.0, "--prony-density",
                                                   help="Prony relaxation times per decade."),
-              glass_transition: Optional[float] = typer.Option(
+              glass_transition: float | None = typer.Option(
                   None, "--glass-transition", help="Tg in °C for --law wlf-arrhenius (else fitted)."),
               spectrum: bool = typer.Option(
                   False, "--spectrum",
@@ -320,22 +317,22 @@ def build_cmd(inputs: List[Path] = typer.Argument(..., help="Files or folders of
               material: Material = typer.Option(
                   Material.solid, "--material",
                   help="liquid (a melt: equilibrium modulus 0, creep with flow) or solid."),
-              exclude: Optional[List[float]] = typer.Option(
+              exclude: list[float] | None = typer.Option(
                   None, "--exclude", metavar="T",
                   help="Leave out the isotherm at T °C (within 0.5 K); repeatable."),
-              fix_shift: Optional[List[str]] = typer.Option(
+              fix_shift: list[str] | None = typer.Option(
                   None, "--fix-shift", metavar="T=LOG10_AT",
                   help="Hold the shift of the isotherm at T °C at log10 a_T (e.g. 35=1.24); "
                        "repeatable."),
-              service_temperature: Optional[float] = typer.Option(
+              service_temperature: float | None = typer.Option(
                   None, "--service-temperature", metavar="T",
                   help="Also tabulate E(t), D(t), E', E'', tan δ at T °C "
                        "(service_functions.csv)."),
-              isochrone_frequency: Optional[str] = typer.Option(
+              isochrone_frequency: str | None = typer.Option(
                   None, "--isochrone-frequency", metavar="FREQ",
                   help="Frequency of the isochronal figure and its Tg readings (E' onset, "
                        "E'' peak, tan δ peak); units mHz, Hz, kHz.  [default: 1Hz]"),
-              title: Optional[str] = typer.Option(
+              title: str | None = typer.Option(
                   None, "--title", help="Title of the report (default: the sample's name from "
                                         "the input's metadata, else its file name)."),
               units: Units = typer.Option(
@@ -348,9 +345,9 @@ def build_cmd(inputs: List[Path] = typer.Argument(..., help="Files or folders of
                                               help="Numbers only: no figures, no HTML page."),
               strict: bool = typer.Option(False, "--strict", help="Exit 3 when a check fails."),
               quiet: bool = typer.Option(False, "--quiet", "-q", help="No progress on stderr."),
-              column: Optional[List[str]] = COLUMN_OPT, unit: Optional[List[str]] = UNIT_OPT,
-              sheet: Optional[str] = SHEET_OPT, tolerance: float = TOL_OPT,
-              modulus_kind: Optional[str] = KIND_OPT,
+              column: list[str] | None = COLUMN_OPT, unit: list[str] | None = UNIT_OPT,
+              sheet: str | None = SHEET_OPT, tolerance: float = TOL_OPT,
+              modulus_kind: str | None = KIND_OPT,
               temperature_from_name: bool = NAME_T_OPT, repeats: str = REPEATS_OPT):
     """Build the master curve, shift law, Prony series, material functions, checks and report."""
     options = _options(reference_temperature, law, vertical, expansion_coefficient, shift_on, gaps,
@@ -408,28 +405,28 @@ def demo_cmd(out: Path = typer.Option(Path("ttsp-demo"), "--out", "-o", help="Ou
 
 @app.command("check")
 @guarded
-def check_cmd(inputs: List[Path] = typer.Argument(..., help="Files or folders of one campaign."),
-              reference_temperature: Optional[float] = typer.Option(
+def check_cmd(inputs: list[Path] = typer.Argument(..., help="Files or folders of one campaign."),
+              reference_temperature: float | None = typer.Option(
                   None, "--reference-temperature", "-T", help="Reference temperature in °C."),
               law: Law = typer.Option(Law.auto, "--law", help="Shift law to fit."),
               vertical: Vertical = typer.Option(Vertical.none, "--vertical", help=VERTICAL_HELP),
-              expansion_coefficient: Optional[float] = typer.Option(
+              expansion_coefficient: float | None = typer.Option(
                   None, "--expansion-coefficient",
                   help="Volumetric expansion coefficient in 1/K (for --vertical density)."),
               shift_on: ShiftOn = typer.Option(ShiftOn.auto, "--shift-on",
                                                help="Functions to shift on."),
               gaps: Gaps = typer.Option(Gaps.stop, "--gaps",
                                         help="stop at isotherms that do not overlap, or bridge them."),
-              glass_transition: Optional[float] = typer.Option(
+              glass_transition: float | None = typer.Option(
                   None, "--glass-transition", help="Tg in °C for --law wlf-arrhenius (else fitted)."),
               master_curve: MasterCurve = typer.Option(
                   MasterCurve.auto, "--master-curve",
                   help="Model the shifts are fitted with (as for build)."),
               strict: bool = typer.Option(False, "--strict", help="Exit 3 when a check fails."),
               as_json: bool = typer.Option(False, "--json", help="Print the checks as JSON."),
-              column: Optional[List[str]] = COLUMN_OPT, unit: Optional[List[str]] = UNIT_OPT,
-              sheet: Optional[str] = SHEET_OPT, tolerance: float = TOL_OPT,
-              modulus_kind: Optional[str] = KIND_OPT,
+              column: list[str] | None = COLUMN_OPT, unit: list[str] | None = UNIT_OPT,
+              sheet: str | None = SHEET_OPT, tolerance: float = TOL_OPT,
+              modulus_kind: str | None = KIND_OPT,
               temperature_from_name: bool = NAME_T_OPT, repeats: str = REPEATS_OPT):
     """Does superposition hold? Run the checks and print a verdict for each.
 
@@ -438,10 +435,9 @@ def check_cmd(inputs: List[Path] = typer.Argument(..., help="Files or folders of
     build runs without cross-validation, which no check uses.
     """
     import warnings
+    from dataclasses import replace
 
     from .workflow import build
-
-    from dataclasses import replace
 
     options = replace(_options(reference_temperature, law, vertical, expansion_coefficient,
                                shift_on, gaps, 2.0, glass_transition, False, master_curve,
@@ -555,18 +551,18 @@ def predict_cmd(model: Path = typer.Argument(..., help="summary.json of a build,
                     ..., "--quantity", metavar="Q", show_choices=False,
                     help="Material function: " + ", ".join(q.value for q in Quantity) + "."),
                 temperature: float = typer.Option(..., "--temperature", help="Temperature in °C."),
-                time_grid: Optional[str] = typer.Option(
+                time_grid: str | None = typer.Option(
                     None, "--time", metavar="TIME|a:b:n",
                     help="One time (10y, 3.156e8, 2h) or n log-spaced times from a to b "
                          "(1s:10y:50); units s, min, h, d, y (default s)."),
-                frequency_grid: Optional[str] = typer.Option(
+                frequency_grid: str | None = typer.Option(
                     None, "--frequency", metavar="FREQ|a:b:n",
                     help="One frequency (1Hz, 2kHz) or n log-spaced frequencies from a to b "
                          "(0.01:100:50); units mHz, Hz, kHz (default Hz)."),
                 tolerance: float = TOL_OPT,
-                out: Optional[Path] = typer.Option(None, "--out", "-o",
+                out: Path | None = typer.Option(None, "--out", "-o",
                                                    help="CSV file (default: stdout)."),
-                band: Optional[float] = typer.Option(
+                band: float | None = typer.Option(
                     None, "--band", metavar="LEVEL",
                     help="Also write <quantity>_low_<unit> and <quantity>_high_<unit>: the "
                          "interval at this level (e.g. 0.95) from the build's bootstrap.")):
@@ -612,7 +608,7 @@ def predict_cmd(model: Path = typer.Argument(..., help="summary.json of a build,
 def history_cmd(model: Path = typer.Argument(..., help="summary.json of a build, or its folder."),
                 table: Path = typer.Argument(..., help="CSV: time, temperature (optional), and "
                                                        "strain or stress."),
-                out: Optional[Path] = typer.Option(None, "--out", "-o",
+                out: Path | None = typer.Option(None, "--out", "-o",
                                                    help="CSV file (default: stdout).")):
     """Stress under a strain history, or strain under a stress history, with temperatures."""
     import warnings
@@ -642,9 +638,9 @@ def history_cmd(model: Path = typer.Argument(..., help="summary.json of a build,
 def batch_cmd(manifest: Path = typer.Argument(..., help="CSV or JSON Lines with id and path "
                                                         "columns, or a folder of campaigns."),
               out: Path = typer.Option(..., "--out", "-o", help="Output folder of the batch."),
-              workers: Optional[int] = typer.Option(None, "--workers", min=1,
+              workers: int | None = typer.Option(None, "--workers", min=1,
                                                     help="Worker processes (default: all cores)."),
-              scheduler: Optional[str] = typer.Option(
+              scheduler: str | None = typer.Option(
                   None, "--scheduler", help="Address of a Dask distributed scheduler."),
               no_figures: bool = typer.Option(False, "--no-figures",
                                               help="Numbers only: no figures, no HTML pages."),

@@ -24,8 +24,9 @@ from __future__ import annotations
 
 import html
 import math
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass
-from typing import Any, Callable, Mapping
+from typing import Any
 
 import numpy as np
 
@@ -227,7 +228,7 @@ class ClosedFormFit:
                                 omega_rad_s)
 
     # ------------------------------------------------------------------ comparison/export
-    def compare_with(self, *others: Any, names: tuple | None = None) -> "FitComparison":
+    def compare_with(self, *others: Any, names: tuple | None = None) -> FitComparison:
         """Compare this fit with others (e.g. a :class:`~ttsp.prony.PronyFit`) on this fit's data.
 
         Every model is evaluated on the quantities this fit was made to; see

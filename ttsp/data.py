@@ -16,21 +16,34 @@ here); :meth:`Campaign.from_frame` checks a frame's values through :mod:`ttsp._f
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from dataclasses import dataclass, field
 from itertools import pairwise
 from types import MappingProxyType
-from typing import Mapping
 
 import numpy as np
 
 from ._arrays import readonly as _readonly
-from ._frame_checks import (FrameRows, checked_measured_values, checked_temperature_and_x,
-                            columns_found, measured_quantities, needed_quantities)
+from ._frame_checks import (
+    FrameRows,
+    checked_measured_values,
+    checked_temperature_and_x,
+    columns_found,
+    measured_quantities,
+    needed_quantities,
+)
 from ._repeats import REPEAT_POLICIES, merge_repeats
 from ._validation import bad_value, check_positive, where
 from .exceptions import DataError
-from .quantities import (MAX_MAGNITUDE, MAX_TEMPERATURE_K,  # noqa: F401  (re-exported)
-                         DOMAINS, MODULUS_KINDS, QUANTITIES, X_COLUMN, Quantity)
+from .quantities import (  # noqa: F401  (re-exported)
+    DOMAINS,
+    MAX_MAGNITUDE,
+    MAX_TEMPERATURE_K,
+    MODULUS_KINDS,
+    QUANTITIES,
+    X_COLUMN,
+    Quantity,
+)
 from .units import kelvin_to_celsius
 
 __all__ = ["Quantity", "QUANTITIES", "Isotherm", "Campaign", "DOMAINS", "MODULUS_KINDS",
@@ -214,7 +227,7 @@ class Campaign:
         return len(self.isotherms)
 
     # ---- derived functions -------------------------------------------------------------------
-    def with_derived(self) -> "Campaign":
+    def with_derived(self) -> Campaign:
         """Return a campaign in which every frequency-domain function that follows from the
         measured ones is filled in: E', E'' from |E*| and δ (E' = |E*| cos δ, E'' = |E*| sin δ),
         tan δ = E''/E', |E*| = √(E'² + E''²), δ = atan2(E'', E'). Measured values are kept as they are.
@@ -282,7 +295,7 @@ class Campaign:
                    units_as_read: Mapping[str, str] | None = None,
                    metadata: Mapping[str, str] | None = None,
                    dropped_rows: Mapping[str, int] | None = None,
-                   min_isotherms: int = 2, repeats: str = "merge") -> "Campaign":
+                   min_isotherms: int = 2, repeats: str = "merge") -> Campaign:
         """Validate a tidy SI frame and group its rows into isotherms.
 
         Parameters

@@ -85,7 +85,7 @@ class VerticalShift:
 
     @classmethod
     def from_table(cls, mode: str, reference_temperature_K: float,
-                   expansion_coefficient_per_K, temperature_K, log10_bT) -> "VerticalShift":
+                   expansion_coefficient_per_K, temperature_K, log10_bT) -> VerticalShift:
         """From a shift table in any order: sorted by temperature, with the node (T_ref, 0)
         added in mode 'fit' when no isotherm lies within 0.05 K of the reference."""
         tr = float(reference_temperature_K)
@@ -98,7 +98,7 @@ class VerticalShift:
                    tuple(float(v) for v in T[order]), tuple(float(v) for v in b[order]))
 
     @classmethod
-    def from_shifts(cls, shifts) -> "VerticalShift | None":
+    def from_shifts(cls, shifts) -> VerticalShift | None:
         """The vertical shift of a :class:`~ttsp.shifting.ShiftResult`, None for mode 'none'."""
         mode = getattr(shifts, "vertical_mode", "none")
         if mode == "none":
@@ -325,7 +325,7 @@ class ViscoelasticModel:
                 f"{self.series._repr_html_()}</div>")
 
     @classmethod
-    def from_summary(cls, summary: dict) -> "ViscoelasticModel":
+    def from_summary(cls, summary: dict) -> ViscoelasticModel:
         """Rebuild the model from the ``summary.json`` that ``ttsp build`` writes."""
         from .laws import ShiftLaw
         from .prony import PronySeries

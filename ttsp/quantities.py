@@ -9,9 +9,9 @@ measurement may report. :mod:`ttsp.data` re-exports every name.
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from dataclasses import dataclass
 from types import MappingProxyType
-from typing import Mapping
 
 __all__ = ["Quantity", "QUANTITIES", "DOMAINS", "MODULUS_KINDS", "X_COLUMN", "MAX_MAGNITUDE",
            "MAX_TEMPERATURE_K"]

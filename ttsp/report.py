@@ -21,11 +21,10 @@ from importlib import resources
 import numpy as np
 from markupsafe import Markup
 
-from .units import display_modulus_unit
 from ._validation import bad_value
 from .exceptions import DataError
 from .laws.names import LAW_TITLES as _LAW_NAMES
-from .units import kelvin_to_celsius
+from .units import display_modulus_unit, kelvin_to_celsius
 
 __all__ = ["render_report", "FIGURE_CAPTIONS", "CAUTION"]
 

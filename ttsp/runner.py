@@ -127,9 +127,8 @@ def _fork_drawing(render, folder: Path, *, private: bool = False) -> int:
     import os
     import shutil
 
-    from .plotting import save_figures
-
     from ._lifetime import end_with_parent
+    from .plotting import save_figures
 
     parent = os.getpid()
     pid = os.fork()
@@ -199,8 +198,15 @@ def draw_figures(result, folder, *, parallel: bool = True, early=None) -> dict:
     import shutil
     import signal
 
-    from .plotting import CAMPAIGN_FIGURES, figure_files, figure_names, load_matplotlib, \
-        render_campaign_figures, render_figures, save_figures
+    from .plotting import (
+        CAMPAIGN_FIGURES,
+        figure_files,
+        figure_names,
+        load_matplotlib,
+        render_campaign_figures,
+        render_figures,
+        save_figures,
+    )
 
     load_matplotlib()   # before forking: the children share the loaded modules
     folder = Path(folder)
@@ -259,8 +265,8 @@ def run_build(inputs, options, out: Path, *, figures: bool, force: bool, quiet: 
     ``engineering``).
     """
     from .io.atomic import atomic_output_dir
-    from .io.writers import write_build_numbers
     from .io.readers import hash_inputs
+    from .io.writers import write_build_numbers
     from .workflow import build
 
     progress = Progress(quiet)

@@ -25,8 +25,8 @@ from __future__ import annotations
 
 import html
 import math
+from collections.abc import Mapping
 from dataclasses import KW_ONLY, dataclass
-from typing import Mapping
 
 import numpy as np
 
@@ -381,7 +381,7 @@ class _TikhonovProblem:
     e_fixed: float | None
 
     @classmethod
-    def build(cls, w, e1, e2, tau, e_fixed) -> "_TikhonovProblem":
+    def build(cls, w, e1, e2, tau, e_fixed) -> _TikhonovProblem:
         dln = _trapezoid_weights(np.log(tau))
         x = w[:, None] * tau[None, :]
         k1 = x * x / (1 + x * x) * dln

@@ -9,16 +9,33 @@ from dataclasses import replace
 
 import numpy as np
 
+from . import checks as check_suite  # run_checks looked up at each build: a test may replace it
 from ._arrays import evenly_spaced_indices
 from ._validation import bad_value
 from .bands import band_columns
-from .build_options import (GAP_CHOICES, LAW_CHOICES, MATERIAL_CHOICES, SCHEMA_VERSION,
-                            SHIFT_ON_CHOICES, VERTICAL_CHOICES, BuildOptions)
+from .build_options import (
+    GAP_CHOICES,
+    LAW_CHOICES,
+    MATERIAL_CHOICES,
+    SCHEMA_VERSION,
+    SHIFT_ON_CHOICES,
+    VERTICAL_CHOICES,
+    BuildOptions,
+)
 from .build_result import BuildResult, _campaign_hash
-from .build_steps import (LACK_OF_FIT_REDUCED_CHI_SQUARE, MAX_BAND_POINTS,
-                          MAX_CHECK_POINTS_PER_ISOTHERM, MAX_PRONY_POINTS, MAX_SPECTRUM_POINTS,
-                          FittedSteps, _fit_bands, _fit_law, _fit_spectrum, _law_rows, fit_steps)
-from . import checks as check_suite   # run_checks looked up at each build: a test may replace it
+from .build_steps import (
+    LACK_OF_FIT_REDUCED_CHI_SQUARE,
+    MAX_BAND_POINTS,
+    MAX_CHECK_POINTS_PER_ISOTHERM,
+    MAX_PRONY_POINTS,
+    MAX_SPECTRUM_POINTS,
+    FittedSteps,
+    _fit_bands,
+    _fit_law,
+    _fit_spectrum,
+    _law_rows,
+    fit_steps,
+)
 from .checks import disagreeing_temperatures_K
 from .data import Campaign
 from .exceptions import DataError, TtspWarning

@@ -81,7 +81,7 @@ one build run slower, not faster, with several BLAS threads competing for the sa
 from __future__ import annotations
 
 from .folder import batch_lock, check_results_files
-from .manifest import BatchItem, MANIFEST_COLUMNS, OPTION_COLUMNS, read_manifest
+from .manifest import MANIFEST_COLUMNS, OPTION_COLUMNS, BatchItem, read_manifest
 from .progress import BatchProgress
 from .results_table import RESULT_FILES, ResultsTable
 from .resume import reusable_summary

@@ -25,8 +25,14 @@ class BatchProgress:
         if self.mode == "lines" and sys.stderr.isatty():
             with contextlib.suppress(ImportError):
                 from rich.console import Console
-                from rich.progress import (BarColumn, MofNCompleteColumn, Progress, TextColumn,
-                                           TimeElapsedColumn, TimeRemainingColumn)
+                from rich.progress import (
+                    BarColumn,
+                    MofNCompleteColumn,
+                    Progress,
+                    TextColumn,
+                    TimeElapsedColumn,
+                    TimeRemainingColumn,
+                )
 
                 self._bar = Progress(TextColumn("ttsp batch"), BarColumn(), MofNCompleteColumn(),
                                      TextColumn("{task.fields[failed]} failed"),

@@ -68,30 +68,70 @@ One module per family of checks
 ``registry``                the registry and :func:`run_checks`
 """
 
-from .data_quality import (NOISE_FAIL_PERCENT, NOISE_ISOTHERM_PERCENT, NOISE_ISOTHERM_RATIO,
-                           NOISE_WARN_PERCENT, OUTLIER_FAIL_PERCENT, OUTLIER_WARN_PERCENT,
-                           check_noise_level, check_outliers)
-from .function_agreement import (AGREEMENT_FAIL_DECADES, AGREEMENT_TOLERANCE_DECADES,
-                                 AGREEMENT_WARN_DECADES, AGREEMENT_Z, check_function_agreement,
-                                 disagreeing_temperatures_K)
-from .kramers_kronig import (KK_EDGE_DECADES, KK_FAIL_PERCENT, KK_MIN_RATIO, KK_NOISE_FACTOR,
-                             KK_TERMS_PER_DECADE, KK_WARN_PERCENT, check_kramers_kronig)
-from .law_residuals import (LAW_PATTERN_ALPHA, LAW_RESIDUAL_FAIL_DECADES,
-                            LAW_RESIDUAL_FLOOR_DECADES, check_law_residuals)
+from .data_quality import (
+                           NOISE_FAIL_PERCENT,
+                           NOISE_ISOTHERM_PERCENT,
+                           NOISE_ISOTHERM_RATIO,
+                           NOISE_WARN_PERCENT,
+                           OUTLIER_FAIL_PERCENT,
+                           OUTLIER_WARN_PERCENT,
+                           check_noise_level,
+                           check_outliers,
+)
+from .function_agreement import (
+                           AGREEMENT_FAIL_DECADES,
+                           AGREEMENT_TOLERANCE_DECADES,
+                           AGREEMENT_WARN_DECADES,
+                           AGREEMENT_Z,
+                           check_function_agreement,
+                           disagreeing_temperatures_K,
+)
+from .kramers_kronig import (
+                           KK_EDGE_DECADES,
+                           KK_FAIL_PERCENT,
+                           KK_MIN_RATIO,
+                           KK_NOISE_FACTOR,
+                           KK_TERMS_PER_DECADE,
+                           KK_WARN_PERCENT,
+                           check_kramers_kronig,
+)
+from .law_residuals import (
+                           LAW_PATTERN_ALPHA,
+                           LAW_RESIDUAL_FAIL_DECADES,
+                           LAW_RESIDUAL_FLOOR_DECADES,
+                           check_law_residuals,
+)
 from .monotonic_shifts import MONOTONIC_SIGMA, check_monotonic_shifts
 from .noise import NOISE_FLOOR_LOG10, NOISE_FLOOR_RAD, estimate_noise
-from .overlap_coverage import (GAP_NOISE_FACTOR, MIN_OVERLAP_DECADES, MIN_OVERLAP_FRACTION,
-                               check_overlap_coverage)
-from .prony_fit import (PRONY_RMS_FAIL_PERCENT, PRONY_RMS_WARN_PERCENT,
-                        check_master_curve_range, check_prony_fit_quality)
+from .overlap_coverage import (
+                           GAP_NOISE_FACTOR,
+                           MIN_OVERLAP_DECADES,
+                           MIN_OVERLAP_FRACTION,
+                           check_overlap_coverage,
+)
+from .prony_fit import (
+                           PRONY_RMS_FAIL_PERCENT,
+                           PRONY_RMS_WARN_PERCENT,
+                           check_master_curve_range,
+                           check_prony_fit_quality,
+)
 from .registry import CHECK_NAMES, run_checks
-from .relaxation_vs_creep import (RELAXATION_CREEP_FAIL_PERCENT, RELAXATION_CREEP_WARN_PERCENT,
-                                  check_relaxation_creep)
+from .relaxation_vs_creep import (
+                           RELAXATION_CREEP_FAIL_PERCENT,
+                           RELAXATION_CREEP_WARN_PERCENT,
+                           check_relaxation_creep,
+)
 from .result import STATUSES, CheckResult, worst_status
 from .shifted_superposition import check_shifted_superposition
 from .simplicity import check_loss_vs_storage, check_van_gurp_palmen
-from .spread import (MIN_CLASS_POINTS, MIN_PAIR_POINTS, SPREAD_FAIL, SPREAD_TOLERANCE_LOG10,
-                     SPREAD_TOLERANCE_RAD, SPREAD_WARN)
+from .spread import (
+                           MIN_CLASS_POINTS,
+                           MIN_PAIR_POINTS,
+                           SPREAD_FAIL,
+                           SPREAD_TOLERANCE_LOG10,
+                           SPREAD_TOLERANCE_RAD,
+                           SPREAD_WARN,
+)
 
 __all__ = [
     "STATUSES",

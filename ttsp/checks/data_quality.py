@@ -9,7 +9,7 @@ import numpy as np
 
 from ..data import Campaign
 from ._inputs import _align_shifts, _as_campaign
-from .noise import NOISE_FLOOR_LOG10, _LN10, _noise_percent, estimate_noise
+from .noise import _LN10, NOISE_FLOOR_LOG10, _noise_percent, estimate_noise
 from .result import CheckResult, _grade
 
 __all__ = ["check_outliers", "check_noise_level", "OUTLIER_WARN_PERCENT", "OUTLIER_FAIL_PERCENT",

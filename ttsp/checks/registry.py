@@ -3,8 +3,8 @@ available and words each result in the symbols of the campaign (G and J for shea
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from dataclasses import dataclass
-from typing import Callable
 
 from ..data import Campaign
 from ..exceptions import FitError

@@ -9,9 +9,9 @@ from __future__ import annotations
 
 import html
 import math
+from collections.abc import Mapping
 from dataclasses import dataclass, field
 from types import MappingProxyType
-from typing import Mapping
 
 from .._arrays import to_plain
 from .._validation import check_choice

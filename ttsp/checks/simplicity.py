@@ -15,8 +15,13 @@ from ..data import Campaign
 from ._inputs import _align_shifts, _as_campaign
 from .noise import _typical_noise, estimate_noise
 from .result import CheckResult
-from .spread import (SPREAD_TOLERANCE_LOG10, SPREAD_TOLERANCE_RAD, _curve, _pairwise_spread,
-                     _spread_result)
+from .spread import (
+    SPREAD_TOLERANCE_LOG10,
+    SPREAD_TOLERANCE_RAD,
+    _curve,
+    _pairwise_spread,
+    _spread_result,
+)
 
 __all__ = ["check_van_gurp_palmen", "check_loss_vs_storage"]
 

@@ -16,9 +16,9 @@ from __future__ import annotations
 
 import os
 import warnings
+from collections.abc import Mapping
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Mapping
 
 from .._validation import check_positive, printable, where
 from ..data import Campaign
@@ -130,7 +130,7 @@ class _ReadOptions:
 
     @classmethod
     def checked(cls, *, temperature_tolerance_K, temperature_C, max_points,
-                **options) -> "_ReadOptions":
+                **options) -> _ReadOptions:
         tolerance_K = check_positive("temperature_tolerance_K", temperature_tolerance_K,
                                      allow_zero=True)
         if isinstance(temperature_C, Mapping):

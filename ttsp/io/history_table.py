@@ -15,8 +15,8 @@ import numpy as np
 from .._validation import where
 from ..exceptions import DataError
 from ..units import parse_unit
-from .headers import split_unit
 from .cell_numbers import column_floats
+from .headers import split_unit
 from .tables import read_table
 
 __all__ = ["LoadingHistory", "read_history_table", "check_temperatures_for_law",

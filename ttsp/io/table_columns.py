@@ -16,8 +16,9 @@ The result is a :class:`FileFrame`: a tidy frame of one file, with the columns o
 from __future__ import annotations
 
 import re
+from collections.abc import Mapping
 from dataclasses import dataclass, field, replace
-from typing import TYPE_CHECKING, Mapping
+from typing import TYPE_CHECKING
 
 import numpy as np
 

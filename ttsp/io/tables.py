@@ -26,8 +26,8 @@ import csv
 import os
 import re
 from collections import Counter
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field, replace
-from typing import Mapping, Sequence
 
 from .._validation import printable, where
 from ..exceptions import DataError

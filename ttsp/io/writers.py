@@ -88,7 +88,7 @@ def _csv_cells(values):
     """The CSV fields of one column, or None for a kind of column not handled here."""
     kind = values.dtype.kind
     if kind == "f":
-        return ["" if v != v else "%.10g" % v for v in values.tolist()]
+        return ["" if v != v else f"{v:.10g}" for v in values.tolist()]
     if kind in "iub":
         return [str(v) for v in values.tolist()]
     if kind in "OU" and all(v is None or isinstance(v, str) for v in values.tolist()):

@@ -5,7 +5,8 @@ from __future__ import annotations
 
 import html
 import math
-from typing import Any, Iterable
+from collections.abc import Iterable
+from typing import Any
 
 import numpy as np
 import scipy.constants

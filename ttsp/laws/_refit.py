@@ -3,7 +3,7 @@ cheap refit behind the law choice by held-out prediction."""
 
 from __future__ import annotations
 
-from typing import Mapping
+from collections.abc import Mapping
 
 import numpy as np
 

@@ -4,8 +4,8 @@ linear in its constants and unbounded, the direct weighted linear least-squares 
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from dataclasses import dataclass
-from typing import Mapping
 
 import numpy as np
 

@@ -8,7 +8,8 @@ trial, fits the laws that are linear in all their constants (Arrhenius, polynomi
 
 from __future__ import annotations
 
-from typing import Any, Iterator, Mapping
+from collections.abc import Iterator, Mapping
+from typing import Any
 
 import numpy as np
 

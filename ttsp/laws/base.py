@@ -12,15 +12,24 @@ from __future__ import annotations
 
 import abc
 import warnings
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass
-from typing import TYPE_CHECKING, Any, Callable, ClassVar, Mapping
+from typing import TYPE_CHECKING, Any, ClassVar
 
 import numpy as np
 
 from .._validation import bad_value, check_choice, check_finite, check_positive
 from ..exceptions import ExtrapolationWarning
-from ._common import (GAS_CONSTANT_J_PER_MOL_K, LN10, RANGE_TOLERANCE_K, ZERO_CELSIUS_K,
-                      as_temperature_array, check_range_K, html_table, to_celsius)
+from ._common import (
+    GAS_CONSTANT_J_PER_MOL_K,
+    LN10,
+    RANGE_TOLERANCE_K,
+    ZERO_CELSIUS_K,
+    as_temperature_array,
+    check_range_K,
+    html_table,
+    to_celsius,
+)
 from ._start_grid import weighted_lstsq
 from .names import LAW_MODELS
 
@@ -227,7 +236,7 @@ class ShiftLaw(abc.ABC):
         T = self._prepare(tg, stacklevel=2)
         return float(-tg * self._slope(self.params, T, self.reference_temperature_K))
 
-    def at_reference(self, reference_temperature_K: float) -> "ShiftLaw":
+    def at_reference(self, reference_temperature_K: float) -> ShiftLaw:
         """The same law referred to another reference temperature T_ref'.
 
         log10 a_T' (T) = log10 a_T(T) - log10 a_T(T_ref'), so that a_T'(T_ref') = 1. The valid
@@ -266,12 +275,12 @@ class ShiftLaw(abc.ABC):
         }
 
     @classmethod
-    def from_dict(cls, data: Mapping[str, Any]) -> "ShiftLaw":
+    def from_dict(cls, data: Mapping[str, Any]) -> ShiftLaw:
         """Rebuild a law from :meth:`to_dict` output (or the ``shift_law`` of a summary).
 
         Kelvin keys are used when present; otherwise the degC keys are converted.
         """
-        from .registry import SHIFT_LAWS   # the registry imports every law, each imports this
+        from .registry import SHIFT_LAWS  # the registry imports every law, each imports this
 
         if not isinstance(data, Mapping):
             raise bad_value("shift law description", "a mapping (as written by to_dict)", data)
@@ -365,7 +374,7 @@ class ShiftLaw(abc.ABC):
 
     @classmethod
     @abc.abstractmethod
-    def start_values(cls, T: np.ndarray, y: np.ndarray, weigh: "Weighting", tr: float,
+    def start_values(cls, T: np.ndarray, y: np.ndarray, weigh: Weighting, tr: float,
                      fixed: Mapping[str, float], bounds: Mapping[str, Bounds],
                      order: int) -> list[dict]:
         """Starting constants of the nonlinear fit, best first (empty when none is found)."""

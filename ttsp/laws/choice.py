@@ -10,7 +10,8 @@ from __future__ import annotations
 
 import math
 import warnings
-from typing import TYPE_CHECKING, Callable, Mapping
+from collections.abc import Callable, Mapping
+from typing import TYPE_CHECKING
 
 import numpy as np
 
@@ -47,7 +48,7 @@ HELD_OUT_GAIN_RATIO_POLYNOMIAL = 0.5
 _EMPIRICAL_EXTRA_CONSTANTS = 0.5
 
 
-def held_out_scores(candidates: Mapping, table: "ShiftTable", order: int) -> dict[str, float]:
+def held_out_scores(candidates: Mapping, table: ShiftTable, order: int) -> dict[str, float]:
     """Mean squared held-out error of each fitted law (see :func:`held_out_score`); the
     ``candidates`` carry each law's outcome and its held parameters and bounds."""
     weighting_without = _WeightingsWithout(table)
@@ -63,7 +64,7 @@ def held_out_scores(candidates: Mapping, table: "ShiftTable", order: int) -> dic
 class _WeightingsWithout:
     """The table's weighting less one row: one per left-out row, shared by every law."""
 
-    def __init__(self, table: "ShiftTable"):
+    def __init__(self, table: ShiftTable):
         self.weights, self.covariance = table.weights, table.covariance
         self.cache: dict = {}
 
@@ -78,7 +79,7 @@ class _WeightingsWithout:
 
 def held_out_score(cls, T: np.ndarray, y: np.ndarray, scale: np.ndarray,
                    weighting_without: Callable[[np.ndarray], Weighting], tr: float,
-                   fixed, bounds, order: int, full: "Outcome") -> float:
+                   fixed, bounds, order: int, full: Outcome) -> float:
     """Mean squared leave-one-out error of a law over the interior rows of a shift table.
 
     Each row strictly inside the temperature range is left out in turn, the law refitted to

@@ -17,7 +17,8 @@ from __future__ import annotations
 
 import math
 import warnings
-from typing import Any, Iterable, Mapping, NamedTuple
+from collections.abc import Iterable, Mapping
+from typing import Any, NamedTuple
 
 import numpy as np
 

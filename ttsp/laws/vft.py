@@ -66,9 +66,9 @@ class VFTLaw(ShiftLaw):
     def _params_at(self, new_tr):
         return dict(self.params)
 
-    def to_wlf(self) -> "WLFLaw":
+    def to_wlf(self) -> WLFLaw:
         """The identical law in WLF form about the same reference (C2 = T_ref - T_inf, C1 = B/C2)."""
-        from .wlf import WLFLaw   # wlf imports this module
+        from .wlf import WLFLaw  # wlf imports this module
 
         wlf = vft_to_wlf(self.params["B_K"], self.params["T_inf_K"], self.reference_temperature_K)
         return WLFLaw(self.reference_temperature_K, wlf, self.valid_temperature_range_K)

@@ -8,7 +8,8 @@ Ferry, J. D. (1980). Viscoelastic Properties of Polymers, 3rd ed., Wiley, ch. 11
 
 from __future__ import annotations
 
-from typing import ClassVar, Mapping
+from collections.abc import Mapping
+from typing import ClassVar
 
 import numpy as np
 
@@ -71,7 +72,7 @@ class WLFLaw(ShiftLaw):
         """Divergence (Vogel) temperature T_inf = T_ref - C2 in K; unchanged by a new reference."""
         return self.reference_temperature_K - self.params["C2_K"]
 
-    def at_glass_transition(self, glass_transition_K: float) -> "WLFLaw":
+    def at_glass_transition(self, glass_transition_K: float) -> WLFLaw:
         """The same law with the glass transition Tg (K) as reference: constants C1g, C2g."""
         return self.at_reference(glass_transition_K)
 

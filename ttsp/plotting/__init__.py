@@ -36,8 +36,14 @@ from ..units import DISPLAY_MODULUS_UNITS  # noqa: F401
 from ._build_data import BAND_LEVEL
 from ._thinning import DRAWN_POINTS_PER_FIGURE, MIN_DRAWN_PER_CURVE, drawn_indices
 from .checks_figures import plot_cross_validation, plot_superposition_check
-from .figure_set import (CAMPAIGN_FIGURES, FIGURE_NAMES, OPTIONAL_FIGURES, figure_names,
-                         render_campaign_figures, render_figures)
+from .figure_set import (
+                         CAMPAIGN_FIGURES,
+                         FIGURE_NAMES,
+                         OPTIONAL_FIGURES,
+                         figure_names,
+                         render_campaign_figures,
+                         render_figures,
+)
 from .isochrone import plot_isochrone
 from .master_curve import plot_isotherms, plot_master_curve
 from .material_functions import plot_frequency_functions, plot_time_functions

@@ -11,8 +11,16 @@ import numpy as np
 
 from .._validation import bad_value
 from ._labels import _compliance_unit, _letters, _modulus_unit
-from ._look import (_BLUE, _GREY, _VERMILLION, _colour_bar, _new_axes, _note, _style,
-                    _temperature_colours)
+from ._look import (
+    _BLUE,
+    _GREY,
+    _VERMILLION,
+    _colour_bar,
+    _new_axes,
+    _note,
+    _style,
+    _temperature_colours,
+)
 from ._thinning import drawn_indices
 
 __all__ = ["plot_superposition_check", "plot_cross_validation"]

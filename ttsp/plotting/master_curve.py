@@ -14,8 +14,16 @@ from .._validation import bad_value, check_choice
 from ._build_data import _functions, _reduced_data
 from ._curves import _extrapolation_handle, _model_line
 from ._labels import _frequency_unit, _pretty, _reduced_x_label, _unit_kind, _value_axis
-from ._look import (_GREY, _INK, _colour_bar, _new_axes, _style, _temperature_colours,
-                    _tidy_log_axis, _tref_title)
+from ._look import (
+    _GREY,
+    _INK,
+    _colour_bar,
+    _new_axes,
+    _style,
+    _temperature_colours,
+    _tidy_log_axis,
+    _tref_title,
+)
 from ._thinning import drawn_indices
 
 __all__ = ["plot_isotherms", "plot_master_curve"]

@@ -12,12 +12,26 @@ import math
 import numpy as np
 
 from ._build_data import _functions, _reduced_data, _valid_range
-from ._curves import (_band, _band_handle, _extrapolation_handle, _model_line,
-                      _shade_extrapolation)
-from ._labels import (_AT, _compliance_unit, _frequency_unit, _letters, _modulus_unit,
-                      _reduced_x_label)
-from ._look import (_BLUE, _GREEN, _VERMILLION, _log_scale, _new_axes, _style, _style_twin,
-                    _tidy_log_axis, _tref_title)
+from ._curves import _band, _band_handle, _extrapolation_handle, _model_line, _shade_extrapolation
+from ._labels import (
+    _AT,
+    _compliance_unit,
+    _frequency_unit,
+    _letters,
+    _modulus_unit,
+    _reduced_x_label,
+)
+from ._look import (
+    _BLUE,
+    _GREEN,
+    _VERMILLION,
+    _log_scale,
+    _new_axes,
+    _style,
+    _style_twin,
+    _tidy_log_axis,
+    _tref_title,
+)
 
 __all__ = ["plot_time_functions", "plot_frequency_functions"]
 

@@ -15,8 +15,14 @@ from .._arrays import outside_log_range
 from ..units import kelvin_to_celsius
 from ._build_data import _functions, _valid_range
 from ._curves import _extrapolation_handle, _model_line, _shade_extrapolation
-from ._labels import (_TREF, _compliance_unit, _frequency_unit, _letters, _modulus_unit,
-                      _reduced_x_label)
+from ._labels import (
+    _TREF,
+    _compliance_unit,
+    _frequency_unit,
+    _letters,
+    _modulus_unit,
+    _reduced_x_label,
+)
 from ._look import _BLUE, _GREEN, _INK, _VERMILLION, _style, _tidy_log_axis, _tref_title
 from ._thinning import drawn_indices
 

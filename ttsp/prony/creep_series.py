@@ -18,8 +18,9 @@ from __future__ import annotations
 
 import dataclasses
 import math
+from collections.abc import Mapping
 from dataclasses import KW_ONLY, dataclass, field
-from typing import TYPE_CHECKING, Any, Mapping
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
@@ -180,7 +181,7 @@ class CreepSeries:
 
     __hash__ = None  # type: ignore[assignment]
 
-    def replace(self, **changes) -> "CreepSeries":
+    def replace(self, **changes) -> CreepSeries:
         """Return a copy with some fields changed (validated again)."""
         return dataclasses.replace(self, **changes)
 
@@ -273,7 +274,7 @@ class CreepSeries:
         }
 
     @classmethod
-    def from_dict(cls, data: Mapping) -> "CreepSeries":
+    def from_dict(cls, data: Mapping) -> CreepSeries:
         """Build a series from :meth:`to_dict` output.
 
         Raises
@@ -327,7 +328,7 @@ class CreepSeries:
                 f"modulus_kind={self.modulus_kind!r})")
 
 
-def creep_series_of(series: "PronySeries") -> CreepSeries:
+def creep_series_of(series: PronySeries) -> CreepSeries:
     """Exact creep (retardation) series of a Prony relaxation series.
 
     Solves F(λ) = E_∞ + Σ E_i τ_i/(τ_i − λ) = 0 for the retardation times λ_j (one root between

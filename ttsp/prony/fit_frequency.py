@@ -18,8 +18,14 @@ import numpy as np
 from .._validation import bad_value, check_positive
 from .fit_result import PronyFit, assemble_fit
 from .fit_steps import FitOptions, nonzero_terms, refuse_all_zero
-from .nnls import (LinearProblem, measured_values, positive_abscissa, relative_weights,
-                   relaxation_time_grid, solve_with_pruning)
+from .nnls import (
+    LinearProblem,
+    measured_values,
+    positive_abscissa,
+    relative_weights,
+    relaxation_time_grid,
+    solve_with_pruning,
+)
 from .plateaus import frequency_verdicts
 from .series import PronySeries
 

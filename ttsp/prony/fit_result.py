@@ -13,9 +13,10 @@ from __future__ import annotations
 
 import html
 import warnings
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass
 from types import MappingProxyType
-from typing import Any, Callable, Mapping
+from typing import Any
 
 import numpy as np
 

@@ -56,7 +56,7 @@ class FitOptions:
     @classmethod
     def checked(cls, terms_per_decade, margin_decades, relative, tau_s,
                 prune_tolerance_percent, plateau_slope, modulus_kind,
-                reference_temperature_K) -> "FitOptions":
+                reference_temperature_K) -> FitOptions:
         """Validate the options (message template of ``_validation``) and keep them as given.
 
         Raises

@@ -23,8 +23,15 @@ from .creep_series import CreepSeries
 from .exact_conversion import creep_to_relaxation
 from .fit_result import PronyFit, assemble_fit
 from .fit_steps import FitOptions, nonzero_terms, refuse_all_zero
-from .nnls import (LinearProblem, log_grid, measured_values, positive_abscissa,
-                   relative_weights, relaxation_time_grid, solve_with_pruning)
+from .nnls import (
+    LinearProblem,
+    log_grid,
+    measured_values,
+    positive_abscissa,
+    relative_weights,
+    relaxation_time_grid,
+    solve_with_pruning,
+)
 from .plateaus import time_verdicts
 from .series import PronySeries
 

@@ -27,8 +27,8 @@ from __future__ import annotations
 import dataclasses
 import math
 import warnings
+from collections.abc import Mapping
 from dataclasses import KW_ONLY, dataclass, field
-from typing import Mapping
 
 import numpy as np
 
@@ -39,9 +39,9 @@ from .._arrays import readonly as _readonly
 from .._arrays import scalar_or_array as _scalar_or_array
 from .._arrays import to_plain as _plain
 from .._validation import bad_value, check_choice, check_positive
-from ._terms import terms_from_dict
 from ..exceptions import FitQualityWarning
 from ..units import ZERO_CELSIUS_K
+from ._terms import terms_from_dict
 from .creep_series import CreepSeries, creep_series_of
 
 __all__ = ["PronySeries", "NormalisedPronySeries", "MODULUS_KINDS"]
@@ -239,7 +239,7 @@ class PronySeries:
 
     __hash__ = None  # type: ignore[assignment]  # arrays inside: not hashable
 
-    def replace(self, **changes) -> "PronySeries":
+    def replace(self, **changes) -> PronySeries:
         """Return a copy with some fields changed (validated again)."""
         return dataclasses.replace(self, **changes)
 
@@ -409,7 +409,7 @@ class PronySeries:
         }
 
     @classmethod
-    def from_dict(cls, data: Mapping) -> "PronySeries":
+    def from_dict(cls, data: Mapping) -> PronySeries:
         """Build a series from :meth:`to_dict` output (or the ``prony`` block of a summary).
 
         ``reference_temperature_K`` is used when present, else ``reference_temperature_C``.
@@ -458,7 +458,7 @@ class PronySeries:
         write_prony_csv(self, path)
 
     @classmethod
-    def from_csv(cls, path) -> "PronySeries":
+    def from_csv(cls, path) -> PronySeries:
         """Read a series written by :meth:`to_csv`: :func:`ttsp.io.prony_csv.read_prony_csv`.
 
         Raises

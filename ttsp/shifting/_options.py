@@ -10,8 +10,8 @@ known vertical shifts of the ``"density"`` mode: b_T = T ρ(T)/(T_ref ρ_ref) wi
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from dataclasses import dataclass
-from typing import Mapping
 
 import numpy as np
 

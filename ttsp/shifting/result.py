@@ -8,9 +8,9 @@ contract), every point of the campaign reduced to the reference temperature
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from dataclasses import dataclass, field
 from html import escape
-from typing import Mapping
 
 import numpy as np
 
