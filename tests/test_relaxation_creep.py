@@ -116,22 +116,73 @@ def test_build_draws_the_measured_creep_under_the_interconverted_curve():
     assert np.median(np.abs(j[inside] / model - 1)) < 0.01
 
 
-def test_relaxation_and_creep_in_two_files_are_refused_with_what_to_do(tmp_path):
-    """An instrument exports G(t) and J(t) of two tests as two files at the same temperatures;
-    read together, each lacks the other's column. The message says so (it named a missing
-    cell in row 2 before) and what to do; exit code 2 through the CLI."""
+def write_two_exports(folder, shift_creep: float):
+    """G(t) and J(t) of one shear melt exported as two files, each test at its own times,
+    printed to four significant digits as instruments print them (times repeat above 1000 s)."""
+    rng = np.random.default_rng(7)
+    series = PronySeries(G.sum() * 1e-3, TAU, G, modulus_kind="shear")
+    creep = relaxation_to_creep(series)
+    t_relax, t_creep = np.geomspace(0.2, 3e4, 300), np.geomspace(0.5, 2e4, 250)
+    log_aT = {130: 2.4, 145: 1.1, 160: 0.0, 175: -0.9, 190: -1.6}
+    relax = ["Temperature (°C),Time (s),G(t) (Pa)"]
+    creep_rows = ["Temperature (°C),Time (s),J(t) (1/Pa)"]
+    for temp, s in log_aT.items():
+        g = series.relaxation_modulus(t_relax / 10 ** s) * np.exp(rng.normal(0, 0.005, 300))
+        j = creep.creep_compliance(t_creep / 10 ** (s + shift_creep)) * np.exp(
+            rng.normal(0, 0.005, 250))
+        relax += [f"{temp},{t:.4g},{v:.4g}" for t, v in zip(t_relax, g)]
+        creep_rows += [f"{temp},{t:.4g},{v:.4g}" for t, v in zip(t_creep, j)]
+    (folder / "relax.csv").write_text("\n".join(relax) + "\n")
+    (folder / "creep.csv").write_text("\n".join(creep_rows) + "\n")
+    return log_aT
+
+
+@pytest.mark.parametrize("offset, status", [(0.0, "pass"), (0.2, "fail")])
+def test_relaxation_and_creep_exported_as_two_files_are_built_together(tmp_path, offset, status):
+    """Issue 23: relaxation and creep of one material, exported as two files at their own
+    times, are read together (each function at its own rows) and checked against each other
+    through ∫₀ᵗ G(t−u) J(u) du = t (Ferry 1980, ch. 3): a consistent pair passes, J(t) offset
+    by 0.2 decade fails. Before, the pair was refused (each file lacks the other's column)."""
+    import json
+
     from typer.testing import CliRunner
 
     from ttsp.cli import app
 
-    t = np.geomspace(1.0, 1000.0, 12)
-    g = 1e6 * (0.1 + np.exp(-t / 50.0))
-    (tmp_path / "relax.csv").write_text("Temperature (°C),Time (s),G(t) (Pa)\n" + "\n".join(
-        f"{T},{a:.6g},{b:.6g}" for T in (130, 150) for a, b in zip(t, g)) + "\n")
-    (tmp_path / "creep.csv").write_text("Temperature (°C),Time (s),J(t) (1/Pa)\n" + "\n".join(
-        f"{T},{a:.6g},{1 / b:.6g}" for T in (130, 150) for a, b in zip(t, g)) + "\n")
+    log_aT = write_two_exports(tmp_path, offset)
+    files = [str(tmp_path / "relax.csv"), str(tmp_path / "creep.csv")]
+    res = CliRunner().invoke(app, ["inspect", *files])
+    assert res.exit_code == 0, res.output
+    assert "measured at their own times (files read together): G(t) at 1500 points, " \
+           "J(t) at 1250 points" in res.output
+    res = CliRunner().invoke(app, ["build", *files, "--out", str(tmp_path / "out"),
+                                   "--reference-temperature", "160", "--no-figures"])
+    assert res.exit_code in (0, 3), res.output
+    summary = json.loads((tmp_path / "out" / "summary.json").read_text())
+    check = [c for c in summary["checks"] if c["name"] == "relaxation_creep"]
+    assert [c["status"] for c in check] == [status], check
+    found = {round(r["temperature_C"]): r["log10_aT"] for r in summary["shift_factors"]}
+    # the shifts of both functions together: within 0.02 decade of the true ones at 0.5 % noise
+    assert max(abs(found[T] - v) for T, v in log_aT.items()) < 0.02
+    # the noise seen along each function at its own times, not across interleaved rows
+    noise = [c for c in summary["checks"] if c["name"] == "noise_level"][0]
+    assert noise["value"] < 1.0
+
+
+def test_a_missing_cell_in_a_file_that_has_the_function_is_still_refused(tmp_path):
+    """Files read together: a file without a function's column at all is the other test's
+    points; an empty cell in a file that has the column is a gap and stays refused (exit 2,
+    the file, column and row named)."""
+    from typer.testing import CliRunner
+
+    from ttsp.cli import app
+
+    write_two_exports(tmp_path, 0.0)
+    lines = (tmp_path / "relax.csv").read_text().splitlines()
+    lines[3] = lines[3].rsplit(",", 1)[0] + ","
+    (tmp_path / "relax.csv").write_text("\n".join(lines) + "\n")
     res = CliRunner().invoke(app, ["inspect", str(tmp_path / "relax.csv"),
                                    str(tmp_path / "creep.csv")])
     assert res.exit_code == 2
-    assert "creep.csv has no G(t) (Pa) column, while" in res.output
-    assert "put both in one table at the same times" in res.output
+    assert "relax.csv, column 'G(t) (Pa)', row 4" in res.output
+    assert "a missing value where the rest of its isotherm has values" in res.output

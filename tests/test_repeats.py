@@ -121,3 +121,19 @@ def test_cli_build_of_a_shear_export_with_repeats_is_shear_throughout(tmp_path):
     bad = CliRunner().invoke(app, ["build", str(tmp_path / "melt.csv"), "--material", "gel",
                                    "--out", str(tmp_path / "o2")])
     assert bad.exit_code == 2
+
+
+def test_a_relaxation_and_a_creep_point_at_one_time_are_one_row_not_a_repeat():
+    """Relaxation and creep read from two files: a time both tests printed holds G from one
+    file and J from the other. The row keeps both values and no repeat is counted; a true
+    repeat of one function beside it is still merged (mean in log) and counted."""
+    from ttsp._repeats import merge_repeats
+
+    nan = np.nan
+    x = np.array([1.0, 2.0, 2.0, 3.0, 3.0, 3.0])
+    g = np.array([10.0, 8.0, nan, 6.0, 6.0 * 1.002, nan])
+    j = np.array([nan, nan, 0.2, nan, nan, 0.3])
+    out = merge_repeats(x, {"g": g, "j": j}, {"g": True, "j": True})
+    assert out.merged == 1 and out.conflict is None
+    assert out.values["g"] == pytest.approx([10.0, 8.0, 6.0 * 1.002 ** 0.5], rel=1e-12)
+    np.testing.assert_allclose(out.values["j"], [nan, 0.2, 0.3], rtol=1e-12)

@@ -16,7 +16,7 @@ import numpy as np
 from ._validation import bad_value
 
 __all__ = ["readonly", "as_1d_finite", "nonnegative_argument", "scalar_or_array", "to_plain",
-           "fmt_html", "evenly_spaced_indices", "outside_log_range", "LOG_RANGE_RTOL"]
+           "fmt_html", "evenly_spaced_indices", "evenly_spaced_rows", "outside_log_range", "LOG_RANGE_RTOL"]
 
 #: Relative tolerance for membership in a range of times or frequencies. Range ends such as
 #: ``1 / omega_max`` and grid nodes such as ``10**k`` are computed by different roundings and
@@ -108,6 +108,23 @@ def evenly_spaced_indices(n: int, limit: int) -> np.ndarray:
     if n <= limit:
         return np.arange(n)
     return np.unique(np.round(np.linspace(0, n - 1, limit)).astype(int))
+
+
+def evenly_spaced_rows(columns: Any, n: int, limit: int) -> np.ndarray:
+    """Rows of one isotherm of ``n`` rows kept when thinning it to ``limit`` points.
+
+    ``columns`` are the functions' values at the rows (NaN where a function was not measured).
+    When every function is present at all rows or at none, the rows are
+    :func:`evenly_spaced_indices`; when functions were measured at different rows (relaxation
+    and creep read from two files) each function keeps ``limit`` of its own rows, evenly by
+    rank, and the union is returned: thinning the interleaved rows together would space each
+    function's points unevenly.
+    """
+    present = [np.isfinite(np.asarray(c, dtype=float)) for c in columns]
+    if all(m.all() or not m.any() for m in present):
+        return evenly_spaced_indices(n, limit)
+    picks = [np.flatnonzero(m) for m in present]
+    return np.unique(np.concatenate([p[evenly_spaced_indices(p.size, limit)] for p in picks]))
 
 
 def outside_log_range(values: Any, lo: float, hi: float, rtol: float = LOG_RANGE_RTOL) -> np.ndarray:

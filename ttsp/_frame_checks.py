@@ -180,12 +180,10 @@ def checked_measured_values(frame, quantities: list, groups: list, rows: FrameRo
         vals = rows.numbers(frame, q)
         nan = np.isnan(vals)
         all_nan_group = np.array([nan[m].all() for m in groups])
-        partly = nan & ~all_nan_group[group_of]
+        partly = nan & ~all_nan_group[group_of] & ~_in_files_without(nan, rows)
         bad_mask = np.isinf(vals) | partly
         if bad_mask.any():
             bad = _first(bad_mask)
-            if partly[bad]:
-                _refuse_file_without_column(q, bad, nan, rows)
             missing = (" (a missing value where the rest of its isotherm has values)"
                        if partly[bad] else "")
             raise DataError(f"{rows.at(q, bad)}value must be a finite number; "
@@ -196,22 +194,15 @@ def checked_measured_values(frame, quantities: list, groups: list, rows: FrameRo
     return values
 
 
-def _refuse_file_without_column(q: str, bad: int, nan: np.ndarray, rows: FrameRows) -> None:
-    """Files read together where one has no column for a function that another has at the
-    same temperature (relaxation and creep exported as two files): said as such, not as a
-    missing cell."""
+def _in_files_without(nan: np.ndarray, rows: FrameRows) -> np.ndarray:
+    """Rows of files, read together, that have no value of a function in any row (relaxation
+    and creep exported as two files): their missing values are the other test's points at
+    their own times, not gaps."""
     if rows.files is None:
-        return
-    this = rows.files[bad]
-    in_file = rows.files == this
-    if not nan[in_file].all():
-        return
-    other = next(str(f) for f in rows.files[~nan])
-    raise DataError(f"{this} has no {rows.label(q)} column, while {other}, read with it, has "
-                    f"one at the same temperatures: files read together must carry the same "
-                    f"functions at each temperature. To check relaxation against creep measured "
-                    f"in two tests, put both in one table at the same times; or build each "
-                    f"file on its own")
+        return np.zeros(nan.size, dtype=bool)
+    files = rows.files.astype(str)
+    lacking = [f for f in np.unique(files) if nan[files == f].all()]
+    return np.isin(files, lacking)
 
 
 def _refuse_out_of_range(q: str, vals: np.ndarray, nan: np.ndarray, rows: FrameRows) -> None:

@@ -69,14 +69,25 @@ def merge_repeats(x, values, positive) -> RepeatMerge:
                            0, None)
     counts = np.diff(np.r_[starts, x.size])
     out, conflict = {}, None
+    most_seen = np.zeros(starts.size, dtype=int) if values else counts
     for q, v in values.items():
         vs = np.asarray(v, dtype=float)[order]
         logs = positive[q]
-        y = np.log10(vs) if logs else vs
-        mean = np.add.reduceat(y, starts) / counts
+        with np.errstate(divide="ignore", invalid="ignore"):
+            y = np.log10(vs) if logs else vs
+        # a row without this function (the other test's point, when relaxation and creep come
+        # from two files) takes no part in its mean; a time with no value stays missing
+        seen = np.isfinite(y)
+        n_seen = np.add.reduceat(seen.astype(int), starts)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            mean = np.add.reduceat(np.where(seen, y, 0.0), starts) / n_seen
+        mean[n_seen == 0] = np.nan
+        most_seen = np.maximum(most_seen, n_seen)
         out[q] = 10.0 ** mean if logs else mean
         if conflict is None and logs:
-            spread = np.maximum.reduceat(y, starts) - np.minimum.reduceat(y, starts)
+            spread = (np.maximum.reduceat(np.where(seen, y, -np.inf), starts)
+                      - np.minimum.reduceat(np.where(seen, y, np.inf), starts))
+            spread[n_seen == 0] = 0.0
             sigma = third_difference_sigmas([mean])[0]
             limit = CONFLICT_NOISE_MULTIPLE * max(sigma if np.isfinite(sigma) else 0.0,
                                                   NOISE_FLOOR_LOG10)
@@ -84,7 +95,13 @@ def merge_repeats(x, values, positive) -> RepeatMerge:
             if bad.size:
                 g = int(bad[0])
                 members = order[starts[g]:starts[g] + counts[g]]
-                deviation = np.abs(y[starts[g]:starts[g] + counts[g]] - y[starts[g]])
-                conflict = (q, int(members[0]), int(members[int(np.argmax(deviation))]),
+                group = y[starts[g]:starts[g] + counts[g]]
+                first = int(np.flatnonzero(np.isfinite(group))[0])
+                deviation = np.abs(group - group[first])
+                deviation[~np.isfinite(deviation)] = -1.0
+                conflict = (q, int(members[first]), int(members[int(np.argmax(deviation))]),
                             float(spread[g]), float(limit))
+    # rows absorbed: beyond the first value of a function at a time (a relaxation and a creep
+    # point at one time, read from two files, are one row, not a repeat)
+    merged = int(np.maximum(most_seen - 1, 0).sum())
     return RepeatMerge(order[starts], out, merged, conflict)

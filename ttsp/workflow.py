@@ -10,7 +10,7 @@ from dataclasses import replace
 import numpy as np
 
 from . import checks as check_suite  # run_checks looked up at each build: a test may replace it
-from ._arrays import evenly_spaced_indices
+from ._arrays import evenly_spaced_rows
 from ._validation import bad_value
 from .bands import band_columns
 from .build_options import (
@@ -53,7 +53,8 @@ def _thin_for_checks(campaign: Campaign, shifts):
     """The campaign and shift result restricted to an even subset of each dense isotherm."""
     from .data import Isotherm
 
-    picks = [evenly_spaced_indices(iso.n_points, MAX_CHECK_POINTS_PER_ISOTHERM) for iso in campaign.isotherms]
+    picks = [evenly_spaced_rows(iso.values.values(), iso.n_points, MAX_CHECK_POINTS_PER_ISOTHERM)
+             for iso in campaign.isotherms]
     if all(p.size == iso.n_points for p, iso in zip(picks, campaign.isotherms)):
         return campaign, shifts
     isos = tuple(Isotherm(iso.temperature_K, iso.x[p], {k: v[p] for k, v in iso.values.items()},

@@ -45,8 +45,10 @@ def check_relaxation_creep(campaign: Campaign, shifts) -> CheckResult | None:
         lt = _reduced_log_x(campaign, table, k)
         for q, sign in (("relaxation_modulus_Pa", -1.0), ("creep_compliance_1_per_Pa", 1.0)):
             if q in iso.values:
-                curves[q][0].append(10 ** lt[keep])
-                curves[q][1].append(iso.values[q][keep] * 10 ** (sign * table.log10_bT[k]))
+                # finite only: read from two files, each function has its own times
+                use = keep & np.isfinite(iso.values[q])
+                curves[q][0].append(10 ** lt[use])
+                curves[q][1].append(iso.values[q][use] * 10 ** (sign * table.log10_bT[k]))
     (te, e), (td, d) = ((np.concatenate(a), np.concatenate(b)) for a, b in curves.values())
     try:
         cmp = compare_relaxation_creep(te, e, td, d)

@@ -13,7 +13,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from .._arrays import evenly_spaced_indices
+from .._arrays import evenly_spaced_rows
 from ..data import Campaign
 from ..exceptions import DataError
 from ..units import kelvin_to_celsius
@@ -55,7 +55,7 @@ def prepare_fit_data(campaign: Campaign, options: ShiftOptions) -> FitData:
     X, Y = _log_data(options)
     _check_spans(campaign, X, options.temps)
     # Dense isotherms are thinned for the fit (every point is still shifted and reported)
-    kept = [evenly_spaced_indices(xk.size, MAX_FIT_POINTS_PER_ISOTHERM) for xk in X]
+    kept = [evenly_spaced_rows(yk.T, xk.size, MAX_FIT_POINTS_PER_ISOTHERM) for xk, yk in zip(X, Y)]
     notes = []
     if any(kk.size < xk.size for kk, xk in zip(kept, X)):
         notes.append(f"isotherms with more than {MAX_FIT_POINTS_PER_ISOTHERM} points were thinned "
