@@ -28,3 +28,14 @@ def test_dense_noisy_record_gives_physical_slopes():
 
 def test_short_records_have_no_slope():
     assert np.isnan(local_log_slope([1.0, 2.0], [1.0, 2.0])).all()
+
+
+def test_a_function_measured_at_its_own_times_gets_its_slope_from_its_own_points():
+    """Relaxation and creep read from two files: G(t) is NaN at the creep test's rows. The
+    slope of G follows G's own points (exact power law t^-0.3) and is NaN at the other rows."""
+    t = np.geomspace(1.0, 1e4, 41)
+    g = 5.0 * t ** -0.3
+    g[1::2] = np.nan
+    slope = local_log_slope(t, g)
+    assert np.isnan(slope[1::2]).all()
+    assert slope[::2] == pytest.approx(np.full(21, -0.3), abs=1e-9)

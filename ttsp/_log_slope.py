@@ -28,7 +28,8 @@ def local_log_slope(x, y, *, half_width_decades: float = SLOPE_HALF_WIDTH_DECADE
     Parameters
     ----------
     x, y : array
-        Positive abscissa (ascending) and values (any positive unit).
+        Positive abscissa (ascending) and values (any positive unit; NaN where the function
+        was not measured, which takes no part and gets a NaN slope).
     half_width_decades : float
         Points within this distance in log10 x of a point form its window.
     min_points : int
@@ -40,8 +41,16 @@ def local_log_slope(x, y, *, half_width_decades: float = SLOPE_HALF_WIDTH_DECADE
         Slope b of log10 y = a + b log10 x fitted over each window,
         b = Σ(ξ − ξ̄)(η − η̄)/Σ(ξ − ξ̄)²; NaN where a window has fewer than 3 points.
     """
-    lx = np.log10(np.asarray(x, dtype=float))
-    ly = np.log10(np.asarray(y, dtype=float))
+    x, y = np.asarray(x, dtype=float), np.asarray(y, dtype=float)
+    seen = np.isfinite(y)
+    if not seen.all():
+        # a function measured at its own times (relaxation and creep read from two files):
+        # the slope along its own points, NaN at the other rows
+        out = np.full(y.size, np.nan)
+        out[seen] = local_log_slope(x[seen], y[seen], half_width_decades=half_width_decades,
+                                    min_points=min_points)
+        return out
+    lx, ly = np.log10(x), np.log10(y)
     n = lx.size
     out = np.full(n, np.nan)
     if n < 3:
