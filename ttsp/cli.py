@@ -146,11 +146,8 @@ def describe(campaign) -> str:
              f"isotherms: {len(campaign)}   points: {campaign.n_points}",
              "functions: " + ", ".join(f"{campaign.symbol(q)} ({q})" for q in campaign.quantities),
              "units as read: " + ", ".join(f"{k} -> {v}" for k, v in campaign.units_as_read.items())]
-    import numpy as np
-
-    seen = [(q, np.isfinite(iso.values[q])) for iso in campaign.isotherms for q in iso.values]
-    if any(m.any() and not m.all() for _, m in seen):
-        counts = {q: sum(int(m.sum()) for p, m in seen if p == q) for q in campaign.quantities}
+    counts = campaign.measured_points()
+    if any(n < campaign.n_points for n in counts.values()):
         lines.append("measured at their own times (files read together): " + ", ".join(
             f"{campaign.symbol(q)} at {n} points" for q, n in counts.items()))
     if campaign.metadata.get("assumed units"):

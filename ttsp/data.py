@@ -219,6 +219,12 @@ class Campaign:
         common = set.intersection(*(set(i.values) for i in self.isotherms))
         return tuple(q for q in QUANTITIES if q in common)
 
+    def measured_points(self) -> dict[str, int]:
+        """Finite (measured) points per function; fewer than :attr:`n_points` when the
+        functions were measured at their own times (relaxation and creep read from two files)."""
+        return {q: sum(int(np.isfinite(i.values[q]).sum()) for i in self.isotherms)
+                for q in self.quantities}
+
     def symbol(self, quantity: str) -> str:
         """The symbol of a quantity for this campaign's modulus kind (E' or G', ...)."""
         return QUANTITIES[quantity].symbol(self.modulus_kind)
