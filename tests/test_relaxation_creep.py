@@ -36,7 +36,8 @@ def test_closed_form_integral_matches_quadrature_for_any_pair():
 
     creep = CreepSeries(0.02, [0.3, 2.0], [0.05, 0.1], fluidity_1_per_Pa_s=0.01)
     for t in (0.1, 1.0, 7.0):
-        ref = quad(lambda u: series.relaxation_modulus(t - u) * creep.creep_compliance(u), 0, t,
+        ref = quad(lambda u, t=t: series.relaxation_modulus(t - u) * creep.creep_compliance(u),
+                   0, t,
                    epsabs=0, epsrel=1e-11)[0]
         assert convolution_integral(series, creep, [t])[0] == pytest.approx(ref, rel=1e-9)
 
@@ -67,7 +68,8 @@ def campaign_of(shift_creep: float):
     creep = relaxation_to_creep(series)
     t = np.geomspace(0.2, 3e4, 120)
     rows = []
-    for temp, s in zip((130.0, 145.0, 160.0, 175.0, 190.0), (2.4, 1.1, 0.0, -0.9, -1.6)):
+    for temp, s in zip((130.0, 145.0, 160.0, 175.0, 190.0), (2.4, 1.1, 0.0, -0.9, -1.6),
+                       strict=True):
         tr = t / 10 ** s
         rows.append(pd.DataFrame({
             "temperature_K": temp + 273.15, "time_s": t,
@@ -127,9 +129,9 @@ def test_relaxation_and_creep_in_two_files_are_refused_with_what_to_do(tmp_path)
     t = np.geomspace(1.0, 1000.0, 12)
     g = 1e6 * (0.1 + np.exp(-t / 50.0))
     (tmp_path / "relax.csv").write_text("Temperature (°C),Time (s),G(t) (Pa)\n" + "\n".join(
-        f"{T},{a:.6g},{b:.6g}" for T in (130, 150) for a, b in zip(t, g)) + "\n")
+        f"{T},{a:.6g},{b:.6g}" for T in (130, 150) for a, b in zip(t, g, strict=True)) + "\n")
     (tmp_path / "creep.csv").write_text("Temperature (°C),Time (s),J(t) (1/Pa)\n" + "\n".join(
-        f"{T},{a:.6g},{1 / b:.6g}" for T in (130, 150) for a, b in zip(t, g)) + "\n")
+        f"{T},{a:.6g},{1 / b:.6g}" for T in (130, 150) for a, b in zip(t, g, strict=True)) + "\n")
     res = CliRunner().invoke(app, ["inspect", str(tmp_path / "relax.csv"),
                                    str(tmp_path / "creep.csv")])
     assert res.exit_code == 2

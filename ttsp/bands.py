@@ -311,7 +311,7 @@ def _law_draws(law_fit, rng: np.random.Generator, n: int) -> tuple:
     out = []
     for row in draws:
         p = dict(base)
-        for k, d in zip(free, row):
+        for k, d in zip(free, row, strict=True):
             p[k] = base[k] + float(d)
         out.append(p)
     return tuple(out)
@@ -431,7 +431,7 @@ def fit_band_ensemble(x, values: dict, isotherm, *, domain: str, series, shifts,
         tau = None   # each member on the grid fit_prony_time makes for its own data
         fitted = [series.relaxation_modulus(x) if quantity == "relaxation_modulus"
                   else series.creep_compliance(x)]
-    resid = [np.log(y / f) for y, f in zip(ys, fitted)]
+    resid = [np.log(y / f) for y, f in zip(ys, fitted, strict=True)]
     # resampling within isotherms, vectorised: point p draws uniformly among the points of
     # its own isotherm (``order`` lists the points isotherm by isotherm)
     order = np.argsort(iso, kind="stable")
@@ -446,8 +446,8 @@ def fit_band_ensemble(x, values: dict, isotherm, *, domain: str, series, shifts,
             xs = x * 10.0 ** d if domain == "frequency" else x / 10.0 ** d
             # one draw per point for all its functions: E' and E'' of a point share its errors
             pick = order[start[group] + (rng.random(x.size) * size[group]).astype(int)]
-            new = [f * np.exp(r[pick]) for f, r in zip(fitted, resid)]
-            member = _refit_member(xs, dict(zip(cols, new)), domain, tau, quantity,
+            new = [f * np.exp(r[pick]) for f, r in zip(fitted, resid, strict=True)]
+            member = _refit_member(xs, dict(zip(cols, new, strict=True)), domain, tau, quantity,
                                    terms_per_decade, series.modulus_kind)
             if member is not None:
                 members.append(member)

@@ -597,7 +597,7 @@ def predict_cmd(model: Path = typer.Argument(..., help="summary.json of a build,
         frame = predict(m, quantity.value, float(temperature),
                         **({"time_s": grid} if is_time else {"frequency_Hz": grid}), band=band)
         if outside is not None:
-            warnings.warn(outside, ExtrapolationWarning)
+            warnings.warn(outside, ExtrapolationWarning, stacklevel=1)  # recorded just above
     # the law's own range warning is in kelvin and has no tolerance: ours above replaces it
     caught = [w for w in caught if _LAW_RANGE_WARNING not in str(w.message)]
     _emit_table(frame, out, caught)

@@ -250,7 +250,8 @@ class ClosedFormFit:
             "model": self.model, "reference": self.reference,
             "equation": MODELS[self.model].equation,
             "params": dict(self.params), "stderr": dict(self.stderr),
-            "units": dict(zip(MODELS[self.model].parameters, MODELS[self.model].units)),
+            "units": dict(zip(MODELS[self.model].parameters, MODELS[self.model].units,
+                               strict=True)),
             "aic": self.aic, "bic": self.bic, "rms_percent": self.rms_percent,
             "max_percent": self.max_percent, "n_points": self.n_points,
             "quantities": list(self.quantities), "success": self.success,
@@ -274,7 +275,7 @@ class ClosedFormFit:
         rows = "".join(
             f"<tr><td>{html.escape(k)}</td><td>{_fmt(self.params[k])}</td>"
             f"<td>{_fmt(self.stderr.get(k))}</td><td>{html.escape(u)}</td></tr>"
-            for k, u in zip(m.parameters, m.units))
+            for k, u in zip(m.parameters, m.units, strict=True))
         return (f"<div><b>{html.escape(self.model)}</b> fit ({html.escape(m.reference)}), "
                 f"{self.n_points} residuals, rms {self.rms_percent:.3g} %, "
                 f"max {self.max_percent:.3g} %, AIC {self.aic:.4g}<table><thead><tr>"

@@ -186,7 +186,7 @@ class Campaign:
             return NotImplemented
         return (self.domain == other.domain and self.modulus_kind == other.modulus_kind
                 and self.source == other.source and len(self) == len(other)
-                and all(a == b for a, b in zip(self.isotherms, other.isotherms))
+                and all(a == b for a, b in zip(self.isotherms, other.isotherms, strict=True))
                 and dict(self.units_as_read) == dict(other.units_as_read)
                 and dict(self.metadata) == dict(other.metadata)
                 and dict(self.dropped_rows) == dict(other.dropped_rows))

@@ -279,7 +279,7 @@ def _exponential_memory(xi: np.ndarray, u: np.ndarray, times: np.ndarray,
     dxi = np.diff(xi)
     du = np.diff(u)
     total = np.zeros(u.size)
-    for theta, w in zip(times, weights):
+    for theta, w in zip(times, weights, strict=True):
         if w == 0:
             continue
         x = dxi / theta

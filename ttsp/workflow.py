@@ -54,13 +54,14 @@ def _thin_for_checks(campaign: Campaign, shifts):
     from .data import Isotherm
 
     picks = [evenly_spaced_indices(iso.n_points, MAX_CHECK_POINTS_PER_ISOTHERM) for iso in campaign.isotherms]
-    if all(p.size == iso.n_points for p, iso in zip(picks, campaign.isotherms)):
+    if all(p.size == iso.n_points for p, iso in zip(picks, campaign.isotherms, strict=True)):
         return campaign, shifts
     isos = tuple(Isotherm(iso.temperature_K, iso.x[p], {k: v[p] for k, v in iso.values.items()},
-                          iso.source_rows[p]) for iso, p in zip(campaign.isotherms, picks))
+                          iso.source_rows[p])
+                 for iso, p in zip(campaign.isotherms, picks, strict=True))
     thin = Campaign(isos, campaign.domain, campaign.modulus_kind, campaign.source,
                     campaign.units_as_read, campaign.metadata, campaign.dropped_rows)
-    mask = tuple(np.asarray(m)[p] for m, p in zip(shifts.outlier_mask, picks))
+    mask = tuple(np.asarray(m)[p] for m, p in zip(shifts.outlier_mask, picks, strict=True))
     return thin, replace(shifts, outlier_mask=mask)
 
 

@@ -213,11 +213,11 @@ def _csv_rows(text: str, file: str):
         raise DataError(f"{where(file, row=header_line)}a manifest column appears twice: "
                         f"{', '.join(names)}")
     rows = []
-    for (line, _), cells in zip(lines[1:], parsed[1:]):
+    for (line, _), cells in zip(lines[1:], parsed[1:], strict=True):
         if len(cells) != len(names):
             raise DataError(f"{where(file, row=line)}{len(cells)} cells where the header has "
                             f"{len(names)}")
-        rows.append((line, {n: (c.strip() or None) for n, c in zip(names, cells)}))
+        rows.append((line, {n: (c.strip() or None) for n, c in zip(names, cells, strict=True)}))
     return rows
 
 

@@ -116,7 +116,7 @@ def _stop_on_interrupt(exc: BaseException, pool, inflight: dict, workers: int, o
               f"(the rest stays to do: run the same command again to resume)",
               file=sys.stderr, flush=True)
     pool.shutdown(wait=True, cancel_futures=True)
-    for fut, payload in inflight.items():
+    for fut in inflight:
         if fut.done() and not fut.cancelled() and fut.exception() is None:
             on_done(fut.result())
 

@@ -78,7 +78,7 @@ def _align_shifts(campaign: Campaign, shifts) -> _Shifts:
             raise bad_value("shifts.outlier_mask", f"one array per shift-table row ({n})",
                             f"{len(masks)} arrays")
         masks = tuple(np.asarray(masks[k], dtype=bool) for k in index)
-        for iso, m in zip(campaign.isotherms, masks):
+        for iso, m in zip(campaign.isotherms, masks, strict=True):
             if m.shape != iso.x.shape:
                 raise bad_value("shifts.outlier_mask", "one flag per point of each isotherm",
                                 f"{m.size} flags for {iso.n_points} points at "

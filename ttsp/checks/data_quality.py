@@ -61,7 +61,7 @@ def check_outliers(campaign: Campaign, shifts) -> CheckResult | None:
     total = int(sum(counts))
     share = 100.0 * total / max(c.n_points, 1)
     per = [{"temperature_C": iso.temperature_C, "outliers": n, "points": iso.n_points}
-           for iso, n in zip(c.isotherms, counts) if n]
+           for iso, n in zip(c.isotherms, counts, strict=True) if n]
     status = _grade(share, OUTLIER_WARN_PERCENT, OUTLIER_FAIL_PERCENT)
     named = ", ".join(f"{p['outliers']} at {p['temperature_C']:.4g} °C" for p in per[:8])
     details = {"unit": "% of points", "outliers": total, "points": c.n_points,

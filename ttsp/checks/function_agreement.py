@@ -163,10 +163,12 @@ def check_function_agreement(campaign: Campaign, shifts):
     e1, e2 = campaign.symbol(pair[0]), campaign.symbol(pair[1])
     rows = [{"temperature_C": float(t - 273.15), f"log10_aT_{pair[0]}": float(x),
              f"log10_aT_{pair[1]}": float(y), "difference_decades": float(dd),
-             "z": float(zz)} for t, x, y, dd, zz in zip(T, a.log10_aT, b.log10_aT, d, z)]
+             "z": float(zz)}
+            for t, x, y, dd, zz in zip(T, a.log10_aT, b.log10_aT, d, z, strict=True)]
     informative = np.array([not any(f.startswith(("low-information", "bridged"))
-                                    for f in fa + fb) for fa, fb in zip(a.flags, b.flags)])
-    for row, ok in zip(rows, informative):
+                                    for f in fa + fb)
+                            for fa, fb in zip(a.flags, b.flags, strict=True)])
+    for row, ok in zip(rows, informative, strict=True):
         row["informative"] = bool(ok)
     significant = (np.abs(z) > AGREEMENT_Z) & informative
     size = np.where(significant, np.abs(d), 0.0)

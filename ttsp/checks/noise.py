@@ -85,7 +85,7 @@ def _estimate_noise(campaign: Campaign) -> dict:
     sigmas = third_difference_sigmas([y for _, _, y in cells])
     per = [{"temperature_K": iso.temperature_K} for iso in campaign.isotherms]
     pooled = {}
-    for (k, q, _), sd in zip(cells, sigmas):
+    for (k, q, _), sd in zip(cells, sigmas, strict=True):
         per[k][q] = float(sd)
         pooled.setdefault(q, []).append(float(sd))
     typical = {}

@@ -87,9 +87,9 @@ def _flagged_shifts(table) -> tuple[list, list]:
     it flagged low-information; none without a shift table."""
     if table is None:
         return [], []
-    bridged = [_fmt_C(t) for t, f in zip(table.temperature_K, table.flags)
+    bridged = [_fmt_C(t) for t, f in zip(table.temperature_K, table.flags, strict=True)
                if any("bridg" in str(x) for x in f)]
-    weak = [_fmt_C(t) for t, f in zip(table.temperature_K, table.flags)
+    weak = [_fmt_C(t) for t, f in zip(table.temperature_K, table.flags, strict=True)
             if "low-information" in f]
     return bridged, weak
 

@@ -50,7 +50,7 @@ def write_prony_csv(series: PronySeries, path) -> None:
         w.writerow(["tau_s", "modulus_Pa", "normalised_modulus"])
         w.writerow(["inf", repr(float(series.equilibrium_modulus_Pa)),
                     repr(float(series.equilibrium_modulus_Pa / e0))])
-        for t, m in zip(series.tau_s, series.modulus_Pa):
+        for t, m in zip(series.tau_s, series.modulus_Pa, strict=True):
             w.writerow([repr(float(t)), repr(float(m)), repr(float(m / e0))])
 
 

@@ -210,8 +210,10 @@ def _table_from_cells(path: str, cells: list, decimal_comma: bool, *, raw_lines=
     names_idx = _names_above_units(cells, header_idx, whitespace)
     if names_idx is not None:  # a two-line header: names, then units
         units_row = header + [""] * (len(cells[names_idx]) - len(header))
+        # strict=False: units beyond the last name (a longer units line) have no name to join
         header = [printable(f"{name.strip()} ({_bare_unit(u)})" if _bare_unit(u)
-                            else name.strip()) for name, u in zip(cells[names_idx], units_row)]
+                            else name.strip())
+                  for name, u in zip(cells[names_idx], units_row, strict=False)]
         header_idx = names_idx
         whitespace = False
     preamble = _preamble(cells[:header_idx], raw_lines)
@@ -335,7 +337,7 @@ def _fit_header(path, header, rows, numbers, header_line, raw_header):
                             f"separate the column names with tabs or two spaces")
         header = [printable(h) for h in regrouped]
     named = len(header)
-    for r, line in zip(rows, numbers):
+    for r, line in zip(rows, numbers, strict=True):
         if len(r) <= named:
             continue
         extra = [c for c in r[named:] if c.strip()]

@@ -80,7 +80,7 @@ def frame_to_csv_text(frame) -> str:
                     lambda v: neutralise_formula(v) if isinstance(v, str) else v))
         return frame.to_csv(index=False, float_format="%.10g", lineterminator="\n")
     lines = [",".join(_csv_quote(neutralise_formula(str(n))) for n in names)]
-    lines += map(",".join, zip(*cells))
+    lines += map(",".join, zip(*cells, strict=True))
     return "\n".join(lines) + "\n"
 
 

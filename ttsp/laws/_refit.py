@@ -39,7 +39,7 @@ def refit_from(cls: type[ShiftLaw], T: np.ndarray, y: np.ndarray, weigh: Weighti
 
     def residual(x):
         p = dict(fixed)
-        p.update(zip(free, x))
+        p.update(zip(free, x, strict=True))
         with np.errstate(all="ignore"):
             r = weigh(cls._evaluate(p, T, tr) - y)
         return np.where(np.isfinite(r), r, 1e10)
@@ -53,7 +53,7 @@ def refit_from(cls: type[ShiftLaw], T: np.ndarray, y: np.ndarray, weigh: Weighti
         x = least_squares(residual, x0, bounds=(lo, hi), method="trf", x_scale="jac",
                           max_nfev=max_nfev).x
     out = dict(fixed)
-    out.update(zip(free, (float(v) for v in x)))
+    out.update(zip(free, (float(v) for v in x), strict=True))
     return out
 
 

@@ -115,7 +115,7 @@ def linear_outcome(cls: type, T, y, weigh, tr, fixed, names, free, order) -> Out
         notes.append(_SINGULAR_NOTE)
     if cov is not None:
         sd = np.sqrt(np.clip(np.diag(cov), 0.0, None))
-        stderr.update({n: float(v) for n, v in zip(free, sd)})
+        stderr.update({n: float(v) for n, v in zip(free, sd, strict=True)})
         corr = correlations(cov, free)
     return Outcome(cls, values, stderr, corr, cov, free, chi2, True,
                    "linear least squares, solved directly", 0, tuple(notes), DIRECT_METHOD)

@@ -112,7 +112,7 @@ class ShiftLaw(abc.ABC):
     def _expected_names(cls, params: Mapping[str, Any] | None = None) -> tuple[str, ...]:
         return tuple(cls._units)
 
-    @classmethod
+    @classmethod  # noqa: B027 -- an optional hook: by default every set of constants is usable
     def _check_params(cls, p: Mapping[str, float], tr: float) -> None:
         """Raise DataError when the constants do not define a usable law."""
 
@@ -362,7 +362,7 @@ class ShiftLaw(abc.ABC):
                                   n in cls.data_range_parameters)
                 for n in cls.fit_parameter_names(order)}
 
-    @classmethod
+    @classmethod  # noqa: B027 -- an optional hook: by default any held parameters are usable
     def check_fixed(cls, fixed: Mapping[str, float], T: np.ndarray, tr: float) -> None:
         """Raise DataError when held parameters make the law undefined inside the data."""
 

@@ -143,10 +143,10 @@ class WLFArrheniusLaw(ShiftLaw):
                     np.where(T < tg, 1 / T - 1 / tg, 0.0) - np.where(tr < tg, 1 / tr - 1 / tg, 0.0))}
         coefs, sse = grid_lstsq(cols, y, weigh, fixed)
         starts, seen = [], set()
-        for _, coefs in best_trials(coefs, sse, {"C2_K": c2[:, 0], "glass_transition_K": tg[:, 0]}):
-            if coefs["glass_transition_K"] not in seen:
-                seen.add(coefs["glass_transition_K"])
-                starts.append(coefs)
+        for _, start in best_trials(coefs, sse, {"C2_K": c2[:, 0], "glass_transition_K": tg[:, 0]}):
+            if start["glass_transition_K"] not in seen:
+                seen.add(start["glass_transition_K"])
+                starts.append(start)
             if len(starts) == _STARTS:
                 break
         return starts

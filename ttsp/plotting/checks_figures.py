@@ -112,9 +112,9 @@ def plot_cross_validation(result, ax=None):
     cv = result.cross_validation
     rows = [(h.temperature_C, h.rms_percent_at_law_aT.get("all", np.nan),
              h.rms_percent_at_best_aT.get("all", np.nan)) for h in cv.per_isotherm]
-    t, at_law, at_best = (np.array(v, dtype=float) for v in zip(*rows))
+    t, at_law, at_best = (np.array(v, dtype=float) for v in zip(*rows, strict=True))
     ok = np.isfinite(at_law) & np.isfinite(at_best)
-    for ti, a, b in zip(t[ok], at_law[ok], at_best[ok]):
+    for ti, a, b in zip(t[ok], at_law[ok], at_best[ok], strict=True):
         ax.plot([ti, ti], [b, a], color=_GREY, lw=0.9, zorder=1)
     ax.plot(t[ok], at_law[ok], "o", color=_VERMILLION, ms=5.5, zorder=3,
             label="at the law's a$_T$ (the prediction)")

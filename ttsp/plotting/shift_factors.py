@@ -70,7 +70,7 @@ def _shift_flags(result, temperature_K):
     temps = getattr(shifts, "temperature_K", None)
     if flags is None or temps is None or len(flags) != len(temps):
         return [()] * len(temperature_K)
-    by_t = {round(float(t), 6): tuple(f) for t, f in zip(temps, flags)}
+    by_t = {round(float(t), 6): tuple(f) for t, f in zip(temps, flags, strict=True)}
     return [by_t.get(round(float(t), 6), ()) for t in temperature_K]
 
 

@@ -266,7 +266,8 @@ class CreepSeries:
             "fluidity_1_per_Pa_s": float(self.fluidity_1_per_Pa_s),
             "steady_state_compliance_1_per_Pa": self.steady_state_compliance_1_per_Pa,
             "terms": [{"retardation_time_s": float(t), "compliance_1_per_Pa": float(d)}
-                      for t, d in zip(self.retardation_times_s, self.compliance_1_per_Pa)],
+                      for t, d in zip(self.retardation_times_s, self.compliance_1_per_Pa,
+                                      strict=True)],
             "modulus_kind": self.modulus_kind,
             "reference_temperature_K": self.reference_temperature_K,
             "valid_reduced_time_range_s": None if rng is None else [rng[0], rng[1]],
@@ -317,7 +318,8 @@ class CreepSeries:
                      " &deg;C")
         rows = "".join(f"<tr><td>{i}</td><td>{_fmt(t)}</td><td>{_fmt(d)}</td></tr>"
                        for i, (t, d) in enumerate(zip(self.retardation_times_s,
-                                                      self.compliance_1_per_Pa), start=1))
+                                                      self.compliance_1_per_Pa, strict=True),
+                                                  start=1))
         return (f"<div>{head}<table><thead><tr><th>j</th><th>&lambda;<sub>j</sub> (s)</th>"
                 f"<th>{sym}<sub>j</sub> (1/Pa)</th></tr></thead><tbody>{rows}</tbody>"
                 "</table></div>")

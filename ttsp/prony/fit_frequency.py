@@ -177,7 +177,7 @@ def _stacked_problem(data: _FrequencyData, tau: np.ndarray,
     den = 1.0 + wt * wt
     blocks_a, blocks_off, blocks_w, blocks = [], [], [], []
     start = 0
-    for q, y in zip(data.quantities, data.values):
+    for q, y in zip(data.quantities, data.values, strict=True):
         if q == "storage_modulus":
             a = wt * wt / den
             ones = np.ones((w.size, 1))

@@ -96,7 +96,8 @@ class NormalisedPronySeries:
             "long_term_modulus_Pa": float(self.long_term_modulus_Pa),
             "g_infinity": float(self.g_infinity),
             "sum_g": float(np.sum(self.g)),
-            "terms": [{"tau_s": float(t), "g": float(g)} for t, g in zip(self.tau_s, self.g)],
+            "terms": [{"tau_s": float(t), "g": float(g)}
+                      for t, g in zip(self.tau_s, self.g, strict=True)],
         }
 
     def to_frame(self):
@@ -398,7 +399,7 @@ class PronySeries:
             "equilibrium_modulus_Pa": float(self.equilibrium_modulus_Pa),
             "instantaneous_modulus_Pa": self.instantaneous_modulus_Pa,
             "terms": [{"tau_s": float(t), "modulus_Pa": float(m)}
-                      for t, m in zip(self.tau_s, self.modulus_Pa)],
+                      for t, m in zip(self.tau_s, self.modulus_Pa, strict=True)],
             "modulus_kind": self.modulus_kind,
             "reference_temperature_K": self.reference_temperature_K,
             "reference_temperature_C": self.reference_temperature_C,
@@ -484,7 +485,8 @@ class PronySeries:
             head += f"; fit rms {self.fit_rms_percent:.3g} %"
         rows = "".join(f"<tr><td>{i}</td><td>{_fmt(t)}</td><td>{_fmt(m)}</td>"
                        f"<td>{_fmt(m / self.instantaneous_modulus_Pa)}</td></tr>"
-                       for i, (t, m) in enumerate(zip(self.tau_s, self.modulus_Pa), start=1))
+                       for i, (t, m) in enumerate(zip(self.tau_s, self.modulus_Pa, strict=True),
+                                                  start=1))
         return (f"<div>{head}<table><thead><tr><th>i</th><th>&tau;<sub>i</sub> (s)</th>"
                 f"<th>{sym}<sub>i</sub> (Pa)</th><th>g<sub>i</sub></th></tr></thead>"
                 f"<tbody>{rows}</tbody></table></div>")

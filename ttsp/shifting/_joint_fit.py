@@ -232,7 +232,7 @@ class _Fit:
         n_sc = self.n_par - self.n_theta
         if n * n_sc <= _curve_models.DENSE_JACOBIAN_MAX_ENTRIES:
             Jsc = np.zeros((n, n_sc))
-            for rr, cc, vv in zip(rows, cols, vals):
+            for rr, cc, vv in zip(rows, cols, vals, strict=True):
                 Jsc[rr, cc] += vv
         else:
             Jsc = sp.csr_matrix((np.concatenate(vals),
