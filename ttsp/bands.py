@@ -48,12 +48,15 @@ from __future__ import annotations
 import math
 import warnings
 from dataclasses import dataclass
-from typing import NamedTuple
+from typing import TYPE_CHECKING, NamedTuple
 
 import numpy as np
 
 from ._validation import bad_value
 from .exceptions import DataError
+
+if TYPE_CHECKING:
+    from .laws import ShiftLaw
 
 __all__ = ["BandEnsemble", "Banded", "fit_band_ensemble", "check_level", "band_columns", "DEFAULT_MEMBERS",
            "DEFAULT_LEVEL", "BAND_METHOD"]
@@ -69,9 +72,9 @@ BAND_METHOD = ("bootstrap: shifts drawn from their covariance, Prony residuals r
 class Banded(NamedTuple):
     """A predicted value with its interval at ``level`` (same shape and unit as ``value``)."""
 
-    value: np.ndarray
-    low: np.ndarray
-    high: np.ndarray
+    value: np.ndarray | float
+    low: np.ndarray | float
+    high: np.ndarray | float
     level: float
 
 
@@ -128,7 +131,7 @@ class BandEnsemble:
     """
 
     members: tuple
-    law: object
+    law: ShiftLaw
     law_parameters: tuple
     valid_reduced_time_range_s: tuple
     modulus_kind: str = "tensile"

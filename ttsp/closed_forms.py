@@ -437,7 +437,7 @@ def _predictions(models: Mapping[str, Any], w: np.ndarray,
 def _comparison_row(label: str, model: Any, pred: dict[str, np.ndarray],
                     data: dict[str, np.ndarray], common: list[str]) -> dict:
     """One model's row: rms per quantity it evaluates, and rms, max, AIC, BIC on ``common``."""
-    row = {"model": label, "n_parameters": _count_parameters(model)}
+    row: dict[str, Any] = {"model": label, "n_parameters": _count_parameters(model)}
     for q in data:
         if q in pred:
             r = pred[q] / data[q] - 1.0

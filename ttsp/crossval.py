@@ -114,8 +114,8 @@ class CrossValidation:
                    "the others, predict it at the law's a_T and at its best a_T")
 
     def _pooled(self, key: str) -> np.ndarray:
-        vals = [getattr(h, key).get("all", math.nan) for h in self.per_isotherm]
-        vals = np.asarray(vals, dtype=float)
+        vals = np.asarray([getattr(h, key).get("all", math.nan) for h in self.per_isotherm],
+                          dtype=float)
         return vals[np.isfinite(vals)]
 
     @property

@@ -88,7 +88,8 @@ class Isotherm:
     temperature_K: float
     x: np.ndarray
     values: Mapping[str, np.ndarray]
-    source_rows: np.ndarray = field(default=None)
+    # None is taken and replaced by -1 per point in __post_init__: readers always get an array
+    source_rows: np.ndarray = field(default=None)  # type: ignore[arg-type]
 
     def __post_init__(self):
         try:
@@ -137,7 +138,7 @@ class Isotherm:
                 and all(_same_array(v, other.values[k]) for k, v in self.values.items())
                 and _same_array(self.source_rows, other.source_rows))
 
-    __hash__ = None  # holds arrays: equal by value, not hashable
+    __hash__ = None  # type: ignore[assignment]  # holds arrays: equal by value, not hashable
 
     @property
     def temperature_C(self) -> float:
@@ -191,7 +192,7 @@ class Campaign:
                 and dict(self.metadata) == dict(other.metadata)
                 and dict(self.dropped_rows) == dict(other.dropped_rows))
 
-    __hash__ = None
+    __hash__ = None  # type: ignore[assignment]  # holds isotherms: not hashable
 
     # ---- views -------------------------------------------------------------------------------
     @property

@@ -23,6 +23,7 @@ from __future__ import annotations
 import math
 import warnings
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
 import numpy as np
 
@@ -30,6 +31,11 @@ from ._arrays import outside_log_range
 from ._validation import bad_value, check_choice
 from .data import REFERENCE_SNAP_K
 from .exceptions import DataError, ExtrapolationWarning
+
+if TYPE_CHECKING:
+    from .bands import BandEnsemble
+    from .laws import ShiftLaw
+    from .prony import PronySeries
 
 __all__ = ["ViscoelasticModel", "VerticalShift", "QUANTITY_COLUMNS", "TIME_QUANTITIES",
            "FREQUENCY_QUANTITIES"]
@@ -113,16 +119,18 @@ class VerticalShift:
         if self.mode == "fit":
             return 10.0 ** np.interp(T, self.temperature_K, self.log10_bT)
         tr = self.reference_temperature_K
-        b = T * (1.0 - self.expansion_coefficient_per_K * (T - tr)) / tr
+        alpha = self.expansion_coefficient_per_K
+        assert alpha is not None   # mode 'density' has one (checked in __post_init__)
+        b = T * (1.0 - alpha * (T - tr)) / tr
         if np.any(b <= 0):
             raise bad_value("temperature_K", f"below T_ref + 1/α_v = "
-                            f"{tr + 1.0 / self.expansion_coefficient_per_K:.6g} K (the density "
+                            f"{tr + 1.0 / alpha:.6g} K (the density "
                             "law gives no positive density beyond)", float(np.max(T)))
         return b
 
     def to_dict(self) -> dict:
         out = {"mode": self.mode, "reference_temperature_C": self.reference_temperature_K - 273.15}
-        if self.mode == "density":
+        if self.mode == "density" and self.expansion_coefficient_per_K is not None:
             out["expansion_coefficient_per_K"] = float(self.expansion_coefficient_per_K)
         else:
             out["temperature_C"] = [t - 273.15 for t in self.temperature_K]
@@ -149,10 +157,10 @@ class ViscoelasticModel:
         (value, low, high, level) instead of the value alone.
     """
 
-    series: object
-    law: object
+    series: PronySeries
+    law: ShiftLaw
     vertical: VerticalShift | None = None
-    ensemble: object = None
+    ensemble: BandEnsemble | None = None
 
     def __post_init__(self):
         tr_law = float(self.law.reference_temperature_K)

@@ -605,7 +605,7 @@ def _figures(result, figures_svg) -> dict:
     if not isinstance(figures_svg, dict):
         raise bad_value("figures_svg", "a dict of figure name to SVG text (or PNG bytes)",
                         type(figures_svg).__name__)
-    sections = {}
+    sections: dict[str, list[dict]] = {}
     number = 0
     order = list(_SECTION_OF_FIGURE)
     names = sorted(figures_svg, key=lambda n: (order.index(n) if n in order else len(order), n))
@@ -629,7 +629,7 @@ def _figures(result, figures_svg) -> dict:
 def _load_template():
     import jinja2
 
-    text = resources.files("ttsp").joinpath("templates", "report.html.j2").read_text("utf-8")
+    text = resources.files("ttsp").joinpath("templates").joinpath("report.html.j2").read_text("utf-8")
     env = jinja2.Environment(autoescape=True, undefined=jinja2.StrictUndefined,
                              trim_blocks=True, lstrip_blocks=True, keep_trailing_newline=True)
     return env.from_string(text)

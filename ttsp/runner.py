@@ -12,6 +12,7 @@ import sys
 import time
 import warnings
 from pathlib import Path
+from typing import Any
 
 from .exceptions import DataError, OptionValueError
 
@@ -59,9 +60,11 @@ class Progress:
     where the platform has no such timer, steps are reported only when they end."""
 
     def __init__(self, quiet: bool, heartbeat_s: float = 30.0):
-        self.quiet, self.t0, self.name = quiet, None, None
+        self.quiet = quiet
+        self.t0 = 0.0                      # perf_counter at the start of step ``name``
+        self.name: str | None = None
         self.heartbeat_s = heartbeat_s
-        self._previous_handler = None
+        self._previous_handler: Any = None  # the SIGALRM handler to put back (signal's own type)
 
     def __call__(self, name: str):
         self.done()

@@ -464,7 +464,8 @@ def _spectrum(problem: _TikhonovProblem, sols, grid, chosen: int, used: str, cri
         raise FitError("the regularised spectrum is zero everywhere; the data carry no "
                        "relaxation (or the regularisation is far too strong)")
     h = u[n_fixed:] * problem.e_ref
-    e_e = float(u[0] * problem.e_ref) if n_fixed else float(problem.e_fixed)
+    # E_e free (no e_fixed): the first unknown, n_fixed 1
+    e_e = float(u[0] * problem.e_ref) if problem.e_fixed is None else float(problem.e_fixed)
     fitted = np.concatenate([e_e + problem.k1 @ h, problem.k2 @ h])
     rel = 100 * (fitted / problem.y - 1)
     wmin, wmax = float(w.min()), float(w.max())

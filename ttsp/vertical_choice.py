@@ -156,7 +156,7 @@ def choose_vertical_shift(options, fit, validate):
             failed[mode] = why
     better = {m: errors[m] for m in built if m != "none" and m not in failed
               and errors[m] < errors["none"] * (1.0 - VERTICAL_GAIN)}
-    chosen = min(better, key=better.get) if better else "none"
+    chosen = min(better, key=better.__getitem__) if better else "none"
     o, fitted, cv = built[chosen]
     return o, fitted, cv, VerticalChoice(chosen, errors, failed,
                                          _reason(chosen, errors, failed, judged))

@@ -130,7 +130,7 @@ def check_id(value, origin: str = "") -> None:
 
 def check_unique(items) -> None:
     """Refuse ids that repeat, also ignoring letter case (file systems that ignore it)."""
-    seen = {}
+    seen: dict[str, BatchItem] = {}   # casefolded id -> its first item
     for item in items:
         key = item.id.casefold()
         if key in seen:

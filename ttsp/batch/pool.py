@@ -87,7 +87,8 @@ def _drain(pool, queue, workers: int, task, on_done, inflight: dict) -> list:
     import concurrent.futures as cf
     from concurrent.futures.process import BrokenProcessPool
 
-    suspects, broken = [], False
+    suspects: list = []
+    broken = False
     while (queue or inflight) and not suspects and not broken:
         while queue and len(inflight) < 2 * workers and not broken:
             payload = queue.popleft()
@@ -140,7 +141,7 @@ def run_local(payloads, workers: int, task, on_done) -> None:
     queue = deque(payloads)
     while queue:
         pool = _new_pool(max(1, min(workers, len(queue))), ctx)
-        inflight = {}
+        inflight: dict = {}   # future -> its payload
         try:
             suspects = _drain(pool, queue, workers, task, on_done, inflight)
         except BaseException as exc:

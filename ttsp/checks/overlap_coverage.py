@@ -58,7 +58,8 @@ def _neighbour_pairs(c: Campaign, table, quantity: str, tolerance: float):
     """Every pair of neighbouring isotherms with its overlap in log10 of ``quantity`` (and of
     tan δ for frequency data) and its verdict; then the pairs named as gaps, thin overlaps and
     gaps bridged by tan δ. Points flagged as outliers in ``table`` are left out."""
-    pairs, named = [], {"gap": [], "thin": [], "gap bridged by tan δ": []}
+    pairs = []
+    named: dict[str, list] = {"gap": [], "thin": [], "gap bridged by tan δ": []}
     for k in range(len(c) - 1):
         a, b = c.isotherms[k], c.isotherms[k + 1]
         ka, kb = _keep(table, k, a.n_points), _keep(table, k + 1, b.n_points)

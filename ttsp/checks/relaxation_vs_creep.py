@@ -39,7 +39,7 @@ def check_relaxation_creep(campaign: Campaign, shifts) -> CheckResult | None:
     from ..relaxation_creep import compare_relaxation_creep
 
     table = _align_shifts(campaign, shifts)
-    curves = {"relaxation_modulus_Pa": ([], []), "creep_compliance_1_per_Pa": ([], [])}
+    curves: dict[str, tuple[list, list]] = {"relaxation_modulus_Pa": ([], []), "creep_compliance_1_per_Pa": ([], [])}
     for k, iso in enumerate(campaign.isotherms):
         keep = _keep(table, k, iso.n_points)
         lt = _reduced_log_x(campaign, table, k)

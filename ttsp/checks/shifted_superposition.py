@@ -44,6 +44,7 @@ def check_shifted_superposition(campaign: Campaign, shifts) -> CheckResult | Non
     """
     c = _as_campaign(campaign).with_derived()
     table = _align_shifts(c, shifts)
+    quantity: str | None
     if c.domain == "frequency":
         if "tan_delta" not in c.quantities:
             return None

@@ -191,7 +191,7 @@ def _domain_of(frame, domain: str | None) -> str:
 def _kind_and_domain(reads: list, modulus_kind: str | None, domain: str | None) -> tuple:
     """The campaign's modulus kind and domain: as given, else as the files say, refusing files
     that say different things."""
-    first_of = {}    # the first file of each kind and domain
+    first_of: dict[str, str] = {}    # the first file of each kind and domain
     for r in reads:
         if r.modulus_kind:
             first_of.setdefault(r.modulus_kind, r.path)
@@ -214,7 +214,10 @@ def _metadata_and_dropped(reads: list, *, several: bool) -> tuple:
     keys prefixed by the file name when there are several files), the units assumed and the
     rows skipped; the lines and rows left out, counted by reason; the skipped rows listed by
     row and text (None when there are none)."""
-    metadata, dropped, skipped_text, assumed = {}, {}, [], []
+    metadata: dict[str, str] = {}
+    dropped: dict[str, int] = {}
+    skipped_text: list[str] = []
+    assumed: list[str] = []
     for r in reads:
         for k, v in r.preamble.items():
             metadata[f"{Path(r.path).name}: {k}" if several else k] = v

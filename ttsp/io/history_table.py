@@ -84,7 +84,7 @@ def read_history_table(path) -> LoadingHistory:
         first = table.skipped[0]
         raise DataError(f"{where(table.path, None, first.row)}a history table must hold only "
                         f"numbers after its header; got {first.text!r}")
-    found = {}
+    found: dict[str, tuple[int, str, str | None]] = {}   # role -> (column, header, unit)
     for j, header in enumerate(table.header):
         role, unit = _role(header)
         if role is not None and role in found:  # never pick one of two silently

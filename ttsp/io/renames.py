@@ -13,6 +13,7 @@ from __future__ import annotations
 import contextlib
 import errno
 import os
+from collections.abc import Callable
 from pathlib import Path
 
 from .._lifetime import process_alive
@@ -24,7 +25,7 @@ _AT_FDCWD = -100
 _RENAME_NOREPLACE = 1
 _RENAME_EXCHANGE = 2
 _UNSUPPORTED = {errno.EINVAL, errno.ENOSYS, errno.EOPNOTSUPP, errno.ENOTSUP}
-_renameat2 = None
+_renameat2: Callable[..., int] | bool | None = None
 
 
 def _libc_renameat2():
@@ -101,7 +102,7 @@ def folder_lock(destination, shown=None, lock_file=None):
     try:
         import fcntl
     except ImportError:  # pragma: no cover - not POSIX
-        fcntl = None
+        fcntl = None  # type: ignore[assignment]  # the module is absent there
     if fcntl is None:  # pragma: no cover
         yield from _exclusive_file_lock(path, shown)
         return

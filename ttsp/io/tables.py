@@ -81,11 +81,11 @@ def _choose_delimiter(lines: Sequence[str]) -> tuple:
     """Pick the delimiter and the decimal mark that make the most lines split into the same
     number (>= 2) of numeric fields: ``(delimiter, decimal_comma, found)``, where ``found`` is
     False when no line reads as two or more numbers at all."""
-    best = (None, False, -1)
+    best: tuple[str | None, bool, int] = (None, False, -1)
     sample = [ln for ln in lines if ln.strip()][-200:]
     for delimiter, decimal_comma in (("\t", True), (";", True), (",", False), (None, True),
                                      ("\t", False), (";", False), (None, False)):
-        counts = {}
+        counts: dict[int, int] = {}
         for ln in sample:
             cells = _split(ln, delimiter)
             if len(cells) >= 2 and all(is_number(c, decimal_comma) for c in cells if c):
@@ -241,7 +241,9 @@ def _data_rows(cells: list, data_start: int) -> tuple:
     """The rows below the header that hold cells, their 1-based line numbers, and the count of
     the lines left out (``{"comment lines": n, "blank lines": m}``; blank lines at the very end
     count too)."""
-    rows, numbers, dropped = [], [], {}
+    rows: list[tuple] = []
+    numbers: list[int] = []
+    dropped: dict[str, int] = {}
     trailing_blank = 0
     for i in range(data_start, len(cells)):
         c = cells[i]

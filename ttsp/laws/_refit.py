@@ -10,7 +10,7 @@ import numpy as np
 from ._solver import Outcome, into_bounds
 from ._start_grid import weighted_lstsq
 from ._weighting import Weighting
-from .base import Bounds, ShiftLaw
+from .base import Bounds, LinearShiftLaw, ShiftLaw
 
 
 def refit_from(cls: type[ShiftLaw], T: np.ndarray, y: np.ndarray, weigh: Weighting, tr: float,
@@ -29,7 +29,8 @@ def refit_from(cls: type[ShiftLaw], T: np.ndarray, y: np.ndarray, weigh: Weighti
     names = cls.fit_parameter_names(order)
     free = tuple(n for n in names if n not in fixed)
     lims = cls.fit_bounds(T, tr, fixed, bounds, order)
-    if cls.linear_in_constants and not any(np.any(np.isfinite(lims[n])) for n in free):
+    if issubclass(cls, LinearShiftLaw) and not any(   # linear_in_constants
+            np.any(np.isfinite(lims[n])) for n in free):
         # the constants alone: the same solve as the direct fit, without its covariance
         coefs = weighted_lstsq(cls.linear_columns(T, tr, order), y, weigh, fixed)
         return {n: float(coefs[n]) for n in names}

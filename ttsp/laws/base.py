@@ -14,7 +14,7 @@ import abc
 import warnings
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass
-from typing import TYPE_CHECKING, Any, ClassVar
+from typing import TYPE_CHECKING, Any, ClassVar, TypeVar
 
 import numpy as np
 
@@ -40,6 +40,8 @@ __all__ = ["ShiftLaw", "LinearShiftLaw"]
 
 #: bounds of a parameter: (low, high), either end may be infinite
 Bounds = tuple[float, float]
+
+_LawT = TypeVar("_LawT", bound="ShiftLaw")
 
 
 @dataclass(frozen=True)
@@ -236,7 +238,7 @@ class ShiftLaw(abc.ABC):
         T = self._prepare(tg, stacklevel=2)
         return float(-tg * self._slope(self.params, T, self.reference_temperature_K))
 
-    def at_reference(self, reference_temperature_K: float) -> ShiftLaw:
+    def at_reference(self: _LawT, reference_temperature_K: float) -> _LawT:
         """The same law referred to another reference temperature T_ref'.
 
         log10 a_T' (T) = log10 a_T(T) - log10 a_T(T_ref'), so that a_T'(T_ref') = 1. The valid

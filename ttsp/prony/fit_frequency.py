@@ -218,7 +218,8 @@ def _series(x: np.ndarray, tau: np.ndarray, n_fixed: int, data: _FrequencyData,
     """The fitted series (non-zero terms), valid over [1/ω_max, 1/ω_min] (s)."""
     w = data.omega_rad_s
     coef, times = nonzero_terms(x, tau, n_fixed)
-    e_inf = float(x[0]) if n_fixed else float(data.fixed_equilibrium_Pa)
+    fixed = data.fixed_equilibrium_Pa   # None: E_inf is free, the first coefficient (n_fixed 1)
+    e_inf = float(x[0]) if fixed is None else float(fixed)
     method = "non-negative least squares on " + " and ".join(data.quantities)
     return PronySeries(e_inf, times, coef,
                        **options.series_metadata((1.0 / float(w.max()), 1.0 / float(w.min())),
