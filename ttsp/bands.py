@@ -51,12 +51,14 @@ from dataclasses import dataclass
 from typing import TYPE_CHECKING, NamedTuple
 
 import numpy as np
+from numpy.typing import ArrayLike
 
 from ._validation import bad_value
 from .exceptions import DataError
 
 if TYPE_CHECKING:
-    from .laws import ShiftLaw
+    from .laws import ShiftLaw, ShiftLawFit
+    from .shifting import ShiftResult
 
 __all__ = ["BandEnsemble", "Banded", "fit_band_ensemble", "check_level", "band_columns", "DEFAULT_MEMBERS",
            "DEFAULT_LEVEL", "BAND_METHOD"]
@@ -78,7 +80,7 @@ class Banded(NamedTuple):
     level: float
 
 
-def check_level(level) -> float:
+def check_level(level: float) -> float:
     """The band level as a float in (0, 1); a percentage (1 < level < 100) is refused."""
     try:
         v = float(level)
@@ -180,8 +182,9 @@ class BandEnsemble:
         return np.stack([np.asarray(getattr(m, fn)(reduced), dtype=float) for m in members])
 
     # ---- the spread ---------------------------------------------------------------------------
-    def log10_spread(self, quantity: str, temperature_K, *, time_s=None, frequency_Hz=None,
-                     central_log10_aT=None) -> np.ndarray:
+    def log10_spread(self, quantity: str, temperature_K: ArrayLike, *,
+                     time_s: ArrayLike | None = None, frequency_Hz: ArrayLike | None = None,
+                     central_log10_aT: ArrayLike | None = None) -> np.ndarray:
         """Standard deviation over members of log10 of ``quantity`` at (x, T), widened outside
         the data window (module docstring). ``central_log10_aT`` (the build's law at T) sets
         the distance from the window."""
@@ -237,7 +240,8 @@ class BandEnsemble:
             spread = np.where(outside, np.maximum(spread, s_edge * (1.0 + d)), spread)
         return spread.reshape(shape)
 
-    def interval(self, quantity: str, value, temperature_K, level: float, **x) -> Banded:
+    def interval(self, quantity: str, value: ArrayLike, temperature_K: ArrayLike, level: float,
+                 **x: ArrayLike) -> Banded:
         """``value`` (the build's prediction) with its interval at ``level``."""
         level = check_level(level)
         s = self.log10_spread(quantity, temperature_K, **x)
@@ -387,9 +391,10 @@ def _refit_member(xs, values: dict, domain: str, tau, quantity, terms_per_decade
     return PronySeries(s.equilibrium_modulus_Pa, s.tau_s, s.modulus_Pa, modulus_kind=modulus_kind)
 
 
-def fit_band_ensemble(x, values: dict, isotherm, *, domain: str, series, shifts, law_fit,
-                      terms_per_decade: float, quantity: str | None = None,
-                      n_members: int = DEFAULT_MEMBERS, seed: int = 0) -> BandEnsemble:
+def fit_band_ensemble(x, values: dict, isotherm: ArrayLike, *, domain: str, series,
+                      shifts: ShiftResult, law_fit: ShiftLawFit, terms_per_decade: float,
+                      quantity: str | None = None, n_members: int = DEFAULT_MEMBERS,
+                      seed: int = 0) -> BandEnsemble:
     """Bootstrap ensemble of the master curve's Prony series and the law (module docstring).
 
     Parameters

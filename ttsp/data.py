@@ -22,6 +22,7 @@ from itertools import pairwise
 from types import MappingProxyType
 
 import numpy as np
+from numpy.typing import ArrayLike
 
 from ._arrays import readonly as _readonly
 from ._frame_checks import (
@@ -494,7 +495,7 @@ def _refuse_conflicting_repeat(conflict: tuple, members: np.ndarray, x_all: np.n
                     f"not a rounded time stamp; check the file")
 
 
-def group_temperatures(temperature_K, tolerance_K: float) -> list:
+def group_temperatures(temperature_K: ArrayLike, tolerance_K: float) -> list:
     """Group indices of points whose temperatures chain within ``tolerance_K`` of each other.
 
     Sort the temperatures; a new group starts wherever the step to the next one exceeds the

@@ -26,6 +26,7 @@ from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
 import numpy as np
+from numpy.typing import ArrayLike
 
 from ._arrays import outside_log_range
 from ._validation import bad_value, check_choice
@@ -91,7 +92,8 @@ class VerticalShift:
 
     @classmethod
     def from_table(cls, mode: str, reference_temperature_K: float,
-                   expansion_coefficient_per_K, temperature_K, log10_bT) -> VerticalShift:
+                   expansion_coefficient_per_K: float | None, temperature_K: ArrayLike,
+                   log10_bT: ArrayLike) -> VerticalShift:
         """From a shift table in any order: sorted by temperature, with the node (T_ref, 0)
         added in mode 'fit' when no isotherm lies within 0.05 K of the reference."""
         tr = float(reference_temperature_K)
@@ -113,7 +115,7 @@ class VerticalShift:
                               shifts.expansion_coefficient_per_K, shifts.temperature_K,
                               shifts.log10_bT)
 
-    def factor(self, temperature_K) -> np.ndarray:
+    def factor(self, temperature_K: ArrayLike) -> np.ndarray:
         """b_T at ``temperature_K`` (K)."""
         T = np.asarray(temperature_K, dtype=float)
         if self.mode == "fit":
@@ -173,7 +175,7 @@ class ViscoelasticModel:
                             f"equal to the law's reference temperature {tr_law:g} K",
                             self.vertical.reference_temperature_K)
 
-    def vertical_factor(self, temperature_K) -> np.ndarray:
+    def vertical_factor(self, temperature_K: ArrayLike) -> np.ndarray:
         """b_T at ``temperature_K`` (K): 1 without a vertical shift."""
         if self.vertical is None:
             return np.ones(np.shape(temperature_K))
@@ -184,7 +186,7 @@ class ViscoelasticModel:
         return float(self.law.reference_temperature_K)
 
     # ---- shift --------------------------------------------------------------------------------
-    def log10_aT(self, temperature_K) -> np.ndarray:
+    def log10_aT(self, temperature_K: ArrayLike) -> np.ndarray:
         """log10 a_T at ``temperature_K`` (K) from the law (warns outside its fitted range)."""
         return np.asarray(self.law.log10_aT(np.asarray(temperature_K, dtype=float)), dtype=float)
 
@@ -201,7 +203,8 @@ class ViscoelasticModel:
                           f"those values are extrapolated", ExtrapolationWarning, stacklevel=3)
 
     # ---- time domain ------------------------------------------------------------------------
-    def relaxation_modulus(self, time_s, temperature_K, band=None):
+    def relaxation_modulus(self, time_s: ArrayLike, temperature_K: ArrayLike,
+                           band: float | None = None):
         """E(t, T) = b_T E_ref(t / a_T) in Pa, for times in s and temperatures in K (broadcast).
 
         ``band=0.95`` returns a :class:`~ttsp.bands.Banded` with the interval (as for every
@@ -210,7 +213,8 @@ class ViscoelasticModel:
         value = self._scaled(self.series.relaxation_modulus(t / a), temperature_K, t)
         return self._banded("relaxation_modulus", value, temperature_K, band, time_s=t, a=a)
 
-    def creep_compliance(self, time_s, temperature_K, band=None):
+    def creep_compliance(self, time_s: ArrayLike, temperature_K: ArrayLike,
+                         band: float | None = None):
         """D(t, T) = D_ref(t / a_T) / b_T in 1/Pa, from the exact Prony interconversion."""
         t, a = self._reduced_time(time_s, temperature_K)
         value = self._scaled(self.creep_series.creep_compliance(t / a), temperature_K, t,
@@ -282,22 +286,25 @@ class ViscoelasticModel:
         return self._banded(quantity, value, temperature_K, band, frequency_Hz=f,
                             a=w / (2.0 * math.pi * f))
 
-    def storage_modulus(self, frequency_Hz, temperature_K, band=None):
+    def storage_modulus(self, frequency_Hz: ArrayLike, temperature_K: ArrayLike,
+                        band: float | None = None):
         """E'(f, T) = b_T E'_ref(2πf·a_T) in Pa; frequency in Hz."""
         return self._frequency_banded("storage_modulus", frequency_Hz, temperature_K, band)
 
-    def loss_modulus(self, frequency_Hz, temperature_K, band=None):
+    def loss_modulus(self, frequency_Hz: ArrayLike, temperature_K: ArrayLike,
+                     band: float | None = None):
         """E''(f, T) = b_T E''_ref(2πf·a_T) in Pa; frequency in Hz."""
         return self._frequency_banded("loss_modulus", frequency_Hz, temperature_K, band)
 
-    def tan_delta(self, frequency_Hz, temperature_K, band=None):
+    def tan_delta(self, frequency_Hz: ArrayLike, temperature_K: ArrayLike,
+                  band: float | None = None):
         """tan δ(f, T) = E''/E' at the reduced frequency 2πf·a_T."""
         return self._frequency_banded("tan_delta", frequency_Hz, temperature_K, band,
                                       scale=False)
 
     # ---- one call for the CLI and the API -----------------------------------------------------
-    def evaluate(self, quantity: str, temperature_K, *, time_s=None, frequency_Hz=None,
-                 band=None):
+    def evaluate(self, quantity: str, temperature_K: ArrayLike, *, time_s: ArrayLike | None = None,
+                 frequency_Hz: ArrayLike | None = None, band: float | None = None):
         """Evaluate one quantity by name (``relaxation_modulus``, ``creep_compliance``,
         ``storage_modulus``, ``loss_modulus``, ``tan_delta``) at times (s) or frequencies (Hz);
         with ``band=LEVEL`` a :class:`~ttsp.bands.Banded`."""
@@ -311,7 +318,8 @@ class ViscoelasticModel:
                             f"not times")
         return getattr(self, quantity)(frequency_Hz, temperature_K, band=band)
 
-    def isochrone(self, quantity: str, temperature_K, frequency_Hz: float = 1.0) -> np.ndarray:
+    def isochrone(self, quantity: str, temperature_K: ArrayLike,
+                  frequency_Hz: float = 1.0) -> np.ndarray:
         """E'(T), E''(T) or tan δ(T) at one fixed frequency (Hz) over temperatures (K)."""
         check_choice("quantity", quantity, FREQUENCY_QUANTITIES)
         return getattr(self, quantity)(np.full(np.shape(temperature_K), float(frequency_Hz)),

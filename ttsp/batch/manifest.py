@@ -142,7 +142,7 @@ def check_unique(items) -> None:
         seen[key] = item
 
 
-def read_manifest(path_or_folder) -> list:
+def read_manifest(path_or_folder: str | Path) -> list:
     """Read a batch manifest (CSV, JSON Lines, or a folder of campaigns) into :class:`BatchItem` s.
 
     Parameters

@@ -13,6 +13,7 @@ import os
 import sys
 import time
 from collections import deque
+from collections.abc import Callable, Sequence
 
 from .._lifetime import Terminated
 from .rows import error_text, failed_row
@@ -122,7 +123,8 @@ def _stop_on_interrupt(exc: BaseException, pool, inflight: dict, workers: int, o
             on_done(fut.result())
 
 
-def run_local(payloads, workers: int, task, on_done) -> None:
+def run_local(payloads: Sequence[dict], workers: int, task: Callable[[dict], dict],
+              on_done: Callable[[dict], object]) -> None:
     """Run the payloads in a process pool; a broken pool is replaced and its suspects isolated.
 
     Parameters

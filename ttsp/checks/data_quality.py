@@ -3,6 +3,11 @@ the measurements (per isotherm, from third differences)."""
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:
+    from ..shifting import ShiftResult
+
 import math
 
 import numpy as np
@@ -39,7 +44,7 @@ NOISE_ISOTHERM_RATIO = 5.0
 NOISE_ISOTHERM_PERCENT = 10.0
 
 
-def check_outliers(campaign: Campaign, shifts) -> CheckResult | None:
+def check_outliers(campaign: Campaign, shifts: ShiftResult) -> CheckResult | None:
     """Share of points the shifting flagged as outliers, per isotherm.
 
     Parameters

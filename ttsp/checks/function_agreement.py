@@ -23,6 +23,11 @@ left out: there a single-function shift is not evidence. An isotherm disagrees w
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:
+    from ..shifting import ShiftResult
+
 import warnings
 from dataclasses import replace
 
@@ -126,7 +131,7 @@ def _agreement_message(status: str, symbols: tuple, T: np.ndarray, d: np.ndarray
             "dependences), or one function carries an instrument error.")
 
 
-def check_function_agreement(campaign: Campaign, shifts):
+def check_function_agreement(campaign: Campaign, shifts: ShiftResult):
     """Shifts found on E' alone and on E'' alone, compared isotherm by isotherm.
 
     Parameters

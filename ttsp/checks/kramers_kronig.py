@@ -4,6 +4,12 @@ predicted from it (Booij & Thoone, Rheol. Acta 21, 15-24, 1982)."""
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:
+    from ..prony import PronyFit
+    from ..shifting import ShiftResult
+
 import math
 
 import numpy as np
@@ -195,8 +201,8 @@ def _kk_message(status: str, value: float, worse: str, where: str) -> str:
             "differ between E' and E''.")
 
 
-def check_kramers_kronig(campaign: Campaign | None = None, *, shifts=None,
-                         prony_fit=None) -> CheckResult | None:
+def check_kramers_kronig(campaign: Campaign | None = None, *, shifts: ShiftResult | None = None,
+                         prony_fit: PronyFit | None = None) -> CheckResult | None:
     """Kramers–Kronig consistency of E' and E'' of the master curve.
 
     For a causal linear material E' and E'' are the two faces of one relaxation spectrum

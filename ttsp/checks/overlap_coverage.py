@@ -3,6 +3,11 @@ fix their horizontal shift? Gaps, thin overlaps and shifts bridged by a law are 
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:
+    from ..shifting import ShiftResult
+
 import math
 
 import numpy as np
@@ -138,7 +143,8 @@ def _covered_message(symbol: str, value: float, pairs: list, weak: list) -> str:
     return msg + "; the data can fix every shift."
 
 
-def check_overlap_coverage(campaign: Campaign, *, shifts=None) -> CheckResult | None:
+def check_overlap_coverage(campaign: Campaign, *,
+                           shifts: ShiftResult | None = None) -> CheckResult | None:
     """Decades of overlap in the ordinate between neighbouring isotherms; gaps named.
 
     A horizontal shift moves an isotherm along log x only, so two isotherms of a monotonic

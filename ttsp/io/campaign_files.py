@@ -16,7 +16,7 @@ from __future__ import annotations
 
 import os
 import warnings
-from collections.abc import Mapping
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -31,13 +31,13 @@ from .tables import TABLE_SUFFIXES, RawTable, read_table
 __all__ = ["read_campaign", "hash_inputs", "expand_paths"]
 
 
-def read_campaign(paths, *, columns: Mapping[str, str] | None = None,
-                  units: Mapping[str, str] | None = None, sheet: str | int | None = None,
-                  domain: str | None = None, modulus_kind: str | None = None,
-                  temperature_tolerance_K: float = 0.5,
+def read_campaign(paths: str | Path | Sequence[str | Path], *,
+                  columns: Mapping[str, str] | None = None, units: Mapping[str, str] | None = None,
+                  sheet: str | int | None = None, domain: str | None = None,
+                  modulus_kind: str | None = None, temperature_tolerance_K: float = 0.5,
                   temperature_C: float | Mapping[str, float] | None = None,
-                  max_points: int | None = None,
-                  temperature_from_name: bool = False, repeats: str = "merge") -> Campaign:
+                  max_points: int | None = None, temperature_from_name: bool = False,
+                  repeats: str = "merge") -> Campaign:
     """Read one or more files (or a folder) into a validated :class:`~ttsp.data.Campaign`.
 
     Parameters
@@ -247,7 +247,7 @@ def _labels_and_units(reads: list) -> tuple:
     return labels, units_read
 
 
-def expand_paths(paths) -> list:
+def expand_paths(paths: str | Path | Sequence[str | Path]) -> list:
     """The files named, a folder standing for its data files (not hidden ones, nor the lock
     files of a spreadsheet program), in order, each file once."""
     if isinstance(paths, (str, os.PathLike)):
@@ -285,7 +285,7 @@ def _common_folder(files) -> str:
         return os.path.commonpath([os.path.abspath(f) for f in files])
 
 
-def hash_inputs(paths) -> str:
+def hash_inputs(paths: str | Path | Sequence[str | Path]) -> str:
     """SHA-256 over the names and bytes of the input files (folders expanded as
     :func:`read_campaign` expands them), in file-name order, so the same inputs give the same
     hash wherever they lie."""

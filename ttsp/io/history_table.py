@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import re
 from dataclasses import dataclass
+from pathlib import Path
 
 import numpy as np
 
@@ -67,7 +68,7 @@ def _role(header: str):
     return None, None
 
 
-def read_history_table(path) -> LoadingHistory:
+def read_history_table(path: str | Path) -> LoadingHistory:
     """Read a history CSV (any delimiter the campaign reader accepts) into SI arrays.
 
     Strain is dimensionless unless the header says ``%``; stress in a modulus unit (Pa, MPa, …);

@@ -10,6 +10,11 @@ significant digits, so identical runs give identical bytes.
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:
+    pass
+
 import json
 from pathlib import Path
 
@@ -103,7 +108,8 @@ def _csv_quote(text: str) -> str:
     return text
 
 
-def write_build_numbers(result, folder, *, created_utc: str = "", units: str = "SI") -> dict:
+def write_build_numbers(result, folder: str | Path, *, created_utc: str = "",
+                        units: str = "SI") -> dict:
     """Write the number files of a :class:`~ttsp.workflow.BuildResult` into ``folder``.
 
     ``units`` is ``"SI"`` (Pa, 1/Pa) or ``"engineering"`` (MPa, 1/MPa) for the CSV tables;

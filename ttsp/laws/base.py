@@ -403,7 +403,8 @@ class LinearShiftLaw(ShiftLaw):
         """The column of each constant: log10 a_T = Σ constant × column."""
 
     @classmethod
-    def start_values(cls, T, y, weigh, tr, fixed, bounds, order):
+    def start_values(cls, T: np.ndarray, y: np.ndarray, weigh: Weighting, tr: float,
+                     fixed: Mapping[str, float], bounds: Mapping[str, Bounds], order: int):
         return [weighted_lstsq(cls.linear_columns(T, tr, order), y, weigh, fixed)]
 
 

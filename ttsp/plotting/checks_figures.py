@@ -7,6 +7,13 @@ Layer 4 (figures). matplotlib is imported inside the functions only.
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:
+    from matplotlib.axes import Axes
+
+    from ..data import Campaign
+
 import numpy as np
 
 from .._validation import bad_value
@@ -34,7 +41,7 @@ def _local_log_slope(x, y, half_window: int = 2):
     return local_log_slope(x, y, min_points=half_window)
 
 
-def plot_superposition_check(campaign, ax=None):
+def plot_superposition_check(campaign: Campaign, ax: Axes | None = None):
     """Shift-free check of thermorheological simplicity, coloured by temperature.
 
     Frequency data: the van Gurp–Palmen plot, phase angle δ against |E*| (van Gurp & Palmen,
@@ -96,7 +103,7 @@ def plot_superposition_check(campaign, ax=None):
     return ax
 
 
-def plot_cross_validation(result, ax=None):
+def plot_cross_validation(result, ax: Axes | None = None):
     """The held-out isotherms: rms prediction error (%) of each, left out of the build, at
     the shift its law gives and at its best shift, against temperature.
 

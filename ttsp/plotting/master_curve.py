@@ -6,6 +6,14 @@ Layer 4 (figures). matplotlib is imported inside the functions only.
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:
+    from matplotlib.axes import Axes
+
+    from ..build_result import BuildResult
+    from ..data import Campaign
+
 import math
 
 import numpy as np
@@ -66,7 +74,7 @@ def _resolve_quantities(campaign, quantity):
 _MARKERS = ("o", "^", "s", "D")
 
 
-def plot_isotherms(campaign, ax=None, quantity="auto"):
+def plot_isotherms(campaign: Campaign, ax: Axes | None = None, quantity="auto"):
     """Plot the measured isotherms as read, coloured by temperature, with a colour bar in °C.
 
     Parameters
@@ -124,7 +132,7 @@ def plot_isotherms(campaign, ax=None, quantity="auto"):
     return ax
 
 
-def plot_master_curve(result, ax=None):
+def plot_master_curve(result: BuildResult, ax: Axes | None = None):
     """The master curve at the reference temperature: every point at its reduced frequency
     (f·a_T) or reduced time (t/a_T), coloured by its temperature, with the fitted Prony model.
 

@@ -14,6 +14,7 @@ from dataclasses import dataclass
 from functools import partial
 
 import numpy as np
+from numpy.typing import ArrayLike
 
 from .._validation import bad_value, check_positive
 from .fit_result import PronyFit, assemble_fit
@@ -32,12 +33,13 @@ from .series import PronySeries
 __all__ = ["fit_prony_frequency"]
 
 
-def fit_prony_frequency(omega_rad_s, storage_modulus_Pa, loss_modulus_Pa, *,
-                        terms_per_decade: float = 2.0, margin_decades: float = 1.0,
-                        relative: bool = True, loss_weight: float = 1.0,
-                        equilibrium_modulus_Pa: float | None = None, tau_s=None,
-                        prune_tolerance_percent: float | None = None,
-                        plateau_slope: float = 0.05, modulus_kind: str = "tensile",
+def fit_prony_frequency(omega_rad_s: ArrayLike, storage_modulus_Pa: ArrayLike,
+                        loss_modulus_Pa: ArrayLike, *, terms_per_decade: float = 2.0,
+                        margin_decades: float = 1.0, relative: bool = True,
+                        loss_weight: float = 1.0, equilibrium_modulus_Pa: float | None = None,
+                        tau_s: ArrayLike | None = None,
+                        prune_tolerance_percent: float | None = None, plateau_slope: float = 0.05,
+                        modulus_kind: str = "tensile",
                         reference_temperature_K: float | None = None) -> PronyFit:
     """Fit a non-negative Prony series to a frequency master curve E'(ω), E''(ω).
 
