@@ -107,7 +107,7 @@ def write_campaigns(folder: Path, n: int, seed: int = 20240901) -> Path:
         rows = ["temperature_C,frequency_Hz,storage_modulus_Pa,loss_modulus_Pa"]
         rows += [f"{t - 273.15:.2f},{w / (2 * np.pi):.8g},{e1:.8g},{e2:.8g}" for t, w, e1, e2 in
                  zip(frame["temperature_K"], frame["frequency_rad_s"],
-                     frame["storage_modulus_Pa"], frame["loss_modulus_Pa"])]
+                     frame["storage_modulus_Pa"], frame["loss_modulus_Pa"], strict=True)]
         name = f"campaign_{i:04d}"
         (folder / f"{name}.csv").write_text("\n".join(rows) + "\n", encoding="utf-8")
         lines.append(f"{name},{name}.csv")

@@ -72,7 +72,7 @@ def baseline_prediction(train, test, held_C, reference_K) -> float:
     s = pairwise_baseline(train, reference_K)
     law = fit_shift_law(train.temperatures_K, s, reference_temperature_K=reference_K,
                         model="wlf").law
-    w = np.concatenate([i.x * 10.0 ** a for i, a in zip(train.isotherms, s)])
+    w = np.concatenate([i.x * 10.0 ** a for i, a in zip(train.isotherms, s, strict=True)])
     ep = np.concatenate([i.values["storage_modulus_Pa"] for i in train.isotherms])
     epp = np.concatenate([i.values["loss_modulus_Pa"] for i in train.isotherms])
     order = np.argsort(w)

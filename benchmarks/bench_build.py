@@ -78,7 +78,7 @@ def in_process_rows(repeat: int) -> list:
     for n in (10, 50, 200):
         c = timing_campaign(n, 10)
         rows.append((f"{n} x 10, numbers, no CV",
-                     *_timed(lambda: ttsp.build(c, options), max(1, repeat // 2)), None))
+                     *_timed(lambda c=c: ttsp.build(c, options), max(1, repeat // 2)), None))
     return rows
 
 

@@ -108,7 +108,7 @@ def creep_accuracy_rows(n_cases: int = 12) -> None:
         camp, truth, true_log10_aT = case_campaign(case, noise=0.02)
         ref = case["shift_reference_K"]
         w, ep, epp = [], [], []
-        for iso, la in zip(camp.isotherms, true_log10_aT):
+        for iso, la in zip(camp.isotherms, true_log10_aT, strict=True):
             w.append(iso.x * 10.0 ** la)
             ep.append(iso.values["storage_modulus_Pa"])
             epp.append(iso.values["loss_modulus_Pa"])

@@ -23,6 +23,7 @@ from __future__ import annotations
 import sys
 import time
 import warnings
+from functools import partial
 from pathlib import Path
 
 import numpy as np
@@ -68,7 +69,7 @@ def speed_rows() -> None:
         with warnings.catch_warnings():
             warnings.simplefilter("ignore", FitQualityWarning)
             fit_prony_frequency(w, e1, e2, tau_s=tau)  # warm-up (imports)
-            t, fit = best_of(lambda: fit_prony_frequency(w, e1, e2, tau_s=tau), 7)
+            t, fit = best_of(partial(fit_prony_frequency, w, e1, e2, tau_s=tau), 7)
         row(f"40-term fit, {n} frequencies ({2 * n} residuals)", f"{1e3 * t:.1f} ms",
             "< 200 ms" if n == 2000 else "", ("ok" if t < 0.2 else "MISS") if n == 2000 else "")
         if n == 2000:
@@ -78,7 +79,7 @@ def speed_rows() -> None:
 # --------------------------------------------------------------------------- baseline shift
 def master_curve(campaign, log10_aT):
     w, e1, e2 = [], [], []
-    for iso, la in zip(campaign.isotherms, log10_aT):
+    for iso, la in zip(campaign.isotherms, log10_aT, strict=True):
         w.append(iso.x * 10.0 ** la)
         e1.append(iso.values["storage_modulus_Pa"])
         e2.append(iso.values["loss_modulus_Pa"])

@@ -69,7 +69,7 @@ def oracle(campaign: Campaign, truth, true_log10_aT):
     for k, iso in enumerate(campaign.isotherms):
         y = np.log10(np.column_stack([iso.values[q] for q in FUNCS]))
 
-        def cost(s):
+        def cost(s, iso=iso, y=y):
             ep, epp = prony_storage_loss(iso.x * 10.0 ** s, truth.E_inf, truth.E_i, truth.tau_i)
             return float(np.sum((y - np.log10(np.column_stack([ep, epp]))) ** 2))
 

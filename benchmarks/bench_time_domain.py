@@ -127,7 +127,8 @@ def run(n_cases: int):
             elapsed += time.perf_counter() - t0
             orc = oracle(campaign, curve, column)
             o_ref = orc[REF_C]
-            for tc, s, se in zip(np.round(res.temperature_C, 6), res.log10_aT, res.log10_aT_stderr):
+            for tc, s, se in zip(np.round(res.temperature_C, 6), res.log10_aT,
+                                 res.log10_aT_stderr, strict=True):
                 if tc == REF_C:
                     continue
                 e = s - truth[tc]

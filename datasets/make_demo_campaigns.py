@@ -60,7 +60,7 @@ def elastomer(rng):
         epp = (e_i * wt / (1 + wt**2)).sum(axis=1)
         ep *= 1 + 0.015 * rng.standard_normal(ep.size)
         epp *= 1 + 0.015 * rng.standard_normal(epp.size)
-        for f, a, b in zip(f_hz, ep, epp):
+        for f, a, b in zip(f_hz, ep, epp, strict=True):
             lines.append(f"{measured_t:.2f},{f:.5g},{a / 1e6:.5g},{b / 1e6:.5g},{b / a:.5g}")
     (OUT / "damping_elastomer_dma.csv").write_text("\n".join(lines) + "\n", encoding="utf-8")
     return dict(t_ref_C=t_ref_C, C1=c1, C2_K=c2, E_inf_Pa=e_rubbery)
@@ -89,7 +89,7 @@ def adhesive(rng):
                  "Strain step: 0.2 %",
                  "",
                  "time (s)\tE(t) (MPa)"]
-        lines += [f"{a:.5g}\t{b / 1e6:.5g}" for a, b in zip(t_s, e)]
+        lines += [f"{a:.5g}\t{b / 1e6:.5g}" for a, b in zip(t_s, e, strict=True)]
         (folder / f"relax_{t_C:.0f}C.csv").write_text("\n".join(lines) + "\n", encoding="utf-8")
     return dict(t_ref_C=t_ref_C, Ea_kJ_per_mol=ea / 1e3, E_inf_Pa=e_rubbery)
 

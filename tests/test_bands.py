@@ -291,7 +291,7 @@ def test_time_domain_campaigns_get_bands_that_hold_the_truth(measured):
             rng = np.random.default_rng(seed)
             camp = Campaign(tuple(Isotherm(i.temperature_K, i.x, {measured: exd.creep_compliance(
                 i.x / 10.0 ** a) * np.exp(0.02 * rng.standard_normal(i.x.size))}, i.source_rows)
-                for i, a in zip(camp.isotherms, laT)), "time")
+                for i, a in zip(camp.isotherms, laT, strict=True)), "time")
         r = quiet(ttsp.build, camp, reference_temperature_C=TREF_C, law="wlf",
                   cross_validation=False)
         assert r.model.ensemble is not None and r.model.ensemble.n_members == 64

@@ -60,7 +60,7 @@ def write_campaign(path: Path, *, seed=0, noise=0.01, c1=C1, c2=C2_K) -> Path:
         wt = np.outer(2 * np.pi * f * 10.0 ** log10_aT(t, c1, c2), TAU)
         ep = (E_INF + (E_I * wt**2 / (1 + wt**2)).sum(1)) * np.exp(noise * rng.standard_normal(6))
         epp = (E_I * wt / (1 + wt**2)).sum(1) * np.exp(noise * rng.standard_normal(6))
-        rows += [f"{t:.2f},{a:.8g},{b:.8g},{c:.8g}" for a, b, c in zip(f, ep, epp)]
+        rows += [f"{t:.2f},{a:.8g},{b:.8g},{c:.8g}" for a, b, c in zip(f, ep, epp, strict=True)]
     path.parent.mkdir(parents=True, exist_ok=True)
     path.write_text("\n".join(rows) + "\n", encoding="utf-8")
     return path

@@ -153,7 +153,7 @@ def complex_campaign(noise=0.0, seed=2):
 def master_curve(campaign, shifts):
     """Reduced frequency, E', E'' of all points (shifted with the given table)."""
     w, e1, e2 = [], [], []
-    for iso, la in zip(campaign.isotherms, shifts.log10_aT):
+    for iso, la in zip(campaign.isotherms, shifts.log10_aT, strict=True):
         w.append(iso.x * 10.0 ** la)
         e1.append(iso.values["storage_modulus_Pa"])
         e2.append(iso.values["loss_modulus_Pa"])
@@ -320,7 +320,7 @@ def test_kk_prediction_is_the_kramers_kronig_transform():
     for omega in (1e-2, 1.0, 1e2):
         e_w = storage(omega)
 
-        def integrand(u):
+        def integrand(u, omega=omega, e_w=e_w):
             x = math.exp(u)
             if abs(x - omega) < 1e-12 * omega:
                 return 0.0
@@ -549,9 +549,10 @@ def test_runs_test_matches_enumeration():
     all arrangements of n1 plus and n2 minus signs (independent computation)."""
     for n1, n2 in ((3, 4), (5, 5), (2, 7)):
         arrangements = set(itertools.permutations([1] * n1 + [-1] * n2))
-        runs = [1 + sum(a != b for a, b in zip(s[1:], s[:-1])) for s in arrangements]
+        runs = [1 + sum(a != b for a, b in zip(s[1:], s[:-1], strict=True)) for s in arrangements]
         for observed in sorted(set(runs)):
-            signs = np.array(next(s for s, r in zip(arrangements, runs) if r == observed))
+            signs = np.array(next(s for s, r in zip(arrangements, runs, strict=True)
+                                  if r == observed))
             r, expected, p = law_residuals_module._runs_p_value(signs)
             assert r == observed
             assert p == pytest.approx(sum(x <= observed for x in runs) / len(runs), rel=1e-12)
@@ -863,7 +864,7 @@ def test_overlap_coverage_warns_about_low_information_shifts():
     folder = Path(ttsp.__file__).parent / "demo_data" / "adhesive_relaxation"
     with pytest.warns(Warning):
         result = ttsp.build(ttsp.read_campaign(folder))
-    weak = [t for t, f in zip(result.shifts.temperature_C, result.shifts.flags)
+    weak = [t for t, f in zip(result.shifts.temperature_C, result.shifts.flags, strict=True)
             if "low-information" in f]
     assert weak, "the demo's plateau isotherms should be flagged"
     check = next(c for c in result.checks if c.name == "overlap_coverage")
@@ -884,7 +885,7 @@ def test_point_to_curve_distances_agree_with_a_direct_computation(monkeypatch):
         xa, ya = a[0] / sx, a[1] / sy
         xb, yb = b[0] / sx, b[1] / sy
         out, off = [], []
-        for px, py, rx, ry in zip(xa, ya, a[0], a[1]):
+        for px, py, rx, _ry in zip(xa, ya, a[0], a[1], strict=True):
             if not (b[0].min() <= rx <= b[0].max()):
                 continue
             best = None
@@ -912,7 +913,7 @@ def test_point_to_curve_distances_agree_with_a_direct_computation(monkeypatch):
     expected = [direct(*job) for job in jobs]
     for batch in (spread_module._DISTANCE_BATCH, 50):          # one array; many small chunks
         monkeypatch.setattr(spread_module, "_DISTANCE_BATCH", batch)
-        for (d, o), (de, oe) in zip(spread_module._distances(jobs), expected):
+        for (d, o), (de, oe) in zip(spread_module._distances(jobs), expected, strict=True):
             np.testing.assert_allclose(d, de, rtol=1e-12, atol=1e-12)
             np.testing.assert_allclose(o, oe, rtol=1e-12, atol=1e-12)
 

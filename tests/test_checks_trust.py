@@ -85,7 +85,7 @@ def test_seeded_complex_campaign_is_flagged_and_the_isotherms_named():
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
         shifts = build(camp, cross_validation=False).shifts
-    flagged = [t - 273.15 for t, f in zip(shifts.temperature_K, shifts.flags)
+    flagged = [t - 273.15 for t, f in zip(shifts.temperature_K, shifts.flags, strict=True)
                if "functions-disagree" in f]
     assert flagged == pytest.approx(agree.details["disagreeing_temperatures_C"])
     assert "functions-disagree" in shifts.flags[0]
@@ -126,7 +126,8 @@ def _write(path: Path, temps_K, noise=0.01, seed=5):
         e1, e2 = moduli(2 * np.pi * f * 10 ** wlf(t))
         e1 = e1 * np.exp(noise * rng.standard_normal(f.size))
         e2 = e2 * np.exp(noise * rng.standard_normal(f.size))
-        rows += [f"{t - 273.15:g},{a:.6g},{b / 1e6:.8g},{c / 1e6:.8g}" for a, b, c in zip(f, e1, e2)]
+        rows += [f"{t - 273.15:g},{a:.6g},{b / 1e6:.8g},{c / 1e6:.8g}"
+                 for a, b, c in zip(f, e1, e2, strict=True)]
     path.write_text("\n".join(rows) + "\n", encoding="utf-8")
     return path
 

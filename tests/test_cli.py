@@ -27,6 +27,7 @@ C1, C2, T_REF_C = 9.0, 100.0, 20.0
 TAU = 10.0 ** np.arange(-9.0, 5.01, 0.5)
 E_I = 1e9 * np.exp(-0.5 * ((np.log10(TAU) + 2.0) / 2.0) ** 2) / 8.0
 E_INF = 2e6
+TEMPERATURES_C = np.arange(0.0, 45.1, 5.0)
 
 
 def log10_aT(t_C):
@@ -38,7 +39,7 @@ def exact(omega):
     return E_INF + (E_I * wt**2 / (1 + wt**2)).sum(1), (E_I * wt / (1 + wt**2)).sum(1)
 
 
-def write_campaign(path: Path, *, noise=0.01, seed=3, temps=np.arange(0.0, 45.1, 5.0)):
+def write_campaign(path: Path, *, noise=0.01, seed=3, temps=TEMPERATURES_C):
     rng = np.random.default_rng(seed)
     f = np.logspace(-1, 2, 8)
     rows = ["Temperature (°C),Frequency (Hz),E' (MPa),E'' (MPa)"]
@@ -46,7 +47,8 @@ def write_campaign(path: Path, *, noise=0.01, seed=3, temps=np.arange(0.0, 45.1,
         ep, epp = exact(2 * np.pi * f * 10 ** log10_aT(t))
         ep = ep * np.exp(noise * rng.standard_normal(f.size))
         epp = epp * np.exp(noise * rng.standard_normal(f.size))
-        rows += [f"{t:g},{a:.6g},{b / 1e6:.8g},{c / 1e6:.8g}" for a, b, c in zip(f, ep, epp)]
+        rows += [f"{t:g},{a:.6g},{b / 1e6:.8g},{c / 1e6:.8g}"
+                 for a, b, c in zip(f, ep, epp, strict=True)]
     path.write_text("\n".join(rows) + "\n", encoding="utf-8")
     return path
 

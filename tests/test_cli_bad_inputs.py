@@ -19,9 +19,10 @@ import pytest
 TAU = 10.0 ** np.arange(-9.0, 5.01, 0.5)
 E_I = 1e9 * np.exp(-0.5 * ((np.log10(TAU) + 2.0) / 2.0) ** 2) / 8.0
 HEAD = "Temperature (°C),Frequency (Hz),E' (MPa),E'' (MPa)"
+TEMPERATURES_C = np.arange(0.0, 45.1, 5.0)
 
 
-def campaign_rows(temps=np.arange(0.0, 45.1, 5.0), n_freq=8):
+def campaign_rows(temps=TEMPERATURES_C, n_freq=8):
     """(t °C, f Hz, E' Pa, E'' Pa) of a WLF thermorheologically simple material."""
     f = np.logspace(-1, 2, n_freq)
     out = []
@@ -29,7 +30,7 @@ def campaign_rows(temps=np.arange(0.0, 45.1, 5.0), n_freq=8):
         wt = np.outer(2 * np.pi * f * 10 ** (-9.0 * (t - 20) / (100 + t - 20)), TAU)
         ep = 2e6 + (E_I * wt**2 / (1 + wt**2)).sum(1)
         epp = (E_I * wt / (1 + wt**2)).sum(1)
-        out += list(zip([t] * n_freq, f, ep, epp))
+        out += list(zip([t] * n_freq, f, ep, epp, strict=True))
     return out
 
 

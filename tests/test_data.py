@@ -242,7 +242,7 @@ def test_frame_round_trip_is_exact():
     c = Campaign.from_frame(frame(**{TAN: [0.1, 0.2, np.nan, np.nan]}), source="f.csv",
                             units_as_read={"E'": "MPa"}, metadata={"Material": "m"})
     back = Campaign.from_frame(c.to_frame())
-    for a, b in zip(c.isotherms, back.isotherms):
+    for a, b in zip(c.isotherms, back.isotherms, strict=True):
         assert a.temperature_K == b.temperature_K
         np.testing.assert_array_equal(a.x, b.x)
         assert set(a.values) == set(b.values)

@@ -216,7 +216,7 @@ def test_numbers_read_back_exactly_or_refused(tmp_path, moduli, delimiter, decim
         return
     assert len(result) == 2
     for iso in result.isotherms:
-        for x, v in zip(iso.x, iso.values["storage_modulus_Pa"]):
+        for x, v in zip(iso.x, iso.values["storage_modulus_Pa"], strict=True):
             f = min(freqs, key=lambda q: abs(q - x / (2 * math.pi)))
             assert x / (2 * math.pi) == pytest.approx(f, rel=1e-12)
             m, written = truth[(round(iso.temperature_C), f)]
@@ -248,7 +248,8 @@ def test_truncated_file_is_read_as_far_as_it_goes_or_refused(tmp_path, cut, enco
     kept_text = data[:cut].decode(encoding, errors="ignore")
     kept = kept_text.splitlines()
     for iso in result.isotherms:
-        for x, e1, row in zip(iso.x, iso.values["storage_modulus_Pa"], iso.source_rows):
+        for x, e1, row in zip(iso.x, iso.values["storage_modulus_Pa"], iso.source_rows,
+                              strict=True):
             cells = lines[row - 1].split(";")
             t, f, ep = (float(c.replace(",", ".")) for c in cells[:3])
             assert iso.temperature_C == pytest.approx(t, abs=1e-9)
@@ -283,7 +284,7 @@ def test_same_table_in_any_encoding_is_the_same_campaign(tmp_path, encoding, del
     ref, got = read_or_error(tmp_path / "ref.csv"), read_or_error(tmp_path / "enc.csv")
     assert not isinstance(got, DataError), str(got)
     assert len(got) == len(ref)
-    for a, b in zip(ref.isotherms, got.isotherms):
+    for a, b in zip(ref.isotherms, got.isotherms, strict=True):
         assert a.temperature_K == b.temperature_K
         np.testing.assert_array_equal(a.x, b.x)
         for q in a.values:
@@ -312,7 +313,7 @@ def test_grouping_equals_the_point_by_point_rule(temps, tol):
     t = np.array(temps, dtype=float)
     expected, got = _group_point_by_point(t, tol), group_temperatures(t, tol)
     assert len(got) == len(expected)
-    for a, b in zip(got, expected):
+    for a, b in zip(got, expected, strict=True):
         np.testing.assert_array_equal(a, b)
 
 
@@ -374,7 +375,8 @@ def write_campaign(path: Path) -> Path:
         wt = np.outer(2 * np.pi * f * 10 ** (-9.0 * (t - 20) / (100 + t - 20)), TAU)
         ep = 2e6 + (E_I * wt**2 / (1 + wt**2)).sum(1)
         epp = (E_I * wt / (1 + wt**2)).sum(1)
-        rows += [f"{t:g},{a:.6g},{b / 1e6:.8g},{c / 1e6:.8g}" for a, b, c in zip(f, ep, epp)]
+        rows += [f"{t:g},{a:.6g},{b / 1e6:.8g},{c / 1e6:.8g}"
+                 for a, b, c in zip(f, ep, epp, strict=True)]
     path.write_text("\n".join(rows) + "\n", encoding="utf-8")
     return path
 

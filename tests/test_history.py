@@ -261,7 +261,7 @@ def test_blocked_recurrence_equals_plain_loop(n):
     a[rng.uniform(size=n) < 0.1] = 1.0
     b = rng.normal(size=n)
     h, ref = 0.7, []
-    for ai, bi in zip(a, b):
+    for ai, bi in zip(a, b, strict=True):
         h = ai * h + bi
         ref.append(h)
     np.testing.assert_allclose(_linear_recurrence(a, b, 0.7), ref, rtol=1e-12, atol=1e-12)

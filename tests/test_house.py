@@ -36,3 +36,58 @@ def test_no_function_is_over_80_lines():
                 if n > MAX_FUNCTION_LINES:
                     long.append(f"{p.relative_to(PACKAGE)}:{node.lineno} {node.name} ({n} lines)")
     assert not long, long
+
+
+MIN_ANNOTATED_SHARE = 0.90
+
+
+def _public_functions(tree: ast.Module):
+    """(function, is_method) for the module's public functions and the public methods (plus
+    ``__init__``) of its public classes; nested functions are not counted."""
+    for node in tree.body:
+        if isinstance(node, (ast.FunctionDef, ast.AsyncFunctionDef)):
+            if not node.name.startswith("_"):
+                yield node, False
+        elif isinstance(node, ast.ClassDef) and not node.name.startswith("_"):
+            for item in node.body:
+                if isinstance(item, (ast.FunctionDef, ast.AsyncFunctionDef)) and (
+                        not item.name.startswith("_") or item.name == "__init__"):
+                    yield item, True
+
+
+def _counted_parameters(function: ast.FunctionDef | ast.AsyncFunctionDef, is_method: bool):
+    args = function.args
+    params = [*args.posonlyargs, *args.args]
+    static = any(isinstance(d, ast.Name) and d.id == "staticmethod"
+                 for d in function.decorator_list)
+    if is_method and not static and params and params[0].arg in ("self", "cls"):
+        params = params[1:]
+    return params + args.kwonlyargs + [a for a in (args.vararg, args.kwarg) if a is not None]
+
+
+def test_public_parameters_carry_type_hints():
+    """At least 90 % of the parameters of the public API carry a type annotation.
+
+    Counted: every parameter (positional, keyword-only, ``*args`` and ``**kwargs``; not the
+    ``self`` or ``cls`` of a method) of each module-level function whose name does not start
+    with "_", and of each method whose name does not start with "_" (``__init__`` included) of a
+    module-level class whose name does not start with "_", in every module of ttsp whose file
+    name and package folders do not start with "_" (``__init__.py`` counts as public). Nested
+    functions and other dunder methods are not counted.
+    """
+    annotated, missing = 0, []
+    for path in _modules():
+        parts = path.relative_to(PACKAGE).parts
+        if any(p.startswith("_") and p != "__init__.py" for p in parts):
+            continue
+        tree = ast.parse(path.read_text(encoding="utf-8"))
+        for function, is_method in _public_functions(tree):
+            for param in _counted_parameters(function, is_method):
+                if param.annotation is not None:
+                    annotated += 1
+                else:
+                    missing.append(f"{'/'.join(parts)}:{function.lineno} "
+                                   f"{function.name}({param.arg})")
+    share = annotated / (annotated + len(missing))
+    assert share >= MIN_ANNOTATED_SHARE, (f"{share:.1%} of public parameters annotated; "
+                                          f"without: {missing[:40]}")

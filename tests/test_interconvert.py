@@ -54,7 +54,7 @@ def mp_creep_compliance(series: PronySeries, times, dps: int = 30) -> np.ndarray
     with mpmath.workdps(dps):
         e_inf = mpmath.mpf(float(series.equilibrium_modulus_Pa))
         terms = [(mpmath.mpf(float(e)), mpmath.mpf(float(t)))
-                 for e, t in zip(series.modulus_Pa, series.tau_s)]
+                 for e, t in zip(series.modulus_Pa, series.tau_s, strict=True)]
 
         def dbar(s):
             ebar = e_inf / s + mpmath.fsum(e * t / (1 + s * t) for e, t in terms)
@@ -204,10 +204,11 @@ def test_convolution_identities_by_quadrature(e_inf):
     scales = np.concatenate([p.tau_s, lam])
     for t in (1e-3, 0.5, 30.0, 2e3, 1e6):
         pts = _convolution_breakpoints(t, scales)
-        first, _ = integrate.quad(lambda u: p.relaxation_modulus(t - u) * c.creep_compliance(u),
+        first, _ = integrate.quad(lambda u, t=t: p.relaxation_modulus(t - u)
+                                  * c.creep_compliance(u),
                                   0, t, points=pts, limit=500, epsabs=0, epsrel=1e-13)
         assert first == pytest.approx(t, rel=1e-10)
-        smooth, _ = integrate.quad(lambda u: p.relaxation_modulus(t - u) * d_rate(u),
+        smooth, _ = integrate.quad(lambda u, t=t: p.relaxation_modulus(t - u) * d_rate(u),
                                    0, t, points=pts, limit=500, epsabs=0, epsrel=1e-13)
         stieltjes = p.relaxation_modulus(t) * c.glassy_compliance_1_per_Pa + smooth
         assert stieltjes == pytest.approx(1.0, rel=1e-10)

@@ -136,7 +136,7 @@ def test_complex_modulus_equals_fourier_transform_of_relaxation_modulus():
 
     def transform(weight, om):
         inner = sum(quad(g, a, b, weight=weight, wvar=om, limit=200)[0]
-                    for a, b in zip(edges[:-1], edges[1:]))
+                    for a, b in zip(edges[:-1], edges[1:], strict=True))
         return inner + quad(g, edges[-1], np.inf, weight=weight, wvar=om)[0]
 
     for om in (1e-2, 1.0, 30.0, 1e3):
@@ -149,8 +149,8 @@ def test_complex_modulus_equals_fourier_transform_of_relaxation_modulus():
 def test_laplace_modulus_equals_numerical_laplace_transform():
     # Ē(s) = ∫0^∞ E(t) e^{−st} dt, integrated independently with scipy.integrate.quad
     for s in (1e-2, 1.0, 10.0):
-        num = quad(lambda t: (TEST_SPECTRUM.relaxation_modulus(t)
-                              - TEST_SPECTRUM.equilibrium_modulus_Pa) * math.exp(-s * t),
+        num = quad(lambda t, s=s: (TEST_SPECTRUM.relaxation_modulus(t)
+                                   - TEST_SPECTRUM.equilibrium_modulus_Pa) * math.exp(-s * t),
                    0, np.inf, limit=500, points=None)[0] + TEST_SPECTRUM.equilibrium_modulus_Pa / s
         assert TEST_SPECTRUM.laplace_modulus(s) == pytest.approx(num, rel=1e-8)
     # complex argument: sĒ(s) at s = iω equals E*(ω) (Ferry 1980, ch. 1 and 3)
@@ -380,8 +380,9 @@ def test_exact_finite_series_recovered_when_its_times_are_offered():
     # rounding only: the problem is well conditioned (one column per decade of data)
     assert fit.rms_percent < 1e-8
     assert fit.series.equilibrium_modulus_Pa == pytest.approx(1.0, rel=1e-8)
-    e_i = dict(zip(np.round(np.log10(fit.series.tau_s)).astype(int), fit.series.modulus_Pa))
-    for tau, mod in zip(TEST_SPECTRUM.tau_s, TEST_SPECTRUM.modulus_Pa):
+    e_i = dict(zip(np.round(np.log10(fit.series.tau_s)).astype(int), fit.series.modulus_Pa,
+                   strict=True))
+    for tau, mod in zip(TEST_SPECTRUM.tau_s, TEST_SPECTRUM.modulus_Pa, strict=True):
         assert e_i.pop(round(math.log10(tau))) == pytest.approx(mod, rel=1e-9)
     # the other offered terms get (at most) rounding-level coefficients
     assert all(v < 1e-12 * 1041 for v in e_i.values())

@@ -36,7 +36,8 @@ def test_closed_form_integral_matches_quadrature_for_any_pair():
 
     creep = CreepSeries(0.02, [0.3, 2.0], [0.05, 0.1], fluidity_1_per_Pa_s=0.01)
     for t in (0.1, 1.0, 7.0):
-        ref = quad(lambda u: series.relaxation_modulus(t - u) * creep.creep_compliance(u), 0, t,
+        ref = quad(lambda u, t=t: series.relaxation_modulus(t - u) * creep.creep_compliance(u),
+                   0, t,
                    epsabs=0, epsrel=1e-11)[0]
         assert convolution_integral(series, creep, [t])[0] == pytest.approx(ref, rel=1e-9)
 
@@ -67,7 +68,8 @@ def campaign_of(shift_creep: float):
     creep = relaxation_to_creep(series)
     t = np.geomspace(0.2, 3e4, 120)
     rows = []
-    for temp, s in zip((130.0, 145.0, 160.0, 175.0, 190.0), (2.4, 1.1, 0.0, -0.9, -1.6)):
+    for temp, s in zip((130.0, 145.0, 160.0, 175.0, 190.0), (2.4, 1.1, 0.0, -0.9, -1.6),
+                       strict=True):
         tr = t / 10 ** s
         rows.append(pd.DataFrame({
             "temperature_K": temp + 273.15, "time_s": t,
@@ -130,8 +132,8 @@ def write_two_exports(folder, shift_creep: float):
         g = series.relaxation_modulus(t_relax / 10 ** s) * np.exp(rng.normal(0, 0.005, 300))
         j = creep.creep_compliance(t_creep / 10 ** (s + shift_creep)) * np.exp(
             rng.normal(0, 0.005, 250))
-        relax += [f"{temp},{t:.4g},{v:.4g}" for t, v in zip(t_relax, g)]
-        creep_rows += [f"{temp},{t:.4g},{v:.4g}" for t, v in zip(t_creep, j)]
+        relax += [f"{temp},{t:.4g},{v:.4g}" for t, v in zip(t_relax, g, strict=True)]
+        creep_rows += [f"{temp},{t:.4g},{v:.4g}" for t, v in zip(t_creep, j, strict=True)]
     (folder / "relax.csv").write_text("\n".join(relax) + "\n")
     (folder / "creep.csv").write_text("\n".join(creep_rows) + "\n")
     return log_aT

@@ -22,7 +22,7 @@ def rounded_relaxation_csv(path, noise=0.01, seed=0):
     for temp, shift in ((130, 0.0), (150, -1.0)):
         g = 1e5 * np.exp(-(t / 10 ** (2 + shift)) ** 0.4) + 1e2
         g *= np.exp(rng.normal(0, noise, t.size))
-        lines += [f"{temp},{a},{b:.6g}" for a, b in zip(t4, g)]
+        lines += [f"{temp},{a},{b:.6g}" for a, b in zip(t4, g, strict=True)]
     path.write_text("\n".join(lines) + "\n")
     return t4
 
@@ -107,7 +107,7 @@ def test_cli_build_of_a_shear_export_with_repeats_is_shear_throughout(tmp_path):
     for temp, s in ((130, 2.0), (145, 1.0), (160, 0.0), (175, -0.8), (190, -1.5)):
         g = (gi * np.exp(-(t / 10 ** s)[:, None] / tau)).sum(axis=1)
         g *= np.exp(rng.normal(0, 0.01, t.size))
-        lines += [f"{temp},{a},{b:.6g}" for a, b in zip(t4, g)]
+        lines += [f"{temp},{a},{b:.6g}" for a, b in zip(t4, g, strict=True)]
     (tmp_path / "melt.csv").write_text("\n".join(lines) + "\n")
     res = CliRunner().invoke(app, ["build", str(tmp_path / "melt.csv"), "-T", "160", "--law",
                                    "wlf", "--no-figures", "--no-cross-validation", "--material",

@@ -55,7 +55,8 @@ def test_dense_correlated_campaign_stderr_covers_the_truth():
             warnings.simplefilter("ignore")
             res = shift_isotherms(campaign, bench.REF_C + 273.15)
         inflations.append(res.correlation_inflation)
-        for tc, s, se in zip(np.round(res.temperature_C, 6), res.log10_aT, res.log10_aT_stderr):
+        for tc, s, se in zip(np.round(res.temperature_C, 6), res.log10_aT,
+                             res.log10_aT_stderr, strict=True):
             if tc != bench.REF_C:
                 inside.append(abs(s - truth[tc]) <= 2 * se)
     assert min(inflations) > 2

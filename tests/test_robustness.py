@@ -56,7 +56,8 @@ def write_campaign(path: Path, n_freq=8) -> Path:
         wt = np.outer(2 * np.pi * f * 10 ** (-9.0 * (t - 20) / (100 + t - 20)), TAU)
         ep = 2e6 + (E_I * wt**2 / (1 + wt**2)).sum(1)
         epp = (E_I * wt / (1 + wt**2)).sum(1)
-        rows += [f"{t:g},{a:.6g},{b / 1e6:.8g},{c / 1e6:.8g}" for a, b, c in zip(f, ep, epp)]
+        rows += [f"{t:g},{a:.6g},{b / 1e6:.8g},{c / 1e6:.8g}"
+                 for a, b, c in zip(f, ep, epp, strict=True)]
     path.write_text("\n".join(rows) + "\n", encoding="utf-8")
     return path
 
@@ -141,7 +142,7 @@ def test_docs_table_matches_the_catalogue():
     text = (ROOT / "docs" / "bad_inputs.md").read_text(encoding="utf-8")
     rows = [line for line in text.splitlines() if line.startswith("| `")]
     assert len(rows) == len(CATALOGUE)
-    for line, row in zip(rows, CATALOGUE):
+    for line, row in zip(rows, CATALOGUE, strict=True):
         cells = [c.strip() for c in re.split(r"(?<!\\)\|", line)[1:-1]]
         command = (f"{row['environment']} " if row["environment"] else "") + f"ttsp {row['command']}"
         assert cells[0] == f"`{row['file']}`"
@@ -309,7 +310,8 @@ def test_exit_codes_of_every_command(name, args, setup, code, stderr, inputs, tm
         import pandas as pd
 
         table = pd.read_csv(tmp_path / "out" / "results.csv", keep_default_na=False)
-        assert dict(zip(table["id"], table["status"])) == {"ok": "ok", "broken": "failed"}
+        assert (dict(zip(table["id"], table["status"], strict=True))
+                == {"ok": "ok", "broken": "failed"})
         assert "row 2" in table.set_index("id").loc["broken", "error"]
 
 

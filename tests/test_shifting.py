@@ -33,6 +33,7 @@ from ttsp.pairwise import chained_pairwise_log10_aT, neighbour_mismatch
 from ttsp.shifting import ShiftResult, default_reference_temperature_K, shift_isotherms
 
 DATA = Path(__file__).parent / "data"
+TEMPERATURES_K = 300 + 5 * np.arange(9.0)
 
 
 # ---- a small exact campaign generator ------------------------------------------------------
@@ -47,7 +48,7 @@ def spectrum(center, width, E_g=1e9, E_inf=1e6):
     return 10.0 ** lt, h / h.sum() * (E_g - E_inf), E_inf
 
 
-def campaign(temps=300 + 5 * np.arange(9.0), *, noise=0.02, seed=1, domain="frequency",
+def campaign(temps=TEMPERATURES_K, *, noise=0.02, seed=1, domain="frequency",
              log10_bT=None, center=None, width=None, E_inf=1e6, n_points=10, Tr=320.0):
     """Prony spectrum (Gaussian in log τ) under WLF(C1=10, C2=80 K, T_r=320 K); returns
     (campaign, exact log10 a_T relative to 320 K)."""
@@ -524,7 +525,7 @@ def test_sparse_and_dense_shift_jacobians_give_the_same_shifts(monkeypatch):
     dense = [quiet(shift_isotherms, camp, 320.0, vertical=v) for v in ("none", "fit")]
     monkeypatch.setattr(_curve_models, "DENSE_JACOBIAN_MAX_ENTRIES", 0)
     sparse = [quiet(shift_isotherms, camp, 320.0, vertical=v) for v in ("none", "fit")]
-    for d, s in zip(dense, sparse):
+    for d, s in zip(dense, sparse, strict=True):
         np.testing.assert_allclose(s.log10_aT, d.log10_aT, atol=1e-9)
         np.testing.assert_allclose(s.log10_bT, d.log10_bT, atol=1e-9)
         np.testing.assert_allclose(s.log10_aT_stderr, d.log10_aT_stderr, rtol=1e-6, atol=1e-12)

@@ -42,7 +42,7 @@ def quad_moduli(spectrum, omega, equilibrium=0.0):
     """E'(ω), E''(ω) of a continuous spectrum by scipy.integrate.quad over s = ln τ."""
     e1, e2 = [], []
     for om in np.atleast_1d(omega):
-        def kern(s, part):
+        def kern(s, part, om=om):
             x = om * np.exp(s)
             return spectrum(np.exp(s)) * (x * x if part == 1 else x) / (1 + x * x)
         centre = -np.log(om)

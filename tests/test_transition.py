@@ -293,7 +293,7 @@ def simple_campaign(loss_at_1Hz, temps=None, columns=("loss_modulus_Pa", "storag
     temps = np.arange(len(loss_at_1Hz)) * 10.0 + 300.0 if temps is None else temps
     omega = np.array([1.0, 10.0, 100.0])
     isos = []
-    for T, v in zip(temps, loss_at_1Hz):
+    for T, v in zip(temps, loss_at_1Hz, strict=True):
         vals = {"loss_modulus_Pa": np.full(3, v), "storage_modulus_Pa": np.full(3, 1e9)}
         isos.append(Isotherm(T, omega, {k: vals[k] for k in columns}))
     return Campaign(tuple(isos), "frequency")

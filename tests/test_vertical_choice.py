@@ -110,7 +110,7 @@ def test_cli_vertical_auto(tmp_path):
     for iso in camp.isotherms:
         e1, e2 = iso.values["storage_modulus_Pa"], iso.values["loss_modulus_Pa"]
         rows += [f"{iso.temperature_K - 273.15:.2f},{w / (2 * np.pi):.8g},{a:.8g},{b:.8g}"
-                 for w, a, b in zip(iso.x, e1, e2)]
+                 for w, a, b in zip(iso.x, e1, e2, strict=True)]
     src = tmp_path / "sweeps.csv"
     src.write_text("\n".join(rows) + "\n", encoding="utf-8")
     out = tmp_path / "out"

@@ -39,7 +39,7 @@ def exact_campaign(temps, log10_bT, noise=0.0, seed=0):
     g = g / g.sum() * 1e9
     omega = 2 * np.pi * np.geomspace(0.1, 100, 12)
     isos = []
-    for k, (t, b) in enumerate(zip(temps, log10_bT)):
+    for k, (t, b) in enumerate(zip(temps, log10_bT, strict=True)):
         a = 10.0 ** (-10.0 * (t - T_REF) / (80.0 + t - T_REF))
         wt = omega[:, None] * a * tau
         ep = (1e6 + np.sum(g * wt ** 2 / (1 + wt ** 2), axis=1)) * 10.0 ** b

@@ -51,7 +51,7 @@ def typical_log_noise(x_per_isotherm, y_per_isotherm) -> float:
     """Median over isotherms of the third-difference noise of one function's log10 values
     (each isotherm in order of x), floored at :data:`NOISE_FLOOR_LOG10` (decades)."""
     seqs = [np.asarray(y, dtype=float)[np.argsort(x)] for x, y in zip(x_per_isotherm,
-                                                                       y_per_isotherm)]
+                                                                       y_per_isotherm, strict=True)]
     sig = third_difference_sigmas(seqs)
     sig = sig[np.isfinite(sig)]
     return max(float(np.median(sig)) if sig.size else NOISE_FLOOR_LOG10, NOISE_FLOOR_LOG10)

@@ -48,12 +48,17 @@ from __future__ import annotations
 import math
 import warnings
 from dataclasses import dataclass
-from typing import NamedTuple
+from typing import TYPE_CHECKING, NamedTuple
 
 import numpy as np
+from numpy.typing import ArrayLike
 
 from ._validation import bad_value
 from .exceptions import DataError
+
+if TYPE_CHECKING:
+    from .laws import ShiftLaw, ShiftLawFit
+    from .shifting import ShiftResult
 
 __all__ = ["BandEnsemble", "Banded", "fit_band_ensemble", "check_level", "band_columns", "DEFAULT_MEMBERS",
            "DEFAULT_LEVEL", "BAND_METHOD"]
@@ -69,13 +74,13 @@ BAND_METHOD = ("bootstrap: shifts drawn from their covariance, Prony residuals r
 class Banded(NamedTuple):
     """A predicted value with its interval at ``level`` (same shape and unit as ``value``)."""
 
-    value: np.ndarray
-    low: np.ndarray
-    high: np.ndarray
+    value: np.ndarray | float
+    low: np.ndarray | float
+    high: np.ndarray | float
     level: float
 
 
-def check_level(level) -> float:
+def check_level(level: float) -> float:
     """The band level as a float in (0, 1); a percentage (1 < level < 100) is refused."""
     try:
         v = float(level)
@@ -128,7 +133,7 @@ class BandEnsemble:
     """
 
     members: tuple
-    law: object
+    law: ShiftLaw
     law_parameters: tuple
     valid_reduced_time_range_s: tuple
     modulus_kind: str = "tensile"
@@ -177,8 +182,9 @@ class BandEnsemble:
         return np.stack([np.asarray(getattr(m, fn)(reduced), dtype=float) for m in members])
 
     # ---- the spread ---------------------------------------------------------------------------
-    def log10_spread(self, quantity: str, temperature_K, *, time_s=None, frequency_Hz=None,
-                     central_log10_aT=None) -> np.ndarray:
+    def log10_spread(self, quantity: str, temperature_K: ArrayLike, *,
+                     time_s: ArrayLike | None = None, frequency_Hz: ArrayLike | None = None,
+                     central_log10_aT: ArrayLike | None = None) -> np.ndarray:
         """Standard deviation over members of log10 of ``quantity`` at (x, T), widened outside
         the data window (module docstring). ``central_log10_aT`` (the build's law at T) sets
         the distance from the window."""
@@ -234,7 +240,8 @@ class BandEnsemble:
             spread = np.where(outside, np.maximum(spread, s_edge * (1.0 + d)), spread)
         return spread.reshape(shape)
 
-    def interval(self, quantity: str, value, temperature_K, level: float, **x) -> Banded:
+    def interval(self, quantity: str, value: ArrayLike, temperature_K: ArrayLike, level: float,
+                 **x: ArrayLike) -> Banded:
         """``value`` (the build's prediction) with its interval at ``level``."""
         level = check_level(level)
         s = self.log10_spread(quantity, temperature_K, **x)
@@ -311,7 +318,7 @@ def _law_draws(law_fit, rng: np.random.Generator, n: int) -> tuple:
     out = []
     for row in draws:
         p = dict(base)
-        for k, d in zip(free, row):
+        for k, d in zip(free, row, strict=True):
             p[k] = base[k] + float(d)
         out.append(p)
     return tuple(out)
@@ -384,9 +391,10 @@ def _refit_member(xs, values: dict, domain: str, tau, quantity, terms_per_decade
     return PronySeries(s.equilibrium_modulus_Pa, s.tau_s, s.modulus_Pa, modulus_kind=modulus_kind)
 
 
-def fit_band_ensemble(x, values: dict, isotherm, *, domain: str, series, shifts, law_fit,
-                      terms_per_decade: float, quantity: str | None = None,
-                      n_members: int = DEFAULT_MEMBERS, seed: int = 0) -> BandEnsemble:
+def fit_band_ensemble(x, values: dict, isotherm: ArrayLike, *, domain: str, series,
+                      shifts: ShiftResult, law_fit: ShiftLawFit, terms_per_decade: float,
+                      quantity: str | None = None, n_members: int = DEFAULT_MEMBERS,
+                      seed: int = 0) -> BandEnsemble:
     """Bootstrap ensemble of the master curve's Prony series and the law (module docstring).
 
     Parameters
@@ -431,7 +439,7 @@ def fit_band_ensemble(x, values: dict, isotherm, *, domain: str, series, shifts,
         tau = None   # each member on the grid fit_prony_time makes for its own data
         fitted = [series.relaxation_modulus(x) if quantity == "relaxation_modulus"
                   else series.creep_compliance(x)]
-    resid = [np.log(y / f) for y, f in zip(ys, fitted)]
+    resid = [np.log(y / f) for y, f in zip(ys, fitted, strict=True)]
     # resampling within isotherms, vectorised: point p draws uniformly among the points of
     # its own isotherm (``order`` lists the points isotherm by isotherm)
     order = np.argsort(iso, kind="stable")
@@ -446,8 +454,8 @@ def fit_band_ensemble(x, values: dict, isotherm, *, domain: str, series, shifts,
             xs = x * 10.0 ** d if domain == "frequency" else x / 10.0 ** d
             # one draw per point for all its functions: E' and E'' of a point share its errors
             pick = order[start[group] + (rng.random(x.size) * size[group]).astype(int)]
-            new = [f * np.exp(r[pick]) for f, r in zip(fitted, resid)]
-            member = _refit_member(xs, dict(zip(cols, new)), domain, tau, quantity,
+            new = [f * np.exp(r[pick]) for f, r in zip(fitted, resid, strict=True)]
+            member = _refit_member(xs, dict(zip(cols, new, strict=True)), domain, tau, quantity,
                                    terms_per_decade, series.modulus_kind)
             if member is not None:
                 members.append(member)

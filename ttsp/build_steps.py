@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import warnings
 from dataclasses import dataclass, replace
+from typing import Any
 
 import numpy as np
 
@@ -70,8 +71,8 @@ def _fit_prony(campaign: Campaign, shifts, options: BuildOptions):
     liquid = options.material == "liquid"
     # the campaign's modulus kind labels the series (G for shear data), and a liquid's
     # equilibrium modulus is 0 by physics (its creep compliance grows as t/η₀)
-    common = dict(terms_per_decade=options.prony_terms_per_decade,
-                  modulus_kind=campaign.modulus_kind)
+    common: dict[str, Any] = dict(terms_per_decade=options.prony_terms_per_decade,
+                                  modulus_kind=campaign.modulus_kind)
     if campaign.domain == "frequency":
         return fit_prony_frequency(used[x_name].to_numpy(), used[columns[0]].to_numpy(),
                                    used[columns[1]].to_numpy(),

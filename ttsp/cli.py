@@ -187,7 +187,8 @@ def inspect_cmd(inputs: list[Path] = typer.Argument(..., help="Files or folders 
 
 
 # --law's choices, from the laws' one list of names (member wlf_arrhenius = "wlf-arrhenius")
-Law = Enum("Law", {m.replace("-", "_"): m for m in ("auto",) + LAW_MODELS}, type=str)
+# (mypy cannot read members made at run time: they are looked up by name, Law["auto"])
+Law = Enum("Law", {m.replace("-", "_"): m for m in ("auto",) + LAW_MODELS}, type=str)  # type: ignore[misc]
 
 
 VERTICAL_HELP = ("Vertical shift b_T: none, density (needs --expansion-coefficient), fit, or "
@@ -248,7 +249,7 @@ def _options(reference_temperature, law, vertical, expansion_coefficient, shift_
                         spectrum=spectrum, master_curve=master_curve.value,
                         cross_validation=cross_validation, material=material.value,
                         exclude_C=tuple(exclude or ()),
-                        fixed_log10_aT=_fixed_shifts(fix_shift),
+                        fixed_log10_aT=tuple(_fixed_shifts(fix_shift).items()),
                         service_temperature_C=service_temperature,
                         isochrone_frequency_Hz=_one_frequency(isochrone_frequency))
 
@@ -293,7 +294,7 @@ def build_cmd(inputs: list[Path] = typer.Argument(..., help="Files or folders of
               reference_temperature: float | None = typer.Option(
                   None, "--reference-temperature", "-T",
                   help="Reference temperature in °C (default: the measured one nearest the median)."),
-              law: Law = typer.Option(Law.auto, "--law", help="Shift law to fit."),
+              law: Law = typer.Option(Law["auto"], "--law", help="Shift law to fit."),
               vertical: Vertical = typer.Option(Vertical.none, "--vertical", help=VERTICAL_HELP),
               expansion_coefficient: float | None = typer.Option(
                   None, "--expansion-coefficient",
@@ -412,7 +413,7 @@ def demo_cmd(out: Path = typer.Option(Path("ttsp-demo"), "--out", "-o", help="Ou
 def check_cmd(inputs: list[Path] = typer.Argument(..., help="Files or folders of one campaign."),
               reference_temperature: float | None = typer.Option(
                   None, "--reference-temperature", "-T", help="Reference temperature in °C."),
-              law: Law = typer.Option(Law.auto, "--law", help="Shift law to fit."),
+              law: Law = typer.Option(Law["auto"], "--law", help="Shift law to fit."),
               vertical: Vertical = typer.Option(Vertical.none, "--vertical", help=VERTICAL_HELP),
               expansion_coefficient: float | None = typer.Option(
                   None, "--expansion-coefficient",
@@ -590,7 +591,9 @@ def predict_cmd(model: Path = typer.Argument(..., help="summary.json of a build,
                                  param_hint="--frequency")
     option = "--time" if is_time else "--frequency"
     try:
-        grid = parse_axis(time_grid or frequency_grid,
+        grid_text = time_grid or frequency_grid
+        assert grid_text is not None   # the one the quantity needs, checked above
+        grid = parse_axis(grid_text,
                           TIME_UNITS_S if is_time else FREQUENCY_UNITS_HZ)
     except ValueError as exc:
         raise typer.BadParameter(str(exc), param_hint=option) from None
@@ -601,7 +604,7 @@ def predict_cmd(model: Path = typer.Argument(..., help="summary.json of a build,
         frame = predict(m, quantity.value, float(temperature),
                         **({"time_s": grid} if is_time else {"frequency_Hz": grid}), band=band)
         if outside is not None:
-            warnings.warn(outside, ExtrapolationWarning)
+            warnings.warn(outside, ExtrapolationWarning, stacklevel=1)  # recorded just above
     # the law's own range warning is in kelvin and has no tolerance: ours above replaces it
     caught = [w for w in caught if _LAW_RANGE_WARNING not in str(w.message)]
     _emit_table(frame, out, caught)
@@ -677,17 +680,18 @@ def main():
         _say_error(str(exc) or "interrupted")
         sys.exit(getattr(exc, "exit_code", 130))
     except Exception as exc:
-        if hasattr(exc, "format_message") and isinstance(getattr(exc, "exit_code", None), int):
+        exit_code = getattr(exc, "exit_code", None)
+        if hasattr(exc, "format_message") and isinstance(exit_code, int):
             ctx = getattr(exc, "ctx", None)
             if type(exc).__name__ == "NoArgsIsHelpError" and ctx is not None:
                 typer.echo(ctx.get_help())   # a bare 'ttsp': the help, on stdout, as it is
-                sys.exit(exc.exit_code)
+                sys.exit(exit_code)
             name = f"ttsp {ctx.info_name}" if ctx is not None and ctx.parent is not None else "ttsp"
-            hint = f" (see '{name} --help')" if exc.exit_code == EXIT_BAD_INPUT else ""
+            hint = f" (see '{name} --help')" if exit_code == EXIT_BAD_INPUT else ""
             message = " ".join(exc.format_message().split())
             if message:  # (an empty one follows the help shown for a bare 'ttsp')
                 _say_error(message + hint)
-            sys.exit(exc.exit_code)
+            sys.exit(exit_code)
         if type(exc).__name__ == "Abort":
             _say_error("interrupted")
             sys.exit(130)

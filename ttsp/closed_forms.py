@@ -29,6 +29,7 @@ from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
+from numpy.typing import ArrayLike
 
 from ._arrays import fmt_html as _fmt
 from ._arrays import nonnegative_argument as _evaluation_argument
@@ -47,7 +48,8 @@ __all__ = ["ClosedFormModel", "MODELS", "ClosedFormFit", "FitComparison",
 
 
 # --------------------------------------------------------------------------- the equations
-def sigmoid_log10_modulus(omega_rad_s, delta, alpha, beta, gamma):
+def sigmoid_log10_modulus(omega_rad_s: ArrayLike, delta: float, alpha: float, beta: float,
+                          gamma: float) -> np.ndarray:
     """log10|E*| = δ + α/(1 + exp(β + γ log10 f_r)) with f_r = ω/(2π) (Hz).
 
     Pellinen & Witczak 2002 (docs/methods.md §8). δ, α in log10 Pa (δ + α is the glassy plateau),
@@ -57,8 +59,9 @@ def sigmoid_log10_modulus(omega_rad_s, delta, alpha, beta, gamma):
     return delta + alpha / (1.0 + np.exp(beta + gamma * logf))
 
 
-def havriliak_negami_modulus(omega_rad_s, relaxed_modulus_Pa, relaxation_strength_Pa, tau_s,
-                             alpha, beta):
+def havriliak_negami_modulus(omega_rad_s: ArrayLike, relaxed_modulus_Pa: float,
+                             relaxation_strength_Pa: float, tau_s: float, alpha: float,
+                             beta: float) -> np.ndarray:
     """E*(ω) = E_r + ΔE[1 − (1 + (iωτ)^α)^(−β)] (Pa, complex).
 
     Havriliak & Negami 1967 in modulus form (docs/methods.md §8): E_r relaxed modulus (Pa),
@@ -181,7 +184,7 @@ class ClosedFormFit:
         return len(MODELS[self.model].parameters)
 
     # ------------------------------------------------------------------ evaluation
-    def complex_modulus(self, omega_rad_s):
+    def complex_modulus(self, omega_rad_s: ArrayLike):
         """E*(ω) (Pa, complex) for the Havriliak-Negami family; ω in rad/s.
 
         Raises
@@ -204,20 +207,20 @@ class ClosedFormFit:
         return (p["relaxed_modulus_Pa"], p["relaxation_strength_Pa"], p["tau_s"],
                 p.get("alpha", 1.0), p.get("beta", 1.0))
 
-    def storage_modulus(self, omega_rad_s):
+    def storage_modulus(self, omega_rad_s: ArrayLike):
         """E'(ω) (Pa); not for the sigmoid model."""
         return _scalar_or_array(np.asarray(self.complex_modulus(omega_rad_s)).real, omega_rad_s)
 
-    def loss_modulus(self, omega_rad_s):
+    def loss_modulus(self, omega_rad_s: ArrayLike):
         """E''(ω) (Pa); not for the sigmoid model."""
         return _scalar_or_array(np.asarray(self.complex_modulus(omega_rad_s)).imag, omega_rad_s)
 
-    def tan_delta(self, omega_rad_s):
+    def tan_delta(self, omega_rad_s: ArrayLike):
         """tan δ = E''/E'; not for the sigmoid model."""
         z = np.asarray(self.complex_modulus(omega_rad_s))
         return _scalar_or_array(z.imag / z.real, omega_rad_s)
 
-    def abs_complex_modulus(self, omega_rad_s):
+    def abs_complex_modulus(self, omega_rad_s: ArrayLike):
         """Dynamic modulus |E*(ω)| (Pa); ω in rad/s."""
         if self.model == "sigmoid":
             w = _evaluation_argument("omega_rad_s", omega_rad_s, allow_zero=False)
@@ -250,7 +253,8 @@ class ClosedFormFit:
             "model": self.model, "reference": self.reference,
             "equation": MODELS[self.model].equation,
             "params": dict(self.params), "stderr": dict(self.stderr),
-            "units": dict(zip(MODELS[self.model].parameters, MODELS[self.model].units)),
+            "units": dict(zip(MODELS[self.model].parameters, MODELS[self.model].units,
+                               strict=True)),
             "aic": self.aic, "bic": self.bic, "rms_percent": self.rms_percent,
             "max_percent": self.max_percent, "n_points": self.n_points,
             "quantities": list(self.quantities), "success": self.success,
@@ -274,7 +278,7 @@ class ClosedFormFit:
         rows = "".join(
             f"<tr><td>{html.escape(k)}</td><td>{_fmt(self.params[k])}</td>"
             f"<td>{_fmt(self.stderr.get(k))}</td><td>{html.escape(u)}</td></tr>"
-            for k, u in zip(m.parameters, m.units))
+            for k, u in zip(m.parameters, m.units, strict=True))
         return (f"<div><b>{html.escape(self.model)}</b> fit ({html.escape(m.reference)}), "
                 f"{self.n_points} residuals, rms {self.rms_percent:.3g} %, "
                 f"max {self.max_percent:.3g} %, AIC {self.aic:.4g}<table><thead><tr>"
@@ -344,8 +348,10 @@ def _count_parameters(model: Any) -> int:
     return int(n)
 
 
-def compare_models(omega_rad_s, models: Mapping[str, Any], *, storage_modulus_Pa=None,
-                   loss_modulus_Pa=None, abs_complex_modulus_Pa=None) -> FitComparison:
+def compare_models(omega_rad_s: ArrayLike, models: Mapping[str, Any], *,
+                   storage_modulus_Pa: ArrayLike | None = None,
+                   loss_modulus_Pa: ArrayLike | None = None,
+                   abs_complex_modulus_Pa: ArrayLike | None = None) -> FitComparison:
     """Tabulate how well several models describe the same frequency data.
 
     Each model (a :class:`~ttsp.prony.PronyFit`, :class:`~ttsp.prony.PronySeries`,
@@ -436,7 +442,7 @@ def _predictions(models: Mapping[str, Any], w: np.ndarray,
 def _comparison_row(label: str, model: Any, pred: dict[str, np.ndarray],
                     data: dict[str, np.ndarray], common: list[str]) -> dict:
     """One model's row: rms per quantity it evaluates, and rms, max, AIC, BIC on ``common``."""
-    row = {"model": label, "n_parameters": _count_parameters(model)}
+    row: dict[str, Any] = {"model": label, "n_parameters": _count_parameters(model)}
     for q in data:
         if q in pred:
             r = pred[q] / data[q] - 1.0
@@ -473,7 +479,7 @@ def _best_of(minimize: Callable, starts: list) -> Any:
     return best
 
 
-def fit_sigmoid(omega_rad_s, abs_complex_modulus_Pa) -> ClosedFormFit:
+def fit_sigmoid(omega_rad_s: ArrayLike, abs_complex_modulus_Pa: ArrayLike) -> ClosedFormFit:
     """Fit the sigmoidal model of the dynamic modulus (Pellinen & Witczak 2002).
 
     log10|E*| = δ + α/(1 + exp(β + γ log10 f_r)), f_r = ω_r/(2π) in Hz, fitted by least
@@ -532,7 +538,8 @@ def fit_sigmoid(omega_rad_s, abs_complex_modulus_Pa) -> ClosedFormFit:
                      {"abs_complex_modulus": fitted})
 
 
-def fit_havriliak_negami(omega_rad_s, storage_modulus_Pa, loss_modulus_Pa, *,
+def fit_havriliak_negami(omega_rad_s: ArrayLike, storage_modulus_Pa: ArrayLike,
+                         loss_modulus_Pa: ArrayLike, *,
                          model: str = "havriliak_negami") -> ClosedFormFit:
     """Fit a Havriliak-Negami-family complex modulus to E'(ω) and E''(ω).
 
@@ -656,8 +663,10 @@ def _make_fit(model, out, params, stderr, w, measured, fitted) -> ClosedFormFit:
         message=str(out.message), reference=MODELS[model].reference)
 
 
-def fit_closed_form(model: str, omega_rad_s, *, storage_modulus_Pa=None, loss_modulus_Pa=None,
-                    abs_complex_modulus_Pa=None) -> ClosedFormFit:
+def fit_closed_form(model: str, omega_rad_s: ArrayLike, *,
+                    storage_modulus_Pa: ArrayLike | None = None,
+                    loss_modulus_Pa: ArrayLike | None = None,
+                    abs_complex_modulus_Pa: ArrayLike | None = None) -> ClosedFormFit:
     """Fit the registered closed-form ``model`` (see :data:`MODELS`) to frequency data.
 
     The sigmoid takes |E*| (computed as sqrt(E'² + E''²) when E' and E'' are given instead);

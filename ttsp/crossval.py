@@ -26,6 +26,11 @@ costs one fit instead of one per candidate and fold.
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:
+    from .build_options import BuildOptions
+
 import math
 import warnings
 from dataclasses import dataclass, replace
@@ -114,8 +119,8 @@ class CrossValidation:
                    "the others, predict it at the law's a_T and at its best a_T")
 
     def _pooled(self, key: str) -> np.ndarray:
-        vals = [getattr(h, key).get("all", math.nan) for h in self.per_isotherm]
-        vals = np.asarray(vals, dtype=float)
+        vals = np.asarray([getattr(h, key).get("all", math.nan) for h in self.per_isotherm],
+                          dtype=float)
         return vals[np.isfinite(vals)]
 
     @property
@@ -291,8 +296,8 @@ def _failed(iso, functions, reason: str) -> HeldOutIsotherm:
                            dict(nan), dict(nan), reason)
 
 
-def cross_validate(campaign: Campaign, options=None, reference_temperature_K: float | None = None,
-                   *, full=None) -> CrossValidation:
+def cross_validate(campaign: Campaign, options: BuildOptions | None = None,
+                   reference_temperature_K: float | None = None, *, full=None) -> CrossValidation:
     """Predict each interior isotherm from a build without it (see the module notes).
 
     Parameters

@@ -22,6 +22,7 @@ from itertools import pairwise
 from types import MappingProxyType
 
 import numpy as np
+from numpy.typing import ArrayLike
 
 from ._arrays import readonly as _readonly
 from ._frame_checks import (
@@ -88,7 +89,8 @@ class Isotherm:
     temperature_K: float
     x: np.ndarray
     values: Mapping[str, np.ndarray]
-    source_rows: np.ndarray = field(default=None)
+    # None is taken and replaced by -1 per point in __post_init__: readers always get an array
+    source_rows: np.ndarray = field(default=None)  # type: ignore[arg-type]
 
     def __post_init__(self):
         try:
@@ -137,7 +139,7 @@ class Isotherm:
                 and all(_same_array(v, other.values[k]) for k, v in self.values.items())
                 and _same_array(self.source_rows, other.source_rows))
 
-    __hash__ = None  # holds arrays: equal by value, not hashable
+    __hash__ = None  # type: ignore[assignment]  # holds arrays: equal by value, not hashable
 
     @property
     def temperature_C(self) -> float:
@@ -186,12 +188,12 @@ class Campaign:
             return NotImplemented
         return (self.domain == other.domain and self.modulus_kind == other.modulus_kind
                 and self.source == other.source and len(self) == len(other)
-                and all(a == b for a, b in zip(self.isotherms, other.isotherms))
+                and all(a == b for a, b in zip(self.isotherms, other.isotherms, strict=True))
                 and dict(self.units_as_read) == dict(other.units_as_read)
                 and dict(self.metadata) == dict(other.metadata)
                 and dict(self.dropped_rows) == dict(other.dropped_rows))
 
-    __hash__ = None
+    __hash__ = None  # type: ignore[assignment]  # holds isotherms: not hashable
 
     # ---- views -------------------------------------------------------------------------------
     @property
@@ -499,7 +501,7 @@ def _refuse_conflicting_repeat(conflict: tuple, members: np.ndarray, x_all: np.n
                     f"not a rounded time stamp; check the file")
 
 
-def group_temperatures(temperature_K, tolerance_K: float) -> list:
+def group_temperatures(temperature_K: ArrayLike, tolerance_K: float) -> list:
     """Group indices of points whose temperatures chain within ``tolerance_K`` of each other.
 
     Sort the temperatures; a new group starts wherever the step to the next one exceeds the

@@ -59,6 +59,7 @@ from dataclasses import dataclass, field
 from typing import Any
 
 import numpy as np
+from numpy.typing import ArrayLike
 
 from ._arrays import LOG_RANGE_RTOL, as_1d_finite
 from ._validation import bad_value, check_choice
@@ -142,7 +143,8 @@ def _substeps(substeps: Any) -> int:
 # ----------------------------------------------------------------------------------------
 # reduced time
 # ----------------------------------------------------------------------------------------
-def reduced_time(time_s, temperature_K, log10_aT: Callable, *, substeps: int = 1) -> np.ndarray:
+def reduced_time(time_s: ArrayLike, temperature_K: ArrayLike, log10_aT: Callable, *,
+                 substeps: int = 1) -> np.ndarray:
     """Reduced time ξ(t) = ∫_{t_0}^{t} dt'/a_T(T(t')) of a temperature history (s).
 
     The temperature is taken as piecewise linear in time between the samples. Each interval
@@ -279,7 +281,7 @@ def _exponential_memory(xi: np.ndarray, u: np.ndarray, times: np.ndarray,
     dxi = np.diff(xi)
     du = np.diff(u)
     total = np.zeros(u.size)
-    for theta, w in zip(times, weights):
+    for theta, w in zip(times, weights, strict=True):
         if w == 0:
             continue
         x = dxi / theta
@@ -395,8 +397,8 @@ def _warn_span(series, xi: np.ndarray) -> None:
                       "times is extrapolated", ExtrapolationWarning, stacklevel=3)
 
 
-def stress_under_strain(series, time_s, strain, temperature_K=None,
-                        log10_aT: Callable | None = None, *,
+def stress_under_strain(series: PronySeries | CreepSeries, time_s: ArrayLike, strain: ArrayLike,
+                        temperature_K: ArrayLike | None = None, log10_aT: Callable | None = None, *,
                         substeps: int = 1,
                         vertical_factor: Callable | None = None) -> HistoryResponse:
     """Stress under a strain history, optionally at a varying temperature.
@@ -464,8 +466,8 @@ def stress_under_strain(series, time_s, strain, temperature_K=None,
                             "vertical_shift": b is not None})
 
 
-def strain_under_stress(series, time_s, stress_Pa, temperature_K=None,
-                        log10_aT: Callable | None = None, *,
+def strain_under_stress(series: PronySeries | CreepSeries, time_s: ArrayLike, stress_Pa: ArrayLike,
+                        temperature_K: ArrayLike | None = None, log10_aT: Callable | None = None, *,
                         substeps: int = 1,
                         vertical_factor: Callable | None = None) -> HistoryResponse:
     """Strain under a stress history, optionally at a varying temperature.

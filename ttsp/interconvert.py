@@ -71,7 +71,7 @@ def _check_kind(series, expected: str):
         raise bad_value("series.modulus_kind", repr(expected), series.modulus_kind)
 
 
-def shear_to_tensile(series, poisson_ratio: float):
+def shear_to_tensile(series: PronySeries | CreepSeries, poisson_ratio: float):
     """Tensile series from a shear series with a constant Poisson's ratio: E = 2(1 + ν) G.
 
     For a relaxation series every modulus (G_∞ and each G_i) is multiplied by 2(1 + ν); for a
@@ -105,7 +105,7 @@ def shear_to_tensile(series, poisson_ratio: float):
                     "converted_from": "shear", "poisson_ratio": nu})
 
 
-def tensile_to_shear(series, poisson_ratio: float):
+def tensile_to_shear(series: PronySeries | CreepSeries, poisson_ratio: float):
     """Shear series from a tensile series with a constant Poisson's ratio: G = E/(2(1 + ν)).
 
     The inverse of :func:`shear_to_tensile`; the same caveat applies (exact only for an elastic

@@ -23,13 +23,20 @@ from __future__ import annotations
 import math
 import warnings
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
 import numpy as np
+from numpy.typing import ArrayLike
 
 from ._arrays import outside_log_range
 from ._validation import bad_value, check_choice
 from .data import REFERENCE_SNAP_K
 from .exceptions import DataError, ExtrapolationWarning
+
+if TYPE_CHECKING:
+    from .bands import BandEnsemble
+    from .laws import ShiftLaw
+    from .prony import PronySeries
 
 __all__ = ["ViscoelasticModel", "VerticalShift", "QUANTITY_COLUMNS", "TIME_QUANTITIES",
            "FREQUENCY_QUANTITIES"]
@@ -85,7 +92,8 @@ class VerticalShift:
 
     @classmethod
     def from_table(cls, mode: str, reference_temperature_K: float,
-                   expansion_coefficient_per_K, temperature_K, log10_bT) -> VerticalShift:
+                   expansion_coefficient_per_K: float | None, temperature_K: ArrayLike,
+                   log10_bT: ArrayLike) -> VerticalShift:
         """From a shift table in any order: sorted by temperature, with the node (T_ref, 0)
         added in mode 'fit' when no isotherm lies within 0.05 K of the reference."""
         tr = float(reference_temperature_K)
@@ -107,22 +115,24 @@ class VerticalShift:
                               shifts.expansion_coefficient_per_K, shifts.temperature_K,
                               shifts.log10_bT)
 
-    def factor(self, temperature_K) -> np.ndarray:
+    def factor(self, temperature_K: ArrayLike) -> np.ndarray:
         """b_T at ``temperature_K`` (K)."""
         T = np.asarray(temperature_K, dtype=float)
         if self.mode == "fit":
             return 10.0 ** np.interp(T, self.temperature_K, self.log10_bT)
         tr = self.reference_temperature_K
-        b = T * (1.0 - self.expansion_coefficient_per_K * (T - tr)) / tr
+        alpha = self.expansion_coefficient_per_K
+        assert alpha is not None   # mode 'density' has one (checked in __post_init__)
+        b = T * (1.0 - alpha * (T - tr)) / tr
         if np.any(b <= 0):
             raise bad_value("temperature_K", f"below T_ref + 1/α_v = "
-                            f"{tr + 1.0 / self.expansion_coefficient_per_K:.6g} K (the density "
+                            f"{tr + 1.0 / alpha:.6g} K (the density "
                             "law gives no positive density beyond)", float(np.max(T)))
         return b
 
     def to_dict(self) -> dict:
         out = {"mode": self.mode, "reference_temperature_C": self.reference_temperature_K - 273.15}
-        if self.mode == "density":
+        if self.mode == "density" and self.expansion_coefficient_per_K is not None:
             out["expansion_coefficient_per_K"] = float(self.expansion_coefficient_per_K)
         else:
             out["temperature_C"] = [t - 273.15 for t in self.temperature_K]
@@ -149,10 +159,10 @@ class ViscoelasticModel:
         (value, low, high, level) instead of the value alone.
     """
 
-    series: object
-    law: object
+    series: PronySeries
+    law: ShiftLaw
     vertical: VerticalShift | None = None
-    ensemble: object = None
+    ensemble: BandEnsemble | None = None
 
     def __post_init__(self):
         tr_law = float(self.law.reference_temperature_K)
@@ -165,7 +175,7 @@ class ViscoelasticModel:
                             f"equal to the law's reference temperature {tr_law:g} K",
                             self.vertical.reference_temperature_K)
 
-    def vertical_factor(self, temperature_K) -> np.ndarray:
+    def vertical_factor(self, temperature_K: ArrayLike) -> np.ndarray:
         """b_T at ``temperature_K`` (K): 1 without a vertical shift."""
         if self.vertical is None:
             return np.ones(np.shape(temperature_K))
@@ -176,7 +186,7 @@ class ViscoelasticModel:
         return float(self.law.reference_temperature_K)
 
     # ---- shift --------------------------------------------------------------------------------
-    def log10_aT(self, temperature_K) -> np.ndarray:
+    def log10_aT(self, temperature_K: ArrayLike) -> np.ndarray:
         """log10 a_T at ``temperature_K`` (K) from the law (warns outside its fitted range)."""
         return np.asarray(self.law.log10_aT(np.asarray(temperature_K, dtype=float)), dtype=float)
 
@@ -193,7 +203,8 @@ class ViscoelasticModel:
                           f"those values are extrapolated", ExtrapolationWarning, stacklevel=3)
 
     # ---- time domain ------------------------------------------------------------------------
-    def relaxation_modulus(self, time_s, temperature_K, band=None):
+    def relaxation_modulus(self, time_s: ArrayLike, temperature_K: ArrayLike,
+                           band: float | None = None):
         """E(t, T) = b_T E_ref(t / a_T) in Pa, for times in s and temperatures in K (broadcast).
 
         ``band=0.95`` returns a :class:`~ttsp.bands.Banded` with the interval (as for every
@@ -202,7 +213,8 @@ class ViscoelasticModel:
         value = self._scaled(self.series.relaxation_modulus(t / a), temperature_K, t)
         return self._banded("relaxation_modulus", value, temperature_K, band, time_s=t, a=a)
 
-    def creep_compliance(self, time_s, temperature_K, band=None):
+    def creep_compliance(self, time_s: ArrayLike, temperature_K: ArrayLike,
+                         band: float | None = None):
         """D(t, T) = D_ref(t / a_T) / b_T in 1/Pa, from the exact Prony interconversion."""
         t, a = self._reduced_time(time_s, temperature_K)
         value = self._scaled(self.creep_series.creep_compliance(t / a), temperature_K, t,
@@ -274,22 +286,25 @@ class ViscoelasticModel:
         return self._banded(quantity, value, temperature_K, band, frequency_Hz=f,
                             a=w / (2.0 * math.pi * f))
 
-    def storage_modulus(self, frequency_Hz, temperature_K, band=None):
+    def storage_modulus(self, frequency_Hz: ArrayLike, temperature_K: ArrayLike,
+                        band: float | None = None):
         """E'(f, T) = b_T E'_ref(2πf·a_T) in Pa; frequency in Hz."""
         return self._frequency_banded("storage_modulus", frequency_Hz, temperature_K, band)
 
-    def loss_modulus(self, frequency_Hz, temperature_K, band=None):
+    def loss_modulus(self, frequency_Hz: ArrayLike, temperature_K: ArrayLike,
+                     band: float | None = None):
         """E''(f, T) = b_T E''_ref(2πf·a_T) in Pa; frequency in Hz."""
         return self._frequency_banded("loss_modulus", frequency_Hz, temperature_K, band)
 
-    def tan_delta(self, frequency_Hz, temperature_K, band=None):
+    def tan_delta(self, frequency_Hz: ArrayLike, temperature_K: ArrayLike,
+                  band: float | None = None):
         """tan δ(f, T) = E''/E' at the reduced frequency 2πf·a_T."""
         return self._frequency_banded("tan_delta", frequency_Hz, temperature_K, band,
                                       scale=False)
 
     # ---- one call for the CLI and the API -----------------------------------------------------
-    def evaluate(self, quantity: str, temperature_K, *, time_s=None, frequency_Hz=None,
-                 band=None):
+    def evaluate(self, quantity: str, temperature_K: ArrayLike, *, time_s: ArrayLike | None = None,
+                 frequency_Hz: ArrayLike | None = None, band: float | None = None):
         """Evaluate one quantity by name (``relaxation_modulus``, ``creep_compliance``,
         ``storage_modulus``, ``loss_modulus``, ``tan_delta``) at times (s) or frequencies (Hz);
         with ``band=LEVEL`` a :class:`~ttsp.bands.Banded`."""
@@ -303,7 +318,8 @@ class ViscoelasticModel:
                             f"not times")
         return getattr(self, quantity)(frequency_Hz, temperature_K, band=band)
 
-    def isochrone(self, quantity: str, temperature_K, frequency_Hz: float = 1.0) -> np.ndarray:
+    def isochrone(self, quantity: str, temperature_K: ArrayLike,
+                  frequency_Hz: float = 1.0) -> np.ndarray:
         """E'(T), E''(T) or tan δ(T) at one fixed frequency (Hz) over temperatures (K)."""
         check_choice("quantity", quantity, FREQUENCY_QUANTITIES)
         return getattr(self, quantity)(np.full(np.shape(temperature_K), float(frequency_Hz)),

@@ -20,8 +20,10 @@ noise: 1.02–1.07).
 from __future__ import annotations
 
 import math
+from collections.abc import Sequence
 
 import numpy as np
+from numpy.typing import ArrayLike
 from scipy.optimize import minimize_scalar
 
 from .data import Campaign
@@ -114,7 +116,7 @@ def _pair_step(ua, Ya, ub, Yb) -> float:
 
 
 def chained_pairwise_log10_aT(campaign: Campaign, reference_temperature_K: float,
-                              functions=None) -> np.ndarray:
+                              functions: Sequence[str] | None = None) -> np.ndarray:
     """log10 a_T of every isotherm by chained pairwise shifting (the plain route).
 
     Each isotherm (in order of temperature) is laid on its colder neighbour by the shift that
@@ -147,7 +149,8 @@ def chained_pairwise_log10_aT(campaign: Campaign, reference_temperature_K: float
     return s - float(np.interp(reference_temperature_K, temps, s))
 
 
-def neighbour_mismatch(campaign: Campaign, log10_aT, functions=None) -> float:
+def neighbour_mismatch(campaign: Campaign, log10_aT: ArrayLike,
+                       functions: Sequence[str] | None = None) -> float:
     """rms log10 difference of neighbouring shifted isotherms where they overlap (decades).
 
     All ``functions`` (default :func:`collapse_functions`) with equal weight; each pair of

@@ -21,9 +21,15 @@ D(u) ≤ D(t_min) and E(t − u)·D(t) ≤ 1), so the identity is judged only fr
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:
+    from .prony import PronySeries
+
 from dataclasses import dataclass
 
 import numpy as np
+from numpy.typing import ArrayLike
 
 from ._validation import bad_value
 from .exceptions import DataError
@@ -36,7 +42,7 @@ __all__ = ["convolution_integral", "RelaxationCreepComparison", "compare_relaxat
 SHORT_TIME_MARGIN_DECADES = 2.0
 
 
-def convolution_integral(series, creep, t_s) -> np.ndarray:
+def convolution_integral(series: PronySeries, creep, t_s: ArrayLike) -> np.ndarray:
     """I(t) = ∫₀ᵗ E(t − u) D(u) du of a Prony relaxation series and a retardation series.
 
     With E(s) = E_∞ + Σ_i E_i e^{−s/τ_i} and D(u) = A + φu − Σ_j D_j e^{−u/λ_j}
@@ -118,8 +124,9 @@ class RelaxationCreepComparison:
                 "points": int(self.time_s.size)}
 
 
-def compare_relaxation_creep(relaxation_time_s, relaxation_Pa, creep_time_s,
-                             creep_1_per_Pa, *, terms_per_decade: float = 2.0,
+def compare_relaxation_creep(relaxation_time_s: ArrayLike, relaxation_Pa: ArrayLike,
+                             creep_time_s: ArrayLike, creep_1_per_Pa: ArrayLike, *,
+                             terms_per_decade: float = 2.0,
                              points: int = 60) -> RelaxationCreepComparison:
     """Fit a Prony series to each measured master curve and judge ∫₀ᵗ E(t−u) D(u) du = t.
 

@@ -313,7 +313,7 @@ def _shift_rows(result) -> dict:
         t = np.asarray(shifts.temperature_K, dtype=float)
         rows = [{"temperature_C": float(kelvin_to_celsius(tk)), "log10_aT": float(a),
                  "log10_aT_stderr": float(e), "log10_bT": 0.0}
-                for tk, a, e in zip(t, shifts.log10_aT, shifts.log10_aT_stderr)]
+                for tk, a, e in zip(t, shifts.log10_aT, shifts.log10_aT_stderr, strict=True)]
     vertical = any(abs(float(r.get("log10_bT") or 0.0)) > 0 for r in rows)
     out = []
     for r in rows:
@@ -478,10 +478,11 @@ def _prony(result) -> dict:
     einf = float(series.equilibrium_modulus_Pa)
     unit, factor = _modulus_unit(list(e_i) + [einf, series.instantaneous_modulus_Pa])
     terms = [{"i": str(k + 1), "tau": _num(t, 6), "modulus": _num(m / factor, 6)}
-             for k, (t, m) in enumerate(zip(tau, e_i)) if m > 0]
+             for k, (t, m) in enumerate(zip(tau, e_i, strict=True)) if m > 0]
     norm = series.normalised()
     fe = [{"i": str(k + 1), "g": _num(g, 6), "tau": _num(t, 6)}
-          for k, (g, t) in enumerate((g, t) for g, t in zip(norm.g, norm.tau_s) if g > 0)]
+          for k, (g, t) in enumerate((g, t) for g, t in zip(norm.g, norm.tau_s, strict=True)
+                                     if g > 0)]
     rng = series.valid_reduced_time_range_s
     by_quantity = dict(getattr(fit, "rms_percent_by_quantity", {}) or {})
     symbols = {"storage_modulus": f"{letter}′", "loss_modulus": f"{letter}″",
@@ -604,7 +605,7 @@ def _figures(result, figures_svg) -> dict:
     if not isinstance(figures_svg, dict):
         raise bad_value("figures_svg", "a dict of figure name to SVG text (or PNG bytes)",
                         type(figures_svg).__name__)
-    sections = {}
+    sections: dict[str, list[dict]] = {}
     number = 0
     order = list(_SECTION_OF_FIGURE)
     names = sorted(figures_svg, key=lambda n: (order.index(n) if n in order else len(order), n))
@@ -628,7 +629,7 @@ def _figures(result, figures_svg) -> dict:
 def _load_template():
     import jinja2
 
-    text = resources.files("ttsp").joinpath("templates", "report.html.j2").read_text("utf-8")
+    text = resources.files("ttsp").joinpath("templates").joinpath("report.html.j2").read_text("utf-8")
     env = jinja2.Environment(autoescape=True, undefined=jinja2.StrictUndefined,
                              trim_blocks=True, lstrip_blocks=True, keep_trailing_newline=True)
     return env.from_string(text)

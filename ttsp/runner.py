@@ -6,12 +6,20 @@ and writes numbers, figures and the HTML page into an atomic output folder.
 
 from __future__ import annotations
 
+from collections.abc import Sequence
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:
+    from .build_options import BuildOptions
+    from .data import Campaign
+
 import contextlib
 import datetime
 import sys
 import time
 import warnings
 from pathlib import Path
+from typing import Any
 
 from .exceptions import DataError, OptionValueError
 
@@ -30,8 +38,9 @@ def parse_pairs(values, option: str) -> dict:
     return out
 
 
-def read_inputs(inputs, column, unit, sheet, tolerance, modulus_kind,
-                temperature_from_name=False, repeats="merge"):
+def read_inputs(inputs: Sequence[str | Path], column, unit, sheet: str | int | None,
+                tolerance: float, modulus_kind: str | None,
+                temperature_from_name: bool = False, repeats: str = "merge"):
     from .io.readers import read_campaign
 
     if modulus_kind not in (None, "tensile", "shear"):
@@ -59,9 +68,11 @@ class Progress:
     where the platform has no such timer, steps are reported only when they end."""
 
     def __init__(self, quiet: bool, heartbeat_s: float = 30.0):
-        self.quiet, self.t0, self.name = quiet, None, None
+        self.quiet = quiet
+        self.t0 = 0.0                      # perf_counter at the start of step ``name``
+        self.name: str | None = None
         self.heartbeat_s = heartbeat_s
-        self._previous_handler = None
+        self._previous_handler: Any = None  # the SIGALRM handler to put back (signal's own type)
 
     def __call__(self, name: str):
         self.done()
@@ -157,7 +168,7 @@ def _child_ok(pid: int) -> bool:
     return os.waitstatus_to_exitcode(status) == 0
 
 
-def start_campaign_figures(campaign, tmp):
+def start_campaign_figures(campaign: Campaign, tmp: str | Path):
     """Start drawing the figures of the measured data in a child process (two or more cores),
     so that they are ready when the fit ends. Returns a handle for :func:`draw_figures`, or None.
     The child draws into a hidden sub-folder of the output's temporary folder ``tmp``, so a build
@@ -186,7 +197,7 @@ def discard_campaign_figures(handle) -> None:
         shutil.rmtree(handle[1], ignore_errors=True)
 
 
-def draw_figures(result, folder, *, parallel: bool = True, early=None) -> dict:
+def draw_figures(result, folder: str | Path, *, parallel: bool = True, early=None) -> dict:
     """Render and save every figure as PNG and SVG. Returns ``{name: {"png", "svg"}}``.
 
     With ``parallel`` and two or more cores, two groups of figures are drawn in forked
@@ -251,8 +262,9 @@ def draw_figures(result, folder, *, parallel: bool = True, early=None) -> dict:
     return {name: saved[name] for name in every if name in saved}
 
 
-def run_build(inputs, options, out: Path, *, figures: bool, force: bool, quiet: bool,
-              column=None, unit=None, sheet=None, tolerance=0.5, modulus_kind=None,
+def run_build(inputs: Sequence[str | Path], options: BuildOptions, out: Path, *, figures: bool,
+              force: bool, quiet: bool, column=None, unit=None, sheet: str | int | None = None,
+              tolerance: float = 0.5, modulus_kind: str | None = None,
               parallel_figures: bool = True, kind: str = "build", replaces=None,
               temperature_from_name: bool = False, repeats: str = "merge",
               title: str | None = None, units: str = "SI"):

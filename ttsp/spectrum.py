@@ -29,6 +29,7 @@ from collections.abc import Mapping
 from dataclasses import KW_ONLY, dataclass
 
 import numpy as np
+from numpy.typing import ArrayLike
 
 from ._arrays import fmt_html as _fmt
 from ._arrays import nonnegative_argument as _evaluation_argument
@@ -116,33 +117,33 @@ class RelaxationSpectrum:
         """Standard errors are not estimated for a regularised spectrum (None)."""
         return {k: None for k in self.params}
 
-    def spectrum(self, tau_s):
+    def spectrum(self, tau_s: ArrayLike):
         """H(τ) (Pa) at ``tau_s`` (s) by linear interpolation in ln τ; 0 outside the grid."""
         t = _evaluation_argument("tau_s", tau_s, allow_zero=False)
         out = np.interp(np.log(t), np.log(self.tau_s), self.H_Pa, left=0.0, right=0.0)
         return _scalar_or_array(np.asarray(out), tau_s)
 
-    def relaxation_modulus(self, t_s):
+    def relaxation_modulus(self, t_s: ArrayLike):
         """E(t) = E_e + ∫ H(τ) exp(−t/τ) d ln τ (Pa) at reduced times ``t_s`` (s)."""
         t = _evaluation_argument("t_s", t_s)
         out = self.equilibrium_modulus_Pa + np.exp(-t[..., None] / self.tau_s) @ self._weights()
         return _scalar_or_array(np.asarray(out), t_s)
 
-    def storage_modulus(self, omega_rad_s):
+    def storage_modulus(self, omega_rad_s: ArrayLike):
         """E'(ω) (Pa) at reduced angular frequencies ``omega_rad_s`` (rad/s)."""
         w = _evaluation_argument("omega_rad_s", omega_rad_s)
         x = w[..., None] * self.tau_s
         out = self.equilibrium_modulus_Pa + (x * x / (1 + x * x)) @ self._weights()
         return _scalar_or_array(np.asarray(out), omega_rad_s)
 
-    def loss_modulus(self, omega_rad_s):
+    def loss_modulus(self, omega_rad_s: ArrayLike):
         """E''(ω) (Pa) at reduced angular frequencies ``omega_rad_s`` (rad/s)."""
         w = _evaluation_argument("omega_rad_s", omega_rad_s)
         x = w[..., None] * self.tau_s
         out = (x / (1 + x * x)) @ self._weights()
         return _scalar_or_array(np.asarray(out), omega_rad_s)
 
-    def tan_delta(self, omega_rad_s):
+    def tan_delta(self, omega_rad_s: ArrayLike):
         """tan δ = E''/E' (dimensionless)."""
         with np.errstate(invalid="ignore", divide="ignore"):
             out = np.asarray(self.loss_modulus(omega_rad_s)) / np.asarray(
@@ -261,10 +262,11 @@ def _lcurve_corner_score(log_res: np.ndarray, log_pen: np.ndarray) -> np.ndarray
     return ((x1 - x0) * (y0 - y) - (x0 - x) * (y1 - y0)) / norm
 
 
-def fit_relaxation_spectrum(omega_rad_s, storage_modulus_Pa, loss_modulus_Pa, *,
-                            points_per_decade: float = 8.0, margin_decades: float = 1.0,
-                            method: str = "gcv", regularisation: float | None = None,
-                            n_lambda: int = 40, equilibrium_modulus_Pa: float | None = None,
+def fit_relaxation_spectrum(omega_rad_s: ArrayLike, storage_modulus_Pa: ArrayLike,
+                            loss_modulus_Pa: ArrayLike, *, points_per_decade: float = 8.0,
+                            margin_decades: float = 1.0, method: str = "gcv",
+                            regularisation: float | None = None, n_lambda: int = 40,
+                            equilibrium_modulus_Pa: float | None = None,
                             modulus_kind: str = "tensile",
                             reference_temperature_K: float | None = None) -> RelaxationSpectrum:
     """Continuous relaxation spectrum H(τ) by non-negative Tikhonov regularisation.
@@ -464,7 +466,8 @@ def _spectrum(problem: _TikhonovProblem, sols, grid, chosen: int, used: str, cri
         raise FitError("the regularised spectrum is zero everywhere; the data carry no "
                        "relaxation (or the regularisation is far too strong)")
     h = u[n_fixed:] * problem.e_ref
-    e_e = float(u[0] * problem.e_ref) if n_fixed else float(problem.e_fixed)
+    # E_e free (no e_fixed): the first unknown, n_fixed 1
+    e_e = float(u[0] * problem.e_ref) if problem.e_fixed is None else float(problem.e_fixed)
     fitted = np.concatenate([e_e + problem.k1 @ h, problem.k2 @ h])
     rel = 100 * (fitted / problem.y - 1)
     wmin, wmax = float(w.min()), float(w.max())

@@ -39,6 +39,13 @@ This module imports numpy only (pandas lazily, inside ``to_frame``).
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
+from numpy.typing import ArrayLike
+
+if TYPE_CHECKING:
+    from .data import Campaign
+
 import html
 import math
 import warnings
@@ -175,7 +182,8 @@ class GlassTransitionEstimate:
 GLASSY_SLOPE_FRACTION = 0.2
 
 
-def storage_onset(temperature_K, storage_modulus_Pa) -> tuple[float | None, str | None]:
+def storage_onset(temperature_K: ArrayLike,
+                  storage_modulus_Pa: ArrayLike) -> tuple[float | None, str | None]:
     """Onset of the E' drop on an isochrone: the temperature where the tangent to log10 E'(T)
     at the cold end meets the tangent at the steepest descent (the tangent-intersection
     construction of ASTM E1640, on log10 E').
@@ -368,7 +376,7 @@ def _isotherm_peak(campaign, column: str, label: str, frequency_Hz: float,
 # ----------------------------------------------------------------------------------------
 # the public function
 # ----------------------------------------------------------------------------------------
-def estimate_glass_transition(model, campaign=None, *, frequency_Hz: float = 1.0,
+def estimate_glass_transition(model, campaign: Campaign | None = None, *, frequency_Hz: float = 1.0,
                               temperature_range_K: tuple[float, float] | None = None
                               ) -> GlassTransitionEstimate:
     """Tg at a frequency as the temperature of the E'' peak and of the tan δ peak.

@@ -13,6 +13,7 @@ import unicodedata
 from dataclasses import dataclass
 
 import numpy as np
+from numpy.typing import ArrayLike
 
 from .exceptions import DataError
 
@@ -34,11 +35,11 @@ class Unit:
     scale: float
     offset: float = 0.0
 
-    def to_si(self, values):
+    def to_si(self, values: ArrayLike):
         """Convert values in this unit to SI (kelvin for temperatures, rad/s for frequency)."""
         return np.asarray(values, dtype=float) * self.scale + self.offset
 
-    def from_si(self, values):
+    def from_si(self, values: ArrayLike):
         """Convert SI values back to this unit."""
         return (np.asarray(values, dtype=float) - self.offset) / self.scale
 
@@ -118,12 +119,12 @@ def parse_unit(text: str, *, kind: str | None = None) -> Unit:
     return unit
 
 
-def to_si(values, unit: str):
+def to_si(values: ArrayLike, unit: str):
     """Convert ``values`` given in ``unit`` to SI (temperatures to kelvin)."""
     return parse_unit(unit).to_si(values)
 
 
-def from_si(values, unit: str):
+def from_si(values: ArrayLike, unit: str):
     """Convert SI ``values`` to ``unit``."""
     return parse_unit(unit).from_si(values)
 
@@ -132,7 +133,7 @@ def from_si(values, unit: str):
 DISPLAY_MODULUS_UNITS = (("GPa", 1e9), ("MPa", 1e6), ("kPa", 1e3), ("Pa", 1.0))
 
 
-def display_modulus_unit(values_Pa) -> tuple:
+def display_modulus_unit(values_Pa: ArrayLike) -> tuple:
     """Pa, kPa, MPa or GPa for showing moduli around the geometric median of ``values_Pa``.
 
     Returns ``(unit, factor)`` with value_in_unit = value_Pa / factor; ``None`` entries, zeros
@@ -150,11 +151,11 @@ def display_modulus_unit(values_Pa) -> tuple:
     return "Pa", 1.0
 
 
-def celsius_to_kelvin(t_C):
+def celsius_to_kelvin(t_C: ArrayLike):
     """T/K = T/°C + 273.15 (definition of the Celsius scale)."""
     return np.asarray(t_C, dtype=float) + ZERO_CELSIUS_K
 
 
-def kelvin_to_celsius(t_K):
+def kelvin_to_celsius(t_K: ArrayLike):
     """T/°C = T/K − 273.15 (definition of the Celsius scale)."""
     return np.asarray(t_K, dtype=float) - ZERO_CELSIUS_K

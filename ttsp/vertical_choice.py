@@ -29,6 +29,11 @@ predicts 1–8 % worse than ``none``; with log10 b_T changing 0.002 per kelvin, 
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:
+    from .build_options import BuildOptions
+
 import math
 from dataclasses import dataclass, field, replace
 
@@ -84,7 +89,7 @@ class VerticalChoice:
                 "reason": self.reason}
 
 
-def candidates(options) -> tuple:
+def candidates(options: BuildOptions) -> tuple:
     """``none`` and ``fit``, and ``density`` when the expansion coefficient is given."""
     return ("none", "fit") + (("density",) if options.expansion_coefficient_per_K is not None
                               else ())
@@ -116,7 +121,7 @@ def _median(errors: dict, keys) -> float:
     return float(np.median(values)) if values else math.nan
 
 
-def choose_vertical_shift(options, fit, validate):
+def choose_vertical_shift(options: BuildOptions, fit, validate):
     """Build every candidate vertical shift and keep the one the held-out isotherms favour.
 
     Parameters
@@ -156,7 +161,7 @@ def choose_vertical_shift(options, fit, validate):
             failed[mode] = why
     better = {m: errors[m] for m in built if m != "none" and m not in failed
               and errors[m] < errors["none"] * (1.0 - VERTICAL_GAIN)}
-    chosen = min(better, key=better.get) if better else "none"
+    chosen = min(better, key=better.__getitem__) if better else "none"
     o, fitted, cv = built[chosen]
     return o, fitted, cv, VerticalChoice(chosen, errors, failed,
                                          _reason(chosen, errors, failed, judged))

@@ -5,9 +5,13 @@ functions → checks, returned as one frozen :class:`BuildResult`. No file I/O h
 from __future__ import annotations
 
 import warnings
+from collections.abc import Callable, Sequence
 from dataclasses import replace
+from pathlib import Path
+from typing import Any
 
 import numpy as np
+from numpy.typing import ArrayLike
 
 from . import checks as check_suite  # run_checks looked up at each build: a test may replace it
 from ._arrays import evenly_spaced_rows
@@ -55,18 +59,20 @@ def _thin_for_checks(campaign: Campaign, shifts):
 
     picks = [evenly_spaced_rows(iso.values.values(), iso.n_points, MAX_CHECK_POINTS_PER_ISOTHERM)
              for iso in campaign.isotherms]
-    if all(p.size == iso.n_points for p, iso in zip(picks, campaign.isotherms)):
+    if all(p.size == iso.n_points for p, iso in zip(picks, campaign.isotherms, strict=True)):
         return campaign, shifts
     isos = tuple(Isotherm(iso.temperature_K, iso.x[p], {k: v[p] for k, v in iso.values.items()},
-                          iso.source_rows[p]) for iso, p in zip(campaign.isotherms, picks))
+                          iso.source_rows[p])
+                 for iso, p in zip(campaign.isotherms, picks, strict=True))
     thin = Campaign(isos, campaign.domain, campaign.modulus_kind, campaign.source,
                     campaign.units_as_read, campaign.metadata, campaign.dropped_rows)
-    mask = tuple(np.asarray(m)[p] for m, p in zip(shifts.outlier_mask, picks))
+    mask = tuple(np.asarray(m)[p] for m, p in zip(shifts.outlier_mask, picks, strict=True))
     return thin, replace(shifts, outlier_mask=mask)
 
 
 def build(campaign: Campaign, options: BuildOptions | None = None, *, input_sha256: str | None = None,
-          input_files=(), progress=None, **option_values) -> BuildResult:
+          input_files: Sequence[str | Path] = (), progress: Callable[[str], object] | None = None,
+          **option_values: Any) -> BuildResult:
     """Run the whole job on a campaign and return a :class:`BuildResult`.
 
     Parameters
@@ -235,12 +241,13 @@ def _flag_disagreements(shifts, checks):
     return replace(shifts, flags=tuple(flags))
 
 
-def check(campaign: Campaign, **option_values) -> tuple:
+def check(campaign: Campaign, **option_values: Any) -> tuple:
     """Run a build and return only its checks (each with status, value, threshold, message)."""
     return build(campaign, **option_values).checks
 
 
-def predict(model, quantity: str, temperature_C, *, time_s=None, frequency_Hz=None, band=None):
+def predict(model, quantity: str, temperature_C: ArrayLike, *, time_s: ArrayLike | None = None,
+            frequency_Hz: ArrayLike | None = None, band: float | None = None):
     """Evaluate a material function at a temperature (°C) from a build result or a model.
 
     ``model`` is a :class:`BuildResult`, a :class:`~ttsp.model.ViscoelasticModel`, or the dict

@@ -8,6 +8,8 @@ from __future__ import annotations
 
 import contextlib
 import uuid
+from collections.abc import Callable, Sequence
+from typing import Any
 
 from ..exceptions import DataError
 from .rows import error_text, failed_row
@@ -30,7 +32,8 @@ def _dask_client(scheduler, client):
         raise DataError(f"cannot reach the Dask scheduler at {scheduler!r}: {exc}") from None
 
 
-def run_on_dask(payloads, scheduler, client, task, on_done) -> None:
+def run_on_dask(payloads: Sequence[dict], scheduler: str | None, client: Any,
+                task: Callable[[dict], dict], on_done: Callable[[dict], object]) -> None:
     """Submit every payload to a Dask cluster and call ``on_done`` with each row as it arrives.
 
     Parameters

@@ -130,7 +130,7 @@ def check_id(value, origin: str = "") -> None:
 
 def check_unique(items) -> None:
     """Refuse ids that repeat, also ignoring letter case (file systems that ignore it)."""
-    seen = {}
+    seen: dict[str, BatchItem] = {}   # casefolded id -> its first item
     for item in items:
         key = item.id.casefold()
         if key in seen:
@@ -142,7 +142,7 @@ def check_unique(items) -> None:
         seen[key] = item
 
 
-def read_manifest(path_or_folder) -> list:
+def read_manifest(path_or_folder: str | Path) -> list:
     """Read a batch manifest (CSV, JSON Lines, or a folder of campaigns) into :class:`BatchItem` s.
 
     Parameters
@@ -213,11 +213,11 @@ def _csv_rows(text: str, file: str):
         raise DataError(f"{where(file, row=header_line)}a manifest column appears twice: "
                         f"{', '.join(names)}")
     rows = []
-    for (line, _), cells in zip(lines[1:], parsed[1:]):
+    for (line, _), cells in zip(lines[1:], parsed[1:], strict=True):
         if len(cells) != len(names):
             raise DataError(f"{where(file, row=line)}{len(cells)} cells where the header has "
                             f"{len(names)}")
-        rows.append((line, {n: (c.strip() or None) for n, c in zip(names, cells)}))
+        rows.append((line, {n: (c.strip() or None) for n, c in zip(names, cells, strict=True)}))
     return rows
 
 

@@ -13,6 +13,7 @@ import os
 import sys
 import time
 from collections import deque
+from collections.abc import Callable, Sequence
 
 from .._lifetime import Terminated
 from .rows import error_text, failed_row
@@ -87,7 +88,8 @@ def _drain(pool, queue, workers: int, task, on_done, inflight: dict) -> list:
     import concurrent.futures as cf
     from concurrent.futures.process import BrokenProcessPool
 
-    suspects, broken = [], False
+    suspects: list = []
+    broken = False
     while (queue or inflight) and not suspects and not broken:
         while queue and len(inflight) < 2 * workers and not broken:
             payload = queue.popleft()
@@ -116,12 +118,13 @@ def _stop_on_interrupt(exc: BaseException, pool, inflight: dict, workers: int, o
               f"(the rest stays to do: run the same command again to resume)",
               file=sys.stderr, flush=True)
     pool.shutdown(wait=True, cancel_futures=True)
-    for fut, payload in inflight.items():
+    for fut in inflight:
         if fut.done() and not fut.cancelled() and fut.exception() is None:
             on_done(fut.result())
 
 
-def run_local(payloads, workers: int, task, on_done) -> None:
+def run_local(payloads: Sequence[dict], workers: int, task: Callable[[dict], dict],
+              on_done: Callable[[dict], object]) -> None:
     """Run the payloads in a process pool; a broken pool is replaced and its suspects isolated.
 
     Parameters
@@ -140,7 +143,7 @@ def run_local(payloads, workers: int, task, on_done) -> None:
     queue = deque(payloads)
     while queue:
         pool = _new_pool(max(1, min(workers, len(queue))), ctx)
-        inflight = {}
+        inflight: dict = {}   # future -> its payload
         try:
             suspects = _drain(pool, queue, workers, task, on_done, inflight)
         except BaseException as exc:

@@ -9,6 +9,10 @@ from __future__ import annotations
 import contextlib
 import sys
 import time
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:
+    from rich.progress import Progress
 
 __all__ = ["BatchProgress"]
 
@@ -19,9 +23,10 @@ class BatchProgress:
 
     def __init__(self, total: int, *, progress: bool, quiet: bool):
         self.total, self.done, self.failed = total, 0, 0
-        self.to_build, self.built, self.t0 = 0, 0, None
+        self.to_build, self.built = 0, 0
+        self.t0: float | None = None
         self.mode = None if quiet else ("lines" if progress else "failures")
-        self._bar = None
+        self._bar: Progress | None = None
         if self.mode == "lines" and sys.stderr.isatty():
             with contextlib.suppress(ImportError):
                 from rich.console import Console
@@ -75,7 +80,7 @@ class BatchProgress:
             self.built += 1
         if self.mode is None:
             return
-        if self.mode == "bar":
+        if self.mode == "bar" and self._bar is not None:
             self._bar.update(self._task, advance=1, failed=self.failed)
         if failed and self.mode in ("bar", "failures"):
             self._say(f"ttsp batch: {row['id']} failed: {row['error']}")

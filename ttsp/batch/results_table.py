@@ -90,9 +90,12 @@ class ResultsTable:
     """
 
     def __init__(self, out: Path, order):
-        self.out, self.order, self.rows = out, list(order), {}
+        self.out, self.order = out, list(order)
+        self.rows: dict[str, dict] = {}
         self._last_end, self._last_cost = 0.0, 0.0
-        self._columns, self._lines, self._keys = None, {}, {}
+        self._columns: list[str] | None = None
+        self._lines: dict[str, tuple[dict, str, str]] = {}   # id -> (row, JSON line, CSV line)
+        self._keys: dict[str, None] = {}   # every column name seen, in order
         self._hashes = result_hashes(out)
 
     def add(self, row: dict) -> None:

@@ -25,7 +25,7 @@ from .worker import build_one
 __all__ = ["batch_exit_code", "run_batch"]
 
 
-def run_batch(manifest, out_dir, *, workers: int | None = None, figures: bool = False,
+def run_batch(manifest, out_dir: str | Path, *, workers: int | None = None, figures: bool = False,
               force: bool = False, scheduler: str | None = None, client=None,
               progress: bool = True, quiet: bool = False, _task=None):
     """Build every campaign of a manifest into ``out_dir/<id>/`` and return the results table.

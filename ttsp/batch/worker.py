@@ -14,6 +14,7 @@ import json
 import signal
 import time
 from pathlib import Path
+from typing import Any
 
 from ..workflow import BuildOptions
 from .rows import error_text, failed_row, row_from_summary
@@ -41,7 +42,7 @@ def build_one(payload: dict) -> dict:
         # an earlier build of this campaign (and only that) may be replaced
         replace = payload["force"] or (Path(payload["out"]) / "summary.json").is_file()
         # the batch is parallel across campaigns already: no extra drawing process per build
-        extra = ({"parallel_figures": False}
+        extra: dict[str, Any] = ({"parallel_figures": False}
                  if "parallel_figures" in inspect.signature(run_build).parameters else {})
         _, folder = run_build([Path(p) for p in payload["paths"]],
                               BuildOptions(**payload["options"]), Path(payload["out"]),

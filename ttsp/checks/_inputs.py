@@ -28,7 +28,7 @@ class _Shifts:
     stderr: np.ndarray          # NaN where unknown
     log10_bT: np.ndarray
     flags: tuple                # one tuple of str per isotherm
-    outliers: tuple             # one bool array per isotherm, or None when not given
+    outliers: tuple | None      # one bool array per isotherm, or None when not given
     reference_temperature_K: float | None
 
 
@@ -65,20 +65,20 @@ def _align_shifts(campaign: Campaign, shifts) -> _Shifts:
                         f"{len(flags)} tuples")
     masks = getattr(shifts, "outlier_mask", None)
     iso_t = campaign.temperatures_K
-    index = []
+    rows = []
     for t in iso_t:
         k = int(np.argmin(np.abs(temps - t))) if n else -1
         if n == 0 or abs(temps[k] - t) > 1e-6 * max(1.0, t):
             raise DataError(f"shifts must hold a row for every isotherm of the campaign; none "
                             f"for {_fmt_C(t)}")
-        index.append(k)
-    index = np.asarray(index)
+        rows.append(k)
+    index = np.asarray(rows)
     if masks is not None:
         if len(masks) != n:
             raise bad_value("shifts.outlier_mask", f"one array per shift-table row ({n})",
                             f"{len(masks)} arrays")
         masks = tuple(np.asarray(masks[k], dtype=bool) for k in index)
-        for iso, m in zip(campaign.isotherms, masks):
+        for iso, m in zip(campaign.isotherms, masks, strict=True):
             if m.shape != iso.x.shape:
                 raise bad_value("shifts.outlier_mask", "one flag per point of each isotherm",
                                 f"{m.size} flags for {iso.n_points} points at "

@@ -3,6 +3,11 @@ the measurements (per isotherm, from third differences)."""
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:
+    from ..shifting import ShiftResult
+
 import math
 
 import numpy as np
@@ -39,7 +44,7 @@ NOISE_ISOTHERM_RATIO = 5.0
 NOISE_ISOTHERM_PERCENT = 10.0
 
 
-def check_outliers(campaign: Campaign, shifts) -> CheckResult | None:
+def check_outliers(campaign: Campaign, shifts: ShiftResult) -> CheckResult | None:
     """Share of points the shifting flagged as outliers, per isotherm.
 
     Parameters
@@ -61,7 +66,7 @@ def check_outliers(campaign: Campaign, shifts) -> CheckResult | None:
     total = int(sum(counts))
     share = 100.0 * total / max(c.n_points, 1)
     per = [{"temperature_C": iso.temperature_C, "outliers": n, "points": iso.n_points}
-           for iso, n in zip(c.isotherms, counts) if n]
+           for iso, n in zip(c.isotherms, counts, strict=True) if n]
     status = _grade(share, OUTLIER_WARN_PERCENT, OUTLIER_FAIL_PERCENT)
     named = ", ".join(f"{p['outliers']} at {p['temperature_C']:.4g} °C" for p in per[:8])
     details = {"unit": "% of points", "outliers": total, "points": c.n_points,

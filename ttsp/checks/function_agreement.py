@@ -23,6 +23,11 @@ left out: there a single-function shift is not evidence. An isotherm disagrees w
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:
+    from ..shifting import ShiftResult
+
 import warnings
 from dataclasses import replace
 
@@ -126,7 +131,7 @@ def _agreement_message(status: str, symbols: tuple, T: np.ndarray, d: np.ndarray
             "dependences), or one function carries an instrument error.")
 
 
-def check_function_agreement(campaign: Campaign, shifts):
+def check_function_agreement(campaign: Campaign, shifts: ShiftResult):
     """Shifts found on E' alone and on E'' alone, compared isotherm by isotherm.
 
     Parameters
@@ -163,10 +168,12 @@ def check_function_agreement(campaign: Campaign, shifts):
     e1, e2 = campaign.symbol(pair[0]), campaign.symbol(pair[1])
     rows = [{"temperature_C": float(t - 273.15), f"log10_aT_{pair[0]}": float(x),
              f"log10_aT_{pair[1]}": float(y), "difference_decades": float(dd),
-             "z": float(zz)} for t, x, y, dd, zz in zip(T, a.log10_aT, b.log10_aT, d, z)]
+             "z": float(zz)}
+            for t, x, y, dd, zz in zip(T, a.log10_aT, b.log10_aT, d, z, strict=True)]
     informative = np.array([not any(f.startswith(("low-information", "bridged"))
-                                    for f in fa + fb) for fa, fb in zip(a.flags, b.flags)])
-    for row, ok in zip(rows, informative):
+                                    for f in fa + fb)
+                            for fa, fb in zip(a.flags, b.flags, strict=True)])
+    for row, ok in zip(rows, informative, strict=True):
         row["informative"] = bool(ok)
     significant = (np.abs(z) > AGREEMENT_Z) & informative
     size = np.where(significant, np.abs(d), 0.0)

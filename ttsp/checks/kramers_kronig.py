@@ -4,6 +4,12 @@ predicted from it (Booij & Thoone, Rheol. Acta 21, 15-24, 1982)."""
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:
+    from ..prony import PronyFit
+    from ..shifting import ShiftResult
+
 import math
 
 import numpy as np
@@ -47,23 +53,24 @@ KK_EDGE_DECADES = 0.5
 KK_TERMS_PER_DECADE = 2.0
 
 
-def _master_curve(campaign: Campaign, shifts, prony_fit):
+def _master_curve(campaign: Campaign | None, shifts, prony_fit):
     """(ω_r, E', E'') of the master curve: from the shifts if given, else from the Prony fit."""
     if shifts is not None:
+        assert campaign is not None   # refused by _as_campaign before
         c = campaign.with_derived()
         if c.domain != "frequency" or not {"storage_modulus_Pa",
                                            "loss_modulus_Pa"} <= set(c.quantities):
             return None
         table = _align_shifts(c, shifts)
-        w, e1, e2, temps = [], [], [], []
+        ws, e1s, e2s, temps_each = [], [], [], []
         for k, iso in enumerate(c.isotherms):
             keep = _keep(table, k, iso.n_points)
             b = 10.0 ** table.log10_bT[k]
-            w.append(10.0 ** _reduced_log_x(c, table, k)[keep])
-            e1.append(iso.values["storage_modulus_Pa"][keep] / b)
-            e2.append(iso.values["loss_modulus_Pa"][keep] / b)
-            temps.append(np.full(int(keep.sum()), iso.temperature_K))
-        w, e1, e2, temps = (np.concatenate(v) for v in (w, e1, e2, temps))
+            ws.append(10.0 ** _reduced_log_x(c, table, k)[keep])
+            e1s.append(iso.values["storage_modulus_Pa"][keep] / b)
+            e2s.append(iso.values["loss_modulus_Pa"][keep] / b)
+            temps_each.append(np.full(int(keep.sum()), iso.temperature_K))
+        w, e1, e2, temps = (np.concatenate(v) for v in (ws, e1s, e2s, temps_each))
         source = "shifted campaign"
     elif prony_fit is not None:
         if getattr(prony_fit, "domain", None) != "frequency" or not {
@@ -194,8 +201,8 @@ def _kk_message(status: str, value: float, worse: str, where: str) -> str:
             "differ between E' and E''.")
 
 
-def check_kramers_kronig(campaign: Campaign | None = None, *, shifts=None,
-                         prony_fit=None) -> CheckResult | None:
+def check_kramers_kronig(campaign: Campaign | None = None, *, shifts: ShiftResult | None = None,
+                         prony_fit: PronyFit | None = None) -> CheckResult | None:
     """Kramers–Kronig consistency of E' and E'' of the master curve.
 
     For a causal linear material E' and E'' are the two faces of one relaxation spectrum

@@ -3,6 +3,12 @@ runs, or curvature in temperature) suggests a transition inside the temperature 
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:
+    from ..laws import ShiftLawFit
+    from ..shifting import ShiftResult
+
 import math
 
 import numpy as np
@@ -77,7 +83,7 @@ def _curvature_p_value(t: np.ndarray, r: np.ndarray) -> tuple[float, float]:
     return tstat, float(2.0 * stats.t.sf(abs(tstat), dof))
 
 
-def check_law_residuals(law_fit, *, shifts=None) -> CheckResult:
+def check_law_residuals(law_fit: ShiftLawFit, *, shifts: ShiftResult | None = None) -> CheckResult:
     """A systematic pattern in the residuals of the fitted shift law.
 
     The residuals (data − law, decades) ordered by temperature are tested for too few sign

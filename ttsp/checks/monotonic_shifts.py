@@ -3,6 +3,11 @@ against the shifts' standard errors."""
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:
+    from ..shifting import ShiftResult
+
 import math
 
 import numpy as np
@@ -19,7 +24,7 @@ __all__ = ["check_monotonic_shifts", "MONOTONIC_SIGMA"]
 MONOTONIC_SIGMA = 2.0
 
 
-def check_monotonic_shifts(shifts) -> CheckResult:
+def check_monotonic_shifts(shifts: ShiftResult) -> CheckResult:
     """log10 a_T must fall as the temperature rises; violations named.
 
     Every relaxation time shortens on heating, so a_T decreases monotonically with temperature

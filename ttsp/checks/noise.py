@@ -84,13 +84,13 @@ def _estimate_noise(campaign: Campaign) -> dict:
              for q, v in iso.values.items()]
     sigmas = third_difference_sigmas([y for _, _, y in cells])
     per = [{"temperature_K": iso.temperature_K} for iso in campaign.isotherms]
-    pooled = {}
-    for (k, q, _), sd in zip(cells, sigmas):
+    pooled: dict[str, list[float]] = {}
+    for (k, q, _), sd in zip(cells, sigmas, strict=True):
         per[k][q] = float(sd)
         pooled.setdefault(q, []).append(float(sd))
     typical = {}
-    for q, vals in pooled.items():
-        vals = np.asarray(vals, dtype=float)
+    for q, pooled_q in pooled.items():
+        vals = np.asarray(pooled_q, dtype=float)
         vals = vals[np.isfinite(vals)]
         floor = NOISE_FLOOR_RAD if q == "phase_angle_rad" else NOISE_FLOOR_LOG10
         typical[q] = max(float(np.median(vals)) if vals.size else floor, floor)

@@ -3,6 +3,11 @@ fix their horizontal shift? Gaps, thin overlaps and shifts bridged by a law are 
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:
+    from ..shifting import ShiftResult
+
 import math
 
 import numpy as np
@@ -58,7 +63,8 @@ def _neighbour_pairs(c: Campaign, table, quantity: str, tolerance: float):
     """Every pair of neighbouring isotherms with its overlap in log10 of ``quantity`` (and of
     tan δ for frequency data) and its verdict; then the pairs named as gaps, thin overlaps and
     gaps bridged by tan δ. Points flagged as outliers in ``table`` are left out."""
-    pairs, named = [], {"gap": [], "thin": [], "gap bridged by tan δ": []}
+    pairs = []
+    named: dict[str, list] = {"gap": [], "thin": [], "gap bridged by tan δ": []}
     for k in range(len(c) - 1):
         a, b = c.isotherms[k], c.isotherms[k + 1]
         ka, kb = _keep(table, k, a.n_points), _keep(table, k + 1, b.n_points)
@@ -87,9 +93,9 @@ def _flagged_shifts(table) -> tuple[list, list]:
     it flagged low-information; none without a shift table."""
     if table is None:
         return [], []
-    bridged = [_fmt_C(t) for t, f in zip(table.temperature_K, table.flags)
+    bridged = [_fmt_C(t) for t, f in zip(table.temperature_K, table.flags, strict=True)
                if any("bridg" in str(x) for x in f)]
-    weak = [_fmt_C(t) for t, f in zip(table.temperature_K, table.flags)
+    weak = [_fmt_C(t) for t, f in zip(table.temperature_K, table.flags, strict=True)
             if "low-information" in f]
     return bridged, weak
 
@@ -137,7 +143,8 @@ def _covered_message(symbol: str, value: float, pairs: list, weak: list) -> str:
     return msg + "; the data can fix every shift."
 
 
-def check_overlap_coverage(campaign: Campaign, *, shifts=None) -> CheckResult | None:
+def check_overlap_coverage(campaign: Campaign, *,
+                           shifts: ShiftResult | None = None) -> CheckResult | None:
     """Decades of overlap in the ordinate between neighbouring isotherms; gaps named.
 
     A horizontal shift moves an isotherm along log x only, so two isotherms of a monotonic

@@ -3,6 +3,11 @@ data reach the plateaus or the series' ends are extrapolated."""
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:
+    from ..prony import PronyFit
+
 import math
 
 from .._validation import bad_value
@@ -20,7 +25,8 @@ PRONY_RMS_WARN_PERCENT = 5.0
 PRONY_RMS_FAIL_PERCENT = 15.0
 
 
-def check_prony_fit_quality(prony_fit, *, campaign: Campaign | None = None) -> CheckResult:
+def check_prony_fit_quality(prony_fit: PronyFit, *,
+                            campaign: Campaign | None = None) -> CheckResult:
     """Residuals of the Prony fit against thresholds.
 
     The rms relative deviation (%) is judged against :data:`PRONY_RMS_WARN_PERCENT` (raised to
@@ -61,7 +67,7 @@ def check_prony_fit_quality(prony_fit, *, campaign: Campaign | None = None) -> C
     return CheckResult("prony_fit_quality", status, rms, warn, msg, details)
 
 
-def check_master_curve_range(prony_fit) -> CheckResult:
+def check_master_curve_range(prony_fit: PronyFit) -> CheckResult:
     """Whether the master curve reaches its plateaus, or the series' ends are extrapolated.
 
     At a data end where the local slope |d ln E/d ln x| of the fitted curve exceeds the plateau

@@ -3,6 +3,13 @@ available and words each result in the symbols of the campaign (G and J for shea
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:
+    from ..laws import ShiftLawFit
+    from ..prony import PronyFit
+    from ..shifting import ShiftResult
+
 from collections.abc import Callable
 from dataclasses import dataclass
 
@@ -60,8 +67,9 @@ _REGISTRY = (
 CHECK_NAMES = tuple(e.name for e in _REGISTRY)
 
 
-def run_checks(campaign: Campaign, *, shifts=None, law_fit=None,
-               prony_fit=None) -> tuple[CheckResult, ...]:
+def run_checks(campaign: Campaign, *, shifts: ShiftResult | None = None,
+               law_fit: ShiftLawFit | None = None,
+               prony_fit: PronyFit | None = None) -> tuple[CheckResult, ...]:
     """Run every registered check whose inputs are available.
 
     Parameters

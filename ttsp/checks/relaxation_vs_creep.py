@@ -3,6 +3,11 @@ identity ∫₀ᵗ E(t − u) D(u) du = t (Ferry 1980, ch. 3)."""
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:
+    from ..shifting import ShiftResult
+
 import numpy as np
 
 from ..data import Campaign
@@ -22,7 +27,7 @@ RELAXATION_CREEP_WARN_PERCENT = 5.0
 RELAXATION_CREEP_FAIL_PERCENT = 10.0
 
 
-def check_relaxation_creep(campaign: Campaign, shifts) -> CheckResult | None:
+def check_relaxation_creep(campaign: Campaign, shifts: ShiftResult) -> CheckResult | None:
     """Relaxation modulus and creep compliance of the same material checked against each other.
 
     Both master curves (reduced times t/a_T, moduli divided and compliances multiplied by b_T)
@@ -39,7 +44,7 @@ def check_relaxation_creep(campaign: Campaign, shifts) -> CheckResult | None:
     from ..relaxation_creep import compare_relaxation_creep
 
     table = _align_shifts(campaign, shifts)
-    curves = {"relaxation_modulus_Pa": ([], []), "creep_compliance_1_per_Pa": ([], [])}
+    curves: dict[str, tuple[list, list]] = {"relaxation_modulus_Pa": ([], []), "creep_compliance_1_per_Pa": ([], [])}
     for k, iso in enumerate(campaign.isotherms):
         keep = _keep(table, k, iso.n_points)
         lt = _reduced_log_x(campaign, table, k)

@@ -4,6 +4,11 @@ data."""
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:
+    from ..shifting import ShiftResult
+
 import math
 
 import numpy as np
@@ -18,7 +23,7 @@ from .spread import SPREAD_TOLERANCE_LOG10, _curve, _pairwise_spread, _spread_re
 __all__ = ["check_shifted_superposition"]
 
 
-def check_shifted_superposition(campaign: Campaign, shifts) -> CheckResult | None:
+def check_shifted_superposition(campaign: Campaign, shifts: ShiftResult) -> CheckResult | None:
     """Superposition error after shifting: spread of overlapping shifted isotherms.
 
     Frequency data: log10 tan δ against log10(ω·a_T). tan δ is unchanged by a vertical shift, so
@@ -44,6 +49,7 @@ def check_shifted_superposition(campaign: Campaign, shifts) -> CheckResult | Non
     """
     c = _as_campaign(campaign).with_derived()
     table = _align_shifts(c, shifts)
+    quantity: str | None
     if c.domain == "frequency":
         if "tan_delta" not in c.quantities:
             return None

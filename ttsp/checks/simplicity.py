@@ -7,6 +7,11 @@ their spread (:mod:`ttsp.checks.spread`) tests superposition without shift facto
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:
+    from ..shifting import ShiftResult
+
 import math
 
 import numpy as np
@@ -63,7 +68,8 @@ def _plane_spread(campaign, shifts, xq, yq, tx, ty):
     return _pairwise_spread(c.temperatures_K, curves, sx, sy, tx, ty)
 
 
-def check_van_gurp_palmen(campaign: Campaign, *, shifts=None) -> CheckResult | None:
+def check_van_gurp_palmen(campaign: Campaign, *,
+                          shifts: ShiftResult | None = None) -> CheckResult | None:
     """Spread of the raw isotherms in the van Gurp–Palmen plane, δ against log10|E*|.
 
     If the material is thermorheologically simple (and b_T = 1), a change of temperature only
@@ -102,7 +108,8 @@ def check_van_gurp_palmen(campaign: Campaign, *, shifts=None) -> CheckResult | N
                           _COMPLEX_ADVICE)
 
 
-def check_loss_vs_storage(campaign: Campaign, *, shifts=None) -> CheckResult | None:
+def check_loss_vs_storage(campaign: Campaign, *,
+                          shifts: ShiftResult | None = None) -> CheckResult | None:
     """Spread of the raw isotherms in the log10 E'' against log10 E' plane.
 
     Like :func:`check_van_gurp_palmen`, this plane has no frequency axis: the isotherms of a

@@ -106,7 +106,7 @@ def _remove_or_keep(folder: Path, dest: Path, kinds) -> None:
 _LEFTOVER = re.compile(r"^\.ttsp-(?:(?:tmp|old)-(.+)\.\d+\.[^.]+|lock-(.+))$")
 
 
-def tidy_leftovers(folder, kinds=("build", "demo")) -> None:
+def tidy_leftovers(folder: str | Path, kinds=("build", "demo")) -> None:
     """Tidy what killed runs left in ``folder`` for any destination in it (a batch's folder):
     for each destination no live run holds, the recovery of :func:`atomic_output_dir`, and its
     stale lock file removed. Destinations a live run is writing are left alone."""
@@ -124,7 +124,7 @@ def tidy_leftovers(folder, kinds=("build", "demo")) -> None:
             continue
 
 
-def scratch_dir(destination) -> Path:
+def scratch_dir(destination: str | Path) -> Path:
     """A private temporary folder beside ``destination``, named like the output's own temporary
     folders, so that a later run removes it if this process is killed before it does."""
     dest = Path(destination).resolve()
@@ -217,8 +217,8 @@ def _put_in_place(tmp: Path, dest: Path, shown, was: str, kinds) -> None:
 
 
 @contextlib.contextmanager
-def atomic_output_dir(destination, *, force: bool = False, protect=(), kind: str = "build",
-                      replaces=None):
+def atomic_output_dir(destination: str | Path, *, force: bool = False, protect=(),
+                      kind: str = "build", replaces=None):
     """Yield a temporary folder; on success move it to ``destination`` (see the module rules).
 
     Parameters
@@ -266,13 +266,13 @@ def atomic_output_dir(destination, *, force: bool = False, protect=(), kind: str
             raise
 
 
-def output_kind(folder) -> str | None:
+def output_kind(folder: str | Path) -> str | None:
     """The kind of ttsp output ``folder`` is (``"build"``, ``"demo"``, ``"batch"``), or None."""
     marker = read_marker(folder)
     return None if marker is None else marker.get("kind")
 
 
-def write_text_atomic(path, text: str) -> None:
+def write_text_atomic(path: str | Path, text: str) -> None:
     """Write a text file through a temporary file and a rename, so readers never see half of it."""
     path = Path(path)
     path.parent.mkdir(parents=True, exist_ok=True)

@@ -16,7 +16,7 @@ from __future__ import annotations
 
 import os
 import warnings
-from collections.abc import Mapping
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -31,13 +31,13 @@ from .tables import TABLE_SUFFIXES, RawTable, read_table
 __all__ = ["read_campaign", "hash_inputs", "expand_paths"]
 
 
-def read_campaign(paths, *, columns: Mapping[str, str] | None = None,
-                  units: Mapping[str, str] | None = None, sheet: str | int | None = None,
-                  domain: str | None = None, modulus_kind: str | None = None,
-                  temperature_tolerance_K: float = 0.5,
+def read_campaign(paths: str | Path | Sequence[str | Path], *,
+                  columns: Mapping[str, str] | None = None, units: Mapping[str, str] | None = None,
+                  sheet: str | int | None = None, domain: str | None = None,
+                  modulus_kind: str | None = None, temperature_tolerance_K: float = 0.5,
                   temperature_C: float | Mapping[str, float] | None = None,
-                  max_points: int | None = None,
-                  temperature_from_name: bool = False, repeats: str = "merge") -> Campaign:
+                  max_points: int | None = None, temperature_from_name: bool = False,
+                  repeats: str = "merge") -> Campaign:
     """Read one or more files (or a folder) into a validated :class:`~ttsp.data.Campaign`.
 
     Parameters
@@ -191,7 +191,7 @@ def _domain_of(frame, domain: str | None) -> str:
 def _kind_and_domain(reads: list, modulus_kind: str | None, domain: str | None) -> tuple:
     """The campaign's modulus kind and domain: as given, else as the files say, refusing files
     that say different things."""
-    first_of = {}    # the first file of each kind and domain
+    first_of: dict[str, str] = {}    # the first file of each kind and domain
     for r in reads:
         if r.modulus_kind:
             first_of.setdefault(r.modulus_kind, r.path)
@@ -214,7 +214,10 @@ def _metadata_and_dropped(reads: list, *, several: bool) -> tuple:
     keys prefixed by the file name when there are several files), the units assumed and the
     rows skipped; the lines and rows left out, counted by reason; the skipped rows listed by
     row and text (None when there are none)."""
-    metadata, dropped, skipped_text, assumed = {}, {}, [], []
+    metadata: dict[str, str] = {}
+    dropped: dict[str, int] = {}
+    skipped_text: list[str] = []
+    assumed: list[str] = []
     for r in reads:
         for k, v in r.preamble.items():
             metadata[f"{Path(r.path).name}: {k}" if several else k] = v
@@ -244,7 +247,7 @@ def _labels_and_units(reads: list) -> tuple:
     return labels, units_read
 
 
-def expand_paths(paths) -> list:
+def expand_paths(paths: str | Path | Sequence[str | Path]) -> list:
     """The files named, a folder standing for its data files (not hidden ones, nor the lock
     files of a spreadsheet program), in order, each file once."""
     if isinstance(paths, (str, os.PathLike)):
@@ -282,7 +285,7 @@ def _common_folder(files) -> str:
         return os.path.commonpath([os.path.abspath(f) for f in files])
 
 
-def hash_inputs(paths) -> str:
+def hash_inputs(paths: str | Path | Sequence[str | Path]) -> str:
     """SHA-256 over the names and bytes of the input files (folders expanded as
     :func:`read_campaign` expands them), in file-name order, so the same inputs give the same
     hash wherever they lie."""

@@ -107,10 +107,10 @@ def column_floats(table: RawTable, j: int, header: str, *, empty_allowed: bool,
                 raise DataError(f"{where(table.path, header, table.line_numbers[i])}value must be "
                                 f"a number; got an empty cell")
     infinite = np.flatnonzero(np.isinf(values))
-    for i in infinite:  # 1e400 becomes inf: say what was written, not "inf"
-        cell = col[i]
+    for k in infinite:  # 1e400 becomes inf: say what was written, not "inf"
+        cell = col[k]
         if "inf" not in cell.lower():
-            raise DataError(f"{where(table.path, header, table.line_numbers[i])}value must be a "
+            raise DataError(f"{where(table.path, header, table.line_numbers[k])}value must be a "
                             f"finite number; got {cell!r}, beyond the largest number ttsp holds "
                             f"(about 1.8e308)")
         break

@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import re
 from dataclasses import dataclass
+from pathlib import Path
 
 import numpy as np
 
@@ -67,7 +68,7 @@ def _role(header: str):
     return None, None
 
 
-def read_history_table(path) -> LoadingHistory:
+def read_history_table(path: str | Path) -> LoadingHistory:
     """Read a history CSV (any delimiter the campaign reader accepts) into SI arrays.
 
     Strain is dimensionless unless the header says ``%``; stress in a modulus unit (Pa, MPa, …);
@@ -84,7 +85,7 @@ def read_history_table(path) -> LoadingHistory:
         first = table.skipped[0]
         raise DataError(f"{where(table.path, None, first.row)}a history table must hold only "
                         f"numbers after its header; got {first.text!r}")
-    found = {}
+    found: dict[str, tuple[int, str, str | None]] = {}   # role -> (column, header, unit)
     for j, header in enumerate(table.header):
         role, unit = _role(header)
         if role is not None and role in found:  # never pick one of two silently

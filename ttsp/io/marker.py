@@ -28,7 +28,7 @@ MARKER = ".ttsp-output"
 _MAX_NAMED = 3
 
 
-def file_sha256(path) -> str:
+def file_sha256(path: str | Path) -> str:
     """SHA-256 of a file's bytes (hex)."""
     digest = hashlib.sha256()
     with open(path, "rb") as fh:
@@ -37,7 +37,7 @@ def file_sha256(path) -> str:
     return digest.hexdigest()
 
 
-def read_marker(folder) -> dict | None:
+def read_marker(folder: str | Path) -> dict | None:
     """The marker of ``folder`` as a dict, or None when it has none or an unreadable one."""
     try:
         text = (Path(folder) / MARKER).read_text(encoding="utf-8")
@@ -50,7 +50,7 @@ def read_marker(folder) -> dict | None:
     return marker
 
 
-def write_marker(folder, kind: str, files: dict | None = None) -> None:
+def write_marker(folder: str | Path, kind: str, files: dict | None = None) -> None:
     """Write the marker of ``folder``.
 
     Parameters
@@ -81,7 +81,7 @@ def _names(names) -> str:
     return shown + (f" and {len(names) - _MAX_NAMED} more" if len(names) > _MAX_NAMED else "")
 
 
-def protected_place(folder) -> str | None:
+def protected_place(folder: str | Path) -> str | None:
     """Why ``folder`` may never be replaced (the current folder or one holding it, the home
     folder, the file-system root), or None."""
     folder = Path(folder).resolve()
@@ -99,7 +99,7 @@ def protected_place(folder) -> str | None:
     return None
 
 
-def why_not_replaceable(folder, kinds=("build",)) -> str | None:
+def why_not_replaceable(folder: str | Path, kinds=("build",)) -> str | None:
     """Why ttsp must not replace ``folder``, as the end of a sentence; None when it may.
 
     Parameters

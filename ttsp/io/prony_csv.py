@@ -14,6 +14,7 @@ from __future__ import annotations
 import csv
 import json
 import math
+from pathlib import Path
 from typing import Any
 
 import numpy as np
@@ -29,7 +30,7 @@ _METADATA_KEYS = ("modulus_kind", "reference_temperature_K", "valid_reduced_time
                   "fit_rms_percent", "fit_max_percent", "provenance")
 
 
-def write_prony_csv(series: PronySeries, path) -> None:
+def write_prony_csv(series: PronySeries, path: str | Path) -> None:
     """Write ``series`` to ``path`` in the layout of the module docstring.
 
     Parameters
@@ -50,11 +51,11 @@ def write_prony_csv(series: PronySeries, path) -> None:
         w.writerow(["tau_s", "modulus_Pa", "normalised_modulus"])
         w.writerow(["inf", repr(float(series.equilibrium_modulus_Pa)),
                     repr(float(series.equilibrium_modulus_Pa / e0))])
-        for t, m in zip(series.tau_s, series.modulus_Pa):
+        for t, m in zip(series.tau_s, series.modulus_Pa, strict=True):
             w.writerow([repr(float(t)), repr(float(m)), repr(float(m / e0))])
 
 
-def read_prony_csv(path) -> PronySeries:
+def read_prony_csv(path: str | Path) -> PronySeries:
     """Read a series written by :func:`write_prony_csv`.
 
     Parameters

@@ -13,6 +13,7 @@ from __future__ import annotations
 import contextlib
 import errno
 import os
+from collections.abc import Callable
 from pathlib import Path
 
 from .._lifetime import process_alive
@@ -24,7 +25,7 @@ _AT_FDCWD = -100
 _RENAME_NOREPLACE = 1
 _RENAME_EXCHANGE = 2
 _UNSUPPORTED = {errno.EINVAL, errno.ENOSYS, errno.EOPNOTSUPP, errno.ENOTSUP}
-_renameat2 = None
+_renameat2: Callable[..., int] | bool | None = None
 
 
 def _libc_renameat2():
@@ -60,7 +61,7 @@ def _call_renameat2(src, dst, flags) -> bool:
     raise OSError(err, os.strerror(err), str(src), None, str(dst))
 
 
-def rename_noreplace(src, dst) -> None:
+def rename_noreplace(src: str | Path, dst: str | Path) -> None:
     """Rename ``src`` to ``dst``, which must not exist (``FileExistsError`` if it does).
 
     With renameat2 the check and the rename are one step; without it a path that appears in
@@ -74,19 +75,20 @@ def rename_noreplace(src, dst) -> None:
     os.rename(src, dst)
 
 
-def exchange(a, b) -> bool:
+def exchange(a: str | Path, b: str | Path) -> bool:
     """Swap two paths in one step; False (nothing done) where the system cannot."""
     return _call_renameat2(a, b, _RENAME_EXCHANGE)
 
 
-def lock_path(destination) -> Path:
+def lock_path(destination: str | Path) -> Path:
     """The lock file of an output folder: ``.ttsp-lock-<name>`` beside it."""
     dest = Path(destination)
     return dest.parent / f".ttsp-lock-{dest.name}"
 
 
 @contextlib.contextmanager
-def folder_lock(destination, shown=None, lock_file=None):
+def folder_lock(destination: str | Path, shown: str | Path | None = None,
+                lock_file: str | Path | None = None):
     """Hold an exclusive lock on the output folder ``destination`` (not the folder itself: a lock
     file beside it, or ``lock_file``) for the duration of the block; a second ttsp run into the
     same folder fails at once with a :class:`DataError` naming the process that holds it.
@@ -101,7 +103,7 @@ def folder_lock(destination, shown=None, lock_file=None):
     try:
         import fcntl
     except ImportError:  # pragma: no cover - not POSIX
-        fcntl = None
+        fcntl = None  # type: ignore[assignment]  # the module is absent there
     if fcntl is None:  # pragma: no cover
         yield from _exclusive_file_lock(path, shown)
         return

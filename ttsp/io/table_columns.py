@@ -86,7 +86,8 @@ def table_to_frame(table: RawTable, *, columns: Mapping[str, str] | None,
     table = _skip_text_rows(table, meanings)
     units = dict(units or {})
     _refuse_unknown_unit_overrides(table, units)
-    frame, labels, units_read, kinds, assumed, marks = {}, {}, {}, set(), [], {}
+    frame, labels, units_read, kinds, assumed = {}, {}, {}, set(), []
+    marks: dict[str, bool] = {}
     for j, m in meanings.items():
         header = table.header[j]
         unit, unit_text, assumed_unit = _column_unit(table.path, header, m, units)
@@ -180,13 +181,13 @@ def column_meanings(table: RawTable, columns: Mapping[str, str] | None) -> dict:
             unit = meaning.unit if meaning else None
             kind = meaning.modulus_kind if meaning and meaning.role == columns[h] else None
             out[j] = HeaderMeaning(columns[h], unit, kind)
-        elif detected.get(j) is not None:
-            if detected[j].role in columns.values():
+        elif (found := detected.get(j)) is not None:
+            if found.role in columns.values():
                 continue  # an explicit mapping takes this role; the detected column gives way
-            out[j] = detected[j]
+            out[j] = found
     exact_roles = {m.role for m in out.values() if not m.fuzzy}
     out = {j: m for j, m in out.items() if not (m.fuzzy and m.role in exact_roles)}
-    seen = {}
+    seen: dict[str, int] = {}
     for j, m in list(out.items()):
         if m.role in seen:
             first = table.header[seen[m.role]]
@@ -218,7 +219,7 @@ def _skip_text_rows(table: RawTable, meanings: Mapping[int, HeaderMeaning]) -> R
     """The table without the rows whose cell in a column ttsp reads is a word with no digit
     (``overload``), each kept in ``table.skipped``; a column or a table that is mostly such text
     is refused (see :mod:`ttsp.io.skipped_rows`)."""
-    text_cells = {}          # row index -> (column index, cell) of its first text cell
+    text_cells: dict[int, tuple[int, str]] = {}   # row index -> (column index, cell) of its first text cell
     for j in sorted(meanings):
         col = [row[j] if j < len(row) else "" for row in table.rows]
         if not _CELL_WITHOUT_DIGIT.search("\n".join(col)):

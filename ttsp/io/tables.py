@@ -81,11 +81,11 @@ def _choose_delimiter(lines: Sequence[str]) -> tuple:
     """Pick the delimiter and the decimal mark that make the most lines split into the same
     number (>= 2) of numeric fields: ``(delimiter, decimal_comma, found)``, where ``found`` is
     False when no line reads as two or more numbers at all."""
-    best = (None, False, -1)
+    best: tuple[str | None, bool, int] = (None, False, -1)
     sample = [ln for ln in lines if ln.strip()][-200:]
     for delimiter, decimal_comma in (("\t", True), (";", True), (",", False), (None, True),
                                      ("\t", False), (";", False), (None, False)):
-        counts = {}
+        counts: dict[int, int] = {}
         for ln in sample:
             cells = _split(ln, delimiter)
             if len(cells) >= 2 and all(is_number(c, decimal_comma) for c in cells if c):
@@ -210,8 +210,10 @@ def _table_from_cells(path: str, cells: list, decimal_comma: bool, *, raw_lines=
     names_idx = _names_above_units(cells, header_idx, whitespace)
     if names_idx is not None:  # a two-line header: names, then units
         units_row = header + [""] * (len(cells[names_idx]) - len(header))
+        # strict=False: units beyond the last name (a longer units line) have no name to join
         header = [printable(f"{name.strip()} ({_bare_unit(u)})" if _bare_unit(u)
-                            else name.strip()) for name, u in zip(cells[names_idx], units_row)]
+                            else name.strip())
+                  for name, u in zip(cells[names_idx], units_row, strict=False)]
         header_idx = names_idx
         whitespace = False
     preamble = _preamble(cells[:header_idx], raw_lines)
@@ -239,7 +241,9 @@ def _data_rows(cells: list, data_start: int) -> tuple:
     """The rows below the header that hold cells, their 1-based line numbers, and the count of
     the lines left out (``{"comment lines": n, "blank lines": m}``; blank lines at the very end
     count too)."""
-    rows, numbers, dropped = [], [], {}
+    rows: list[tuple] = []
+    numbers: list[int] = []
+    dropped: dict[str, int] = {}
     trailing_blank = 0
     for i in range(data_start, len(cells)):
         c = cells[i]
@@ -335,7 +339,7 @@ def _fit_header(path, header, rows, numbers, header_line, raw_header):
                             f"separate the column names with tabs or two spaces")
         header = [printable(h) for h in regrouped]
     named = len(header)
-    for r, line in zip(rows, numbers):
+    for r, line in zip(rows, numbers, strict=True):
         if len(r) <= named:
             continue
         extra = [c for c in r[named:] if c.strip()]

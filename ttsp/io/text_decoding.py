@@ -40,14 +40,14 @@ def decode_text(data: bytes, path: str) -> str:
         sample = data[:4096]
         zeros_odd, zeros_even = sample[1::2].count(0), sample[0::2].count(0)
         half = len(sample) // 2
-        text = None
+        utf16 = None
         if half >= 4 and zeros_odd > 0.4 * half and zeros_even == 0:
-            text = _try_decode(data, "utf-16-le")
+            utf16 = _try_decode(data, "utf-16-le")
         elif half >= 4 and zeros_even > 0.4 * half and zeros_odd == 0:
-            text = _try_decode(data, "utf-16-be")
-        if text is None:
-            text = (_try_decode(data, "utf-8") or _utf8_cut_short(data)
-                    or _try_decode(data, "cp1252") or data.decode("latin-1"))
+            utf16 = _try_decode(data, "utf-16-be")
+        text = utf16 if utf16 is not None else (
+            _try_decode(data, "utf-8") or _utf8_cut_short(data)
+            or _try_decode(data, "cp1252") or data.decode("latin-1"))
     if "\x00" in text:
         raise DataError(f"{where(path)}not a text table: the file contains binary (NUL) bytes")
     head = text[:4096]
@@ -57,14 +57,14 @@ def decode_text(data: bytes, path: str) -> str:
     return text
 
 
-def _try_decode(data: bytes, encoding: str):
+def _try_decode(data: bytes, encoding: str) -> str | None:
     try:
         return data.decode(encoding)
     except UnicodeDecodeError:
         return None
 
 
-def _utf8_cut_short(data: bytes):
+def _utf8_cut_short(data: bytes) -> str | None:
     """UTF-8 text whose last character was cut in half (a truncated file): the text before it.
 
     Without this, one broken character at the very end would send the whole file to the

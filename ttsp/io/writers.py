@@ -10,6 +10,11 @@ significant digits, so identical runs give identical bytes.
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:
+    pass
+
 import json
 from pathlib import Path
 
@@ -80,7 +85,7 @@ def frame_to_csv_text(frame) -> str:
                     lambda v: neutralise_formula(v) if isinstance(v, str) else v))
         return frame.to_csv(index=False, float_format="%.10g", lineterminator="\n")
     lines = [",".join(_csv_quote(neutralise_formula(str(n))) for n in names)]
-    lines += map(",".join, zip(*cells))
+    lines += map(",".join, zip(*cells, strict=True))
     return "\n".join(lines) + "\n"
 
 
@@ -103,7 +108,8 @@ def _csv_quote(text: str) -> str:
     return text
 
 
-def write_build_numbers(result, folder, *, created_utc: str = "", units: str = "SI") -> dict:
+def write_build_numbers(result, folder: str | Path, *, created_utc: str = "",
+                        units: str = "SI") -> dict:
     """Write the number files of a :class:`~ttsp.workflow.BuildResult` into ``folder``.
 
     ``units`` is ``"SI"`` (Pa, 1/Pa) or ``"engineering"`` (MPa, 1/MPa) for the CSV tables;

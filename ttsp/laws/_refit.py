@@ -10,7 +10,7 @@ import numpy as np
 from ._solver import Outcome, into_bounds
 from ._start_grid import weighted_lstsq
 from ._weighting import Weighting
-from .base import Bounds, ShiftLaw
+from .base import Bounds, LinearShiftLaw, ShiftLaw
 
 
 def refit_from(cls: type[ShiftLaw], T: np.ndarray, y: np.ndarray, weigh: Weighting, tr: float,
@@ -29,7 +29,8 @@ def refit_from(cls: type[ShiftLaw], T: np.ndarray, y: np.ndarray, weigh: Weighti
     names = cls.fit_parameter_names(order)
     free = tuple(n for n in names if n not in fixed)
     lims = cls.fit_bounds(T, tr, fixed, bounds, order)
-    if cls.linear_in_constants and not any(np.any(np.isfinite(lims[n])) for n in free):
+    if issubclass(cls, LinearShiftLaw) and not any(   # linear_in_constants
+            np.any(np.isfinite(lims[n])) for n in free):
         # the constants alone: the same solve as the direct fit, without its covariance
         coefs = weighted_lstsq(cls.linear_columns(T, tr, order), y, weigh, fixed)
         return {n: float(coefs[n]) for n in names}
@@ -39,7 +40,7 @@ def refit_from(cls: type[ShiftLaw], T: np.ndarray, y: np.ndarray, weigh: Weighti
 
     def residual(x):
         p = dict(fixed)
-        p.update(zip(free, x))
+        p.update(zip(free, x, strict=True))
         with np.errstate(all="ignore"):
             r = weigh(cls._evaluate(p, T, tr) - y)
         return np.where(np.isfinite(r), r, 1e10)
@@ -53,7 +54,7 @@ def refit_from(cls: type[ShiftLaw], T: np.ndarray, y: np.ndarray, weigh: Weighti
         x = least_squares(residual, x0, bounds=(lo, hi), method="trf", x_scale="jac",
                           max_nfev=max_nfev).x
     out = dict(fixed)
-    out.update(zip(free, (float(v) for v in x)))
+    out.update(zip(free, (float(v) for v in x), strict=True))
     return out
 
 

@@ -13,7 +13,7 @@ from .._validation import bad_value
 from ..exceptions import FitError
 from ._start_grid import weighted_lstsq
 from ._weighting import Weighting
-from .base import Bounds, ShiftLaw
+from .base import Bounds, LinearShiftLaw, ShiftLaw
 from .results import DIRECT_METHOD, LMFIT_METHOD
 
 #: solver evaluations per free parameter (+1): for each of several starts, and for the last one
@@ -35,7 +35,7 @@ _SINGULAR_NOTE = "parameter uncertainties could not be estimated (singular covar
 class Outcome:
     """One law fitted to the table (internal)."""
 
-    cls: type
+    cls: type[ShiftLaw]
     params: dict
     stderr: dict
     correlation: dict
@@ -57,7 +57,7 @@ def fit_one(cls: type[ShiftLaw], T: np.ndarray, y: np.ndarray, weigh: Weighting,
     names = cls.fit_parameter_names(order)
     bounds = _checked_bounds(cls, T, tr, fixed, user_bounds, order)
     free = tuple(n for n in names if n not in fixed)
-    if (cls.linear_in_constants and free
+    if (issubclass(cls, LinearShiftLaw) and free   # linear_in_constants
             and all(not np.any(np.isfinite(bounds[n])) for n in free)):
         return linear_outcome(cls, T, y, weigh, tr, fixed, names, free, order)
     starts = cls.start_values(T, y, weigh, tr, fixed, bounds, order)
@@ -92,7 +92,7 @@ def correlations(cov: np.ndarray, free) -> dict:
     return corr
 
 
-def linear_outcome(cls: type, T, y, weigh, tr, fixed, names, free, order) -> Outcome:
+def linear_outcome(cls: type[LinearShiftLaw], T, y, weigh, tr, fixed, names, free, order) -> Outcome:
     """Weighted linear least squares, solved directly, for a law linear in its constants.
 
     The covariance is the one lmfit reports for the same problem: (AᵀA)⁻¹ of the weighted
@@ -115,7 +115,7 @@ def linear_outcome(cls: type, T, y, weigh, tr, fixed, names, free, order) -> Out
         notes.append(_SINGULAR_NOTE)
     if cov is not None:
         sd = np.sqrt(np.clip(np.diag(cov), 0.0, None))
-        stderr.update({n: float(v) for n, v in zip(free, sd)})
+        stderr.update({n: float(v) for n, v in zip(free, sd, strict=True)})
         corr = correlations(cov, free)
     return Outcome(cls, values, stderr, corr, cov, free, chi2, True,
                    "linear least squares, solved directly", 0, tuple(notes), DIRECT_METHOD)

@@ -27,7 +27,7 @@ class Weighting:
 
     def __init__(self, w: np.ndarray | None = None, covariance: np.ndarray | None = None):
         self.w = w
-        self.W = None
+        self.W: np.ndarray | None = None   # set from a covariance; else the weights w are used
         if covariance is not None:
             # on the correlation matrix, so that a very precise shift is not mistaken for a
             # direction of zero variance: C = D R D with D the standard deviations
@@ -44,21 +44,30 @@ class Weighting:
     @property
     def size(self) -> int:
         """Number of weighted residuals."""
-        return self.w.size if self.W is None else self.W.shape[0]
+        if self.W is not None:
+            return self.W.shape[0]
+        assert self.w is not None   # weights, or a covariance: one of the two is given
+        return self.w.size
 
     @property
     def total(self) -> float:
         """Σ of squared weights (the trace of WᵀW)."""
-        return float(np.sum((self.w if self.W is None else self.W) ** 2))
+        if self.W is not None:
+            return float(np.sum(self.W ** 2))
+        assert self.w is not None
+        return float(np.sum(self.w ** 2))
 
     def __call__(self, a: np.ndarray, axis: int = -1) -> np.ndarray:
         """Weighted ``a`` along the table axis ``axis``."""
-        if np.ndim(a) == 1:     # one residual vector: the solver's inner loop
-            return a * self.w if self.W is None else self.W @ a
         if self.W is None:
+            assert self.w is not None
+            if np.ndim(a) == 1:     # one residual vector: the solver's inner loop
+                return a * self.w
             shape = [1] * np.ndim(a)
             shape[axis] = -1
             return a * self.w.reshape(shape)
+        if np.ndim(a) == 1:
+            return self.W @ a
         return np.moveaxis(np.tensordot(self.W, np.moveaxis(a, axis, 0), axes=1), 0, axis)
 
 

@@ -10,6 +10,8 @@ from __future__ import annotations
 
 from typing import ClassVar
 
+import numpy as np
+
 from ._common import ARRHENIUS_K_PER_KJ_MOL
 from .base import LinearShiftLaw
 from .names import ARRHENIUS
@@ -45,5 +47,5 @@ class ArrheniusLaw(LinearShiftLaw):
         return dict(self.params)
 
     @classmethod
-    def linear_columns(cls, T, tr, order):
+    def linear_columns(cls, T: np.ndarray, tr: float, order: int):
         return {"activation_energy_kJ_per_mol": ARRHENIUS_K_PER_KJ_MOL * (1 / T - 1 / tr)}

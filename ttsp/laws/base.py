@@ -14,7 +14,7 @@ import abc
 import warnings
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass
-from typing import TYPE_CHECKING, Any, ClassVar
+from typing import TYPE_CHECKING, Any, ClassVar, TypeVar
 
 import numpy as np
 
@@ -40,6 +40,8 @@ __all__ = ["ShiftLaw", "LinearShiftLaw"]
 
 #: bounds of a parameter: (low, high), either end may be infinite
 Bounds = tuple[float, float]
+
+_LawT = TypeVar("_LawT", bound="ShiftLaw")
 
 
 @dataclass(frozen=True)
@@ -112,7 +114,7 @@ class ShiftLaw(abc.ABC):
     def _expected_names(cls, params: Mapping[str, Any] | None = None) -> tuple[str, ...]:
         return tuple(cls._units)
 
-    @classmethod
+    @classmethod  # noqa: B027 -- an optional hook: by default every set of constants is usable
     def _check_params(cls, p: Mapping[str, float], tr: float) -> None:
         """Raise DataError when the constants do not define a usable law."""
 
@@ -236,7 +238,7 @@ class ShiftLaw(abc.ABC):
         T = self._prepare(tg, stacklevel=2)
         return float(-tg * self._slope(self.params, T, self.reference_temperature_K))
 
-    def at_reference(self, reference_temperature_K: float) -> ShiftLaw:
+    def at_reference(self: _LawT, reference_temperature_K: float) -> _LawT:
         """The same law referred to another reference temperature T_ref'.
 
         log10 a_T' (T) = log10 a_T(T) - log10 a_T(T_ref'), so that a_T'(T_ref') = 1. The valid
@@ -362,7 +364,7 @@ class ShiftLaw(abc.ABC):
                                   n in cls.data_range_parameters)
                 for n in cls.fit_parameter_names(order)}
 
-    @classmethod
+    @classmethod  # noqa: B027 -- an optional hook: by default any held parameters are usable
     def check_fixed(cls, fixed: Mapping[str, float], T: np.ndarray, tr: float) -> None:
         """Raise DataError when held parameters make the law undefined inside the data."""
 
@@ -401,7 +403,8 @@ class LinearShiftLaw(ShiftLaw):
         """The column of each constant: log10 a_T = Σ constant × column."""
 
     @classmethod
-    def start_values(cls, T, y, weigh, tr, fixed, bounds, order):
+    def start_values(cls, T: np.ndarray, y: np.ndarray, weigh: Weighting, tr: float,
+                     fixed: Mapping[str, float], bounds: Mapping[str, Bounds], order: int):
         return [weighted_lstsq(cls.linear_columns(T, tr, order), y, weigh, fixed)]
 
 

@@ -24,6 +24,7 @@ from ._weighting import Weighting
 if TYPE_CHECKING:
     from ._solver import Outcome
     from ._table import ShiftTable
+    from .base import Bounds
 
 __all__ = ["MAX_HELD_OUT_ROWS", "HELD_OUT_GAIN_RATIO", "HELD_OUT_GAIN_MIN",
            "HELD_OUT_GAIN_RATIO_POLYNOMIAL"]
@@ -79,7 +80,8 @@ class _WeightingsWithout:
 
 def held_out_score(cls, T: np.ndarray, y: np.ndarray, scale: np.ndarray,
                    weighting_without: Callable[[np.ndarray], Weighting], tr: float,
-                   fixed, bounds, order: int, full: Outcome) -> float:
+                   fixed: Mapping[str, float], bounds: Mapping[str, Bounds], order: int,
+                   full: Outcome) -> float:
     """Mean squared leave-one-out error of a law over the interior rows of a shift table.
 
     Each row strictly inside the temperature range is left out in turn, the law refitted to

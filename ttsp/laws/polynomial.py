@@ -84,9 +84,9 @@ class PolynomialLaw(LinearShiftLaw):
 
     # ---- fitting -------------------------------------------------------------------------
     @classmethod
-    def fit_parameter_names(cls, order):
+    def fit_parameter_names(cls, order: int):
         return cls._expected_names({_poly_name(k): 0 for k in range(1, order + 1)})
 
     @classmethod
-    def linear_columns(cls, T, tr, order):
+    def linear_columns(cls, T: np.ndarray, tr: float, order: int):
         return {_poly_name(k): (T - tr) ** k for k in range(1, order + 1)}

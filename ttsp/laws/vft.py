@@ -9,6 +9,7 @@ Tammann, G. & Hesse, W. (1926). Z. Anorg. Allg. Chem. 156, 245.
 
 from __future__ import annotations
 
+from collections.abc import Callable, Mapping
 from typing import TYPE_CHECKING, ClassVar
 
 import numpy as np
@@ -20,6 +21,8 @@ from .conversions import vft_to_wlf
 from .names import VFT
 
 if TYPE_CHECKING:
+    from ._weighting import Weighting
+    from .base import Bounds
     from .wlf import WLFLaw
 
 __all__ = ["VFTLaw"]
@@ -75,19 +78,20 @@ class VFTLaw(ShiftLaw):
 
     # ---- fitting -------------------------------------------------------------------------
     @classmethod
-    def default_bounds(cls, T, tr, fixed, order):
+    def default_bounds(cls, T: np.ndarray, tr: float, fixed: Mapping[str, float], order: int):
         b = super().default_bounds(T, tr, fixed, order)
         b["T_inf_K"] = (-np.inf, min(float(T.min()), tr) - bound_margin_K(T, tr))
         return b
 
     @classmethod
-    def check_fixed(cls, fixed, T, tr):
+    def check_fixed(cls, fixed: Mapping[str, float], T: np.ndarray, tr: float):
         if "T_inf_K" in fixed and fixed["T_inf_K"] >= min(T.min(), tr):
             raise bad_value("fixed['T_inf_K']", f"below the lowest temperature and the reference "
                                                 f"({min(T.min(), tr):.6g} K)", fixed["T_inf_K"])
 
     @classmethod
-    def start_values(cls, T, y, weigh, tr, fixed, bounds, order):
+    def start_values(cls, T: np.ndarray, y: np.ndarray, weigh: Weighting, tr: float,
+                     fixed: Mapping[str, float], bounds: Mapping[str, Bounds], order: int):
         """The best trial of T_inf on a grid below the data, B solved for each."""
         if "T_inf_K" in fixed:
             ti_grid = np.array([fixed["T_inf_K"]])
@@ -101,7 +105,8 @@ class VFTLaw(ShiftLaw):
         return best_trial(coefs, sse, {"T_inf_K": ti_grid})
 
     @classmethod
-    def derived_figures(cls, p, tr, stderr_of):
+    def derived_figures(cls, p: Mapping[str, float], tr: float,
+                        stderr_of: Callable[[Mapping[str, float]], float]):
         """The equivalent WLF constants C1 = B / C2 and C2 = T_ref - T_inf."""
         c2 = tr - p["T_inf_K"]
         d = {"C1": p["B_K"] / c2, "C2_K": c2}

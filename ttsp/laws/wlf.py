@@ -8,6 +8,13 @@ Ferry, J. D. (1980). Viscoelastic Properties of Polymers, 3rd ed., Wiley, ch. 11
 
 from __future__ import annotations
 
+from collections.abc import Callable
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:
+    from ._weighting import Weighting
+    from .base import Bounds
+
 from collections.abc import Mapping
 from typing import ClassVar
 
@@ -111,20 +118,21 @@ class WLFLaw(ShiftLaw):
 
     # ---- fitting -------------------------------------------------------------------------
     @classmethod
-    def default_bounds(cls, T, tr, fixed, order):
+    def default_bounds(cls, T: np.ndarray, tr: float, fixed: Mapping[str, float], order: int):
         b = super().default_bounds(T, tr, fixed, order)
         b["C2_K"] = (max(0.0, tr - float(T.min())) + bound_margin_K(T, tr), np.inf)
         return b
 
     @classmethod
-    def check_fixed(cls, fixed, T, tr):
+    def check_fixed(cls, fixed: Mapping[str, float], T: np.ndarray, tr: float):
         if "C2_K" in fixed and tr - fixed["C2_K"] >= T.min():
             raise bad_value("fixed['C2_K']", f"greater than T_ref - (lowest temperature) = "
                                              f"{tr - T.min():.6g} K (else the WLF law diverges "
                                              "inside the data)", fixed["C2_K"])
 
     @classmethod
-    def start_values(cls, T, y, weigh, tr, fixed, bounds, order):
+    def start_values(cls, T: np.ndarray, y: np.ndarray, weigh: Weighting, tr: float,
+                     fixed: Mapping[str, float], bounds: Mapping[str, Bounds], order: int):
         """The best trial of C2 on a grid (and the classical linearisation), C1 solved for
         each."""
         c2_grid = _c2_trials(T, y, tr, fixed, bounds["C2_K"])
@@ -135,7 +143,8 @@ class WLFLaw(ShiftLaw):
         return best_trial(coefs, sse, {"C2_K": c2_grid})
 
     @classmethod
-    def derived_figures(cls, p, tr, stderr_of):
+    def derived_figures(cls, p: Mapping[str, float], tr: float,
+                        stderr_of: Callable[[Mapping[str, float]], float]):
         return wlf_derived_figures(p, tr, stderr_of)
 
 
@@ -159,7 +168,8 @@ def _c2_trials(T: np.ndarray, y: np.ndarray, tr: float, fixed: Mapping[str, floa
     return c2_grid
 
 
-def wlf_derived_figures(p, tr, stderr_of) -> tuple[dict, dict]:
+def wlf_derived_figures(p: Mapping[str, float], tr: float,
+                        stderr_of: Callable[[Mapping[str, float]], float]) -> tuple[dict, dict]:
     """WLF family: T_inf = T_ref - C2 and C1 C2 (the VFT constant B), both unchanged by a change
     of reference temperature, and C1/C2 = -d log10 a_T/dT at T_ref; with their standard
     errors."""

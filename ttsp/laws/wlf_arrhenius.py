@@ -10,6 +10,13 @@ Ferry, J. D. (1980). Viscoelastic Properties of Polymers, 3rd ed., Wiley, ch. 11
 
 from __future__ import annotations
 
+from collections.abc import Callable
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:
+    from ._weighting import Weighting
+    from .base import Bounds
+
 from collections.abc import Mapping
 from typing import ClassVar
 
@@ -100,7 +107,7 @@ class WLFArrheniusLaw(ShiftLaw):
 
     # ---- fitting -------------------------------------------------------------------------
     @classmethod
-    def default_bounds(cls, T, tr, fixed, order):
+    def default_bounds(cls, T: np.ndarray, tr: float, fixed: Mapping[str, float], order: int):
         """Tg within the data's range; C2 keeping the WLF branch finite above the lowest Tg."""
         tmin, tmax = float(T.min()), float(T.max())
         margin = bound_margin_K(T, tr)
@@ -114,7 +121,7 @@ class WLFArrheniusLaw(ShiftLaw):
         return b
 
     @classmethod
-    def check_fixed(cls, fixed, T, tr):
+    def check_fixed(cls, fixed: Mapping[str, float], T: np.ndarray, tr: float):
         if {"C2_K", "glass_transition_K"} <= set(fixed):
             tg = fixed["glass_transition_K"]
             if fixed["C2_K"] + tg - tr <= 0:
@@ -123,13 +130,14 @@ class WLFArrheniusLaw(ShiftLaw):
                                 fixed["C2_K"])
 
     @classmethod
-    def minimum_points(cls, fixed):
+    def minimum_points(cls, fixed: Mapping[str, float]):
         if "glass_transition_K" in fixed:
             return 0, ""
         return 4, " (and two on each side of Tg)"
 
     @classmethod
-    def start_values(cls, T, y, weigh, tr, fixed, bounds, order):
+    def start_values(cls, T: np.ndarray, y: np.ndarray, weigh: Weighting, tr: float,
+                     fixed: Mapping[str, float], bounds: Mapping[str, Bounds], order: int):
         """Every (Tg, C2) pair of the trial grids in one batch, C1 and E_a solved for each; the
         best start in each of the three best Tg intervals."""
         trials = _break_and_c2_trials(T, tr, fixed, bounds)
@@ -143,16 +151,17 @@ class WLFArrheniusLaw(ShiftLaw):
                     np.where(T < tg, 1 / T - 1 / tg, 0.0) - np.where(tr < tg, 1 / tr - 1 / tg, 0.0))}
         coefs, sse = grid_lstsq(cols, y, weigh, fixed)
         starts, seen = [], set()
-        for _, coefs in best_trials(coefs, sse, {"C2_K": c2[:, 0], "glass_transition_K": tg[:, 0]}):
-            if coefs["glass_transition_K"] not in seen:
-                seen.add(coefs["glass_transition_K"])
-                starts.append(coefs)
+        for _, start in best_trials(coefs, sse, {"C2_K": c2[:, 0], "glass_transition_K": tg[:, 0]}):
+            if start["glass_transition_K"] not in seen:
+                seen.add(start["glass_transition_K"])
+                starts.append(start)
             if len(starts) == _STARTS:
                 break
         return starts
 
     @classmethod
-    def derived_figures(cls, p, tr, stderr_of):
+    def derived_figures(cls, p: Mapping[str, float], tr: float,
+                        stderr_of: Callable[[Mapping[str, float]], float]):
         """Those of the WLF branch (see :func:`~ttsp.laws.wlf.wlf_derived_figures`)."""
         return wlf_derived_figures(p, tr, stderr_of)
 

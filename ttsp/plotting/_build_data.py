@@ -15,8 +15,8 @@ from ..units import kelvin_to_celsius
 def _shift_table(result):
     """Temperatures (K), log10 a_T, their stderr and log10 b_T of a build, in temperature order."""
     shifts = result.shifts
-    t = np.asarray(getattr(shifts, "temperature_K"), dtype=float)
-    a = np.asarray(getattr(shifts, "log10_aT"), dtype=float)
+    t = np.asarray(shifts.temperature_K, dtype=float)
+    a = np.asarray(shifts.log10_aT, dtype=float)
     se = getattr(shifts, "log10_aT_stderr", None)
     se = np.full(t.shape, np.nan) if se is None else np.array(
         [np.nan if v is None else v for v in np.ravel(se)], dtype=float)

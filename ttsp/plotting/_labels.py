@@ -36,7 +36,8 @@ def _compliance_unit(values_1_per_Pa) -> tuple[str, float]:
     if v.size:
         # the smallest modulus unit in whose inverse the typical compliance is at least 1
         mid = 10.0 ** float(-np.median(np.log10(v)))
-        for unit, factor in reversed(_MODULUS_UNITS):
+        # the loop variables are the answer: the pair at the break (or the last one tried)
+        for unit, factor in reversed(_MODULUS_UNITS):  # noqa: B007
             if factor >= mid * (1 - 1e-12):
                 break
     return f"{unit}⁻¹", 1.0 / factor

@@ -7,6 +7,13 @@ Layer 4 (figures). matplotlib is imported inside the functions only.
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:
+    from matplotlib.axes import Axes
+
+    from ..data import Campaign
+
 import numpy as np
 
 from .._validation import bad_value
@@ -34,7 +41,7 @@ def _local_log_slope(x, y, half_window: int = 2):
     return local_log_slope(x, y, min_points=half_window)
 
 
-def plot_superposition_check(campaign, ax=None):
+def plot_superposition_check(campaign: Campaign, ax: Axes | None = None):
     """Shift-free check of thermorheological simplicity, coloured by temperature.
 
     Frequency data: the van Gurp–Palmen plot, phase angle δ against |E*| (van Gurp & Palmen,
@@ -96,7 +103,7 @@ def plot_superposition_check(campaign, ax=None):
     return ax
 
 
-def plot_cross_validation(result, ax=None):
+def plot_cross_validation(result, ax: Axes | None = None):
     """The held-out isotherms: rms prediction error (%) of each, left out of the build, at
     the shift its law gives and at its best shift, against temperature.
 
@@ -112,9 +119,9 @@ def plot_cross_validation(result, ax=None):
     cv = result.cross_validation
     rows = [(h.temperature_C, h.rms_percent_at_law_aT.get("all", np.nan),
              h.rms_percent_at_best_aT.get("all", np.nan)) for h in cv.per_isotherm]
-    t, at_law, at_best = (np.array(v, dtype=float) for v in zip(*rows))
+    t, at_law, at_best = (np.array(v, dtype=float) for v in zip(*rows, strict=True))
     ok = np.isfinite(at_law) & np.isfinite(at_best)
-    for ti, a, b in zip(t[ok], at_law[ok], at_best[ok]):
+    for ti, a, b in zip(t[ok], at_law[ok], at_best[ok], strict=True):
         ax.plot([ti, ti], [b, a], color=_GREY, lw=0.9, zorder=1)
     ax.plot(t[ok], at_law[ok], "o", color=_VERMILLION, ms=5.5, zorder=3,
             label="at the law's a$_T$ (the prediction)")

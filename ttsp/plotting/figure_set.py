@@ -5,6 +5,12 @@ Layer 4 (figures). matplotlib is imported inside the drawing functions only.
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:
+    from ..build_result import BuildResult
+    from ..data import Campaign
+
 import numpy as np
 
 from .._validation import bad_value
@@ -31,13 +37,13 @@ OPTIONAL_FIGURES = ("relaxation_spectrum", "isochrone", "cross_validation")
 CAMPAIGN_FIGURES = ("isotherms", "superposition_check")
 
 
-def render_campaign_figures(campaign) -> dict:
+def render_campaign_figures(campaign: Campaign) -> dict:
     """The figures of :data:`CAMPAIGN_FIGURES`, which need no shift, law or series."""
     return {"isotherms": plot_isotherms(campaign).figure,
             "superposition_check": plot_superposition_check(campaign).figure}
 
 
-def figure_names(result) -> tuple:
+def figure_names(result: BuildResult) -> tuple:
     """The names of the figures of this build: :data:`FIGURE_NAMES`, plus
     ``relaxation_spectrum`` when the build fitted the continuous spectrum,
     ``isochrone`` for frequency data (E', E'', tan δ against T with the Tg readings) and
@@ -54,7 +60,7 @@ def figure_names(result) -> tuple:
     return FIGURE_NAMES + tuple(extra)
 
 
-def render_figures(result, names=None) -> dict:
+def render_figures(result: BuildResult, names=None) -> dict:
     """Every figure of a build (or those in ``names``) as ``{name: matplotlib Figure}``.
 
     Names are those of :func:`figure_names`. ``frequency_functions`` is made for every build: a

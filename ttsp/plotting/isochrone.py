@@ -7,6 +7,12 @@ Layer 4 (a figure). The values come from the build's model (:class:`ttsp.model.V
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:
+    from matplotlib.axes import Axes
+
+
 import warnings
 
 import numpy as np
@@ -19,7 +25,7 @@ from ._look import _BLUE, _GREEN, _INK, _VERMILLION, _new_axes, _style, _style_t
 __all__ = ["plot_isochrone"]
 
 
-def plot_isochrone(result, ax=None):
+def plot_isochrone(result, ax: Axes | None = None):
     """E' and E'' (left axis, log) and tan δ (right axis, linear) against temperature (°C) at the
     frequency of ``result.glass_transition``, over the shift law's fitted range; vertical lines
     mark the E' onset, the E'' peak and the tan δ peak.

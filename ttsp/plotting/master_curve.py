@@ -6,6 +6,14 @@ Layer 4 (figures). matplotlib is imported inside the functions only.
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:
+    from matplotlib.axes import Axes
+
+    from ..build_result import BuildResult
+    from ..data import Campaign
+
 import math
 
 import numpy as np
@@ -66,7 +74,7 @@ def _resolve_quantities(campaign, quantity):
 _MARKERS = ("o", "^", "s", "D")
 
 
-def plot_isotherms(campaign, ax=None, quantity="auto"):
+def plot_isotherms(campaign: Campaign, ax: Axes | None = None, quantity="auto"):
     """Plot the measured isotherms as read, coloured by temperature, with a colour bar in °C.
 
     Parameters
@@ -124,7 +132,7 @@ def plot_isotherms(campaign, ax=None, quantity="auto"):
     return ax
 
 
-def plot_master_curve(result, ax=None):
+def plot_master_curve(result: BuildResult, ax: Axes | None = None):
     """The master curve at the reference temperature: every point at its reduced frequency
     (f·a_T) or reduced time (t/a_T), coloured by its temperature, with the fitted Prony model.
 
@@ -167,8 +175,8 @@ def plot_master_curve(result, ax=None):
                         color=_GREY, mew=1.0, zorder=3)
         n_outliers += int(outlier.sum())   # points, as the outliers check counts them
     # the fitted model at the reference temperature, half a decade beyond the data at most
-    xs_all = np.concatenate(xs_all)
-    lo, hi = float(xs_all.min()) / 10 ** 0.5, float(xs_all.max()) * 10 ** 0.5
+    x_drawn = np.concatenate(xs_all)
+    lo, hi = float(x_drawn.min()) / 10 ** 0.5, float(x_drawn.max()) * 10 ** 0.5
     frame = _functions(result)
     ext = frame["extrapolated"].to_numpy(dtype=bool)
     xm = 2.0 * math.pi * frame["frequency_Hz"].to_numpy() if freq else frame["time_s"].to_numpy()
@@ -176,17 +184,17 @@ def plot_master_curve(result, ax=None):
     window = (xm[order] >= lo) & (xm[order] <= hi)
     model_columns = {"storage_modulus_Pa", "loss_modulus_Pa", "tan_delta",
                      "relaxation_modulus_Pa", "creep_compliance_1_per_Pa"}
-    drawn = False
+    model_drawn = False
     for q in quantities:
         if q in model_columns and q in frame.columns:
             idx = order[window]
             _model_line(ax, xm[idx] / xfactor, frame[q].to_numpy()[idx] / yfactor, ext[idx],
                         colour=_INK, lw=1.2)
-            drawn = True
+            model_drawn = True
     handles = [Line2D([], [], ls="none", marker=_MARKERS[k % len(_MARKERS)], ms=4, mec=_INK,
                       mfc=_INK if k == 0 else "white", label=_pretty(campaign.symbol(q)))
                for k, q in enumerate(quantities)]
-    if drawn:
+    if model_drawn:
         handles.append(Line2D([], [], color=_INK, lw=1.2, label="Prony series"))
         if ext[order][window].any():
             handles.append(_extrapolation_handle())

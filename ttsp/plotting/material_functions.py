@@ -7,6 +7,13 @@ Layer 4 (figures). matplotlib is imported inside the functions only.
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:
+    from matplotlib.axes import Axes
+
+    from ..build_result import BuildResult
+
 import math
 
 import numpy as np
@@ -46,7 +53,7 @@ def _twin_legend(ax, twin, extra=()):
               handlelength=1.8, columnspacing=1.2)
 
 
-def plot_time_functions(result, ax=None):
+def plot_time_functions(result: BuildResult, ax: Axes | None = None):
     """Relaxation modulus E(t) (left axis) and creep compliance D(t) (right axis) of the model
     at the reference temperature over reduced time; extrapolated parts dashed and shaded.
 
@@ -116,7 +123,7 @@ def _style_twin_left(ax, colour):
     ax.spines["left"].set_color(colour)
 
 
-def plot_frequency_functions(result, ax=None):
+def plot_frequency_functions(result: BuildResult, ax: Axes | None = None):
     """Storage and loss modulus (left axis, log) and tan δ (right axis, linear) of the model at
     the reference temperature over reduced frequency; extrapolated parts dashed and shaded.
 

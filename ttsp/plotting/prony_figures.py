@@ -6,6 +6,14 @@ Layer 4 (figures). matplotlib is imported inside the functions only.
 
 from __future__ import annotations
 
+from collections.abc import Sequence
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:
+    from matplotlib.axes import Axes
+
+    from ..prony import PronySeries
+
 import math
 from dataclasses import dataclass
 
@@ -167,7 +175,7 @@ def _draw_discrete_spectrum(ax_spec, series, valid_range_s, letter: str):
     ax_spec.set_title("discrete relaxation spectrum", loc="left", fontsize=9, color=_INK, pad=4)
 
 
-def plot_prony_fit(result, axes=None):
+def plot_prony_fit(result, axes: Sequence[Axes] | None = None):
     """The Prony fit: master-curve data with the fitted series, the residuals in per cent, and
     the discrete spectrum (stems E_i at τ_i) with the long-term modulus.
 
@@ -274,7 +282,8 @@ def _draw_regularisation_choice(ax_sel, spectrum):
     ax_sel.set_title(f"choice of λ: {how}", loc="left", fontsize=9, color=_INK, pad=4)
 
 
-def plot_relaxation_spectrum(spectrum, axes=None, *, series=None):
+def plot_relaxation_spectrum(spectrum, axes: Sequence[Axes] | None = None, *,
+                             series: PronySeries | None = None):
     """The continuous relaxation spectrum H(τ) and how its regularisation was chosen.
 
     Left: H(τ) on log–log axes, solid where the data determine it (τ within [1/ω_max, 1/ω_min])

@@ -80,13 +80,13 @@ def _merge_minor_ticks(fig) -> None:
         axis.set_minor_locator(NullLocator())
 
 
-def figure_files(folder, name: str) -> dict:
+def figure_files(folder: str | Path, name: str) -> dict:
     """``{"png": Path, "svg": Path}``: where :func:`save_figures` writes the figure ``name``."""
     folder = Path(folder)
     return {"png": folder / f"{name}.png", "svg": folder / f"{name}.svg"}
 
 
-def save_figures(figures, folder) -> dict:
+def save_figures(figures, folder: str | Path) -> dict:
     """Write each figure as ``<name>.png`` (150 dpi) and ``<name>.svg`` into ``folder``.
 
     Output is byte-for-byte reproducible: no date or software version is written into the

@@ -6,6 +6,13 @@ Layer 4 (figures). matplotlib is imported inside the functions only.
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:
+    from matplotlib.axes import Axes
+
+    from ..build_result import BuildResult
+
 import warnings
 from dataclasses import dataclass
 
@@ -70,7 +77,7 @@ def _shift_flags(result, temperature_K):
     temps = getattr(shifts, "temperature_K", None)
     if flags is None or temps is None or len(flags) != len(temps):
         return [()] * len(temperature_K)
-    by_t = {round(float(t), 6): tuple(f) for t, f in zip(temps, flags)}
+    by_t = {round(float(t), 6): tuple(f) for t, f in zip(temps, flags, strict=True)}
     return [by_t.get(round(float(t), 6), ()) for t in temperature_K]
 
 
@@ -206,7 +213,8 @@ def _draw_residuals(residual_ax, data: _ShiftFigureData, groups):
     residual_ax.set_ylim(-lim, lim)
 
 
-def plot_shift_factors(result, ax=None, residual_ax=None):
+def plot_shift_factors(result: BuildResult, ax: Axes | None = None,
+                       residual_ax: Axes | None = None):
     """log10 a_T against temperature: the shifts found (± one standard error) and the fitted
     law with its ± one-standard-error band propagated from the parameter covariance; below it,
     the residuals of the shifts about the law.

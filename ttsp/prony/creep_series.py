@@ -23,6 +23,7 @@ from dataclasses import KW_ONLY, dataclass, field
 from typing import TYPE_CHECKING, Any
 
 import numpy as np
+from numpy.typing import ArrayLike
 
 from .._arrays import as_1d_finite as _as_1d_finite
 from .._arrays import fmt_html as _fmt
@@ -186,7 +187,7 @@ class CreepSeries:
         return dataclasses.replace(self, **changes)
 
     # ------------------------------------------------------------------ material functions
-    def creep_compliance(self, t_s):
+    def creep_compliance(self, t_s: ArrayLike):
         """Creep compliance D(t) = D_g + Σ D_j (1 − e^{−t/λ_j}) + φ t (1/Pa).
 
         Parameters
@@ -205,7 +206,7 @@ class CreepSeries:
                + self.fluidity_1_per_Pa_s * t)
         return _shape_like(out, t_s)
 
-    def complex_compliance(self, omega_rad_s):
+    def complex_compliance(self, omega_rad_s: ArrayLike):
         """Complex compliance D*(ω) = D'(ω) − i D''(ω) (1/Pa, complex).
 
         D*(ω) = D_g + Σ D_j/(1 + iωλ_j) + φ/(iω), the Carson transform sD̄(s) at s = iω, so that
@@ -226,11 +227,11 @@ class CreepSeries:
                 im = im + self.fluidity_1_per_Pa_s / w
         return _shape_like(re - 1j * im, omega_rad_s)
 
-    def storage_compliance(self, omega_rad_s):
+    def storage_compliance(self, omega_rad_s: ArrayLike):
         """Storage compliance D'(ω) = D_g + Σ D_j/(1 + ω²λ_j²) (1/Pa); ω in rad/s, ≥ 0."""
         return _shape_like(np.real(self.complex_compliance(omega_rad_s)), omega_rad_s)
 
-    def loss_compliance(self, omega_rad_s):
+    def loss_compliance(self, omega_rad_s: ArrayLike):
         """Loss compliance D''(ω) = Σ D_j ωλ_j/(1 + ω²λ_j²) + φ/ω (1/Pa); ω in rad/s, ≥ 0."""
         return _shape_like(-np.imag(self.complex_compliance(omega_rad_s)), omega_rad_s)
 
@@ -266,7 +267,8 @@ class CreepSeries:
             "fluidity_1_per_Pa_s": float(self.fluidity_1_per_Pa_s),
             "steady_state_compliance_1_per_Pa": self.steady_state_compliance_1_per_Pa,
             "terms": [{"retardation_time_s": float(t), "compliance_1_per_Pa": float(d)}
-                      for t, d in zip(self.retardation_times_s, self.compliance_1_per_Pa)],
+                      for t, d in zip(self.retardation_times_s, self.compliance_1_per_Pa,
+                                      strict=True)],
             "modulus_kind": self.modulus_kind,
             "reference_temperature_K": self.reference_temperature_K,
             "valid_reduced_time_range_s": None if rng is None else [rng[0], rng[1]],
@@ -317,7 +319,8 @@ class CreepSeries:
                      " &deg;C")
         rows = "".join(f"<tr><td>{i}</td><td>{_fmt(t)}</td><td>{_fmt(d)}</td></tr>"
                        for i, (t, d) in enumerate(zip(self.retardation_times_s,
-                                                      self.compliance_1_per_Pa), start=1))
+                                                      self.compliance_1_per_Pa, strict=True),
+                                                  start=1))
         return (f"<div>{head}<table><thead><tr><th>j</th><th>&lambda;<sub>j</sub> (s)</th>"
                 f"<th>{sym}<sub>j</sub> (1/Pa)</th></tr></thead><tbody>{rows}</tbody>"
                 "</table></div>")

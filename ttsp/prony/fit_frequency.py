@@ -14,6 +14,7 @@ from dataclasses import dataclass
 from functools import partial
 
 import numpy as np
+from numpy.typing import ArrayLike
 
 from .._validation import bad_value, check_positive
 from .fit_result import PronyFit, assemble_fit
@@ -32,12 +33,13 @@ from .series import PronySeries
 __all__ = ["fit_prony_frequency"]
 
 
-def fit_prony_frequency(omega_rad_s, storage_modulus_Pa, loss_modulus_Pa, *,
-                        terms_per_decade: float = 2.0, margin_decades: float = 1.0,
-                        relative: bool = True, loss_weight: float = 1.0,
-                        equilibrium_modulus_Pa: float | None = None, tau_s=None,
-                        prune_tolerance_percent: float | None = None,
-                        plateau_slope: float = 0.05, modulus_kind: str = "tensile",
+def fit_prony_frequency(omega_rad_s: ArrayLike, storage_modulus_Pa: ArrayLike,
+                        loss_modulus_Pa: ArrayLike, *, terms_per_decade: float = 2.0,
+                        margin_decades: float = 1.0, relative: bool = True,
+                        loss_weight: float = 1.0, equilibrium_modulus_Pa: float | None = None,
+                        tau_s: ArrayLike | None = None,
+                        prune_tolerance_percent: float | None = None, plateau_slope: float = 0.05,
+                        modulus_kind: str = "tensile",
                         reference_temperature_K: float | None = None) -> PronyFit:
     """Fit a non-negative Prony series to a frequency master curve E'(ω), E''(ω).
 
@@ -177,7 +179,7 @@ def _stacked_problem(data: _FrequencyData, tau: np.ndarray,
     den = 1.0 + wt * wt
     blocks_a, blocks_off, blocks_w, blocks = [], [], [], []
     start = 0
-    for q, y in zip(data.quantities, data.values):
+    for q, y in zip(data.quantities, data.values, strict=True):
         if q == "storage_modulus":
             a = wt * wt / den
             ones = np.ones((w.size, 1))
@@ -218,7 +220,8 @@ def _series(x: np.ndarray, tau: np.ndarray, n_fixed: int, data: _FrequencyData,
     """The fitted series (non-zero terms), valid over [1/ω_max, 1/ω_min] (s)."""
     w = data.omega_rad_s
     coef, times = nonzero_terms(x, tau, n_fixed)
-    e_inf = float(x[0]) if n_fixed else float(data.fixed_equilibrium_Pa)
+    fixed = data.fixed_equilibrium_Pa   # None: E_inf is free, the first coefficient (n_fixed 1)
+    e_inf = float(x[0]) if fixed is None else float(fixed)
     method = "non-negative least squares on " + " and ".join(data.quantities)
     return PronySeries(e_inf, times, coef,
                        **options.series_metadata((1.0 / float(w.max()), 1.0 / float(w.min())),

@@ -11,6 +11,7 @@ from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
+from numpy.typing import ArrayLike
 
 from .._validation import check_choice, check_positive
 from ..exceptions import FitError
@@ -54,9 +55,10 @@ class FitOptions:
     reference_temperature_K: Any
 
     @classmethod
-    def checked(cls, terms_per_decade, margin_decades, relative, tau_s,
-                prune_tolerance_percent, plateau_slope, modulus_kind,
-                reference_temperature_K) -> FitOptions:
+    def checked(cls, terms_per_decade: float, margin_decades: float, relative: bool,
+                tau_s: ArrayLike | None, prune_tolerance_percent: float | None,
+                plateau_slope: float, modulus_kind: str,
+                reference_temperature_K: float | None) -> FitOptions:
         """Validate the options (message template of ``_validation``) and keep them as given.
 
         Raises

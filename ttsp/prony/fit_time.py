@@ -16,6 +16,7 @@ from dataclasses import dataclass
 from functools import partial
 
 import numpy as np
+from numpy.typing import ArrayLike
 
 from .._validation import bad_value, check_choice, check_positive
 from ..exceptions import FitError
@@ -40,11 +41,11 @@ __all__ = ["fit_prony_time"]
 _TIME_QUANTITIES = ("relaxation_modulus", "creep_compliance")
 
 
-def fit_prony_time(time_s, values, *, quantity: str = "relaxation_modulus",
+def fit_prony_time(time_s: ArrayLike, values, *, quantity: str = "relaxation_modulus",
                    terms_per_decade: float = 2.0, margin_decades: float = 1.0,
                    short_time_margin_decades: float = 0.25, relative: bool = True,
                    equilibrium_modulus_Pa: float | None = None, fluid: bool = False,
-                   tau_s=None, prune_tolerance_percent: float | None = None,
+                   tau_s: ArrayLike | None = None, prune_tolerance_percent: float | None = None,
                    plateau_slope: float = 0.05, modulus_kind: str = "tensile",
                    reference_temperature_K: float | None = None) -> PronyFit:
     """Fit a non-negative Prony series to a time master curve E(t) or D(t).

@@ -16,6 +16,7 @@ import math
 from typing import Any
 
 import numpy as np
+from numpy.typing import ArrayLike
 
 from .._arrays import as_1d_finite
 from .._validation import bad_value, check_positive
@@ -68,7 +69,8 @@ def log_grid(a: float, b: float, density: float) -> np.ndarray:
     return np.logspace(a, b, n)
 
 
-def relaxation_time_grid(tau_s, lo, hi, terms_per_decade, margin_decades) -> np.ndarray:
+def relaxation_time_grid(tau_s: ArrayLike | None, lo: float, hi: float, terms_per_decade: float,
+                         margin_decades: float) -> np.ndarray:
     """The user's relaxation times ``tau_s`` (s; sorted, duplicates dropped), or when None the
     log-spaced grid of :func:`log_spaced_relaxation_times` over ``[lo, hi]`` (s)."""
     if tau_s is None:
@@ -138,7 +140,8 @@ class LinearProblem:
     columns first, then one column per candidate term); ``offset`` a fixed part of the model.
     """
 
-    def __init__(self, design, measured, weights, offset, n_fixed):
+    def __init__(self, design: np.ndarray, measured: np.ndarray, weights: np.ndarray,
+                 offset: np.ndarray | float, n_fixed: int):
         self.design = design
         self.measured = measured
         self.weights = weights

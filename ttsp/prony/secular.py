@@ -111,11 +111,17 @@ def _brackets(f: _SecularFunction, first_lower_x: float | None,
     if first_lower_x is not None:
         half = 0.5 * p[0]
         if f.direct(np.array([half]))[0] >= 0:   # root in (0, p_1/2]: x = p_1·e^y
-            anchor.append(0.0), scale.append(p[0]), orient.append(1.0)
-            ylo.append(math.log(first_lower_x / p[0])), yhi.append(math.log(0.5))
+            anchor.append(0.0)
+            scale.append(p[0])
+            orient.append(1.0)
+            ylo.append(math.log(first_lower_x / p[0]))
+            yhi.append(math.log(0.5))
         else:                                    # root in (p_1/2, p_1): x = p_1(1 − e^y)
-            anchor.append(p[0]), scale.append(-p[0]), orient.append(-1.0)
-            ylo.append(math.log(_R_MIN)), yhi.append(math.log(0.5))
+            anchor.append(p[0])
+            scale.append(-p[0])
+            orient.append(-1.0)
+            ylo.append(math.log(_R_MIN))
+            yhi.append(math.log(0.5))
     if n > 1:
         lo_p, hi_p = p[:-1], p[1:]
         # split point: the geometric mean, but never below p_k+1/2, so that a root written
@@ -124,15 +130,22 @@ def _brackets(f: _SecularFunction, first_lower_x: float | None,
         lower = f.direct(mid) >= 0
         for k in range(n - 1):
             if lower[k]:                         # root in (p_k, m_k]: x = p_k(1 + e^y)
-                anchor.append(lo_p[k]), scale.append(lo_p[k]), orient.append(1.0)
+                anchor.append(lo_p[k])
+                scale.append(lo_p[k])
+                orient.append(1.0)
                 yhi.append(math.log((mid[k] - lo_p[k]) / lo_p[k]))
             else:                                # root in (m_k, p_k+1): x = p_k+1(1 − e^y)
-                anchor.append(hi_p[k]), scale.append(-hi_p[k]), orient.append(-1.0)
+                anchor.append(hi_p[k])
+                scale.append(-hi_p[k])
+                orient.append(-1.0)
                 yhi.append(math.log((hi_p[k] - mid[k]) / hi_p[k]))
             ylo.append(math.log(_R_MIN))
     if last_upper_x is not None:                 # root in (p_N, ∞): x = p_N(1 + e^y)
-        anchor.append(p[-1]), scale.append(p[-1]), orient.append(1.0)
-        ylo.append(math.log(_R_MIN)), yhi.append(math.log((last_upper_x - p[-1]) / p[-1]))
+        anchor.append(p[-1])
+        scale.append(p[-1])
+        orient.append(1.0)
+        ylo.append(math.log(_R_MIN))
+        yhi.append(math.log((last_upper_x - p[-1]) / p[-1]))
     return (np.array(anchor), np.array(scale), np.array(orient), np.array(ylo),
             np.array(yhi))
 

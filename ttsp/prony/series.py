@@ -29,8 +29,10 @@ import math
 import warnings
 from collections.abc import Mapping
 from dataclasses import KW_ONLY, dataclass, field
+from pathlib import Path
 
 import numpy as np
+from numpy.typing import ArrayLike
 
 from .._arrays import as_1d_finite as _as_1d_finite
 from .._arrays import fmt_html as _fmt
@@ -83,7 +85,7 @@ class NormalisedPronySeries:
         """E_∞ (Pa)."""
         return self.g_infinity * self.instantaneous_modulus_Pa
 
-    def relaxation_function(self, t_s):
+    def relaxation_function(self, t_s: ArrayLike):
         """g(t) = g_∞ + Σ g_i exp(−t/τ_i) (dimensionless) at times ``t_s`` (s)."""
         t = _evaluation_argument("t_s", t_s)
         out = self.g_infinity + np.exp(-t[..., None] / self.tau_s) @ self.g
@@ -96,7 +98,8 @@ class NormalisedPronySeries:
             "long_term_modulus_Pa": float(self.long_term_modulus_Pa),
             "g_infinity": float(self.g_infinity),
             "sum_g": float(np.sum(self.g)),
-            "terms": [{"tau_s": float(t), "g": float(g)} for t, g in zip(self.tau_s, self.g)],
+            "terms": [{"tau_s": float(t), "g": float(g)}
+                      for t, g in zip(self.tau_s, self.g, strict=True)],
         }
 
     def to_frame(self):
@@ -244,7 +247,7 @@ class PronySeries:
         return dataclasses.replace(self, **changes)
 
     # ---------------------------------------------------------------- material functions
-    def relaxation_modulus(self, t_s):
+    def relaxation_modulus(self, t_s: ArrayLike):
         """Relaxation modulus E(t) = E_∞ + Σ E_i exp(−t/τ_i) (Pa).
 
         Parameters
@@ -265,7 +268,7 @@ class PronySeries:
         w = _evaluation_argument("omega_rad_s", omega_rad_s)
         return w, w[..., None] * self.tau_s
 
-    def storage_modulus(self, omega_rad_s):
+    def storage_modulus(self, omega_rad_s: ArrayLike):
         """Storage modulus E'(ω) = E_∞ + Σ E_i ω²τ_i²/(1 + ω²τ_i²) (Pa).
 
         Parameters
@@ -277,13 +280,13 @@ class PronySeries:
         out = self.equilibrium_modulus_Pa + (wt * wt / (1.0 + wt * wt)) @ self.modulus_Pa
         return _scalar_or_array(np.asarray(out), omega_rad_s)
 
-    def loss_modulus(self, omega_rad_s):
+    def loss_modulus(self, omega_rad_s: ArrayLike):
         """Loss modulus E''(ω) = Σ E_i ωτ_i/(1 + ω²τ_i²) (Pa); ω in rad/s, >= 0."""
         w, wt = self._wt(omega_rad_s)
         out = (wt / (1.0 + wt * wt)) @ self.modulus_Pa
         return _scalar_or_array(np.asarray(out), omega_rad_s)
 
-    def complex_modulus(self, omega_rad_s):
+    def complex_modulus(self, omega_rad_s: ArrayLike):
         """Complex modulus E*(ω) = E_∞ + Σ E_i iωτ_i/(1 + iωτ_i) = E' + iE'' (Pa, complex)."""
         w, wt = self._wt(omega_rad_s)
         den = 1.0 + wt * wt
@@ -294,12 +297,12 @@ class PronySeries:
             return complex(out.reshape(()))
         return out
 
-    def abs_complex_modulus(self, omega_rad_s):
+    def abs_complex_modulus(self, omega_rad_s: ArrayLike):
         """Dynamic modulus |E*(ω)| = sqrt(E'² + E''²) (Pa); ω in rad/s."""
         return _scalar_or_array(np.abs(np.asarray(self.complex_modulus(omega_rad_s))),
                                 omega_rad_s)
 
-    def tan_delta(self, omega_rad_s):
+    def tan_delta(self, omega_rad_s: ArrayLike):
         """Loss factor tan δ = E''/E' (dimensionless); ω in rad/s, > 0 if E_∞ = 0."""
         z = np.asarray(self.complex_modulus(omega_rad_s))
         with np.errstate(invalid="ignore", divide="ignore"):
@@ -339,7 +342,7 @@ class PronySeries:
         """
         return creep_series_of(self)
 
-    def creep_compliance(self, t_s):
+    def creep_compliance(self, t_s: ArrayLike):
         """Creep compliance D(t) (1/Pa) at reduced times ``t_s`` (s), via :meth:`creep_series`."""
         return self.creep_series().creep_compliance(t_s)
 
@@ -398,7 +401,7 @@ class PronySeries:
             "equilibrium_modulus_Pa": float(self.equilibrium_modulus_Pa),
             "instantaneous_modulus_Pa": self.instantaneous_modulus_Pa,
             "terms": [{"tau_s": float(t), "modulus_Pa": float(m)}
-                      for t, m in zip(self.tau_s, self.modulus_Pa)],
+                      for t, m in zip(self.tau_s, self.modulus_Pa, strict=True)],
             "modulus_kind": self.modulus_kind,
             "reference_temperature_K": self.reference_temperature_K,
             "reference_temperature_C": self.reference_temperature_C,
@@ -446,7 +449,7 @@ class PronySeries:
         mod = np.concatenate([[self.equilibrium_modulus_Pa], self.modulus_Pa])
         return pd.DataFrame({"tau_s": tau, "modulus_Pa": mod, "normalised_modulus": mod / e0})
 
-    def to_csv(self, path) -> None:
+    def to_csv(self, path: str | Path) -> None:
         """Write the series as CSV, exact on re-reading: :func:`ttsp.io.prony_csv.write_prony_csv`.
 
         A thin delegation kept because the tests call it; the file layout and the writing
@@ -458,7 +461,7 @@ class PronySeries:
         write_prony_csv(self, path)
 
     @classmethod
-    def from_csv(cls, path) -> PronySeries:
+    def from_csv(cls, path: str | Path) -> PronySeries:
         """Read a series written by :meth:`to_csv`: :func:`ttsp.io.prony_csv.read_prony_csv`.
 
         Raises
@@ -484,7 +487,8 @@ class PronySeries:
             head += f"; fit rms {self.fit_rms_percent:.3g} %"
         rows = "".join(f"<tr><td>{i}</td><td>{_fmt(t)}</td><td>{_fmt(m)}</td>"
                        f"<td>{_fmt(m / self.instantaneous_modulus_Pa)}</td></tr>"
-                       for i, (t, m) in enumerate(zip(self.tau_s, self.modulus_Pa), start=1))
+                       for i, (t, m) in enumerate(zip(self.tau_s, self.modulus_Pa, strict=True),
+                                                  start=1))
         return (f"<div>{head}<table><thead><tr><th>i</th><th>&tau;<sub>i</sub> (s)</th>"
                 f"<th>{sym}<sub>i</sub> (Pa)</th><th>g<sub>i</sub></th></tr></thead>"
                 f"<tbody>{rows}</tbody></table></div>")

@@ -104,18 +104,19 @@ def fit_offset_law(temperature_K, log10_aT, *, all_temperatures_K, model="auto")
     if model in ("auto", "wlf") and n >= 5:
         t_low = float(np.min(all_temperatures_K))
         c2_min = tm - t_low + 1.0
-        best = None
+        best_start: tuple[float, np.ndarray] | None = None   # (rss, [C1, ..., C2])
         for c2 in np.geomspace(max(c2_min, 1.0) + 1e-3, max(10 * c2_min, 2000.0), 60):
             Xw = np.column_stack([np.ones(n), -(T - tm) / (c2 + T - tm)])
             pw, *_ = np.linalg.lstsq(Xw, s, rcond=None)
             r = float(np.sum((Xw @ pw - s) ** 2))
-            if best is None or r < best[0]:
-                best = (r, np.array([pw[0], pw[1], c2]))
+            if best_start is None or r < best_start[0]:
+                best_start = (r, np.array([pw[0], pw[1], c2]))
+        assert best_start is not None   # geomspace gives 60 trials
 
         def resid(q):
             return q[0] - q[1] * (T - tm) / (q[2] + T - tm) - s
 
-        res = least_squares(resid, best[1], bounds=([-np.inf, -np.inf, c2_min],
+        res = least_squares(resid, best_start[1], bounds=([-np.inf, -np.inf, c2_min],
                                                     [np.inf, np.inf, np.inf]))
         rss_w = float(np.sum(res.fun ** 2))
         dof = max(n - 3, 1)

@@ -315,7 +315,7 @@ class SpectrumModel:
         e0 = float(theta[0])
         F = np.empty(n)
         dF = np.empty(n)
-        J = np.empty((n, self.n_theta)) if jac else None
+        J: np.ndarray | None = np.empty((n, self.n_theta)) if jac else None
         kinds = self.kind_of_row
         if self.time:
             for kind, r in ((k, rr) for k in ("relax", "creep")
@@ -333,7 +333,7 @@ class SpectrumModel:
                 E = e0 + K @ g
                 F[r] = np.log(E)
                 dF[r] = (dK @ g) / E
-                if jac:
+                if J is not None:
                     J[r, 0] = 1.0 / E
                     J[r, 1:] = K * g * (1.0 / E)[:, None]
         else:
@@ -348,7 +348,7 @@ class SpectrumModel:
                     a1 = e0 + K1 @ g
                     F[r] = np.log(a1)
                     dF[r] = 2.0 * ((K1 * inv) @ g) / a1       # dE'/dln ω / E'
-                    if jac:
+                    if J is not None:
                         J[r, 0] = 1.0 / a1
                         J[r, 1:] = K1 * ((1.0 / a1)[:, None] * g)
                     continue
@@ -356,7 +356,7 @@ class SpectrumModel:
                     a2 = K2 @ g
                     F[r] = np.log(a2)
                     dF[r] = ((K2 * (inv - K1)) @ g) / a2      # dE''/dln ω / E''
-                    if jac:
+                    if J is not None:
                         J[r, 0] = 0.0
                         J[r, 1:] = K2 * ((1.0 / a2)[:, None] * g)
                     continue
@@ -375,11 +375,11 @@ class SpectrumModel:
                     F[r] = np.log(d)
                     c1, c2 = -a2 / (m2 * d), a1 / (m2 * d)
                 dF[r] = c1 * E1u + c2 * E2u
-                if jac:
+                if J is not None:
                     J[r, 0] = c1
                     J[r, 1:] = (c1[:, None] * K1 + c2[:, None] * K2) * g
         # natural log of the scaled value -> log10 of the value in SI
         F = F / _LN10 + self.offset
-        if jac:
+        if J is not None:
             J /= _LN10
         return F, dF, J

@@ -157,6 +157,8 @@ def _flag_isotherms(diag: Diagnosis, shifts: Shifts, gap_info: dict,
                     options: ShiftOptions) -> list:
     """The flags of every isotherm (into ``diag.flags``); the low-information ones get the
     data's own stderr. Returns the low-information isotherms."""
+    group_stderr, stderr = shifts.group_stderr, shifts.stderr
+    assert group_stderr is not None and stderr is not None   # set by the gauge step before
     flags = []
     low_info = []
     for k in range(options.n):
@@ -175,7 +177,7 @@ def _flag_isotherms(diag: Diagnosis, shifts: Shifts, gap_info: dict,
         # and the stderr given all other parameters (which catches the gauge anchor too),
         # before the allowance for correlated residuals: that widens every stderr of a group
         # alike and says how far the curve misfits, not whether this isotherm is placed
-        se = max(shifts.group_stderr[k] / np.sqrt(diag.inflation_of[k]),
+        se = max(group_stderr[k] / np.sqrt(diag.inflation_of[k]),
                  diag.cond_se[k] if not np.isnan(diag.cond_se[k]) else 0.0)
         flat = np.isfinite(diag.slope_rms[k]) and diag.slope_rms[k] < _MIN_SLOPE
         if k not in options.user_fixed and not shifts.bridged[k] and (
@@ -189,5 +191,5 @@ def _flag_isotherms(diag: Diagnosis, shifts: Shifts, gap_info: dict,
     diag.flags = tuple(flags)
     for k in low_info:   # the data's own uncertainty, not the prior's (module notes)
         if k != options.ref_idx or not options.ref_measured:
-            shifts.stderr[k] = max(shifts.stderr[k], min(diag.cond_se[k], UNDETERMINED_STDERR))
+            stderr[k] = max(stderr[k], min(diag.cond_se[k], UNDETERMINED_STDERR))
     return low_info

@@ -55,15 +55,15 @@ def prepare_fit_data(campaign: Campaign, options: ShiftOptions) -> FitData:
     X, Y = _log_data(options)
     _check_spans(campaign, X, options.temps)
     # Dense isotherms are thinned for the fit (every point is still shifted and reported)
-    kept = [evenly_spaced_rows(yk.T, xk.size, MAX_FIT_POINTS_PER_ISOTHERM) for xk, yk in zip(X, Y)]
+    kept = [evenly_spaced_rows(yk.T, xk.size, MAX_FIT_POINTS_PER_ISOTHERM) for xk, yk in zip(X, Y, strict=True)]
     notes = []
-    if any(kk.size < xk.size for kk, xk in zip(kept, X)):
+    if any(kk.size < xk.size for kk, xk in zip(kept, X, strict=True)):
         notes.append(f"isotherms with more than {MAX_FIT_POINTS_PER_ISOTHERM} points were thinned "
                      f"to {MAX_FIT_POINTS_PER_ISOTHERM} points evenly spread in "
                      f"{campaign.x_name.split('_')[0]} for the shift fit; every point is shifted "
                      f"and reported, outliers are looked for among the points fitted")
-        X = [xk[kk] for xk, kk in zip(X, kept)]
-        Y = [yk[kk] for yk, kk in zip(Y, kept)]
+        X = [xk[kk] for xk, kk in zip(X, kept, strict=True)]
+        Y = [yk[kk] for yk, kk in zip(Y, kept, strict=True)]
     return FitData(X=X, Y=Y, kept=kept, notes=notes)
 
 
@@ -73,7 +73,7 @@ def _log_data(options: ShiftOptions):
     for k, iso in enumerate(options.derived.isotherms):
         X.append(np.log10(iso.x))
         cols = []
-        for q, v in zip(options.chosen, options.vsign):
+        for q, v in zip(options.chosen, options.vsign, strict=True):
             val = np.asarray(iso.values[q], float)
             with np.errstate(divide="ignore", invalid="ignore"):
                 ly = np.where(np.isfinite(val) & (val > 0), np.log10(val), np.nan)

@@ -177,7 +177,7 @@ def _fit_group(comp, data: FitData, pairs, options: ShiftOptions, start=None) ->
         s0 -= s0[anchor]
         local_fixed = {anchor: 0.0}
     c0 -= c0[anchor]
-    xs, ys, iso, fn, point = [], [], [], [], []
+    xs, ys, iso_rows, fn_rows, point_rows = [], [], [], [], []
     # ordered by function, then isotherm: the master-curve model evaluates each function on
     # its own block of rows
     for q in range(len(functions)):
@@ -185,11 +185,12 @@ def _fit_group(comp, data: FitData, pairs, options: ShiftOptions, start=None) ->
             ok = np.isfinite(Y[k][:, q])
             xs.append(X[k][ok])
             ys.append(Y[k][ok, q])
-            iso.append(np.full(ok.sum(), a))
-            fn.append(np.full(ok.sum(), q))
-            point.append(np.flatnonzero(ok))
+            iso_rows.append(np.full(ok.sum(), a))
+            fn_rows.append(np.full(ok.sum(), q))
+            point_rows.append(np.flatnonzero(ok))
     x, y = np.concatenate(xs), np.concatenate(ys)
-    iso, fn, point = np.concatenate(iso), np.concatenate(fn), np.concatenate(point)
+    iso, fn = np.concatenate(iso_rows), np.concatenate(fn_rows)
+    point = np.concatenate(point_rows)
     # each function's point-to-point noise (third differences along each isotherm), which
     # sets its weight against the others of its kind (see _Fit.estimate_sigma in _joint_fit)
     # when it clearly differs: with ten points per isotherm the estimate scatters by up to a

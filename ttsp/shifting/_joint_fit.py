@@ -74,8 +74,8 @@ class JointProblem:
     vertical_sign: np.ndarray   # per function: +1, -1 or 0
     s_fixed: dict          # isotherm -> fixed log10 aT (includes the gauge anchor)
     fit_vertical: bool = False
-    c_fixed: dict = None   # isotherm -> fixed log10 bT (the vertical gauge anchor)
-    relative_noise: np.ndarray = None   # per function: its point-to-point noise, any unit
+    c_fixed: dict | None = None   # isotherm -> fixed log10 bT (the vertical gauge anchor)
+    relative_noise: np.ndarray | None = None   # per function: its point-to-point noise, any unit
 
     @property
     def n_fn(self) -> int:
@@ -179,7 +179,7 @@ class _Fit:
             if c_start is not None:
                 self.c[self.free_c] = np.asarray(c_start, float)[self.free_c]
         self.sigma = np.ones(prob.n_fn)
-        self.huber = None
+        self.huber: float | None = None
         self.iterations = 0
         self.converged = False
         self.theta = model.build(self.u(self.s))
@@ -232,7 +232,7 @@ class _Fit:
         n_sc = self.n_par - self.n_theta
         if n * n_sc <= _curve_models.DENSE_JACOBIAN_MAX_ENTRIES:
             Jsc = np.zeros((n, n_sc))
-            for rr, cc, vv in zip(rows, cols, vals):
+            for rr, cc, vv in zip(rows, cols, vals, strict=True):
                 Jsc[rr, cc] += vv
         else:
             Jsc = sp.csr_matrix((np.concatenate(vals),
