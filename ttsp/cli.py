@@ -20,6 +20,7 @@ import typer
 from . import __version__, _help_words
 from ._validation import printable
 from .exceptions import DataError, OptionValueError, TtspError
+from .io.reading_account import describe_campaign
 from .laws.names import LAW_MODELS
 from .runner import read_inputs, run_build
 
@@ -139,35 +140,6 @@ REPEATS_OPT = typer.Option("merge", "--repeats",
                            help="Repeated time stamps in an isotherm: merge (mean in log) or refuse.")
 
 
-def describe(campaign) -> str:
-    """A plain-text account of what the reader understood."""
-    lines = [f"source: {campaign.source}",
-             f"domain: {campaign.domain}   modulus kind: {campaign.modulus_kind}   "
-             f"isotherms: {len(campaign)}   points: {campaign.n_points}",
-             "functions: " + ", ".join(f"{campaign.symbol(q)} ({q})" for q in campaign.quantities),
-             "units as read: " + ", ".join(f"{k} -> {v}" for k, v in campaign.units_as_read.items())]
-    counts = campaign.measured_points()
-    if any(n < campaign.n_points for n in counts.values()):
-        lines.append("measured at their own times (files read together): " + ", ".join(
-            f"{campaign.symbol(q)} at {n} points" for q, n in counts.items()))
-    if campaign.metadata.get("assumed units"):
-        lines.append(f"assumed units (no unit in the header): {campaign.metadata['assumed units']}")
-    if campaign.dropped_rows:
-        lines.append("rows left out: " + ", ".join(f"{v} {k}" for k, v in campaign.dropped_rows.items()))
-    if campaign.metadata.get("skipped rows"):
-        lines.append(f"skipped rows: {campaign.metadata['skipped rows']}")
-    x = "frequency (Hz)" if campaign.domain == "frequency" else "time (s)"
-    lines.append(f"{'T (°C)':>9}  {'points':>6}  {x + ' from':>20}  {'to':>10}")
-    import math
-
-    for iso in campaign.isotherms:
-        lo, hi = iso.x[0], iso.x[-1]
-        if campaign.domain == "frequency":
-            lo, hi = lo / (2 * math.pi), hi / (2 * math.pi)
-        lines.append(f"{iso.temperature_C:9.2f}  {iso.n_points:6d}  {lo:20.4g}  {hi:10.4g}")
-    return "\n".join(lines)
-
-
 @app.command("inspect")
 @guarded
 def inspect_cmd(inputs: list[Path] = typer.Argument(..., help="Files or folders of one campaign."),
@@ -182,7 +154,7 @@ def inspect_cmd(inputs: list[Path] = typer.Argument(..., help="Files or folders 
         warnings.simplefilter("ignore")
         campaign = read_inputs(inputs, column, unit, sheet, tolerance, modulus_kind,
                                temperature_from_name, repeats)
-    typer.echo(describe(campaign))
+    typer.echo(describe_campaign(campaign))
 
 
 
