@@ -40,6 +40,7 @@ from .exceptions import FitError
 from .prony import PronyFit, PronySeries
 from .prony.fit_result import frozen_map
 from .prony.nnls import measured_values, positive_abscissa
+from .result_contract import ResultContract, none_as_nan, stderr_or_nan
 
 __all__ = ["ClosedFormModel", "MODELS", "ClosedFormFit", "FitComparison",
            "fit_closed_form", "fit_sigmoid", "fit_havriliak_negami", "compare_models",
@@ -127,7 +128,7 @@ def _uniform_information(rel: np.ndarray, k: int) -> tuple[float, float]:
 
 
 @dataclass(frozen=True, eq=False)
-class ClosedFormFit:
+class ClosedFormFit(ResultContract):
     """Result of a closed-form model fit (frozen).
 
     Attributes
@@ -136,7 +137,7 @@ class ClosedFormFit:
         Registry name (see :data:`MODELS`).
     params, stderr : mapping of str to float
         Fitted parameters (units in :data:`MODELS`) and their standard errors from the
-        lmfit covariance (None when it could not be estimated).
+        lmfit covariance (NaN when it could not be estimated).
     aic, bic : float
         Akaike and Bayesian information criteria from lmfit, on the residuals fitted
         (log10 modulus for the sigmoid, relative E', E'' for the others).
@@ -156,6 +157,8 @@ class ClosedFormFit:
         lmfit's message.
     reference : str
         Literature source of the model.
+    notes : tuple of str
+        Doubts about the fit (none are judged yet). Result contract: :mod:`ttsp.result_contract`.
     """
 
     model: str
@@ -174,6 +177,7 @@ class ClosedFormFit:
     success: bool
     message: str
     reference: str
+    notes: tuple = ()
 
     @property
     def n_parameters(self) -> int:
@@ -249,13 +253,31 @@ class ClosedFormFit:
         return _plain({
             "model": self.model, "reference": self.reference,
             "equation": MODELS[self.model].equation,
-            "params": dict(self.params), "stderr": dict(self.stderr),
+            "params": dict(self.params),
+            "stderr": _plain(dict(self.stderr), nonfinite_as_none=True),
             "units": dict(zip(MODELS[self.model].parameters, MODELS[self.model].units)),
             "aic": self.aic, "bic": self.bic, "rms_percent": self.rms_percent,
             "max_percent": self.max_percent, "n_points": self.n_points,
             "quantities": list(self.quantities), "success": self.success,
-            "message": self.message,
+            "message": self.message, "notes": list(self.notes),
         })
+
+    @classmethod
+    def from_dict(cls, data: Mapping) -> ClosedFormFit:
+        """Rebuild a fit from :meth:`to_dict` output; the data arrays come back empty."""
+        quantities = tuple(data.get("quantities") or ())
+        empty = frozen_map({q: np.empty(0) for q in quantities})
+        return cls(model=check_choice("model", data["model"], tuple(MODELS)),
+                   params=frozen_map({k: float(v) for k, v in data["params"].items()}),
+                   stderr=frozen_map(none_as_nan(data.get("stderr"))),
+                   aic=float(data["aic"]), bic=float(data["bic"]),
+                   rms_percent=float(data["rms_percent"]), max_percent=float(data["max_percent"]),
+                   n_points=int(data["n_points"]), quantities=quantities,
+                   x=_readonly(np.empty(0)), measured=empty, fitted=empty,
+                   residuals_percent=empty, success=bool(data["success"]),
+                   message=str(data.get("message", "")),
+                   reference=str(data.get("reference", MODELS[data["model"]].reference)),
+                   notes=tuple(data.get("notes") or ()))
 
     def to_frame(self):
         """Tidy table of the fitted data.
@@ -269,17 +291,15 @@ class ClosedFormFit:
                                         "residual_percent": self.residuals_percent[q]})
                           for q in self.quantities], ignore_index=True)
 
-    def _repr_html_(self) -> str:
+    def _html_caption(self) -> str:
+        return f"{self.model} fit ({MODELS[self.model].reference})"
+
+    def _html_rows(self) -> list[tuple[str, str]]:
         m = MODELS[self.model]
-        rows = "".join(
-            f"<tr><td>{html.escape(k)}</td><td>{_fmt(self.params[k])}</td>"
-            f"<td>{_fmt(self.stderr.get(k))}</td><td>{html.escape(u)}</td></tr>"
-            for k, u in zip(m.parameters, m.units))
-        return (f"<div><b>{html.escape(self.model)}</b> fit ({html.escape(m.reference)}), "
-                f"{self.n_points} residuals, rms {self.rms_percent:.3g} %, "
-                f"max {self.max_percent:.3g} %, AIC {self.aic:.4g}<table><thead><tr>"
-                "<th>parameter</th><th>value</th><th>stderr</th><th>unit</th></tr></thead>"
-                f"<tbody>{rows}</tbody></table></div>")
+        return [("equation", m.equation),
+                ("units", ", ".join(f"{k}: {u}" for k, u in zip(m.parameters, m.units))),
+                ("fit", f"{self.n_points} residuals, rms {self.rms_percent:.3g} %, "
+                        f"max {self.max_percent:.3g} %, AIC {self.aic:.4g}")]
 
 
 def _default_label(other, k: int) -> str:
@@ -450,11 +470,9 @@ def _comparison_row(label: str, model: Any, pred: dict[str, np.ndarray],
 
 
 # --------------------------------------------------------------------------- fitting
-def _stderr_of(par) -> float | None:
-    v = par.stderr
-    if v is None or not np.isfinite(v):
-        return None
-    return float(v)
+def _stderr_of(par) -> float:
+    """lmfit's standard error of a parameter, NaN when it could not be estimated."""
+    return stderr_or_nan(par.stderr)
 
 
 def _best_of(minimize: Callable, starts: list) -> Any:
@@ -626,10 +644,10 @@ def _hn_params_and_stderr(pv, model: str, scale: float) -> tuple[dict, dict]:
     params = {"relaxed_modulus_Pa": float(pv["relaxed"].value) * scale,
               "relaxation_strength_Pa": float(pv["strength"].value) * scale,
               "tau_s": float(10.0 ** pv["log10_tau"].value)}
-    stderr = {"relaxed_modulus_Pa": _scaled(_stderr_of(pv["relaxed"]), scale),
-              "relaxation_strength_Pa": _scaled(_stderr_of(pv["strength"]), scale),
+    stderr = {"relaxed_modulus_Pa": _stderr_of(pv["relaxed"]) * scale,
+              "relaxation_strength_Pa": _stderr_of(pv["strength"]) * scale,
               # d tau = tau ln10 d log10 tau
-              "tau_s": _scaled(_stderr_of(pv["log10_tau"]), params["tau_s"] * math.log(10))}
+              "tau_s": _stderr_of(pv["log10_tau"]) * params["tau_s"] * math.log(10)}
     if model != "cole_davidson":
         params["alpha"] = float(pv["alpha"].value)
         stderr["alpha"] = _stderr_of(pv["alpha"])
@@ -637,10 +655,6 @@ def _hn_params_and_stderr(pv, model: str, scale: float) -> tuple[dict, dict]:
         params["beta"] = float(pv["beta"].value)
         stderr["beta"] = _stderr_of(pv["beta"])
     return params, stderr
-
-
-def _scaled(v: float | None, factor: float) -> float | None:
-    return None if v is None else v * factor
 
 
 def _make_fit(model, out, params, stderr, w, measured, fitted) -> ClosedFormFit:
