@@ -231,7 +231,7 @@ def test_page_without_checks_says_so(result, figures):
 
 
 def test_warnings_are_listed(result, figures):
-    page = report.render_report(dataclasses.replace(result, warnings=("E∞ is <extrapolated>",)),
+    page = report.render_report(dataclasses.replace(result, notes=("E∞ is <extrapolated>",)),
                                 figures, created_utc=CREATED)
     section = page.split('id="warnings"')[1].split("</section>")[0]
     assert "<li>E∞ is &lt;extrapolated&gt;</li>" in section
@@ -282,7 +282,7 @@ def test_user_text_is_escaped(figures):
                                             "note & <b>": evil})
     result = quiet_build(campaign, law="wlf", reference_temperature_C=20.0)
     result = dataclasses.replace(result, input_files=(f"{evil}.csv",),
-                                 warnings=(f"bad {evil}",))
+                                 notes=(f"bad {evil}",))
     page = report.render_report(result, figures, created_utc=evil)
     assert "<script" not in page and "<img src=x" not in page and "note & <b>" not in page
     assert "&lt;script&gt;alert(&#34;x&#34;)&lt;/script&gt;.csv" in page

@@ -155,7 +155,7 @@ def test_exports(cole_cole_data):
     assert frame["in_valid_range"].sum() == np.sum(in_window)
     sel = sp.selection_frame()
     assert sel["chosen"].sum() == 1
-    assert sp.params["regularisation"] == sp.regularisation and sp.stderr["regularisation"] is None
+    assert sp.params["regularisation"] == sp.regularisation and np.isnan(sp.stderr["regularisation"])
     assert "Relaxation spectrum" in sp._repr_html_()
     with pytest.raises(ValueError, match="read-only"):
         sp.H_Pa[0] = 1.0

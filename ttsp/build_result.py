@@ -1,7 +1,7 @@
 """Everything a build produced, as one frozen result that evaluates and exports itself (layer 3).
 
 No file I/O: the tables are DataFrames and the summary a dict; :mod:`ttsp.io.writers` writes
-them.
+them. The result keeps the result contract of :mod:`ttsp.result_contract`.
 """
 
 from __future__ import annotations
@@ -10,6 +10,7 @@ import hashlib
 import math
 import warnings
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
 import numpy as np
 
@@ -18,7 +19,19 @@ from ._arrays import outside_log_range
 from .bands import band_columns
 from .build_options import SCHEMA_VERSION, BuildOptions
 from .data import Campaign
+from .result_contract import ResultContract
 from .units import celsius_to_kelvin, kelvin_to_celsius
+
+if TYPE_CHECKING:  # the parts' types, for annotations only (they import this layer's peers)
+    from .crossval import CrossValidation
+    from .laws.results import ShiftLawFit
+    from .master_choice import MasterCurveChoice
+    from .model import ViscoelasticModel
+    from .prony.fit_result import PronyFit
+    from .shifting.result import ShiftResult
+    from .spectrum import RelaxationSpectrum
+    from .transition import GlassTransitionEstimate
+    from .vertical_choice import VerticalChoice
 
 
 def _spectrum_summary(spectrum):
@@ -46,7 +59,7 @@ def _campaign_hash(campaign: Campaign) -> str:
 
 
 @dataclass(frozen=True, repr=False)
-class BuildResult:
+class BuildResult(ResultContract):
     """Everything a build produced. Evaluates and exports itself; no file I/O.
 
     Attributes
@@ -58,7 +71,9 @@ class BuildResult:
     prony_fit : ttsp.prony.PronyFit
     model : ttsp.model.ViscoelasticModel
     checks : tuple of ttsp.checks.CheckResult
-    warnings : tuple of str
+    notes : tuple of str
+        Every warning of the build, each once (``warnings`` is the same tuple under its
+        former name).
     input_sha256 : str
     input_files : tuple of str
     glass_transition : ttsp.transition.GlassTransitionEstimate or None
@@ -71,23 +86,28 @@ class BuildResult:
         Held-out isotherm predictions (None when ``options.cross_validation`` is off).
     vertical_choice : ttsp.vertical_choice.VerticalChoice or None
         The vertical shift chosen and why, when ``vertical="auto"`` was asked for.
+
+    The result contract (:mod:`ttsp.result_contract`): ``params`` are the reference
+    temperature (stderr 0: chosen, not estimated) and the shift law's constants
+    (``shift_law.<name>``, with their stderr); ``success`` is False when a check failed;
+    ``to_dict`` is :meth:`summary`; ``from_dict`` reads a summary back (see there).
     """
 
     campaign: Campaign
     options: BuildOptions
-    shifts: object
-    law_fit: object
-    prony_fit: object
-    model: object
+    shifts: ShiftResult
+    law_fit: ShiftLawFit
+    prony_fit: PronyFit
+    model: ViscoelasticModel
     checks: tuple
-    warnings: tuple
+    notes: tuple
     input_sha256: str
     input_files: tuple = ()
-    glass_transition: object = None
-    relaxation_spectrum: object = None
-    master_curve: object = None
-    cross_validation: object = None
-    vertical_choice: object = None
+    glass_transition: GlassTransitionEstimate | None = None
+    relaxation_spectrum: RelaxationSpectrum | None = None
+    master_curve: MasterCurveChoice | None = None
+    cross_validation: CrossValidation | None = None
+    vertical_choice: VerticalChoice | None = None
 
     @property
     def reference_temperature_K(self) -> float:
@@ -100,6 +120,66 @@ class BuildResult:
     @property
     def series(self):
         return self.prony_fit.series
+
+    @property
+    def warnings(self) -> tuple:
+        """The notes under their former name (read-only)."""
+        return self.notes
+
+    # ---- the result contract -------------------------------------------------------------------
+    @property
+    def params(self) -> dict:
+        """``reference_temperature_C`` and the shift law's constants as ``shift_law.<name>``."""
+        return {"reference_temperature_C": self.reference_temperature_C,
+                **{f"shift_law.{k}": float(v) for k, v in self.law_fit.params.items()}}
+
+    @property
+    def stderr(self) -> dict:
+        """0 for the reference temperature (chosen), the law's stderr for its constants."""
+        return {"reference_temperature_C": 0.0,
+                **{f"shift_law.{k}": float(v) for k, v in self.law_fit.stderr.items()}}
+
+    @property
+    def success(self) -> bool:
+        """False when a check failed."""
+        return not self.failed_checks
+
+    @property
+    def message(self) -> str:
+        """The count of checks by status."""
+        return "checks: " + ", ".join(f"{sum(c.status == s for c in self.checks)} {s}"
+                                      for s in ("pass", "warn", "fail"))
+
+    def to_dict(self) -> dict:
+        """The content of ``summary.json`` (:meth:`summary`, without a creation time)."""
+        return self.summary()
+
+    @classmethod
+    def from_dict(cls, data: dict) -> BuildResult:
+        """Read a summary (:meth:`summary`, ``summary.json``) back as far as it goes.
+
+        The options, shifts, law fit, checks, cross-validation, notes and input hash come back
+        (each through its type's ``from_dict``); the campaign, the Prony fit, the model and the
+        other parts are not in a summary and come back as None, so only the contract and the
+        parts named here can be used.
+        """
+        from .checks.result import CheckResult
+        from .crossval import CrossValidation
+        from .laws.results import ShiftLawFit
+        from .shifting.result import ShiftResult
+
+        cv = data.get("cross_validation")
+        # a partial result: the parts a summary does not hold are None (typed as built)
+        return cls(campaign=None, options=BuildOptions(**data["options"]),  # type: ignore[arg-type]
+                   shifts=ShiftResult.from_dict({**data["shifting"],
+                                                 "shift_factors": data["shift_factors"]}),
+                   law_fit=ShiftLawFit.from_dict(data["shift_law"]),
+                   prony_fit=None, model=None,  # type: ignore[arg-type]
+                   checks=tuple(CheckResult.from_dict(c) for c in data["checks"]),
+                   notes=tuple(data.get("warnings") or ()),
+                   input_sha256=str(data.get("input_sha256", "")),
+                   input_files=tuple(data.get("input_files") or ()),
+                   cross_validation=None if cv is None else CrossValidation.from_dict(cv))
 
     @property
     def failed_checks(self) -> tuple:
@@ -201,6 +281,7 @@ class BuildResult:
         }
         law_section.update({k: v for k, v in law.items() if k not in law_section})
         prony = self.series.to_dict()
+        ensemble = getattr(self.model, "ensemble", None)
         shifting = self.shifts.to_dict()
         shift_factors = shifting.pop("shift_factors")
         return {
@@ -228,39 +309,35 @@ class BuildResult:
                                  if self.cross_validation is not None else None),
             "vertical_choice": (self.vertical_choice.to_dict()
                                 if self.vertical_choice is not None else None),
-            "bands": (self.model.ensemble.to_dict()
-                      if getattr(self.model, "ensemble", None) is not None else None),
+            "bands": ensemble.to_dict() if ensemble is not None else None,
             "checks": [c.to_dict() for c in self.checks],
-            "warnings": list(self.warnings),
+            "warnings": list(self.notes),
         }
 
     def __repr__(self) -> str:
-        return (f"BuildResult({len(self.campaign)} isotherms, reference "
+        isotherms = "?" if self.campaign is None else len(self.campaign)
+        terms = "no" if self.prony_fit is None else self.series.n_terms
+        return (f"BuildResult({isotherms} isotherms, reference "
                 f"{self.reference_temperature_C:.2f} °C, law {self.law_fit.law.model}, "
-                f"{self.series.n_terms} Prony terms, checks: "
-                + ", ".join(f"{sum(c.status == s for c in self.checks)} {s}"
-                            for s in ("pass", "warn", "fail")) + ")")
+                f"{terms} Prony terms, {self.message})")
 
-    def _repr_html_(self) -> str:
-        from html import escape
+    def _html_caption(self) -> str:
+        return "ttsp build"
 
-        law = self.law_fit
-        params = ", ".join(f"{escape(k)} = {v:.5g} ± {law.stderr.get(k) or float('nan'):.2g}"
-                           for k, v in law.params.items())
-        lo, hi = self.series.valid_reduced_time_range_s
-        rows = [("source", escape(str(self.campaign.source))),
-                ("isotherms", f"{len(self.campaign)} ({self.campaign.domain} domain, "
-                              f"{self.campaign.modulus_kind})"),
-                ("reference temperature", f"{self.reference_temperature_C:.2f} °C"),
-                ("shift law", f"{escape(law.law.model)}: {params}"),
-                ("Prony series", f"{self.series.n_terms} terms, rms {self.prony_fit.rms_percent:.2f} %, "
-                                 f"valid reduced time {lo:.3g} – {hi:.3g} s")]
+    def _html_rows(self) -> list[tuple[str, str]]:
+        rows = [("reference temperature", f"{self.reference_temperature_C:.2f} °C"),
+                ("shift law", self.law_fit.law.model)]
+        if self.campaign is not None:
+            rows[:0] = [("source", str(self.campaign.source)),
+                        ("isotherms", f"{len(self.campaign)} ({self.campaign.domain} domain, "
+                                      f"{self.campaign.modulus_kind})")]
+        if self.prony_fit is not None:
+            lo, hi = self.series.valid_reduced_time_range_s
+            rows.append(("Prony series", f"{self.series.n_terms} terms, rms "
+                                         f"{self.prony_fit.rms_percent:.2f} %, valid reduced "
+                                         f"time {lo:.3g} – {hi:.3g} s"))
         g = self.glass_transition
         if g is not None and g.loss_peak_from_model_K is not None:
             rows.append(("Tg (E'' peak at 1 Hz)", f"{g.loss_peak_from_model_K - 273.15:.1f} °C"))
-        table = "".join(f"<tr><th style='text-align:left'>{k}</th><td>{v}</td></tr>" for k, v in rows)
-        checks = "".join(f"<li><b>{escape(c.status)}</b> {escape(c.name)}: {escape(c.message)}</li>"
-                         for c in self.checks)
-        warns = "".join(f"<li>{escape(w)}</li>" for w in self.warnings)
-        return (f"<div><b>ttsp build</b><table>{table}</table><b>checks</b><ul>{checks}</ul>"
-                + (f"<b>warnings</b><ul>{warns}</ul>" if warns else "") + "</div>")
+        rows += [(f"check {c.name}", f"{c.status}: {c.message}") for c in self.checks]
+        return rows

@@ -22,7 +22,6 @@ evaluates itself and compares itself with a Prony fit on the same data
 
 from __future__ import annotations
 
-import html
 import math
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass
@@ -31,16 +30,17 @@ from typing import Any
 import numpy as np
 from numpy.typing import ArrayLike
 
-from ._arrays import fmt_html as _fmt
 from ._arrays import nonnegative_argument as _evaluation_argument
 from ._arrays import readonly as _readonly
 from ._arrays import scalar_or_array as _scalar_or_array
 from ._arrays import to_plain as _plain
 from ._validation import bad_value, check_choice
 from .exceptions import FitError
+from .model_comparison import FitComparison, compare_models
 from .prony import PronyFit, PronySeries
 from .prony.fit_result import frozen_map
 from .prony.nnls import measured_values, positive_abscissa
+from .result_contract import ResultContract, none_as_nan, stderr_or_nan
 
 __all__ = ["ClosedFormModel", "MODELS", "ClosedFormFit", "FitComparison",
            "fit_closed_form", "fit_sigmoid", "fit_havriliak_negami", "compare_models",
@@ -121,16 +121,8 @@ MODELS: dict[str, ClosedFormModel] = {
 
 
 # --------------------------------------------------------------------------- result
-def _uniform_information(rel: np.ndarray, k: int) -> tuple[float, float]:
-    """AIC and BIC from relative residuals (fractions): n ln(RSS/n) + 2k and + k ln n."""
-    n = rel.size
-    rss = float(np.sum(rel * rel))
-    base = n * math.log(max(rss, 1e-300) / n)
-    return base + 2 * k, base + k * math.log(n)
-
-
 @dataclass(frozen=True, eq=False)
-class ClosedFormFit:
+class ClosedFormFit(ResultContract):
     """Result of a closed-form model fit (frozen).
 
     Attributes
@@ -139,7 +131,7 @@ class ClosedFormFit:
         Registry name (see :data:`MODELS`).
     params, stderr : mapping of str to float
         Fitted parameters (units in :data:`MODELS`) and their standard errors from the
-        lmfit covariance (None when it could not be estimated).
+        lmfit covariance (NaN when it could not be estimated).
     aic, bic : float
         Akaike and Bayesian information criteria from lmfit, on the residuals fitted
         (log10 modulus for the sigmoid, relative E', E'' for the others).
@@ -159,6 +151,8 @@ class ClosedFormFit:
         lmfit's message.
     reference : str
         Literature source of the model.
+    notes : tuple of str
+        Doubts about the fit (none are judged yet). Result contract: :mod:`ttsp.result_contract`.
     """
 
     model: str
@@ -177,6 +171,7 @@ class ClosedFormFit:
     success: bool
     message: str
     reference: str
+    notes: tuple = ()
 
     @property
     def n_parameters(self) -> int:
@@ -252,14 +247,32 @@ class ClosedFormFit:
         return _plain({
             "model": self.model, "reference": self.reference,
             "equation": MODELS[self.model].equation,
-            "params": dict(self.params), "stderr": dict(self.stderr),
+            "params": dict(self.params),
+            "stderr": _plain(dict(self.stderr), nonfinite_as_none=True),
             "units": dict(zip(MODELS[self.model].parameters, MODELS[self.model].units,
                                strict=True)),
             "aic": self.aic, "bic": self.bic, "rms_percent": self.rms_percent,
             "max_percent": self.max_percent, "n_points": self.n_points,
             "quantities": list(self.quantities), "success": self.success,
-            "message": self.message,
+            "message": self.message, "notes": list(self.notes),
         })
+
+    @classmethod
+    def from_dict(cls, data: Mapping) -> ClosedFormFit:
+        """Rebuild a fit from :meth:`to_dict` output; the data arrays come back empty."""
+        quantities = tuple(data.get("quantities") or ())
+        empty = frozen_map({q: np.empty(0) for q in quantities})
+        return cls(model=check_choice("model", data["model"], tuple(MODELS)),
+                   params=frozen_map({k: float(v) for k, v in data["params"].items()}),
+                   stderr=frozen_map(none_as_nan(data.get("stderr"))),
+                   aic=float(data["aic"]), bic=float(data["bic"]),
+                   rms_percent=float(data["rms_percent"]), max_percent=float(data["max_percent"]),
+                   n_points=int(data["n_points"]), quantities=quantities,
+                   x=_readonly(np.empty(0)), measured=empty, fitted=empty,
+                   residuals_percent=empty, success=bool(data["success"]),
+                   message=str(data.get("message", "")),
+                   reference=str(data.get("reference", MODELS[data["model"]].reference)),
+                   notes=tuple(data.get("notes") or ()))
 
     def to_frame(self):
         """Tidy table of the fitted data.
@@ -273,17 +286,15 @@ class ClosedFormFit:
                                         "residual_percent": self.residuals_percent[q]})
                           for q in self.quantities], ignore_index=True)
 
-    def _repr_html_(self) -> str:
+    def _html_caption(self) -> str:
+        return f"{self.model} fit ({MODELS[self.model].reference})"
+
+    def _html_rows(self) -> list[tuple[str, str]]:
         m = MODELS[self.model]
-        rows = "".join(
-            f"<tr><td>{html.escape(k)}</td><td>{_fmt(self.params[k])}</td>"
-            f"<td>{_fmt(self.stderr.get(k))}</td><td>{html.escape(u)}</td></tr>"
-            for k, u in zip(m.parameters, m.units, strict=True))
-        return (f"<div><b>{html.escape(self.model)}</b> fit ({html.escape(m.reference)}), "
-                f"{self.n_points} residuals, rms {self.rms_percent:.3g} %, "
-                f"max {self.max_percent:.3g} %, AIC {self.aic:.4g}<table><thead><tr>"
-                "<th>parameter</th><th>value</th><th>stderr</th><th>unit</th></tr></thead>"
-                f"<tbody>{rows}</tbody></table></div>")
+        return [("equation", m.equation),
+                ("units", ", ".join(f"{k}: {u}" for k, u in zip(m.parameters, m.units, strict=True))),
+                ("fit", f"{self.n_points} residuals, rms {self.rms_percent:.3g} %, "
+                        f"max {self.max_percent:.3g} %, AIC {self.aic:.4g}")]
 
 
 def _default_label(other, k: int) -> str:
@@ -296,171 +307,10 @@ def _default_label(other, k: int) -> str:
     return f"model {k + 1}"
 
 
-# --------------------------------------------------------------------------- comparison
-@dataclass(frozen=True, eq=False)
-class FitComparison:
-    """Side-by-side quality of several models on the same data (frozen).
-
-    ``rows`` holds one dict per model: ``model``, ``n_parameters``, ``rms_percent``,
-    ``max_percent``, per-quantity ``rms_percent_<quantity>``, and ``aic``/``bic`` computed
-    uniformly from the relative residuals of every model (n ln(RSS/n) + 2k, + k ln n).
-    """
-
-    rows: tuple
-    quantities: tuple
-    n_points: int
-
-    @property
-    def best(self) -> str:
-        """The model with the lowest AIC."""
-        return min(self.rows, key=lambda r: r["aic"])["model"]
-
-    def to_dict(self) -> dict:
-        return _plain({"quantities": list(self.quantities), "n_points": self.n_points,
-                       "rows": [dict(r) for r in self.rows], "best_by_aic": self.best})
-
-    def to_frame(self):
-        import pandas as pd
-
-        return pd.DataFrame([dict(r) for r in self.rows])
-
-    def _repr_html_(self) -> str:
-        head = "".join(f"<th>{html.escape(k)}</th>" for k in self.rows[0])
-        body = "".join("<tr>" + "".join(
-            f"<td>{html.escape(v) if isinstance(v, str) else _fmt(v)}</td>" for v in r.values())
-            + "</tr>" for r in self.rows)
-        return (f"<div><b>Model comparison</b> on {self.n_points} residuals "
-                f"({', '.join(self.quantities)}); best by AIC: {html.escape(self.best)}"
-                f"<table><thead><tr>{head}</tr></thead><tbody>{body}</tbody></table></div>")
-
-
-def _count_parameters(model: Any) -> int:
-    if isinstance(model, PronyFit):
-        model = model.series
-    if isinstance(model, PronySeries):
-        return int(np.sum(model.modulus_Pa > 0)) + int(model.equilibrium_modulus_Pa > 0)
-    if isinstance(model, ClosedFormFit):
-        return model.n_parameters
-    n = getattr(model, "n_parameters", None)
-    if n is None:
-        raise bad_value("model", "a PronyFit, PronySeries, ClosedFormFit or an object with "
-                        "n_parameters", type(model).__name__)
-    return int(n)
-
-
-def compare_models(omega_rad_s: ArrayLike, models: Mapping[str, Any], *,
-                   storage_modulus_Pa: ArrayLike | None = None,
-                   loss_modulus_Pa: ArrayLike | None = None,
-                   abs_complex_modulus_Pa: ArrayLike | None = None) -> FitComparison:
-    """Tabulate how well several models describe the same frequency data.
-
-    Each model (a :class:`~ttsp.prony.PronyFit`, :class:`~ttsp.prony.PronySeries`,
-    :class:`ClosedFormFit`, or any object with the evaluation methods and ``n_parameters``)
-    is evaluated at ``omega_rad_s``. The ranking quantities are those given that every model
-    can evaluate; if there are none but E' and E'' are given, |E*| = sqrt(E'² + E''²) is used
-    (so a sigmoid, which has no E', E'', is compared on |E*|). On them, relative residuals
-    give the rms and max deviation (%) and a uniform AIC/BIC (Akaike, IEEE Trans. Autom.
-    Control 19:716, 1974; Schwarz, Ann. Stat. 6:461, 1978) with k the number of free
-    parameters (for a Prony series, the non-zero coefficients). Each row also carries the rms
-    of every given quantity the model can evaluate (``rms_percent_<quantity>``).
-
-    Parameters
-    ----------
-    omega_rad_s : array_like
-        Reduced angular frequencies (rad/s), > 0.
-    models : mapping of str to model
-        Label → model.
-    storage_modulus_Pa, loss_modulus_Pa, abs_complex_modulus_Pa : array_like, optional
-        Measured quantities (Pa), > 0; at least one.
-
-    Returns
-    -------
-    FitComparison
-
-    Raises
-    ------
-    DataError
-        If no quantity is given, the models share no quantity they can evaluate, or the
-        inputs break their rules.
-    """
-    w = positive_abscissa("omega_rad_s", omega_rad_s)
-    data = _measured_quantities(w, storage_modulus_Pa, loss_modulus_Pa, abs_complex_modulus_Pa)
-    if not isinstance(models, Mapping) or not models:
-        raise bad_value("models", "a non-empty mapping of label to model", models)
-    resolved = {str(label): (m.series if isinstance(m, PronyFit) else m)
-                for label, m in models.items()}
-    if "abs_complex_modulus" not in data and {"storage_modulus", "loss_modulus"} <= set(data):
-        derived = np.hypot(data["storage_modulus"], data["loss_modulus"])
-    else:
-        derived = None
-    preds = _predictions(resolved, w, list(data) + (["abs_complex_modulus"]
-                                                    if derived is not None else []))
-    common = [q for q in data if all(q in p for p in preds.values())]
-    if not common and derived is not None and all("abs_complex_modulus" in p
-                                                  for p in preds.values()):
-        data["abs_complex_modulus"] = derived
-        common = ["abs_complex_modulus"]
-    if not common:
-        raise bad_value("models", "able to evaluate a common quantity among "
-                        + ", ".join(data), {k: sorted(v) for k, v in preds.items()})
-    rows = [_comparison_row(label, model, preds[label], data, common)
-            for label, model in resolved.items()]
-    data = {q: data[q] for q in common}
-    return FitComparison(rows=tuple(frozen_map(r) for r in rows), quantities=tuple(data),
-                         n_points=int(w.size))
-
-
-def _measured_quantities(w: np.ndarray, storage_modulus_Pa, loss_modulus_Pa,
-                         abs_complex_modulus_Pa) -> dict[str, np.ndarray]:
-    """The quantities given (Pa), checked; at least one."""
-    data = {}
-    for name, values in (("storage_modulus", storage_modulus_Pa),
-                         ("loss_modulus", loss_modulus_Pa),
-                         ("abs_complex_modulus", abs_complex_modulus_Pa)):
-        if values is not None:
-            data[name] = measured_values(f"{name}_Pa", values, w.size, True)
-    if not data:
-        raise bad_value("storage_modulus_Pa, loss_modulus_Pa or abs_complex_modulus_Pa",
-                        "given (at least one)", None)
-    return data
-
-
-def _predictions(models: Mapping[str, Any], w: np.ndarray,
-                 quantities: list[str]) -> dict[str, dict[str, np.ndarray]]:
-    """Each model's values of each quantity it can evaluate at ω (Pa)."""
-    preds: dict[str, dict[str, np.ndarray]] = {}
-    for label, model in models.items():
-        preds[label] = {}
-        for q in quantities:
-            try:
-                preds[label][q] = np.asarray(getattr(model, q)(w), dtype=float)
-            except (AttributeError, ValueError):
-                continue
-    return preds
-
-
-def _comparison_row(label: str, model: Any, pred: dict[str, np.ndarray],
-                    data: dict[str, np.ndarray], common: list[str]) -> dict:
-    """One model's row: rms per quantity it evaluates, and rms, max, AIC, BIC on ``common``."""
-    row: dict[str, Any] = {"model": label, "n_parameters": _count_parameters(model)}
-    for q in data:
-        if q in pred:
-            r = pred[q] / data[q] - 1.0
-            row[f"rms_percent_{q}"] = 100 * float(np.sqrt(np.mean(r * r)))
-    rel = np.concatenate([pred[q] / data[q] - 1.0 for q in common])
-    row["n_residuals"] = int(rel.size)
-    row["rms_percent"] = 100 * float(np.sqrt(np.mean(rel * rel)))
-    row["max_percent"] = 100 * float(np.max(np.abs(rel)))
-    row["aic"], row["bic"] = _uniform_information(rel, row["n_parameters"])
-    return row
-
-
 # --------------------------------------------------------------------------- fitting
-def _stderr_of(par) -> float | None:
-    v = par.stderr
-    if v is None or not np.isfinite(v):
-        return None
-    return float(v)
+def _stderr_of(par) -> float:
+    """lmfit's standard error of a parameter, NaN when it could not be estimated."""
+    return stderr_or_nan(par.stderr)
 
 
 def _best_of(minimize: Callable, starts: list) -> Any:
@@ -633,10 +483,10 @@ def _hn_params_and_stderr(pv, model: str, scale: float) -> tuple[dict, dict]:
     params = {"relaxed_modulus_Pa": float(pv["relaxed"].value) * scale,
               "relaxation_strength_Pa": float(pv["strength"].value) * scale,
               "tau_s": float(10.0 ** pv["log10_tau"].value)}
-    stderr = {"relaxed_modulus_Pa": _scaled(_stderr_of(pv["relaxed"]), scale),
-              "relaxation_strength_Pa": _scaled(_stderr_of(pv["strength"]), scale),
+    stderr = {"relaxed_modulus_Pa": _stderr_of(pv["relaxed"]) * scale,
+              "relaxation_strength_Pa": _stderr_of(pv["strength"]) * scale,
               # d tau = tau ln10 d log10 tau
-              "tau_s": _scaled(_stderr_of(pv["log10_tau"]), params["tau_s"] * math.log(10))}
+              "tau_s": _stderr_of(pv["log10_tau"]) * params["tau_s"] * math.log(10)}
     if model != "cole_davidson":
         params["alpha"] = float(pv["alpha"].value)
         stderr["alpha"] = _stderr_of(pv["alpha"])
@@ -644,10 +494,6 @@ def _hn_params_and_stderr(pv, model: str, scale: float) -> tuple[dict, dict]:
         params["beta"] = float(pv["beta"].value)
         stderr["beta"] = _stderr_of(pv["beta"])
     return params, stderr
-
-
-def _scaled(v: float | None, factor: float) -> float | None:
-    return None if v is None else v * factor
 
 
 def _make_fit(model, out, params, stderr, w, measured, fitted) -> ClosedFormFit:

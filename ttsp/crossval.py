@@ -39,10 +39,10 @@ import numpy as np
 from scipy.optimize import minimize_scalar
 from threadpoolctl import threadpool_limits
 
-from ._arrays import fmt_html
 from .data import Campaign
 from .exceptions import DataError, FitError
-from .units import kelvin_to_celsius
+from .result_contract import ResultContract, format_number, stderr_or_nan
+from .units import celsius_to_kelvin, kelvin_to_celsius
 
 __all__ = ["HeldOutIsotherm", "CrossValidation", "cross_validate", "SCORED_FUNCTIONS"]
 
@@ -95,13 +95,28 @@ class HeldOutIsotherm:
                                  for f in self.rms_percent_at_law_aT if f != "all"],
                 "error": self.error or None}
 
+    @classmethod
+    def from_dict(cls, data: dict) -> HeldOutIsotherm:
+        """Rebuild a held-out isotherm from :meth:`to_dict` output (None read as NaN)."""
+        at_law = {"all": stderr_or_nan(data.get("rms_percent_at_law_aT"))}
+        at_best = {"all": stderr_or_nan(data.get("rms_percent_at_best_aT"))}
+        for row in data.get("per_function") or ():
+            at_law[row["function"]] = stderr_or_nan(row.get("rms_percent_at_law_aT"))
+            at_best[row["function"]] = stderr_or_nan(row.get("rms_percent_at_best_aT"))
+        return cls(temperature_K=float(celsius_to_kelvin(data["temperature_C"])),
+                   n_points=int(data["n_points"]),
+                   law_log10_aT=stderr_or_nan(data.get("law_log10_aT")),
+                   best_log10_aT=stderr_or_nan(data.get("best_log10_aT")),
+                   rms_percent_at_law_aT=at_law, rms_percent_at_best_aT=at_best,
+                   error=data.get("error") or "")
+
 
 def _num(v):
     return float(v) if v is not None and math.isfinite(v) else None
 
 
 @dataclass(frozen=True)
-class CrossValidation:
+class CrossValidation(ResultContract):
     """Held-out isotherm predictions of a build (see the module notes).
 
     Attributes
@@ -110,6 +125,10 @@ class CrossValidation:
     functions : tuple of str
         The functions scored.
     method : str
+
+    The result contract (:mod:`ttsp.result_contract`): ``params`` are the median and worst
+    pooled errors, their ``stderr`` NaN; ``notes`` name the folds that could not be built;
+    ``success`` is True when at least one was; ``to_frame`` has one row per held-out isotherm.
     """
 
     per_isotherm: tuple
@@ -136,6 +155,28 @@ class CrossValidation:
         return out
 
     @property
+    def stderr(self) -> dict:
+        """NaN for each of :attr:`params`: the spread of a handful of folds is not estimated."""
+        return {k: math.nan for k in self.params}
+
+    @property
+    def notes(self) -> tuple:
+        """One line for each fold that could not be built."""
+        return tuple(f"held out {h.temperature_C:.4g} °C: {h.error}"
+                     for h in self.per_isotherm if h.error)
+
+    @property
+    def success(self) -> bool:
+        """Whether at least one held-out isotherm was predicted."""
+        return self._pooled("rms_percent_at_law_aT").size > 0
+
+    @property
+    def message(self) -> str:
+        """How many held-out isotherms were predicted."""
+        return (f"{self._pooled('rms_percent_at_law_aT').size} of {len(self.per_isotherm)} "
+                "held-out isotherms predicted")
+
+    @property
     def law_to_best_ratio(self) -> float:
         """Worst ratio of the error at the law's a_T to that at the best a_T (1: the law costs
         nothing; 2: it doubles the master curve's own error somewhere)."""
@@ -150,6 +191,13 @@ class CrossValidation:
                 **{k: _num(v) for k, v in self.params.items()},
                 "worst_law_to_best_ratio": _num(self.law_to_best_ratio),
                 "per_isotherm": [h.to_dict() for h in self.per_isotherm]}
+
+    @classmethod
+    def from_dict(cls, data: dict) -> CrossValidation:
+        """Rebuild the result from :meth:`to_dict` output (or a summary's ``cross_validation``)."""
+        return cls(per_isotherm=tuple(HeldOutIsotherm.from_dict(h)
+                                      for h in data.get("per_isotherm") or ()),
+                   functions=tuple(data.get("functions") or ()), method=str(data["method"]))
 
     def to_frame(self):
         """One row per held-out isotherm: temperature, shifts, pooled and per-function errors."""
@@ -166,15 +214,14 @@ class CrossValidation:
             rows.append(row)
         return pd.DataFrame(rows)
 
-    def _repr_html_(self) -> str:
-        rows = "".join(
-            f"<tr><td>{h.temperature_C:.4g}</td>"
-            f"<td>{fmt_html(h.rms_percent_at_law_aT.get('all'))}</td>"
-            f"<td>{fmt_html(h.rms_percent_at_best_aT.get('all'))}</td></tr>"
-            for h in self.per_isotherm)
-        return ("<div><b>Cross-validation</b> (held-out isotherms)<table><thead><tr>"
-                "<th>T (°C)</th><th>rms % at the law's a_T</th><th>rms % at the best a_T</th>"
-                f"</tr></thead><tbody>{rows}</tbody></table></div>")
+    def _html_caption(self) -> str:
+        return "Cross-validation (held-out isotherms)"
+
+    def _html_rows(self) -> list[tuple[str, str]]:
+        return [(f"{h.temperature_C:.4g} °C",
+                 f"rms {format_number(h.rms_percent_at_law_aT.get('all'))} % at the law's a_T, "
+                 f"{format_number(h.rms_percent_at_best_aT.get('all'))} % at the best a_T")
+                for h in self.per_isotherm]
 
 
 #: at most this many isotherms are held out (each costs a rebuild); beyond it, an evenly

@@ -23,7 +23,6 @@ Only numpy and scipy are imported here (pandas lazily inside ``to_frame``).
 
 from __future__ import annotations
 
-import html
 import math
 from collections.abc import Mapping
 from dataclasses import KW_ONLY, dataclass
@@ -31,7 +30,6 @@ from dataclasses import KW_ONLY, dataclass
 import numpy as np
 from numpy.typing import ArrayLike
 
-from ._arrays import fmt_html as _fmt
 from ._arrays import nonnegative_argument as _evaluation_argument
 from ._arrays import outside_log_range
 from ._arrays import readonly as _readonly
@@ -43,6 +41,7 @@ from .prony import PronySeries
 from .prony.fit_result import frozen_map
 from .prony.nnls import log_grid, measured_values, positive_abscissa
 from .prony.nnls import solve_nnls as _solve_nnls  # a module name tests replace
+from .result_contract import ResultContract
 
 __all__ = ["RelaxationSpectrum", "fit_relaxation_spectrum"]
 
@@ -51,7 +50,7 @@ _GCV_TIE = 0.01  # relative GCV difference treated as a tie (see fit_relaxation_
 
 
 @dataclass(frozen=True, eq=False)
-class RelaxationSpectrum:
+class RelaxationSpectrum(ResultContract):
     """A continuous relaxation spectrum H(τ) on a log grid, with how it was regularised.
 
     Attributes
@@ -80,6 +79,9 @@ class RelaxationSpectrum:
         "tensile" or "shear".
     reference_temperature_K : float or None
         Reference temperature of the master curve (K).
+
+    The spectrum keeps the result contract (:mod:`ttsp.result_contract`): ``params`` are λ
+    and E_e, their ``stderr`` NaN (not estimated); ``to_frame`` is the table of H(τ).
     """
 
     tau_s: np.ndarray
@@ -114,8 +116,23 @@ class RelaxationSpectrum:
 
     @property
     def stderr(self) -> dict:
-        """Standard errors are not estimated for a regularised spectrum (None)."""
-        return {k: None for k in self.params}
+        """Standard errors are not estimated for a regularised spectrum (NaN)."""
+        return {k: math.nan for k in self.params}
+
+    @property
+    def notes(self) -> tuple:
+        """Doubts about the spectrum: none are judged here (the checks judge the fit)."""
+        return ()
+
+    @property
+    def success(self) -> bool:
+        """A spectrum that exists was solved (a failed solve raises)."""
+        return True
+
+    @property
+    def message(self) -> str:
+        """How λ was chosen."""
+        return f"regularisation chosen by {self.method}"
 
     def spectrum(self, tau_s: ArrayLike):
         """H(τ) (Pa) at ``tau_s`` (s) by linear interpolation in ln τ; 0 outside the grid."""
@@ -203,21 +220,37 @@ class RelaxationSpectrum:
             "settings": dict(self.settings or {}),
         })
 
-    def _repr_html_(self) -> str:
+    @classmethod
+    def from_dict(cls, data: Mapping) -> RelaxationSpectrum:
+        """Rebuild the spectrum from :meth:`to_dict` output (everything comes back)."""
+        def array(values) -> np.ndarray:
+            return _readonly(np.array([np.nan if v is None else v for v in values], float))
+
+        sel = data["selection"]
+        return cls(tau_s=array(data["tau_s"]), H_Pa=array(data["H_Pa"]),
+                   equilibrium_modulus_Pa=float(data["equilibrium_modulus_Pa"]),
+                   regularisation=float(data["regularisation"]), method=str(data["method"]),
+                   lambda_grid=array(sel["regularisation"]),
+                   residual_norm=array(sel["residual_norm"]),
+                   penalty_norm=array(sel["penalty_norm"]), criterion=array(sel["criterion"]),
+                   rms_percent=float(data["rms_percent"]), max_percent=float(data["max_percent"]),
+                   effective_parameters=float(data["effective_parameters"]),
+                   valid_tau_range_s=tuple(float(v) for v in data["valid_tau_range_s"]),
+                   modulus_kind=str(data.get("modulus_kind", "tensile")),
+                   reference_temperature_K=data.get("reference_temperature_K"),
+                   settings=frozen_map(dict(data.get("settings") or {})))
+
+    def _html_caption(self) -> str:
+        return f"Relaxation spectrum (Tikhonov, {self.method})"
+
+    def _html_rows(self) -> list[tuple[str, str]]:
         lo, hi = self.valid_tau_range_s
         k = int(np.argmax(self.H_Pa))
-        return ("<div><b>Relaxation spectrum</b> (Tikhonov, "
-                f"{html.escape(self.method)})<table>"
-                f"<tr><td>grid</td><td>{self.tau_s.size} points, {_fmt(self.tau_s[0])} &ndash; "
-                f"{_fmt(self.tau_s[-1])} s</td></tr>"
-                f"<tr><td>valid &tau; range</td><td>{_fmt(lo)} &ndash; {_fmt(hi)} s</td></tr>"
-                f"<tr><td>&lambda;</td><td>{_fmt(self.regularisation)}</td></tr>"
-                f"<tr><td>effective parameters</td><td>{self.effective_parameters:.3g}</td></tr>"
-                f"<tr><td>E<sub>e</sub></td><td>{_fmt(self.equilibrium_modulus_Pa)} Pa</td></tr>"
-                f"<tr><td>peak</td><td>H = {_fmt(self.H_Pa[k])} Pa at &tau; = "
-                f"{_fmt(self.tau_s[k])} s</td></tr>"
-                f"<tr><td>fit rms / max</td><td>{self.rms_percent:.3g} % / "
-                f"{self.max_percent:.3g} %</td></tr></table></div>")
+        return [("grid", f"{self.tau_s.size} points, {self.tau_s[0]:.6g} – {self.tau_s[-1]:.6g} s"),
+                ("valid τ range", f"{lo:.6g} – {hi:.6g} s"),
+                ("effective parameters", f"{self.effective_parameters:.3g}"),
+                ("peak", f"H = {self.H_Pa[k]:.6g} Pa at τ = {self.tau_s[k]:.6g} s"),
+                ("fit rms / max", f"{self.rms_percent:.3g} % / {self.max_percent:.3g} %")]
 
 
 def _trapezoid_weights(x: np.ndarray) -> np.ndarray:

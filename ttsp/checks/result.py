@@ -2,12 +2,12 @@
 
 A check measures one thing and returns a frozen :class:`CheckResult`: a name, a status
 (``"pass"``, ``"warn"`` or ``"fail"``), the measured value, the threshold it was judged against,
-one or two plain sentences and JSON-ready supporting numbers.
+one or two plain sentences and JSON-ready supporting numbers. It keeps the result contract of
+:mod:`ttsp.result_contract`.
 """
 
 from __future__ import annotations
 
-import html
 import math
 from collections.abc import Mapping
 from dataclasses import dataclass, field
@@ -15,6 +15,7 @@ from types import MappingProxyType
 
 from .._arrays import to_plain
 from .._validation import check_choice
+from ..result_contract import ResultContract, format_number
 
 __all__ = ["STATUSES", "CheckResult", "worst_status"]
 
@@ -27,7 +28,7 @@ def _json_ready(value):
 
 
 @dataclass(frozen=True)
-class CheckResult:
+class CheckResult(ResultContract):
     """The verdict of one check.
 
     Parameters
@@ -49,6 +50,10 @@ class CheckResult:
     ------
     DataError
         If ``status`` is not one of :data:`STATUSES`.
+
+    The result contract (:mod:`ttsp.result_contract`): ``params`` holds the measured
+    ``value`` (NaN when there is none; text as it is), its ``stderr`` is NaN; ``success`` is
+    False for a ``"fail"``; ``notes`` holds the message unless the check passed.
     """
 
     name: str
@@ -70,23 +75,47 @@ class CheckResult:
     def passed(self) -> bool:
         return self.status == "pass"
 
+    @property
+    def params(self) -> dict:
+        """``{"value": the measured value}``: a float (NaN when there is none) or text."""
+        value = self.value
+        return {"value": value if isinstance(value, str)
+                else (math.nan if value is None else float(value))}
+
+    @property
+    def stderr(self) -> dict:
+        """``{"value": NaN}``: a check does not estimate the uncertainty of its value."""
+        return {"value": math.nan}
+
+    @property
+    def notes(self) -> tuple:
+        """The message as the one doubt, unless the check passed."""
+        return () if self.passed else (self.message,)
+
+    @property
+    def success(self) -> bool:
+        """False when the check failed."""
+        return self.status != "fail"
+
     def to_dict(self) -> dict:
         """JSON-ready: name, status, value, threshold, message, details."""
         return {"name": self.name, "status": self.status, "value": self.value,
                 "threshold": self.threshold, "message": self.message,
                 "details": _json_ready(dict(self.details))}
 
-    def _repr_html_(self) -> str:
-        colour = {"pass": "#1a7f37", "warn": "#9a6700", "fail": "#cf222e"}[self.status]
-        return (f"<table><tr><td><b style='color:{colour}'>{self.status}</b></td>"
-                f"<td>{html.escape(self.name)}</td><td>value {html.escape(_short(self.value))}</td>"
-                f"<td>threshold {html.escape(_short(self.threshold))}</td></tr>"
-                f"<tr><td colspan='4'>{html.escape(self.message)}</td></tr></table>")
+    @classmethod
+    def from_dict(cls, data: Mapping) -> CheckResult:
+        """Rebuild a check result from :meth:`to_dict` output (or an entry of a summary's
+        ``checks``)."""
+        return cls(name=str(data["name"]), status=str(data["status"]), value=data.get("value"),
+                   threshold=data.get("threshold"), message=str(data.get("message", "")),
+                   details=dict(data.get("details") or {}))
 
+    def _html_caption(self) -> str:
+        return f"check {self.name}: {self.status}"
 
-def _short(value) -> str:
-    """A value as a person reads it: four significant digits for numbers."""
-    return f"{value:.4g}" if isinstance(value, float) else str(value)
+    def _html_rows(self) -> list[tuple[str, str]]:
+        return [("threshold", format_number(self.threshold))]
 
 
 def worst_status(results) -> str:

@@ -1,5 +1,6 @@
 """The result of a shift-law fit (:class:`ShiftLawFit`) and the standard error of its
-prediction (:func:`law_prediction_stderr`)."""
+prediction (:meth:`ShiftLawFit.band`; :func:`law_prediction_stderr` is the same for anything
+shaped like a fit). The fit keeps the result contract of :mod:`ttsp.result_contract`."""
 
 from __future__ import annotations
 
@@ -8,7 +9,8 @@ from typing import Any
 
 import numpy as np
 
-from ._common import ZERO_CELSIUS_K, html_table
+from ..result_contract import ResultContract, none_as_nan, stderr_or_nan
+from ._common import ZERO_CELSIUS_K
 from .base import ShiftLaw
 
 __all__ = ["ShiftLawFit", "law_prediction_stderr"]
@@ -19,7 +21,7 @@ LMFIT_METHOD = "lmfit.minimize, leastsq (Levenberg-Marquardt)"
 DIRECT_METHOD = "weighted linear least squares, solved directly (numpy lstsq)"
 
 
-def _fmt(value: float) -> str:
+def _fmt(value: float | None) -> str:
     return "nan" if value is None or not np.isfinite(value) else f"{value:.6g}"
 
 
@@ -30,7 +32,7 @@ def _plain(value: Any) -> Any:
 
 
 @dataclass(frozen=True)
-class ShiftLawFit:
+class ShiftLawFit(ResultContract):
     """Result of :func:`~ttsp.laws.fit_shift_law`: the fitted law, its uncertainties and the fit figures.
 
     Attributes
@@ -90,6 +92,10 @@ class ShiftLawFit:
     notes : tuple of str
         Doubts about the fit (a parameter at a bound, uncertainties not estimable); each is
         also issued as a :class:`~ttsp.exceptions.FitQualityWarning`.
+
+    The fit keeps the result contract (:mod:`ttsp.result_contract`): ``params``, ``stderr``,
+    ``notes``, ``success``, ``message``, ``to_dict``/``from_dict``, ``params_frame``;
+    ``to_frame`` is the per-point table.
     """
 
     law: ShiftLaw
@@ -132,6 +138,11 @@ class ShiftLawFit:
         """Apparent activation energy (kJ/mol) of the fitted law; see :class:`~ttsp.laws.ShiftLaw`."""
         return self.law._activation_energy(temperature_K, stacklevel=2)
 
+    def band(self, temperature_K: Any) -> np.ndarray | None:
+        """Standard error (decades) of the fitted log10 a_T at ``temperature_K``, or None when
+        it cannot be estimated; see :func:`law_prediction_stderr` (JCGM 100:2008, eq. 13)."""
+        return law_prediction_stderr(self, temperature_K)
+
     def to_dict(self) -> dict:
         """JSON-ready summary: the law's keys plus stderr, statistics and the choice made."""
         out = self.law.to_dict()
@@ -157,6 +168,44 @@ class ShiftLawFit:
         out["notes"] = list(self.notes)
         return out
 
+    @classmethod
+    def from_dict(cls, data: dict) -> ShiftLawFit:
+        """Rebuild a fit from :meth:`to_dict` output (or the ``shift_law`` of a summary).
+
+        The law, its parameters, stderr (None read as NaN), correlation, derived figures,
+        statistics, choice, solver and notes come back; the per-point arrays
+        (``residuals``, ``temperature_K``, ``log10_aT_data``, ``log10_aT_stderr``) are not in
+        the dict and come back empty.
+        """
+        law = ShiftLaw.from_dict(data)
+        stats = data.get("statistics") or {}
+        solver = data.get("solver") or {}
+        selection = data.get("selection") or {}
+        empty = np.empty(0)
+
+        def number(key: str) -> float:
+            return stderr_or_nan(stats.get(key))
+
+        return cls(
+            law=law, params=dict(law.params),
+            stderr=none_as_nan(data.get("parameter_stderr")),
+            correlation={tuple(c["parameters"]): stderr_or_nan(c["value"])
+                         for c in data.get("correlation") or ()},
+            residuals=empty, temperature_K=empty, log10_aT_data=empty, log10_aT_stderr=empty,
+            chi_square=number("chi_square"), reduced_chi_square=number("reduced_chi_square"),
+            aic=number("aic"), bic=number("bic"),
+            n_points=int(stats.get("n_points", 0)), n_free=int(stats.get("n_free", 0)),
+            fixed_parameters=tuple(data.get("fixed_parameters") or ()),
+            derived=none_as_nan(data.get("derived")),
+            derived_stderr=none_as_nan(data.get("derived_stderr")),
+            candidates=tuple(dict(c) for c in selection.get("candidates") or ()),
+            reason=str(selection.get("reason", "")),
+            success=bool(solver.get("success", True)), message=str(solver.get("message", "")),
+            nfev=int(solver.get("nfev", 0)), notes=tuple(data.get("notes") or ()),
+            method=str(solver.get("method", LMFIT_METHOD)),
+            weighting=str(solver.get("weighting", "stderr")),
+            degrees_of_freedom=int(stats.get("degrees_of_freedom", 1)))
+
     def to_frame(self):
         """Tidy per-point table: temperature, data, stderr, fitted value and residual."""
         import pandas as pd
@@ -171,28 +220,26 @@ class ShiftLawFit:
             "residual_log10_aT": self.residuals,
         })
 
-    def _repr_html_(self) -> str:
+    def _html_caption(self) -> str:
+        return f"fitted {self.law.model} shift law"
+
+    def _html_rows(self) -> list[tuple[str, str]]:
         law = self.law
         rows = [("model", law.model),
                 ("reference temperature", f"{law.reference_temperature_K:.6g} K "
                                           f"({law.reference_temperature_C:.6g} °C)")]
-        for name, value in self.params.items():
-            unit = law._unit_of(name)
-            if name in self.fixed_parameters:
-                text = f"{value:.6g} {unit} (fixed)"
-            else:
-                text = f"{value:.6g} ± {_fmt(self.stderr[name])} {unit}"
-            rows.append((name, " ".join(text.split())))
+        if self.fixed_parameters:
+            rows.append(("fixed parameters", ", ".join(self.fixed_parameters)))
         for name, value in self.derived.items():
             rows.append((name, f"{value:.6g} ± {_fmt(self.derived_stderr.get(name))}"))
         rng = law.valid_temperature_range_K
-        rows += [("valid range", f"{rng[0]:.6g}-{rng[1]:.6g} K"),
-                 ("points / free parameters", f"{self.n_points} / {self.n_free}"),
+        if rng is not None:
+            rows.append(("valid range", f"{rng[0]:.6g}-{rng[1]:.6g} K"))
+        rows += [("points / free parameters", f"{self.n_points} / {self.n_free}"),
                  ("chi-square (reduced)", f"{self.chi_square:.4g} ({self.reduced_chi_square:.4g})"),
                  ("AIC / BIC", f"{self.aic:.4g} / {self.bic:.4g}"),
                  ("why this law", self.reason)]
-        rows += [("note", n) for n in self.notes]
-        return html_table(f"fitted {law.model} shift law", rows)
+        return rows
 
 
 def law_prediction_stderr(law_fit: Any, temperature_K: Any) -> np.ndarray | None:

@@ -4,14 +4,14 @@ Both fits (:mod:`ttsp.prony.fit_frequency`, :mod:`ttsp.prony.fit_time`) end here
 per quantity (%, relative), rms and largest deviation, the coefficients with their linearised
 standard errors (from the weighted design at the solution: the usual least-squares covariance
 of the non-zero coefficients, Lawson & Hanson, *Solving Least Squares Problems*, 1974), and the
-plateau verdicts (:mod:`ttsp.prony.plateaus`), emitted as :class:`FitQualityWarning`.
+plateau verdicts (:mod:`ttsp.prony.plateaus`), emitted as :class:`FitQualityWarning`. The
+fit keeps the result contract of :mod:`ttsp.result_contract`.
 
 Imports numpy only (pandas lazily inside ``to_frame``).
 """
 
 from __future__ import annotations
 
-import html
 import warnings
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass
@@ -20,10 +20,10 @@ from typing import Any
 
 import numpy as np
 
-from .._arrays import fmt_html as _fmt
 from .._arrays import readonly as _readonly
 from .._arrays import to_plain as _plain
 from ..exceptions import FitQualityWarning
+from ..result_contract import ResultContract, none_as_nan
 from .nnls import LinearProblem
 from .series import PronySeries
 
@@ -38,7 +38,7 @@ _WARN_STACKLEVEL = 4
 
 
 @dataclass(frozen=True, eq=False)
-class PronyFit:
+class PronyFit(ResultContract):
     """Result of a non-negative Prony fit (frozen): the series, its quality and its verdicts.
 
     Attributes
@@ -63,16 +63,24 @@ class PronyFit:
         and long-time (low-frequency) end of the data is within ``plateau_slope``.
     reaches_terminal_zone : bool
         Whether the long-time end reaches terminal flow instead (E' ∝ ω² or fast decay).
-    warnings : tuple of str
-        Human-readable warnings (also emitted as :class:`FitQualityWarning`).
+    notes : tuple of str
+        The doubts about the fit (also emitted as :class:`FitQualityWarning`); ``warnings`` is
+        the same tuple under its former name.
     candidate_tau_s : numpy.ndarray
         The full grid of relaxation times offered to the solver (s).
     params, stderr : mapping of str to float
-        Fitted coefficients (Pa) and their linearised standard errors (None at the bound 0).
+        Fitted coefficients (Pa) and their linearised standard errors (NaN for a fixed
+        column at the bound 0, or where not finite).
     settings : mapping
         The options of the fit.
     creep : object or None
         For ``quantity="creep_compliance"``: the fitted retardation series.
+    success : bool, message : str
+        The non-negative least-squares solve returned (always True for a fit that exists),
+        and one line saying how many terms it kept.
+
+    The fit keeps the result contract (:mod:`ttsp.result_contract`); ``to_frame`` is the
+    table of the fitted data.
     """
 
     series: PronySeries
@@ -88,12 +96,19 @@ class PronyFit:
     reaches_glassy_plateau: bool
     reaches_rubbery_plateau: bool
     reaches_terminal_zone: bool
-    warnings: tuple
+    notes: tuple
     candidate_tau_s: np.ndarray
     params: Mapping
     stderr: Mapping
     settings: Mapping
     creep: Any = None
+    success: bool = True
+    message: str = ""
+
+    @property
+    def warnings(self) -> tuple:
+        """The notes under their former name (read-only)."""
+        return self.notes
 
     @property
     def x_name(self) -> str:
@@ -120,11 +135,39 @@ class PronyFit:
             "reaches_glassy_plateau": self.reaches_glassy_plateau,
             "reaches_rubbery_plateau": self.reaches_rubbery_plateau,
             "reaches_terminal_zone": self.reaches_terminal_zone,
-            "warnings": list(self.warnings),
+            "warnings": list(self.notes),
             "params": dict(self.params),
-            "stderr": dict(self.stderr),
+            "stderr": _plain(dict(self.stderr), nonfinite_as_none=True),
             "settings": dict(self.settings),
+            "success": bool(self.success),
+            "message": self.message,
         })
+
+    @classmethod
+    def from_dict(cls, data: Mapping) -> PronyFit:
+        """Rebuild a fit from :meth:`to_dict` output.
+
+        The series, verdicts, figures, params, stderr (None read as NaN), settings and notes
+        come back; the data (``x``, ``measured``, ``fitted``, ``residuals_percent``) and the
+        candidate grid are not in the dict and come back empty, the creep series as None.
+        """
+        quantities = tuple(data.get("quantities") or ())
+        empty = {q: _readonly(np.empty(0)) for q in quantities}
+        return cls(series=PronySeries.from_dict(data["series"]), domain=str(data["domain"]),
+                   quantities=quantities, x=_readonly(np.empty(0)), measured=frozen_map(empty),
+                   fitted=frozen_map(empty), residuals_percent=frozen_map(empty),
+                   rms_percent=float(data["rms_percent"]), max_percent=float(data["max_percent"]),
+                   rms_percent_by_quantity=frozen_map(dict(data.get("rms_percent_by_quantity")
+                                                           or {})),
+                   reaches_glassy_plateau=bool(data.get("reaches_glassy_plateau")),
+                   reaches_rubbery_plateau=bool(data.get("reaches_rubbery_plateau")),
+                   reaches_terminal_zone=bool(data.get("reaches_terminal_zone")),
+                   notes=tuple(data.get("notes", data.get("warnings")) or ()),
+                   candidate_tau_s=_readonly(np.empty(0)),
+                   params=frozen_map({k: float(v) for k, v in (data.get("params") or {}).items()}),
+                   stderr=frozen_map(none_as_nan(data.get("stderr"))),
+                   settings=frozen_map(dict(data.get("settings") or {})),
+                   success=bool(data.get("success", True)), message=str(data.get("message", "")))
 
     def to_frame(self):
         """Tidy table of the fitted data: abscissa, quantity, measured, fitted, residual_percent."""
@@ -136,23 +179,22 @@ class PronyFit:
                  for q in self.quantities]
         return pd.concat(parts, ignore_index=True)
 
-    def _repr_html_(self) -> str:
-        rows = "".join(
-            f"<tr><td>{html.escape(QUANTITY_SYMBOL.get(q, q))}</td>"
-            f"<td>{self.rms_percent_by_quantity[q]:.3g}</td>"
-            f"<td>{np.max(np.abs(self.residuals_percent[q])):.3g}</td></tr>"
-            for q in self.quantities)
+    def _html_caption(self) -> str:
+        return "Prony fit"
+
+    def _html_rows(self) -> list[tuple[str, str]]:
         rng = self.series.valid_reduced_time_range_s
-        warn = "".join(f"<li>{html.escape(w)}</li>" for w in self.warnings)
-        return (f"<div><b>Prony fit</b> ({self.domain} data, {self.x.size} points, "
-                f"{self.n_terms} of {self.candidate_tau_s.size} terms non-zero)<br>"
-                f"valid reduced time {_fmt(rng[0])} &ndash; {_fmt(rng[1])} s; "
-                f"glassy plateau {'reached' if self.reaches_glassy_plateau else 'not reached'}, "
-                f"rubbery plateau {'reached' if self.reaches_rubbery_plateau else 'not reached'}"
-                f"<table><thead><tr><th>quantity</th><th>rms (%)</th><th>max (%)</th></tr>"
-                f"</thead><tbody>{rows}</tbody></table>"
-                + (f"<ul>{warn}</ul>" if warn else "") + "</div>"
-                + self.series._repr_html_())
+        rows = [("data", f"{self.domain}, {self.x.size} points"),
+                ("terms", f"{self.n_terms} of {self.candidate_tau_s.size} non-zero")]
+        if rng is not None:
+            rows.append(("valid reduced time", f"{rng[0]:.6g} – {rng[1]:.6g} s"))
+        rows.append(("plateaus", f"glassy {'reached' if self.reaches_glassy_plateau else 'not reached'}"
+                                 f", rubbery {'reached' if self.reaches_rubbery_plateau else 'not reached'}"))
+        rows += [(f"{QUANTITY_SYMBOL.get(q, q)} rms / max (%)",
+                  f"{self.rms_percent_by_quantity[q]:.3g} / "
+                  f"{np.max(np.abs(self.residuals_percent[q]), initial=0.0):.3g}")
+                 for q in self.quantities]
+        return rows
 
 
 def frozen_map(d: dict) -> Mapping:
@@ -186,17 +228,18 @@ def assemble_fit(problem: LinearProblem, x: np.ndarray, tau: np.ndarray, *, doma
                     fitted=frozen_map(fitted), residuals_percent=frozen_map(resid),
                     rms_percent=rms, max_percent=mx, rms_percent_by_quantity=frozen_map(rms_by),
                     reaches_glassy_plateau=glassy, reaches_rubbery_plateau=rubbery,
-                    reaches_terminal_zone=terminal, warnings=tuple(msgs),
+                    reaches_terminal_zone=terminal, notes=tuple(msgs),
                     candidate_tau_s=_readonly(tau), params=frozen_map(params),
                     stderr=frozen_map(stderr), settings=frozen_map(_plain(settings)),
-                    creep=creep)
+                    creep=creep, message=f"non-negative least squares: {series.n_terms} of "
+                                         f"{tau.size} candidate terms non-zero")
 
 
 def _per_quantity(problem: LinearProblem, fitted_all: np.ndarray, rel_all: np.ndarray,
                   quantities, blocks) -> tuple[dict, dict, dict, dict]:
     """Measured, fitted, residuals (%) and rms (%) of each quantity's block of rows."""
     measured, fitted, resid, rms_by = {}, {}, {}, {}
-    for q, sl in zip(quantities, blocks):
+    for q, sl in zip(quantities, blocks, strict=True):
         measured[q] = problem.measured[sl]
         fitted[q] = fitted_all[sl]
         resid[q] = rel_all[sl]
@@ -207,15 +250,15 @@ def _per_quantity(problem: LinearProblem, fitted_all: np.ndarray, rel_all: np.nd
 def _params_and_stderr(problem: LinearProblem, x: np.ndarray, fixed_names,
                        term_name: str) -> tuple[dict, dict]:
     """The fixed columns and the non-zero terms as plain floats, with their standard errors
-    (None at the bound 0 or where not finite)."""
+    (NaN at the bound 0 or where not finite)."""
     err = problem.stderr(x)
     nf = problem.n_fixed
     params, stderr = {}, {}
     for k, name in enumerate(fixed_names):
         params[name] = float(x[k])
-        stderr[name] = float(err[k]) if x[k] > 0 and np.isfinite(err[k]) else None
+        stderr[name] = float(err[k]) if x[k] > 0 and np.isfinite(err[k]) else float("nan")
     keep = np.flatnonzero(x[nf:] > 0) + nf
-    for i, k in enumerate(keep, start=1):
-        params[term_name.format(i)] = float(x[k])
-        stderr[term_name.format(i)] = float(err[k]) if np.isfinite(err[k]) else None
+    for i, j in enumerate(keep, start=1):
+        params[term_name.format(i)] = float(x[j])
+        stderr[term_name.format(i)] = float(err[j]) if np.isfinite(err[j]) else float("nan")
     return params, stderr

@@ -2,22 +2,23 @@
 
 The result evaluates and exports itself: the shift table (:meth:`ShiftResult.to_frame`), the
 JSON summary (:meth:`ShiftResult.to_dict`, whose ``shift_factors`` list is the output
-contract), every point of the campaign reduced to the reference temperature
-(:meth:`ShiftResult.shifted_frame`) and an HTML table for notebooks.
+contract; :meth:`ShiftResult.from_dict` reads it back), every point of the campaign reduced to
+the reference temperature (:meth:`ShiftResult.shifted_frame`) and an HTML table for notebooks.
+It keeps the result contract of :mod:`ttsp.result_contract`.
 """
 
 from __future__ import annotations
 
 from collections.abc import Mapping
 from dataclasses import dataclass, field
-from html import escape
 
 import numpy as np
 
 from .._validation import bad_value
 from ..data import QUANTITIES, Campaign
 from ..exceptions import DataError
-from ..units import kelvin_to_celsius
+from ..result_contract import ResultContract, none_as_nan, stderr_or_nan
+from ..units import celsius_to_kelvin, kelvin_to_celsius
 
 __all__ = ["ShiftResult", "STDERR_METHOD"]
 
@@ -33,7 +34,7 @@ def _num(v):
 
 
 @dataclass(frozen=True)
-class ShiftResult:
+class ShiftResult(ResultContract):
     """Shift factors of a campaign, their uncertainties and how well the isotherms overlap.
 
     Attributes
@@ -75,8 +76,9 @@ class ShiftResult:
         rms residual of all non-outlier points against the master curves, decades.
     residual_scale_log10 : mapping
         Robust noise scale of each function, decades.
-    warnings : tuple of str
-        Everything the caller should know (also emitted as Python warnings).
+    notes : tuple of str
+        Everything the caller should know (also emitted as Python warnings); ``warnings`` is
+        the same tuple under its former name.
     log10_aT_covariance : array
         Covariance matrix of ``log10_aT`` (decades²) from the same curvature as the stderr, in
         the reference's gauge; with ``fixed_log10_aT`` the fixed shifts are the gauge and their
@@ -88,6 +90,10 @@ class ShiftResult:
         (1 + ρ)/(1 − ρ) ≥ 1 by which the covariance (and the stderr²) was inflated because
         correlated residuals carry fewer independent points than they number
         (:mod:`ttsp._residual_correlation`); the largest over connected groups.
+
+    The result keeps the result contract (:mod:`ttsp.result_contract`): ``params`` and
+    ``stderr`` are the horizontal shifts by isotherm, ``success`` is ``converged``;
+    ``to_frame`` is the shift table (one row per isotherm, so per parameter).
     """
 
     reference_temperature_K: float
@@ -109,7 +115,7 @@ class ShiftResult:
     expansion_coefficient_per_K: float | None = None
     converged: bool = True
     iterations: int = 0
-    warnings: tuple = ()
+    notes: tuple = ()
     log10_aT_covariance: np.ndarray | None = None
     residual_correlation: float = float("nan")
     correlation_inflation: float = 1.0
@@ -127,13 +133,29 @@ class ShiftResult:
     def params(self) -> dict:
         """``{"log10_aT[<T> °C]": value}`` as plain floats."""
         return {f"log10_aT[{t:g} °C]": float(v)
-                for t, v in zip(np.round(self.temperature_C, 6), self.log10_aT)}
+                for t, v in zip(np.round(self.temperature_C, 6), self.log10_aT, strict=True)}
 
     @property
     def stderr(self) -> dict:
         """``{"log10_aT[<T> °C]": stderr}`` as plain floats (NaN for fixed shifts)."""
         return {f"log10_aT[{t:g} °C]": float(v)
-                for t, v in zip(np.round(self.temperature_C, 6), self.log10_aT_stderr)}
+                for t, v in zip(np.round(self.temperature_C, 6), self.log10_aT_stderr, strict=True)}
+
+    @property
+    def warnings(self) -> tuple:
+        """The notes under their former name (read-only)."""
+        return self.notes
+
+    @property
+    def success(self) -> bool:
+        """Whether the shift fit converged."""
+        return bool(self.converged)
+
+    @property
+    def message(self) -> str:
+        """One line on how the fit went."""
+        how = "converged" if self.converged else "did not converge"
+        return f"{how} after {self.iterations} iterations, {len(self)} isotherms"
 
     def __len__(self) -> int:
         return int(self.temperature_K.size)
@@ -161,7 +183,7 @@ class ShiftResult:
                  "log10_bT": float(b), "overlap_quality": _num(q), "flags": list(f)}
                 for tc, a, e, b, q, f in zip(self.temperature_C, self.log10_aT,
                                             self.log10_aT_stderr, self.log10_bT,
-                                            self.overlap_quality, self.flags)]
+                                            self.overlap_quality, self.flags, strict=True)]
         return {"reference_temperature_C": self.reference_temperature_C,
                 "domain": self.domain,
                 "quantities_used": list(self.quantities_used),
@@ -173,7 +195,7 @@ class ShiftResult:
                 "method": self.method, "objective": float(self.objective),
                 "rms_residual": float(self.rms_residual),
                 "residual_scale_log10": {k: float(v) for k, v in self.residual_scale_log10.items()},
-                "converged": bool(self.converged), "warnings": list(self.warnings),
+                "converged": bool(self.converged), "warnings": list(self.notes),
                 "stderr_method": STDERR_METHOD,
                 "residual_lag1_correlation": _num(self.residual_correlation),
                 "stderr_correlation_inflation": float(self.correlation_inflation),
@@ -197,7 +219,7 @@ class ShiftResult:
         if (len(campaign) != len(self)
                 or not np.allclose(campaign.temperatures_K, self.temperature_K, atol=1e-6)
                 or any(i.n_points != m.size for i, m in zip(campaign.isotherms,
-                                                             self.outlier_mask))):
+                                                             self.outlier_mask, strict=True))):
             raise DataError("shifted_frame: the campaign does not match these shift factors "
                             f"(it has {len(campaign)} isotherms, the shifts cover {len(self)}; "
                             "temperatures and point counts must agree)")
@@ -228,16 +250,52 @@ class ShiftResult:
         cols["outlier"] = np.concatenate([np.asarray(m, bool) for m in self.outlier_mask])
         return pd.DataFrame(cols)
 
-    def _repr_html_(self) -> str:
-        head = (f"<b>Shift factors</b>: T<sub>ref</sub> = {self.reference_temperature_C:.2f} °C, "
-                f"{len(self)} isotherms, on {', '.join(self.quantities_used)}; vertical "
-                f"{self.vertical_mode}; rms residual {self.rms_residual:.4f} decades")
-        rows = "".join(
-            f"<tr><td>{tc:.2f}</td><td>{a:.4f}</td><td>{e:.4f}</td><td>{b:.4f}</td>"
-            f"<td>{q:.4f}</td><td>{escape(', '.join(f))}</td></tr>"
-            for tc, a, e, b, q, f in zip(self.temperature_C, self.log10_aT, self.log10_aT_stderr,
-                                         self.log10_bT, self.overlap_quality, self.flags))
-        warn = "".join(f"<li>{escape(w)}</li>" for w in self.warnings)
-        return (f"<div>{head}<table><tr><th>T (°C)</th><th>log10 a<sub>T</sub></th>"
-                f"<th>stderr</th><th>log10 b<sub>T</sub></th><th>overlap rms</th><th>flags</th>"
-                f"</tr>{rows}</table>{'<ul>' + warn + '</ul>' if warn else ''}</div>")
+    @classmethod
+    def from_dict(cls, data: Mapping) -> ShiftResult:
+        """Rebuild the result from :meth:`to_dict` output (or a summary's ``shifting`` section
+        with its ``shift_factors`` put back).
+
+        Temperatures, shifts, stderr (None read as NaN), overlap, flags and the fit's figures
+        come back; not in the dict: the vertical shifts' stderr (NaN), the outlier masks
+        (empty; the flags still count the outliers), the covariance (None) and the iterations.
+        """
+        rows = list(data["shift_factors"])
+
+        def column(key: str) -> np.ndarray:
+            return np.array([stderr_or_nan(r.get(key)) for r in rows])
+
+        t_C = column("temperature_C")
+        alpha = data.get("expansion_coefficient_per_K")
+        return cls(
+            reference_temperature_K=float(celsius_to_kelvin(data["reference_temperature_C"])),
+            temperature_K=np.asarray(celsius_to_kelvin(t_C), dtype=float),
+            log10_aT=column("log10_aT"), log10_aT_stderr=column("log10_aT_stderr"),
+            log10_bT=column("log10_bT"), log10_bT_stderr=np.full(len(rows), np.nan),
+            overlap_quality=column("overlap_quality"),
+            flags=tuple(tuple(r.get("flags") or ()) for r in rows),
+            outlier_mask=tuple(np.zeros(0, bool) for _ in rows),
+            quantities_used=tuple(data.get("quantities_used") or ()),
+            vertical_mode=str(data.get("vertical_mode", "none")),
+            method=str(data.get("method", "")), objective=stderr_or_nan(data.get("objective")),
+            rms_residual=stderr_or_nan(data.get("rms_residual")),
+            domain=str(data.get("domain", "frequency")),
+            residual_scale_log10=none_as_nan(data.get("residual_scale_log10")),
+            expansion_coefficient_per_K=None if alpha is None else float(alpha),
+            converged=bool(data.get("converged", True)),
+            notes=tuple(data.get("notes", data.get("warnings")) or ()),
+            residual_correlation=stderr_or_nan(data.get("residual_lag1_correlation")),
+            correlation_inflation=float(data.get("stderr_correlation_inflation", 1.0)))
+
+    def _html_caption(self) -> str:
+        return "Shift factors"
+
+    def _html_rows(self) -> list[tuple[str, str]]:
+        rows = [("reference temperature", f"{self.reference_temperature_C:.2f} °C"),
+                ("isotherms", f"{len(self)}, shifted on {', '.join(self.quantities_used)}"),
+                ("vertical shift", self.vertical_mode),
+                ("rms residual", f"{self.rms_residual:.4f} decades")]
+        vertical = self.vertical_mode != "none"
+        rows += [(f"{t:g} °C", ", ".join(([f"log10 bT {b:.4f}"] if vertical else []) + list(f)))
+                 for t, b, f in zip(np.round(self.temperature_C, 6), self.log10_bT, self.flags, strict=True)
+                 if f or vertical]
+        return rows

@@ -142,6 +142,6 @@ def _result(campaign: Campaign, options: ShiftOptions, data: FitData, shifts: Sh
         quantities_used=tuple(chosen), vertical_mode=options.vertical, method=method,
         objective=float(diag.objective), rms_residual=diag.rms_residual, domain=campaign.domain,
         residual_scale_log10=scale, expansion_coefficient_per_K=options.alpha,
-        converged=bool(diag.converged), iterations=diag.iterations, warnings=tuple(notes),
+        converged=bool(diag.converged), iterations=diag.iterations, notes=tuple(notes),
         log10_aT_covariance=_read_only(shifts.cov_s), residual_correlation=float(diag.rho_all),
         correlation_inflation=float(diag.inflation_all))
