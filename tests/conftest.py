@@ -1,10 +1,26 @@
-"""Test-session settings shared by every test file.
+"""Test-session settings and fixtures shared by every test file.
 
 The computations are many small linear-algebra problems; a multi-threaded BLAS only adds
 overhead to them (and heavy contention on a shared 2-core machine), so the whole session runs
 with one BLAS thread. Results do not depend on it.
+
+The synthetic campaigns of the tests are written by tests/_campaigns.py; the fixture below hands
+out the campaign file many command-line test files share.
 """
 
+from __future__ import annotations
+
+import pytest
+from _campaigns import write_noisy_campaign
 from threadpoolctl import threadpool_limits
 
 _BLAS_LIMIT = threadpool_limits(limits=1, user_api="blas")
+
+
+@pytest.fixture(scope="module")
+def campaign_file(tmp_path_factory):
+    """The campaign file of the command-line tests (``write_noisy_campaign``: 10 isotherms from
+    0 to 45 °C x 8 frequencies, WLF C1 = 9, C2 = 100 K at 20 °C, 1 % noise), written once per
+    test module; tests must not change it."""
+    return write_noisy_campaign(tmp_path_factory.mktemp("in") / "sweeps.csv")
+
