@@ -4,17 +4,28 @@ The computations are many small linear-algebra problems; a multi-threaded BLAS o
 overhead to them (and heavy contention on a shared 2-core machine), so the whole session runs
 with one BLAS thread. Results do not depend on it.
 
+Hypothesis runs under one profile, ``ttsp``: derandomized (the examples follow from each test's
+source, so a run repeats exactly), with no example database (nothing written to .hypothesis/)
+and a deadline generous enough for a shared 2-core machine.
+
 The synthetic campaigns of the tests are written by tests/_campaigns.py; the fixture below hands
 out the campaign file many command-line test files share.
 """
 
 from __future__ import annotations
 
+from datetime import timedelta
+
 import pytest
 from _campaigns import write_noisy_campaign
+from hypothesis import settings
 from threadpoolctl import threadpool_limits
 
 _BLAS_LIMIT = threadpool_limits(limits=1, user_api="blas")
+
+settings.register_profile("ttsp", derandomize=True, database=None,
+                          deadline=timedelta(seconds=5))
+settings.load_profile("ttsp")
 
 
 @pytest.fixture(scope="module")

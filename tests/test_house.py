@@ -36,3 +36,14 @@ def test_no_function_is_over_80_lines():
                 if n > MAX_FUNCTION_LINES:
                     long.append(f"{p.relative_to(PACKAGE)}:{node.lineno} {node.name} ({n} lines)")
     assert not long, long
+
+
+def test_hypothesis_runs_derandomized_without_a_database():
+    """tests/conftest.py loads the profile 'ttsp' before any test module is imported, so every
+    @given test (its own @settings inherit the rest) repeats its examples exactly and writes no
+    .hypothesis/ folder."""
+    from hypothesis import settings
+
+    assert settings.default.derandomize is True
+    assert settings.default.database is None
+    assert settings.default == settings.get_profile("ttsp")
