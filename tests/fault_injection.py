@@ -34,7 +34,7 @@ import numpy as np
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(Path(__file__).resolve().parent))
 
-from test_robustness import write_campaign  # noqa: E402
+from _campaigns import write_campaign  # noqa: E402
 
 #: Seconds the processes of a killed run may take to go (the workers' watch thread polls
 #: every 0.5 s; the parent-death signal is immediate).

@@ -1,11 +1,11 @@
 """Batch runs (ttsp.batch): manifests, parallel builds, fault isolation, resuming, Dask.
 
-Campaigns are generated here from a known generalized Maxwell spectrum shifted by the WLF law
+Campaigns are generated from a known generalized Maxwell spectrum shifted by the WLF law
 (Williams, Landel & Ferry, J. Am. Chem. Soc. 77:3701, 1955; storage and loss moduli of a Prony
-series as in Ferry, Viscoelastic Properties of Polymers, 3rd ed., 1980, ch. 3), so the numbers
-in the results table can be checked against the truth. They are tiny (5 isotherms x 6
-frequencies) to keep this file quick on a shared machine; the bundled demo campaign is built
-once, for its documented generating law.
+series as in Ferry, Viscoelastic Properties of Polymers, 3rd ed., 1980, ch. 3; ``BATCH`` of
+tests/_campaigns.py), so the numbers in the results table can be checked against the truth. They
+are tiny (5 isotherms x 6 frequencies) to keep this file quick on a shared machine; the bundled
+demo campaign is built once, for its documented generating law.
 """
 
 from __future__ import annotations
@@ -21,6 +21,7 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 import pytest
+from _campaigns import BATCH, write_batch_campaign, write_manifest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
@@ -39,37 +40,8 @@ from ttsp.io.writers import NUMBER_FILES
 from ttsp.runner import run_build
 from ttsp.workflow import BuildOptions
 
-C1, C2_K, T_REF_C = 12.0, 80.0, 56.85
-TAU = 10.0 ** np.arange(-6.0, 4.01, 0.25)
-E_I = 1e9 * np.exp(-0.5 * ((np.log10(TAU) + 1.0) / 1.5) ** 2)
-E_I *= (1e9 - 1e6) / E_I.sum()
-E_INF = 1e6
+T_REF_C = BATCH.reference_C  # °C, the WLF reference of the generated batch campaigns
 DEMO = Path(ttsp.__file__).resolve().parent / "demo_data" / "damping_elastomer_dma.csv"
-
-
-def log10_aT(t_C, c1=C1, c2=C2_K):
-    return -c1 * (t_C - T_REF_C) / (c2 + t_C - T_REF_C)
-
-
-def write_campaign(path: Path, *, seed=0, noise=0.01, c1=C1, c2=C2_K) -> Path:
-    """A 5 x 6 frequency-sweep campaign: exact Prony moduli at ω a_T, 1 % log-normal noise."""
-    rng = np.random.default_rng(seed)
-    f = np.geomspace(0.1, 100.0, 6)
-    rows = ["temperature_C,frequency_Hz,storage_modulus_Pa,loss_modulus_Pa"]
-    for t in T_REF_C + 6.0 * np.arange(-2, 3):
-        wt = np.outer(2 * np.pi * f * 10.0 ** log10_aT(t, c1, c2), TAU)
-        ep = (E_INF + (E_I * wt**2 / (1 + wt**2)).sum(1)) * np.exp(noise * rng.standard_normal(6))
-        epp = (E_I * wt / (1 + wt**2)).sum(1) * np.exp(noise * rng.standard_normal(6))
-        rows += [f"{t:.2f},{a:.8g},{b:.8g},{c:.8g}" for a, b, c in zip(f, ep, epp, strict=True)]
-    path.parent.mkdir(parents=True, exist_ok=True)
-    path.write_text("\n".join(rows) + "\n", encoding="utf-8")
-    return path
-
-
-def write_manifest(path: Path, rows, header="id,path,law,reference_temperature_C") -> Path:
-    path.write_text(header + "\n" + "".join(",".join(map(str, r)) + "\n" for r in rows),
-                    encoding="utf-8")
-    return path
 
 
 def _crash_task(payload):
@@ -87,7 +59,7 @@ def _raising_task(payload):
 def data(tmp_path_factory):
     d = tmp_path_factory.mktemp("campaigns")
     for i in range(3):
-        write_campaign(d / f"c{i}.csv", seed=i)
+        write_batch_campaign(d / f"c{i}.csv", seed=i)
     (d / "bad.csv").write_text("a,b\n1,2\n3,4\n", encoding="utf-8")
     return d
 
@@ -143,10 +115,10 @@ def test_generated_campaigns_recover_their_wlf_law(first_batch):
         row = table.loc[ident]
         assert row["law_model"] == "wlf"
         assert row["reference_temperature_C"] == pytest.approx(T_REF_C)
-        fitted = log10_aT(t, row["law_C1"], row["law_C2_K"])
+        fitted = BATCH.log10_aT(t, row["law_C1"], row["law_C2_K"])
         # 1 % noise on 6 points per isotherm: shift errors of ~0.01 decade (the shifting
         # benchmark reaches rms 0.018 at 2 % noise); 0.03 decade leaves room for the law fit
-        np.testing.assert_allclose(fitted, log10_aT(t), atol=0.03)
+        np.testing.assert_allclose(fitted, BATCH.log10_aT(t), atol=0.03)
 
 
 def test_demo_campaign_recovers_its_generating_law(first_batch):
@@ -219,15 +191,15 @@ def test_rerun_skips_finished_campaigns_and_retries_failed(first_batch, tmp_path
 
 def test_changed_input_or_options_are_rebuilt_force_rebuilds_all(data, tmp_path):
     src = tmp_path / "in"
-    write_campaign(src / "a.csv", seed=4)
-    write_campaign(src / "b.csv", seed=5)
+    write_batch_campaign(src / "a.csv", seed=4)
+    write_batch_campaign(src / "b.csv", seed=5)
     rows = [("a", "a.csv", "wlf", T_REF_C), ("b", "b.csv", "wlf", T_REF_C)]
     manifest = write_manifest(src / "m.csv", rows)
     out = tmp_path / "out"
     first = run_batch(manifest, out, workers=2, quiet=True)
     assert list(first["status"]) == ["ok", "ok"]
 
-    write_campaign(src / "a.csv", seed=6)  # new measurements of campaign a
+    write_batch_campaign(src / "a.csv", seed=6)  # new measurements of campaign a
     second = run_batch(manifest, out, workers=2, quiet=True)
     assert list(second["skipped"]) == [False, True]
     assert second["input_sha256"][0] != first["input_sha256"][0]
@@ -403,7 +375,7 @@ def test_folder_of_campaigns_as_manifest(data, tmp_path):
     folder.mkdir()
     for name in ("c0", "c1"):
         shutil.copy(data / f"{name}.csv", folder / f"{name}.csv")
-    write_campaign(folder / "sub" / "all.csv", seed=9)  # a sub-folder is one campaign
+    write_batch_campaign(folder / "sub" / "all.csv", seed=9)  # a sub-folder is one campaign
     (folder / "README.md").write_text("notes", encoding="utf-8")
     (folder / ".hidden.csv").write_text("x", encoding="utf-8")
     items = read_manifest(folder)
@@ -598,8 +570,8 @@ def test_spectrum_column_and_resume_of_builds_that_did_not_record_it(data, tmp_p
     """A manifest can ask for the continuous spectrum per campaign; a finished build whose
     summary predates an option (no 'spectrum' key) is reused when the option has its default."""
     src = tmp_path / "in"
-    write_campaign(src / "a.csv", seed=4)
-    write_campaign(src / "b.csv", seed=5)
+    write_batch_campaign(src / "a.csv", seed=4)
+    write_batch_campaign(src / "b.csv", seed=5)
     manifest = write_manifest(src / "m.csv", [("a", "a.csv", "true"), ("b", "b.csv", "")],
                               header="id,path,spectrum")
     items = read_manifest(manifest)

@@ -5,7 +5,7 @@ temperature of the table."""
 from __future__ import annotations
 
 import pytest
-from test_batch import T_REF_C, write_campaign, write_manifest
+from _campaigns import BATCH, write_batch_campaign, write_manifest
 
 from ttsp import batch
 from ttsp.batch import run_batch
@@ -14,7 +14,8 @@ from ttsp.batch import run_batch
 def test_start_line_count_and_time_left(tmp_path, capfd):
     data = tmp_path / "data"
     data.mkdir()
-    rows = [(f"c{k}", write_campaign(data / f"c{k}.csv", seed=k), "wlf", T_REF_C) for k in range(3)]
+    rows = [(f"c{k}", write_batch_campaign(data / f"c{k}.csv", seed=k), "wlf", BATCH.reference_C)
+            for k in range(3)]
     manifest = write_manifest(tmp_path / "m.csv", rows)
     run_batch(manifest, tmp_path / "out", workers=1)
     err = capfd.readouterr().err.splitlines()
@@ -54,7 +55,7 @@ def _fast_or_slow_task(payload):
 def test_ctrl_c_says_at_once_what_it_waits_for(tmp_path, capfd, monkeypatch):
     data = tmp_path / "data"
     data.mkdir()
-    rows = [(name, write_campaign(data / f"{name}.csv", seed=k), "wlf", T_REF_C)
+    rows = [(name, write_batch_campaign(data / f"{name}.csv", seed=k), "wlf", BATCH.reference_C)
             for k, name in enumerate(("slow", "fast"))]
     manifest = write_manifest(tmp_path / "m.csv", rows)
     original = batch._Reporter.advance

@@ -23,8 +23,8 @@ from pathlib import Path
 
 import pandas as pd
 import pytest
+from _campaigns import write_batch_campaign, write_manifest
 from fault_injection import tagged_processes
-from test_batch import write_campaign, write_manifest
 from typer.testing import CliRunner
 
 from ttsp import batch
@@ -44,7 +44,7 @@ runner = CliRunner()
 def campaigns(tmp_path_factory):
     d = tmp_path_factory.mktemp("campaigns")
     for i in range(6):
-        write_campaign(d / f"c{i}.csv", seed=i)
+        write_batch_campaign(d / f"c{i}.csv", seed=i)
     return d
 
 

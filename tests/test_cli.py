@@ -1,9 +1,10 @@
 """The command line end to end: build, check, predict, history, demo; exit codes; the output
 contract (summary.json against its JSON Schema); atomic, deterministic outputs.
 
-Campaigns are generated here from a known generalized Maxwell spectrum and WLF law (Williams,
-Landel & Ferry, J. Am. Chem. Soc. 77:3701, 1955), so the numbers the commands print can be
-checked against the truth.
+The campaign (fixture ``campaign_file``, tests/conftest.py) is generated from a known
+generalized Maxwell spectrum and WLF law (Williams, Landel & Ferry, J. Am. Chem. Soc. 77:3701,
+1955; ``SWEEPS`` of tests/_campaigns.py), so the numbers the commands print can be checked against
+the truth.
 """
 
 from __future__ import annotations
@@ -17,46 +18,12 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 import pytest
+from _campaigns import SWEEPS, write_noisy_campaign
 from typer.testing import CliRunner
 
 from ttsp.cli import app
 
 runner = CliRunner()
-
-C1, C2, T_REF_C = 9.0, 100.0, 20.0
-TAU = 10.0 ** np.arange(-9.0, 5.01, 0.5)
-E_I = 1e9 * np.exp(-0.5 * ((np.log10(TAU) + 2.0) / 2.0) ** 2) / 8.0
-E_INF = 2e6
-TEMPERATURES_C = np.arange(0.0, 45.1, 5.0)
-
-
-def log10_aT(t_C):
-    return -C1 * (t_C - T_REF_C) / (C2 + t_C - T_REF_C)
-
-
-def exact(omega):
-    wt = np.outer(omega, TAU)
-    return E_INF + (E_I * wt**2 / (1 + wt**2)).sum(1), (E_I * wt / (1 + wt**2)).sum(1)
-
-
-def write_campaign(path: Path, *, noise=0.01, seed=3, temps=TEMPERATURES_C):
-    rng = np.random.default_rng(seed)
-    f = np.logspace(-1, 2, 8)
-    rows = ["Temperature (°C),Frequency (Hz),E' (MPa),E'' (MPa)"]
-    for t in temps:
-        ep, epp = exact(2 * np.pi * f * 10 ** log10_aT(t))
-        ep = ep * np.exp(noise * rng.standard_normal(f.size))
-        epp = epp * np.exp(noise * rng.standard_normal(f.size))
-        rows += [f"{t:g},{a:.6g},{b / 1e6:.8g},{c / 1e6:.8g}"
-                 for a, b, c in zip(f, ep, epp, strict=True)]
-    path.write_text("\n".join(rows) + "\n", encoding="utf-8")
-    return path
-
-
-@pytest.fixture(scope="module")
-def campaign_file(tmp_path_factory):
-    return write_campaign(tmp_path_factory.mktemp("in") / "sweeps.csv")
-
 
 @pytest.fixture(scope="module")
 def built(campaign_file, tmp_path_factory):
@@ -107,10 +74,10 @@ def test_build_recovers_the_generating_wlf_law(built):
     p = summary["shift_law"]["parameters"]
     # 1 % noise on 8 points per isotherm: shifts good to ~0.01 decade, so C1 within a few %
     # and C2 within ~5 K (their correlation leaves C2 looser than C1).
-    assert p["C1"] == pytest.approx(C1, rel=0.05)
-    assert p["C2_K"] == pytest.approx(C2, abs=6.0)
+    assert p["C1"] == pytest.approx(SWEEPS.c1, rel=0.05)
+    assert p["C2_K"] == pytest.approx(SWEEPS.c2_K, abs=6.0)
     for row in summary["shift_factors"]:
-        assert row["log10_aT"] == pytest.approx(log10_aT(row["temperature_C"]), abs=0.05)
+        assert row["log10_aT"] == pytest.approx(SWEEPS.log10_aT(row["temperature_C"]), abs=0.05)
 
 
 def test_master_curve_keeps_every_input_point(built, campaign_file):
@@ -123,7 +90,7 @@ def test_master_curve_keeps_every_input_point(built, campaign_file):
 def test_material_functions_agree_with_the_exact_spectrum(built):
     mf = pd.read_csv(built / "material_functions.csv")
     inside = ~mf["extrapolated"].astype(bool)
-    ep, epp = exact(1.0 / mf.loc[inside, "time_s"].to_numpy())
+    ep, epp = SWEEPS.moduli(1.0 / mf.loc[inside, "time_s"].to_numpy())
     # Prony fit of 1 %-noise data: E' within a few % of the exact generating function
     assert np.max(np.abs(mf.loc[inside, "storage_modulus_Pa"] / ep - 1)) < 0.05
     # E(t)·D(t) <= 1 for any linear viscoelastic solid (Tschoegl 1989, ch. 4; common practice)
@@ -168,7 +135,7 @@ def test_build_never_touches_its_input(campaign_file, tmp_path):
 def test_output_folder_inside_input_folder_is_refused(tmp_path):
     folder = tmp_path / "camp"
     folder.mkdir()
-    f = write_campaign(folder / "a.csv")
+    f = write_noisy_campaign(folder / "a.csv")
     res = runner.invoke(app, ["build", str(folder), "--out", str(folder), "--no-figures", "-q",
                               "--force"])
     assert res.exit_code == 2
@@ -244,7 +211,8 @@ def test_predict_at_another_temperature_uses_the_shift(built, tmp_path):
                               "--out", str(out)])
     assert res.exit_code == 0, res.output
     table = pd.read_csv(out)
-    ep_exact, _ = exact(2 * np.pi * table["frequency_Hz"].to_numpy() * 10 ** log10_aT(35.0))
+    omega_rad_s = 2 * np.pi * table["frequency_Hz"].to_numpy() * 10 ** SWEEPS.log10_aT(35.0)
+    ep_exact, _ = SWEEPS.moduli(omega_rad_s)
     # model (fitted law + Prony) against the generating functions: a few % at 1 % noise
     np.testing.assert_allclose(table["storage_modulus_Pa"], ep_exact, rtol=0.05)
 

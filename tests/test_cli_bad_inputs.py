@@ -2,7 +2,8 @@
 one line on stderr that names the user's file (or works, where the input is valid).
 
 Campaigns are generated from a generalized Maxwell model with WLF shifts (Williams, Landel &
-Ferry, J. Am. Chem. Soc. 77:3701, 1955; C1 = 9, C2 = 100 K at 20 °C), so good input builds.
+Ferry, J. Am. Chem. Soc. 77:3701, 1955; C1 = 9, C2 = 100 K at 20 °C; tests/_campaigns.py), so
+good input builds.
 """
 
 from __future__ import annotations
@@ -10,56 +11,16 @@ from __future__ import annotations
 import errno
 import sys
 import tempfile
-import warnings
 from pathlib import Path
 
-import numpy as np
 import pytest
-
-TAU = 10.0 ** np.arange(-9.0, 5.01, 0.5)
-E_I = 1e9 * np.exp(-0.5 * ((np.log10(TAU) + 2.0) / 2.0) ** 2) / 8.0
-HEAD = "Temperature (°C),Frequency (Hz),E' (MPa),E'' (MPa)"
-TEMPERATURES_C = np.arange(0.0, 45.1, 5.0)
-
-
-def campaign_rows(temps=TEMPERATURES_C, n_freq=8):
-    """(t °C, f Hz, E' Pa, E'' Pa) of a WLF thermorheologically simple material."""
-    f = np.logspace(-1, 2, n_freq)
-    out = []
-    for t in temps:
-        wt = np.outer(2 * np.pi * f * 10 ** (-9.0 * (t - 20) / (100 + t - 20)), TAU)
-        ep = 2e6 + (E_I * wt**2 / (1 + wt**2)).sum(1)
-        epp = (E_I * wt / (1 + wt**2)).sum(1)
-        out += list(zip([t] * n_freq, f, ep, epp, strict=True))
-    return out
-
-
-def write_campaign(path: Path, rows=None, *, scale=1.0, loss_factor=None, temperature=None):
-    lines = [HEAD]
-    for t, f, ep, epp in rows or campaign_rows():
-        epp = ep * loss_factor if loss_factor is not None else epp
-        lines.append(f"{t:g},{f:.6g},{ep * scale / 1e6:.8g},{epp * scale / 1e6:.8g}")
-    if temperature is not None:
-        lines[-1] = f"{temperature}," + lines[-1].split(",", 1)[1]
-    path.write_text("\n".join(lines) + "\n", encoding="utf-8")
-    return path
+from _campaigns import campaign_rows, write_campaign
+from _console import run_console
 
 
 def run(args, capsys, monkeypatch):
-    """The console entry point in this process: (exit code, stdout, stderr)."""
-    from ttsp.cli import main
-
-    monkeypatch.setattr(sys, "argv", ["ttsp"] + [str(a) for a in args])
-    capsys.readouterr()
-    with warnings.catch_warnings():
-        warnings.simplefilter("ignore")
-        try:
-            main()
-            code = 0
-        except SystemExit as exc:
-            code = exc.code if isinstance(exc.code, int) else (0 if exc.code is None else 1)
-    out, err = capsys.readouterr()
-    return code, out, err
+    """The console entry point in this process, warnings silenced: (exit code, stdout, stderr)."""
+    return run_console(args, capsys, monkeypatch, ignore_warnings=True)
 
 
 def one_line_error(err: str) -> str:
@@ -129,7 +90,7 @@ def test_moduli_near_1e300_pascal(tmp_path, capsys, monkeypatch):
 
 
 def test_a_temperature_of_1e300_celsius(tmp_path, capsys, monkeypatch):
-    path = write_campaign(tmp_path / "hot.csv", temperature="1e300")
+    path = write_campaign(tmp_path / "hot.csv", last_row_temperature="1e300")
     code, _, err = run(["build", path, "--no-figures", "-q", "--out", tmp_path / "o"], capsys,
                        monkeypatch)
     assert code == 2

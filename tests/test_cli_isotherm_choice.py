@@ -2,7 +2,8 @@
 left out is gone from every output, the fixed shift is held, and both are recorded in
 summary.json and the report.
 
-The campaign is test_cli's generated WLF one (C1 = 9, C2 = 100 K at 20 °C; isotherms 0-45 °C).
+The campaign is the command-line tests' generated WLF one (fixture ``campaign_file``; C1 = 9,
+C2 = 100 K at 20 °C; isotherms 0-45 °C).
 """
 
 from __future__ import annotations
@@ -11,7 +12,6 @@ import json
 
 import pandas as pd
 import pytest
-from test_cli import write_campaign
 from typer.testing import CliRunner
 
 from ttsp.cli import app
@@ -21,14 +21,9 @@ runner = CliRunner()
 FAST = ["-T", "20", "--law", "wlf", "--no-cross-validation", "-q"]
 
 
-@pytest.fixture(scope="module")
-def src(tmp_path_factory):
-    return write_campaign(tmp_path_factory.mktemp("choice") / "sweeps.csv")
-
-
-def test_exclude_and_fix_shift_are_applied_and_recorded(src, tmp_path):
+def test_exclude_and_fix_shift_are_applied_and_recorded(campaign_file, tmp_path):
     out = tmp_path / "out"
-    res = runner.invoke(app, ["build", str(src), "--out", str(out), "--exclude", "40",
+    res = runner.invoke(app, ["build", str(campaign_file), "--out", str(out), "--exclude", "40",
                               "--exclude", "45", "--fix-shift", "35=-1.25"] + FAST)
     assert res.exit_code == 0, res.output
     summary = json.loads((out / "summary.json").read_text("utf-8"))
@@ -44,8 +39,8 @@ def test_exclude_and_fix_shift_are_applied_and_recorded(src, tmp_path):
     again = BuildOptions(**summary["options"])
     assert again.exclude_C == (40.0, 45.0) and dict(again.fixed_log10_aT) == {35.0: -1.25}
     html_out = tmp_path / "html"
-    res = runner.invoke(app, ["build", str(src), "--out", str(html_out), "--exclude", "40",
-                              "--fix-shift", "35=-1.25"] + FAST)
+    res = runner.invoke(app, ["build", str(campaign_file), "--out", str(html_out),
+                              "--exclude", "40", "--fix-shift", "35=-1.25"] + FAST)
     assert res.exit_code == 0, res.output
     html = (html_out / "report.html").read_text("utf-8")
     assert "Isotherms left out (°C)" in html and "40 °C" in html
@@ -58,9 +53,10 @@ def test_exclude_and_fix_shift_are_applied_and_recorded(src, tmp_path):
     (["--fix-shift", "35=abc"], "T=LOG10_AT"),
     (["--fix-shift", "35"], "NAME=VALUE"),
 ])
-def test_a_bad_choice_is_one_line_and_exit_2(src, tmp_path, args, message):
+def test_a_bad_choice_is_one_line_and_exit_2(campaign_file, tmp_path, args, message):
     out = tmp_path / "bad"
-    res = runner.invoke(app, ["build", str(src), "--out", str(out), "--no-figures"] + FAST + args)
+    res = runner.invoke(app, ["build", str(campaign_file), "--out", str(out), "--no-figures"]
+                        + FAST + args)
     assert res.exit_code == 2, res.output
     assert message in res.output and "Traceback" not in res.output
     assert not out.exists()

@@ -1,7 +1,8 @@
 """``ttsp predict`` with one value and units (``--time 10y``, ``--frequency 1kHz``) and its
 temperature messages in °C with the isotherm tolerance (issue 16, point 2).
 
-The model is built from the generated WLF campaign of test_cli (isotherms 0-45 °C exactly).
+The model is built from the generated WLF campaign of the command-line tests (fixture
+``campaign_file``; (isotherms 0-45 °C exactly).
 """
 
 from __future__ import annotations
@@ -11,7 +12,6 @@ import io
 import numpy as np
 import pandas as pd
 import pytest
-from test_cli import write_campaign
 from typer.testing import CliRunner
 
 from ttsp.axis_text import FREQUENCY_UNITS_HZ, TIME_UNITS_S, parse_axis
@@ -22,10 +22,10 @@ YEAR_S = 365.25 * 86400.0   # the Julian year (common practice; 3.15576e7 s)
 
 
 @pytest.fixture(scope="module")
-def built(tmp_path_factory):
+def built(campaign_file, tmp_path_factory):
     d = tmp_path_factory.mktemp("predict")
     out = d / "build"
-    res = runner.invoke(app, ["build", str(write_campaign(d / "sweeps.csv")), "-T", "20",
+    res = runner.invoke(app, ["build", str(campaign_file), "-T", "20",
                               "--law", "wlf", "--out", str(out), "--no-figures",
                               "--no-cross-validation", "-q"])
     assert res.exit_code == 0, res.output

@@ -1,15 +1,14 @@
 """``ttsp build`` on the terminal: the output path first (scripts read it), then the law with its
 constants, the verdict of the checks and each warning on one line (issue 16, point 1).
 
-The campaign is the generated WLF one of test_cli (Williams, Landel & Ferry 1955 form, C1 = 9,
-C2 = 100 K at 20 °C).
+The campaign is the generated WLF one of the command-line tests (fixture ``campaign_file``;
+Williams, Landel & Ferry 1955 form, C1 = 9, C2 = 100 K at 20 °C).
 """
 
 from __future__ import annotations
 
 import json
 
-from test_cli import write_campaign
 from typer.testing import CliRunner
 
 from ttsp.cli import app
@@ -17,8 +16,8 @@ from ttsp.cli import app
 runner = CliRunner()
 
 
-def test_build_prints_the_path_then_law_verdict_and_warnings(tmp_path):
-    src = write_campaign(tmp_path / "sweeps.csv")
+def test_build_prints_the_path_then_law_verdict_and_warnings(campaign_file, tmp_path):
+    src = campaign_file
     out = tmp_path / "out"
     res = runner.invoke(app, ["build", str(src), "-T", "20", "--law", "wlf", "--out", str(out),
                               "--no-figures", "--no-cross-validation", "--quiet"])

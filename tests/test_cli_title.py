@@ -1,7 +1,8 @@
 """The report's title (issue 16, point 5): the sample's name from the input's metadata, or
 ``--title``; text from the input or the command line is escaped.
 
-The campaign is test_cli's generated WLF one with a preamble line naming the sample.
+The campaign is the command-line tests' generated WLF one (tests/_campaigns.py) with a preamble
+line naming the sample.
 """
 
 from __future__ import annotations
@@ -9,7 +10,7 @@ from __future__ import annotations
 import re
 import warnings
 
-from test_cli import write_campaign
+from _campaigns import write_noisy_campaign
 from typer.testing import CliRunner
 
 from ttsp.cli import app
@@ -32,7 +33,8 @@ def test_the_sample_name_in_the_metadata_is_the_report_title(tmp_path):
     from ttsp.report import render_report
     from ttsp.workflow import build
 
-    src = with_preamble(write_campaign(tmp_path / "sweeps.csv"), "Sample name: Bracket PA66-GF30")
+    src = with_preamble(write_noisy_campaign(tmp_path / "sweeps.csv"),
+                        "Sample name: Bracket PA66-GF30")
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
         result = build(read_campaign(str(src)), reference_temperature_C=20.0, law="wlf",
@@ -43,7 +45,8 @@ def test_the_sample_name_in_the_metadata_is_the_report_title(tmp_path):
 
 
 def test_title_option_names_the_report_and_is_escaped(tmp_path):
-    src = with_preamble(write_campaign(tmp_path / "sweeps.csv"), "Sample name: Bracket PA66-GF30")
+    src = with_preamble(write_noisy_campaign(tmp_path / "sweeps.csv"),
+                        "Sample name: Bracket PA66-GF30")
     out = tmp_path / "out"
     res = runner.invoke(app, ["build", str(src), "-T", "20", "--law", "wlf", "--out", str(out),
                               "--no-cross-validation", "-q", "--title", "Lot 7 <heat aged>"])

@@ -2,7 +2,7 @@
 rad/s beside material_functions.csv in Hz), and ``--units engineering`` for MPa and 1/MPa, with
 every column name carrying its unit.
 
-The campaign is test_cli's generated WLF one.
+The campaign is the command-line tests' generated WLF one (fixture ``campaign_file``).
 """
 
 from __future__ import annotations
@@ -13,7 +13,6 @@ import math
 import numpy as np
 import pandas as pd
 import pytest
-from test_cli import write_campaign
 from typer.testing import CliRunner
 
 from ttsp.cli import app
@@ -24,13 +23,12 @@ TABLES = ("master_curve.csv", "material_functions.csv", "prony.csv", "prony_fini
 
 
 @pytest.fixture(scope="module")
-def builds(tmp_path_factory):
+def builds(campaign_file, tmp_path_factory):
     d = tmp_path_factory.mktemp("units")
-    src = write_campaign(d / "sweeps.csv")
     out = {}
     for units in ("SI", "engineering"):
         out[units] = d / units
-        res = runner.invoke(app, ["build", str(src), "-T", "20", "--law", "wlf", "--out",
+        res = runner.invoke(app, ["build", str(campaign_file), "-T", "20", "--law", "wlf", "--out",
                                   str(out[units]), "--no-figures", "--no-cross-validation",
                                   "-q", "--units", units])
         assert res.exit_code == 0, res.output
@@ -42,7 +40,7 @@ def test_every_table_gives_frequencies_in_hertz(builds):
         columns = pd.read_csv(builds["SI"] / name).columns
         assert not [c for c in columns if c.endswith("_rad_s")], name
     master = pd.read_csv(builds["SI"] / "master_curve.csv")
-    # the measured frequencies were written 0.1-100 Hz by write_campaign
+    # the measured frequencies were written 0.1-100 Hz by write_noisy_campaign (tests/_campaigns.py)
     assert master["frequency_Hz"].min() == pytest.approx(0.1)
     assert master["frequency_Hz"].max() == pytest.approx(100.0)
     # reduced frequency f·a_T, with log10 a_T from the same row
@@ -69,8 +67,8 @@ def test_engineering_units_are_MPa_and_1_per_MPa(builds):
     assert eng["prony"]["equilibrium_modulus_Pa"] == si["prony"]["equilibrium_modulus_Pa"]
 
 
-def test_an_unknown_unit_system_is_a_usage_error(tmp_path):
-    res = runner.invoke(app, ["build", str(write_campaign(tmp_path / "s.csv")), "--out",
+def test_an_unknown_unit_system_is_a_usage_error(campaign_file, tmp_path):
+    res = runner.invoke(app, ["build", str(campaign_file), "--out",
                               str(tmp_path / "o"), "--units", "imperial", "-q"])
     assert res.exit_code == 2 and "imperial" in res.output
 

@@ -23,6 +23,7 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+from _campaigns import write_campaign
 from hypothesis import HealthCheck, example, given, settings
 from hypothesis import strategies as st
 from typer.testing import CliRunner
@@ -358,27 +359,6 @@ def test_inspect_names_the_planted_bad_cell(tmp_path, row, column, cell, delimit
         assert f"row {row + 2}" in line, line
     if ", column " in line:
         assert header[column] in line, line
-
-
-TAU = 10.0 ** np.arange(-9.0, 5.01, 0.5)
-E_I = 1e9 * np.exp(-0.5 * ((np.log10(TAU) + 2.0) / 2.0) ** 2) / 8.0
-
-
-def write_campaign(path: Path) -> Path:
-    """Generalized Maxwell modes shifted by WLF (C1 = 9, C2 = 100 K at 20 °C; Williams, Landel
-    & Ferry, J. Am. Chem. Soc. 77:3701, 1955), 10 isotherms from 0 to 45 °C, 8 frequencies
-    from 0.1 to 100 Hz."""
-    temps = np.arange(0.0, 45.1, 5.0)
-    f = np.logspace(-1, 2, 8)
-    rows = ["Temperature (°C),Frequency (Hz),E' (MPa),E'' (MPa)"]
-    for t in temps:
-        wt = np.outer(2 * np.pi * f * 10 ** (-9.0 * (t - 20) / (100 + t - 20)), TAU)
-        ep = 2e6 + (E_I * wt**2 / (1 + wt**2)).sum(1)
-        epp = (E_I * wt / (1 + wt**2)).sum(1)
-        rows += [f"{t:g},{a:.6g},{b / 1e6:.8g},{c / 1e6:.8g}"
-                 for a, b, c in zip(f, ep, epp, strict=True)]
-    path.write_text("\n".join(rows) + "\n", encoding="utf-8")
-    return path
 
 
 @pytest.fixture(scope="module")

@@ -91,3 +91,14 @@ def test_public_parameters_carry_type_hints():
     share = annotated / (annotated + len(missing))
     assert share >= MIN_ANNOTATED_SHARE, (f"{share:.1%} of public parameters annotated; "
                                           f"without: {missing[:40]}")
+
+
+def test_hypothesis_runs_derandomized_without_a_database():
+    """tests/conftest.py loads the profile 'ttsp' before any test module is imported, so every
+    @given test (its own @settings inherit the rest) repeats its examples exactly and writes no
+    .hypothesis/ folder."""
+    from hypothesis import settings
+
+    assert settings.default.derandomize is True
+    assert settings.default.database is None
+    assert settings.default == settings.get_profile("ttsp")

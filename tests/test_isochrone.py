@@ -12,7 +12,6 @@ import warnings
 
 import numpy as np
 import pytest
-from test_cli import write_campaign
 from typer.testing import CliRunner
 
 from ttsp.cli import app
@@ -38,9 +37,9 @@ def test_no_onset_when_the_range_starts_inside_the_drop():
     assert onset is None and "glassy plateau" in why
 
 
-def test_build_writes_the_isochrone_at_the_chosen_frequency(tmp_path):
+def test_build_writes_the_isochrone_at_the_chosen_frequency(campaign_file, tmp_path):
     out = tmp_path / "out"
-    res = runner.invoke(app, ["build", str(write_campaign(tmp_path / "s.csv")), "-T", "20",
+    res = runner.invoke(app, ["build", str(campaign_file), "-T", "20",
                               "--law", "wlf", "--out", str(out), "--no-cross-validation", "-q",
                               "--isochrone-frequency", "10Hz"])
     assert res.exit_code == 0, res.output
@@ -53,13 +52,13 @@ def test_build_writes_the_isochrone_at_the_chosen_frequency(tmp_path):
     assert "Isochrone" in html and "Onset of the E′ drop" in html
 
 
-def test_the_figure_marks_the_readings(tmp_path):
+def test_the_figure_marks_the_readings(campaign_file):
     import ttsp
     from ttsp.plotting import plot_isochrone
 
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
-        result = ttsp.build(ttsp.read_campaign(str(write_campaign(tmp_path / "s.csv"))),
+        result = ttsp.build(ttsp.read_campaign(str(campaign_file)),
                             reference_temperature_C=20.0, law="wlf", cross_validation=False)
     ax = plot_isochrone(result)
     labels = [ln.get_label() for ln in ax.lines]
@@ -72,7 +71,7 @@ def test_the_figure_marks_the_readings(tmp_path):
     assert ax.get_xlabel() == "Temperature T (°C)" and ax.get_yscale() == "log"
 
 
-def test_a_bad_isochrone_frequency_is_a_usage_error(tmp_path):
-    res = runner.invoke(app, ["build", str(write_campaign(tmp_path / "s.csv")), "--out",
+def test_a_bad_isochrone_frequency_is_a_usage_error(campaign_file, tmp_path):
+    res = runner.invoke(app, ["build", str(campaign_file), "--out",
                               str(tmp_path / "o"), "-q", "--isochrone-frequency", "1:10:3"])
     assert res.exit_code == 2 and "one frequency" in res.output

@@ -23,7 +23,8 @@ import time
 from pathlib import Path
 
 import pytest
-from test_robustness import tree_hash, write_campaign
+from _campaigns import write_campaign
+from test_robustness import tree_hash
 from typer.testing import CliRunner
 
 from ttsp.cli import app

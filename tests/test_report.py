@@ -18,6 +18,7 @@ from html.parser import HTMLParser
 import numpy as np
 import pandas as pd
 import pytest
+from _campaigns import report_campaign
 
 from ttsp import __version__, report
 from ttsp.checks import CheckResult
@@ -43,22 +44,10 @@ def spectrum(center, total_Pa, width=2.0, span=6.0, n=17):
 
 
 def frequency_campaign(source="synthetic.csv", metadata=None, seed=1):
-    """WLF C1 = 9, C2 = 100 K at 20 °C (Williams, Landel & Ferry 1955); 8 × 8 points."""
-    rng = np.random.default_rng(seed)
-    tau, e = spectrum(-2.0, 1.5e9)
-    f = np.logspace(-1, 2, 8)
-    parts = []
-    for t_c in (-20, -10, 0, 10, 20, 30, 40, 50):
-        log_a = -9.0 * (t_c - 20.0) / (100.0 + t_c - 20.0)
-        wt = (2 * np.pi * f * 10 ** log_a)[:, None] * tau[None, :]
-        noise = 1 + 0.005 * rng.standard_normal((2, f.size))
-        parts.append(pd.DataFrame({
-            "temperature_K": t_c + 273.15, "frequency_rad_s": 2 * np.pi * f,
-            "storage_modulus_Pa": (2e6 + (e * wt ** 2 / (1 + wt ** 2)).sum(1)) * noise[0],
-            "loss_modulus_Pa": (e * wt / (1 + wt ** 2)).sum(1) * noise[1]}))
-    return Campaign.from_frame(pd.concat(parts, ignore_index=True), domain="frequency",
-                               source=source, units_as_read={"f (Hz)": "Hz", "E' (MPa)": "MPa"},
-                               metadata=metadata or {"Material": "test compound"})
+    """WLF C1 = 9, C2 = 100 K at 20 °C (Williams, Landel & Ferry 1955); 8 × 8 points
+    (``report_campaign`` of tests/_campaigns.py)."""
+    return report_campaign(source=source, metadata=metadata or {"Material": "test compound"},
+                           seed=seed, units_as_read={"f (Hz)": "Hz", "E' (MPa)": "MPa"})
 
 
 def time_campaign():

@@ -20,11 +20,10 @@ import warnings
 from pathlib import Path
 
 import numpy as np
-import pandas as pd
 import pytest
+from _campaigns import report_campaign
 
 from ttsp import plotting, report
-from ttsp.data import Campaign
 from ttsp.workflow import build
 
 
@@ -65,25 +64,10 @@ MEASURE = """
 
 
 def frequency_campaign():
-    """Prony spectrum shifted by WLF C1 = 9, C2 = 100 K at 20 °C (Williams, Landel & Ferry 1955)."""
-    rng = np.random.default_rng(3)
-    log_tau = np.linspace(-8, 4, 17)
-    e = np.exp(-0.5 * ((log_tau + 2) / 2) ** 2)
-    e = 1.5e9 * e / e.sum()
-    tau = 10.0 ** log_tau
-    f = np.logspace(-1, 2, 8)
-    parts = []
-    for t_c in (-20, -10, 0, 10, 20, 30, 40, 50):
-        a = 10 ** (-9.0 * (t_c - 20) / (100.0 + t_c - 20))
-        wt = (2 * np.pi * f * a)[:, None] * tau[None, :]
-        noise = 1 + 0.005 * rng.standard_normal((2, f.size))
-        parts.append(pd.DataFrame({
-            "temperature_K": t_c + 273.15, "frequency_rad_s": 2 * np.pi * f,
-            "storage_modulus_Pa": (2e6 + (e * wt ** 2 / (1 + wt ** 2)).sum(1)) * noise[0],
-            "loss_modulus_Pa": (e * wt / (1 + wt ** 2)).sum(1) * noise[1]}))
-    return Campaign.from_frame(pd.concat(parts, ignore_index=True), domain="frequency",
-                               source="browser-test.csv", units_as_read={"f (Hz)": "Hz"},
-                               metadata={"Material": "browser test compound"})
+    """Prony spectrum shifted by WLF C1 = 9, C2 = 100 K at 20 °C (Williams, Landel & Ferry 1955;
+    ``report_campaign`` of tests/_campaigns.py)."""
+    return report_campaign(source="browser-test.csv", seed=3, units_as_read={"f (Hz)": "Hz"},
+                           metadata={"Material": "browser test compound"})
 
 
 @pytest.fixture(scope="module")

@@ -13,8 +13,8 @@
 * The reader fixes of this sweep (decoding, one-line messages, history tables, temporary folders
   of concurrent builds).
 
-Campaigns are generated here from a generalized Maxwell model with WLF shifts (Williams, Landel &
-Ferry, J. Am. Chem. Soc. 77:3701, 1955), so good input builds.
+Campaigns are generated from a generalized Maxwell model with WLF shifts (Williams, Landel &
+Ferry, J. Am. Chem. Soc. 77:3701, 1955; tests/_campaigns.py), so good input builds.
 """
 
 from __future__ import annotations
@@ -34,6 +34,8 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+from _campaigns import write_campaign
+from _console import run_console as run
 
 from ttsp.exceptions import DataError, DroppedRowsWarning
 from ttsp.io.readers import DEFAULT_MAX_POINTS, read_campaign
@@ -42,41 +44,6 @@ ROOT = Path(__file__).resolve().parents[1]
 BAD = Path(__file__).resolve().parent / "data" / "bad"
 with open(BAD / "catalogue.csv", encoding="utf-8", newline="") as _fh:
     CATALOGUE = list(csv.DictReader(_fh))
-
-# ---- a good campaign (WLF C1 = 9, C2 = 100 K at 20 °C; a Gaussian spectrum of Maxwell modes)
-TAU = 10.0 ** np.arange(-9.0, 5.01, 0.5)
-E_I = 1e9 * np.exp(-0.5 * ((np.log10(TAU) + 2.0) / 2.0) ** 2) / 8.0
-
-
-def write_campaign(path: Path, n_freq=8) -> Path:
-    temps = np.arange(0.0, 45.1, 5.0)
-    f = np.logspace(-1, 2, n_freq)
-    rows = ["Temperature (°C),Frequency (Hz),E' (MPa),E'' (MPa)"]
-    for t in temps:
-        wt = np.outer(2 * np.pi * f * 10 ** (-9.0 * (t - 20) / (100 + t - 20)), TAU)
-        ep = 2e6 + (E_I * wt**2 / (1 + wt**2)).sum(1)
-        epp = (E_I * wt / (1 + wt**2)).sum(1)
-        rows += [f"{t:g},{a:.6g},{b / 1e6:.8g},{c / 1e6:.8g}"
-                 for a, b, c in zip(f, ep, epp, strict=True)]
-    path.write_text("\n".join(rows) + "\n", encoding="utf-8")
-    return path
-
-
-def run(args, capsys, monkeypatch, env=None):
-    """Run the console entry point in this process: (exit code, stdout, stderr)."""
-    from ttsp.cli import main
-
-    for k, v in (env or {}).items():
-        monkeypatch.setenv(k, v)
-    monkeypatch.setattr(sys, "argv", ["ttsp"] + [str(a) for a in args])
-    capsys.readouterr()
-    try:
-        main()
-        code = 0
-    except SystemExit as exc:
-        code = exc.code if isinstance(exc.code, int) else (0 if exc.code is None else 1)
-    out, err = capsys.readouterr()
-    return code, out, err
 
 
 def tree_hash(folder: Path) -> dict:
