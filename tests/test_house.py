@@ -102,3 +102,44 @@ def test_hypothesis_runs_derandomized_without_a_database():
     assert settings.default.derandomize is True
     assert settings.default.database is None
     assert settings.default == settings.get_profile("ttsp")
+
+
+def draw_tree(package: Path) -> str:
+    """The package's folders and modules as DEVELOPERS.md draws them: one branch per folder
+    that holds modules, its modules' names wrapped on the following lines."""
+
+    def names_wrapped(names: list[str], width: int) -> list[str]:
+        lines = [names[0]]
+        for name in names[1:]:
+            if len(lines[-1]) + 1 + len(name) > width:
+                lines.append(name)
+            else:
+                lines[-1] += " " + name
+        return lines
+
+    def branch(folder: Path, prefix: str) -> list[str]:
+        folders = sorted(p for p in folder.iterdir() if p.is_dir() and any(p.glob("*.py")))
+        modules = sorted(p.stem for p in folder.glob("*.py"))
+        lines = []
+        for k, sub in enumerate(folders):
+            last = k == len(folders) - 1 and not modules
+            lines.append(f"{prefix}{'└── ' if last else '├── '}{sub.name}/")
+            lines += branch(sub, prefix + ("    " if last else "│   "))
+        if modules:
+            wrapped = names_wrapped(modules, 78 - len(prefix))
+            lines += [prefix + "└── " + wrapped[0]] + [prefix + "    " + w for w in wrapped[1:]]
+        return lines
+
+    return "\n".join([f"{package.name}/", *branch(package, "")])
+
+
+def test_developers_guide_draws_every_module():
+    """DEVELOPERS.md holds the tree of the package as it is (regenerate with draw_tree when a
+    module is added, moved or removed) and names every module in its layer table."""
+    root = Path(__file__).resolve().parents[1]
+    guide = (root / "DEVELOPERS.md").read_text(encoding="utf-8")
+    assert draw_tree(root / "ttsp") in guide, draw_tree(root / "ttsp")
+    table = guide[guide.index("| layer |"):guide.index("`ttsp/__init__.py` exposes")]
+    unnamed = [str(p.relative_to(root)) for p in sorted((root / "ttsp").rglob("*.py"))
+               if p.stem not in ("__init__", "__main__") and f"`{p.stem}`" not in table]
+    assert not unnamed, unnamed

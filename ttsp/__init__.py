@@ -6,6 +6,8 @@ when first used, so ``import ttsp`` stays fast and never loads matplotlib.
 
 from __future__ import annotations
 
+import importlib
+
 __version__ = "0.1.0"   # the one place: pyproject.toml reads it (tool.setuptools.dynamic)
 
 _LAZY = {
@@ -36,8 +38,6 @@ __all__ = sorted(_LAZY) + ["__version__"]
 
 def __getattr__(name):
     if name in _LAZY:
-        import importlib
-
         module, attr = _LAZY[name]
         value = getattr(importlib.import_module(module), attr)
         globals()[name] = value

@@ -12,6 +12,7 @@ process to follow is still alive and ends this one when it is not.
 from __future__ import annotations
 
 import contextlib
+import ctypes
 import os
 import signal
 import threading
@@ -29,8 +30,6 @@ def end_with_parent(sig: int = signal.SIGKILL) -> bool:
     parent's id afterwards: the caller passes it to :func:`watch_process` as well.
     """
     try:
-        import ctypes
-
         libc = ctypes.CDLL(None, use_errno=True)
         return libc.prctl(_PR_SET_PDEATHSIG, int(sig), 0, 0, 0) == 0
     except (OSError, AttributeError, ImportError):

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import asdict, dataclass
+from html import escape
 
 from ._validation import bad_value, check_choice
 from .laws.names import LAW_MODELS
@@ -130,8 +131,6 @@ class BuildOptions:
         return out
 
     def _repr_html_(self) -> str:
-        from html import escape
-
         rows = "".join(f"<tr><th style='text-align:left'>{escape(k)}</th><td>{escape(str(v))}</td></tr>"
                        for k, v in self.to_dict().items())
         return f"<div><b>Build options</b><table>{rows}</table></div>"

@@ -7,10 +7,13 @@ column and row; no traceback); 3 a check failed under ``--strict``; 1 an interna
 from __future__ import annotations
 
 import errno
+import json
 import re
 import sys
 import traceback
+import warnings
 from contextlib import contextmanager
+from dataclasses import replace
 from enum import Enum
 from functools import wraps
 from pathlib import Path
@@ -148,8 +151,6 @@ def inspect_cmd(inputs: list[Path] = typer.Argument(..., help="Files or folders 
                 modulus_kind: str | None = KIND_OPT,
                 temperature_from_name: bool = NAME_T_OPT, repeats: str = REPEATS_OPT):
     """Show what the reader understood (isotherms, ranges, units, dropped rows), fitting nothing."""
-    import warnings
-
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
         campaign = read_inputs(inputs, column, unit, sheet, tolerance, modulus_kind,
@@ -411,9 +412,6 @@ def check_cmd(inputs: list[Path] = typer.Argument(..., help="Files or folders of
     shifted on, bridging of gaps, the master-curve model) is taken as for ``ttsp build``; the
     build runs without cross-validation, which no check uses.
     """
-    import warnings
-    from dataclasses import replace
-
     from .workflow import build
 
     options = replace(_options(reference_temperature, law, vertical, expansion_coefficient,
@@ -471,8 +469,6 @@ def parse_grid(text: str, option: str):
 
 def load_model(path: Path):
     """Read the model that ``ttsp build`` wrote (its summary.json, or the folder holding it)."""
-    import json
-
     from .model import ViscoelasticModel
 
     path = Path(path)
@@ -544,8 +540,6 @@ def predict_cmd(model: Path = typer.Argument(..., help="summary.json of a build,
                     help="Also write <quantity>_low_<unit> and <quantity>_high_<unit>: the "
                          "interval at this level (e.g. 0.95) from the build's bootstrap.")):
     """A material function at any temperature from a build's master curve and shift law."""
-    import warnings
-
     from .axis_text import FREQUENCY_UNITS_HZ, TIME_UNITS_S, parse_axis
     from .exceptions import ExtrapolationWarning
     from .model import TIME_QUANTITIES
@@ -590,8 +584,6 @@ def history_cmd(model: Path = typer.Argument(..., help="summary.json of a build,
                 out: Path | None = typer.Option(None, "--out", "-o",
                                                    help="CSV file (default: stdout).")):
     """Stress under a strain history, or strain under a stress history, with temperatures."""
-    import warnings
-
     from .history import strain_under_stress, stress_under_strain
     from .io.history_table import check_temperatures_for_law, read_history_table, refuse_overflow
 

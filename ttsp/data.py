@@ -18,6 +18,7 @@ from __future__ import annotations
 
 from collections.abc import Mapping
 from dataclasses import dataclass, field
+from html import escape
 from itertools import pairwise
 from types import MappingProxyType
 
@@ -384,8 +385,6 @@ class Campaign:
         return out
 
     def _repr_html_(self) -> str:
-        from html import escape
-
         unit, scale = ("Hz", 1 / (2 * np.pi)) if self.domain == "frequency" else ("s", 1.0)
         xname = "frequency" if self.domain == "frequency" else "time"
         head = (f"<b>Campaign</b> {escape(str(self.source or ''))}: {len(self)} isotherms, "

@@ -26,6 +26,7 @@ from typing import TYPE_CHECKING
 if TYPE_CHECKING:
     from .prony import PronySeries
 
+import warnings
 from dataclasses import dataclass
 
 import numpy as np
@@ -162,8 +163,6 @@ def compare_relaxation_creep(relaxation_time_s: ArrayLike, relaxation_Pa: ArrayL
                         f"needs {SHORT_TIME_MARGIN_DECADES + 0.5:g} decades")
     if points < 2:
         raise bad_value("points", "at least 2", points)
-    import warnings
-
     with warnings.catch_warnings():   # the smoothing fits' own quality is not this check's
         warnings.simplefilter("ignore")
         fe = fit_prony_time(te, e, quantity="relaxation_modulus",

@@ -15,7 +15,12 @@ if TYPE_CHECKING:
 
 import contextlib
 import datetime
+import gc
+import os
+import shutil
+import signal
 import sys
+import threading
 import time
 import warnings
 from pathlib import Path
@@ -95,9 +100,6 @@ class Progress:
             _say(f"ttsp: {self.name} still running ({time.perf_counter() - self.t0:.0f} s)")
 
     def _start_heartbeat(self):
-        import signal
-        import threading
-
         if (self.quiet or self.heartbeat_s <= 0 or not hasattr(signal, "setitimer")
                 or threading.current_thread() is not threading.main_thread()
                 or signal.getsignal(signal.SIGALRM) not in (signal.SIG_DFL, None)):
@@ -106,8 +108,6 @@ class Progress:
         signal.setitimer(signal.ITIMER_REAL, self.heartbeat_s, self.heartbeat_s)
 
     def _stop_heartbeat(self):
-        import signal
-
         if self._previous_handler is None:
             return
         signal.setitimer(signal.ITIMER_REAL, 0.0)
@@ -125,8 +125,6 @@ _FIGURE_GROUPS = (("prony_fit",), ("master_curve", "time_functions"), ("relaxati
 
 
 def _can_fork() -> bool:
-    import os
-
     return hasattr(os, "fork") and (os.cpu_count() or 1) > 1
 
 
@@ -134,10 +132,6 @@ def _fork_drawing(render, folder: Path, *, private: bool = False) -> int:
     """Fork a child that renders figures with ``render()`` and saves them into ``folder``;
     returns its pid. The child leaves with ``os._exit`` and runs no cleanup of the parent; a
     ``private`` folder it removes itself if the parent was killed meanwhile."""
-    import gc
-    import os
-    import shutil
-
     from ._lifetime import end_with_parent
     from .plotting import save_figures
 
@@ -162,8 +156,6 @@ def _fork_drawing(render, folder: Path, *, private: bool = False) -> int:
 
 
 def _child_ok(pid: int) -> bool:
-    import os
-
     _, status = os.waitpid(pid, 0)
     return os.waitstatus_to_exitcode(status) == 0
 
@@ -186,10 +178,6 @@ def start_campaign_figures(campaign: Campaign, tmp: str | Path):
 
 def discard_campaign_figures(handle) -> None:
     """Stop an early drawing child and remove what it drew (the build failed)."""
-    import os
-    import shutil
-    import signal
-
     if handle is not None:
         with contextlib.suppress(OSError):
             os.kill(handle[0], signal.SIGKILL)
@@ -205,10 +193,6 @@ def draw_figures(result, folder: str | Path, *, parallel: bool = True, early=Non
     with figures); ``early`` is the handle of :func:`start_campaign_figures`, whose files are moved
     in. Whatever a child fails to draw is drawn here, so the result never depends on forking.
     """
-    import os
-    import shutil
-    import signal
-
     from .plotting import (
         CAMPAIGN_FIGURES,
         figure_files,

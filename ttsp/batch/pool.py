@@ -8,12 +8,15 @@ to 1 for them unless already set): the parallelism is across campaigns.
 
 from __future__ import annotations
 
+import concurrent.futures as cf
 import contextlib
+import multiprocessing as mp
 import os
 import sys
 import time
 from collections import deque
 from collections.abc import Callable, Sequence
+from concurrent.futures.process import BrokenProcessPool
 
 from .._lifetime import Terminated
 from .rows import error_text, failed_row
@@ -53,8 +56,6 @@ def single_threaded_blas():
 def _mp_context():
     """Fork server where there is one (workers fork from a warm, single-threaded server), else
     the platform's default (spawn on Windows)."""
-    import multiprocessing as mp
-
     if "forkserver" in mp.get_all_start_methods():
         ctx = mp.get_context("forkserver")
         ctx.set_forkserver_preload(list(PRELOAD))
@@ -63,16 +64,12 @@ def _mp_context():
 
 
 def _new_pool(workers: int, ctx):
-    import concurrent.futures as cf
-
     return cf.ProcessPoolExecutor(max_workers=workers, mp_context=ctx, initializer=worker_init,
                                   initargs=(os.getpid(),))
 
 
 def _settle(fut, payload, suspects, on_done) -> None:
     """Report a finished future's row; a payload whose worker died becomes a suspect."""
-    from concurrent.futures.process import BrokenProcessPool
-
     exc = fut.exception()
     if exc is None:
         on_done(fut.result())
@@ -85,9 +82,6 @@ def _settle(fut, payload, suspects, on_done) -> None:
 def _drain(pool, queue, workers: int, task, on_done, inflight: dict) -> list:
     """Keep the pool fed from ``queue`` until it is empty or the pool breaks; returns the
     payloads that were in flight when a worker died (the suspects)."""
-    import concurrent.futures as cf
-    from concurrent.futures.process import BrokenProcessPool
-
     suspects: list = []
     broken = False
     while (queue or inflight) and not suspects and not broken:
@@ -163,8 +157,6 @@ def stop_workers(pool) -> None:
 
 
 def _run_isolated(payload: dict, task, ctx) -> dict:
-    from concurrent.futures.process import BrokenProcessPool
-
     t0 = time.perf_counter()
     with _new_pool(1, ctx) as pool:
         try:

@@ -14,6 +14,7 @@ bad row. Rows left out for a stated reason are counted in ``dropped_rows`` and s
 
 from __future__ import annotations
 
+import hashlib
 import os
 import warnings
 from collections.abc import Mapping, Sequence
@@ -289,8 +290,6 @@ def hash_inputs(paths: str | Path | Sequence[str | Path]) -> str:
     """SHA-256 over the names and bytes of the input files (folders expanded as
     :func:`read_campaign` expands them), in file-name order, so the same inputs give the same
     hash wherever they lie."""
-    import hashlib
-
     h = hashlib.sha256()
     for f in sorted((Path(q) for q in expand_paths(paths)), key=lambda q: q.name):
         h.update(f.name.encode("utf-8") + b"\0")

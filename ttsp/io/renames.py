@@ -11,6 +11,7 @@ run.
 from __future__ import annotations
 
 import contextlib
+import ctypes
 import errno
 import os
 from collections.abc import Callable
@@ -34,8 +35,6 @@ def _libc_renameat2():
     if _renameat2 is None:
         _renameat2 = False
         try:
-            import ctypes
-
             func = ctypes.CDLL(None, use_errno=True).renameat2
             func.argtypes = [ctypes.c_int, ctypes.c_char_p, ctypes.c_int, ctypes.c_char_p,
                              ctypes.c_uint]
@@ -51,8 +50,6 @@ def _call_renameat2(src, dst, flags) -> bool:
     func = _libc_renameat2()
     if not func:
         return False
-    import ctypes
-
     if func(_AT_FDCWD, os.fsencode(src), _AT_FDCWD, os.fsencode(dst), flags) == 0:
         return True
     err = ctypes.get_errno()

@@ -6,6 +6,7 @@ Layer 4 (figures). matplotlib is imported inside the functions only.
 
 from __future__ import annotations
 
+import re
 from pathlib import Path
 
 import numpy as np
@@ -104,8 +105,6 @@ def save_figures(figures, folder: str | Path) -> dict:
     dict
         ``{name: {"png": Path, "svg": Path}}``.
     """
-    import re
-
     import matplotlib
 
     folder = Path(folder)

@@ -13,6 +13,7 @@ if TYPE_CHECKING:
 
     from ..build_result import BuildResult
 
+import re
 import warnings
 from dataclasses import dataclass
 
@@ -40,8 +41,6 @@ _PARAM_DISPLAY = {  # parameter name → (mathtext symbol, unit, shown in °C?)
 def _param_display(name: str):
     if name in _PARAM_DISPLAY:
         return _PARAM_DISPLAY[name]
-    import re
-
     m = re.fullmatch(r"a(\d+)_per_K(\d*)", name)
     if m:
         k = m.group(1)
