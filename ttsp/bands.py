@@ -54,7 +54,12 @@ import numpy as np
 from numpy.typing import ArrayLike
 
 from ._validation import bad_value
-from .exceptions import DataError
+from .exceptions import DataError, FitError, FitQualityWarning
+from .interconvert import relaxation_to_creep
+from .model import QUANTITY_COLUMNS
+from .prony import PronySeries, fit_prony_time, log_spaced_relaxation_times
+from .prony.nnls import solve_nnls as _solve_nnls
+from .shifting import USED_STDERR_CAP
 
 if TYPE_CHECKING:
     from .laws import ShiftLaw, ShiftLawFit
@@ -94,8 +99,6 @@ def check_level(level: float) -> float:
 def band_columns(quantity: str) -> tuple[str, str]:
     """The names of the interval columns of a quantity: ``<quantity>_low_<unit>`` and
     ``<quantity>_high_<unit>`` (``tan_delta_low``, ``tan_delta_high`` without a unit)."""
-    from .model import QUANTITY_COLUMNS
-
     unit = QUANTITY_COLUMNS[quantity][len(quantity):]
     return f"{quantity}_low{unit}", f"{quantity}_high{unit}"
 
@@ -150,8 +153,6 @@ class BandEnsemble:
     def _creep(self):
         cached = self.__dict__.get("_creep_members")
         if cached is None:
-            from .interconvert import relaxation_to_creep
-
             cached = [relaxation_to_creep(s) for s in self._series()]
             object.__setattr__(self, "_creep_members", cached)
         return cached
@@ -326,8 +327,6 @@ def _law_draws(law_fit, rng: np.random.Generator, n: int) -> tuple:
 
 def _shift_draws(shifts, rng: np.random.Generator, n: int) -> np.ndarray:
     """n draws of the per-isotherm shift errors (decades), shape (n, isotherms)."""
-    from .shifting import USED_STDERR_CAP
-
     cov = getattr(shifts, "log10_aT_covariance", None)
     m = len(shifts.temperature_K)
     if cov is not None and np.shape(cov) == (m, m) and np.all(np.isfinite(cov)):
@@ -352,9 +351,6 @@ def _refit_frequency(omega, values: dict, tau, modulus_kind):
     relative residuals, E_∞ free when E' is there, NNLS; Lawson & Hanson 1974) on a fixed τ
     grid, without its diagnostics, which the members do not need (they cost three times the
     solve)."""
-    from .prony import PronySeries
-    from .prony.nnls import solve_nnls as _solve_nnls
-
     wt = omega[:, None] * tau[None, :]
     den = 1.0 + wt * wt
     free_e = "storage_modulus_Pa" in values
@@ -376,9 +372,6 @@ def _refit_member(xs, values: dict, domain: str, tau, quantity, terms_per_decade
                   modulus_kind: str):
     """One member's Prony series refitted to a resampled master curve, or None when that
     resample cannot be fitted (the ensemble goes on without it)."""
-    from .exceptions import FitError
-    from .prony import PronySeries, fit_prony_time
-
     try:
         if domain == "frequency":
             return _refit_frequency(xs, values, tau, modulus_kind)
@@ -421,9 +414,6 @@ def fit_band_ensemble(x, values: dict, isotherm: ArrayLike, *, domain: str, seri
     seed : int
         Seed of the generator: the same build gives the same band.
     """
-    from .exceptions import FitError, FitQualityWarning
-    from .prony import log_spaced_relaxation_times
-
     rng = np.random.default_rng(seed)
     x = np.asarray(x, dtype=float)
     iso = np.asarray(isotherm, dtype=int)

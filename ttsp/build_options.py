@@ -9,6 +9,7 @@ from html import escape
 from ._validation import bad_value, check_choice
 from .laws.names import LAW_MODELS
 from .master_choice import MASTER_CURVE_CHOICES
+from .selection import normalise_exclude, normalise_fixed
 
 SCHEMA_VERSION = "1"
 LAW_CHOICES = ("auto",) + LAW_MODELS
@@ -97,8 +98,6 @@ class BuildOptions:
     bands: bool = True
 
     def __post_init__(self):
-        from .selection import normalise_exclude, normalise_fixed
-
         object.__setattr__(self, "exclude_C", normalise_exclude(self.exclude_C))
         object.__setattr__(self, "fixed_log10_aT", normalise_fixed(self.fixed_log10_aT))
         check_choice("law", self.law, LAW_CHOICES)

@@ -18,8 +18,15 @@ from . import __version__
 from ._arrays import outside_log_range
 from .bands import band_columns
 from .build_options import SCHEMA_VERSION, BuildOptions
+from .checks.result import CheckResult
+from .crossval import CrossValidation
 from .data import Campaign
+from .exceptions import ExtrapolationWarning
+from .laws.results import ShiftLawFit
+from .model import QUANTITY_COLUMNS
 from .result_contract import ResultContract
+from .selection import MATCH_K
+from .shifting.result import ShiftResult
 from .units import celsius_to_kelvin, kelvin_to_celsius
 
 if TYPE_CHECKING:  # the parts' types, for annotations only (they import this layer's peers)
@@ -163,11 +170,6 @@ class BuildResult(ResultContract):
         other parts are not in a summary and come back as None, so only the contract and the
         parts named here can be used.
         """
-        from .checks.result import CheckResult
-        from .crossval import CrossValidation
-        from .laws.results import ShiftLawFit
-        from .shifting.result import ShiftResult
-
         cv = data.get("cross_validation")
         # a partial result: the parts a summary does not hold are None (typed as built)
         return cls(campaign=None, options=BuildOptions(**data["options"]),  # type: ignore[arg-type]
@@ -205,8 +207,6 @@ class BuildResult(ResultContract):
         """
         import pandas as pd
 
-        from .model import QUANTITY_COLUMNS
-
         lo, hi = self.series.valid_reduced_time_range_s
         t = np.logspace(math.log10(lo) - 1, math.log10(hi) + 1,
                         int(round((math.log10(hi) - math.log10(lo) + 2) * points_per_decade)) + 1)
@@ -241,9 +241,6 @@ class BuildResult(ResultContract):
 
     def _functions_at(self, reduced_t, temperature_C: float):
         import pandas as pd
-
-        from .exceptions import ExtrapolationWarning
-        from .selection import MATCH_K  # the isotherm tolerance: within it, not beyond
 
         lo, hi = self.series.valid_reduced_time_range_s
         T_K = float(celsius_to_kelvin(temperature_C))

@@ -13,10 +13,18 @@ from typing import Any
 import numpy as np
 
 from ._arrays import evenly_spaced_indices
+from ._fit_points_diagnosis import explain_no_fit_points
+from .bands import fit_band_ensemble
 from .build_options import BuildOptions
 from .data import REFERENCE_SNAP_K, Campaign
 from .exceptions import DataError, FitError, FitQualityWarning, TtspWarning
+from .laws import fit_shift_law
 from .master_choice import choose_master_curve
+from .model import VerticalShift, ViscoelasticModel
+from .prony import fit_prony_frequency, fit_prony_time
+from .selection import fixed_shifts_K
+from .shifting import USED_STDERR_CAP, shift_isotherms
+from .spectrum import fit_relaxation_spectrum
 from .units import celsius_to_kelvin
 
 #: The Prony fit uses at most this many master-curve points (evenly by rank of reduced x): a
@@ -60,12 +68,8 @@ def _prony_points(campaign: Campaign, shifts):
 
 
 def _fit_prony(campaign: Campaign, shifts, options: BuildOptions):
-    from .prony import fit_prony_frequency, fit_prony_time
-
     used, frame, x_name, columns, quantity = _prony_points(campaign, shifts)
     if len(used) < 2:   # say what is wrong with the data, not that the solver got no abscissa
-        from ._fit_points_diagnosis import explain_no_fit_points
-
         raise DataError(explain_no_fit_points(frame, columns, {q: campaign.symbol(q) for q in
                                                                columns}, campaign.source))
     liquid = options.material == "liquid"
@@ -105,10 +109,6 @@ def fit_steps(campaign: Campaign, options: BuildOptions, t_ref_K: float, step=No
     (``measure_collapse=False``), which only the build reports, and starts its shift fit's
     iterations from the full build's shifts (``start_from``: same optimum, fewer iterations).
     """
-    from .model import VerticalShift, ViscoelasticModel
-    from .selection import fixed_shifts_K
-    from .shifting import shift_isotherms
-
     step = step or (lambda name: None)
     step("shift factors")
     # a fold of the cross-validation may have left a fixed isotherm out
@@ -157,8 +157,6 @@ MAX_BAND_POINTS = 2_000
 def _fit_bands(campaign, shifts, law_fit, prony_fit, options):
     """The bootstrap ensemble of :mod:`ttsp.bands` on the Prony fit's own points (None with a
     warning when it cannot be made: a build is not sunk by an extra)."""
-    from .bands import fit_band_ensemble
-
     used, _, x_name, columns, quantity = _prony_points(campaign, shifts)
     used = used.iloc[evenly_spaced_indices(len(used), MAX_BAND_POINTS)]
     try:
@@ -181,8 +179,6 @@ MAX_SPECTRUM_POINTS = 400
 
 def _fit_spectrum(campaign, shifts, reference_temperature_K):
     """H(τ) of the master curve (frequency data with E' and E''), or None with a warning."""
-    from .spectrum import fit_relaxation_spectrum
-
     if campaign.domain != "frequency" or not {"storage_modulus_Pa", "loss_modulus_Pa"} <= set(
             campaign.quantities):
         warnings.warn("the continuous relaxation spectrum needs frequency data with E' and E''; "
@@ -247,9 +243,6 @@ def _fit_law(shifts, t_ref_K: float, model: str, fixed):
     must join the law (fewer than three others), it counts with its stderr capped at
     USED_STDERR_CAP.
     """
-    from .laws import fit_shift_law
-    from .shifting import USED_STDERR_CAP
-
     use, determined = _law_rows(shifts)
     args = (shifts.temperature_K[use], shifts.log10_aT[use])
     kwargs = {"reference_temperature_K": t_ref_K, "model": model, "fixed": fixed,

@@ -42,6 +42,7 @@ from threadpoolctl import threadpool_limits
 from .data import Campaign
 from .exceptions import DataError, FitError
 from .result_contract import ResultContract, format_number, stderr_or_nan
+from .shifting import default_reference_temperature_K
 from .units import celsius_to_kelvin, kelvin_to_celsius
 
 __all__ = ["HeldOutIsotherm", "CrossValidation", "cross_validate", "SCORED_FUNCTIONS"]
@@ -365,7 +366,6 @@ def cross_validate(campaign: Campaign, options: BuildOptions | None = None,
     CrossValidation
         Empty ``per_isotherm`` for fewer than three isotherms.
     """
-    from .shifting import default_reference_temperature_K
     from .workflow import BuildOptions
 
     options = options or BuildOptions()

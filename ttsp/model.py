@@ -32,6 +32,9 @@ from ._arrays import outside_log_range
 from ._validation import bad_value, check_choice
 from .data import REFERENCE_SNAP_K
 from .exceptions import DataError, ExtrapolationWarning
+from .interconvert import relaxation_to_creep
+from .laws import ShiftLaw
+from .prony import PronySeries
 
 if TYPE_CHECKING:
     from .bands import BandEnsemble
@@ -250,8 +253,6 @@ class ViscoelasticModel:
         """The exact creep (retardation) series of the Prony series, computed once."""
         cached = self.__dict__.get("_creep_series")
         if cached is None:
-            from .interconvert import relaxation_to_creep
-
             cached = relaxation_to_creep(self.series)
             object.__setattr__(self, "_creep_series", cached)
         return cached
@@ -343,9 +344,6 @@ class ViscoelasticModel:
     @classmethod
     def from_summary(cls, summary: dict) -> ViscoelasticModel:
         """Rebuild the model from the ``summary.json`` that ``ttsp build`` writes."""
-        from .laws import ShiftLaw
-        from .prony import PronySeries
-
         for key in ("prony", "shift_law"):
             if not isinstance(summary.get(key), dict):
                 raise DataError(f"summary has no {key!r} section; it must come from 'ttsp build'")

@@ -34,6 +34,7 @@ from numpy.typing import ArrayLike
 
 from ._validation import bad_value
 from .exceptions import DataError
+from .prony import fit_prony_time
 
 __all__ = ["convolution_integral", "RelaxationCreepComparison", "compare_relaxation_creep",
            "SHORT_TIME_MARGIN_DECADES"]
@@ -151,8 +152,6 @@ def compare_relaxation_creep(relaxation_time_s: ArrayLike, relaxation_Pa: ArrayL
     DataError
         If the two curves share less than ``SHORT_TIME_MARGIN_DECADES`` + 0.5 decades of time.
     """
-    from .prony import fit_prony_time
-
     te, e = np.asarray(relaxation_time_s, float), np.asarray(relaxation_Pa, float)
     td, d = np.asarray(creep_time_s, float), np.asarray(creep_1_per_Pa, float)
     lo = max(te.min(), td.min()) * 10 ** SHORT_TIME_MARGIN_DECADES

@@ -21,6 +21,7 @@ from importlib import resources
 import numpy as np
 from markupsafe import Markup
 
+from . import __version__
 from ._validation import bad_value
 from .exceptions import DataError
 from .laws.names import LAW_TITLES as _LAW_NAMES
@@ -665,8 +666,6 @@ def render_report(result, figures_svg: dict, *, created_utc: str, title: str | N
         If a figure is neither SVG text nor PNG bytes, or its SVG carries scripts, event
         handlers, embedded documents or external images.
     """
-    from . import __version__
-
     if not isinstance(created_utc, str):
         raise bad_value("created_utc", "a string (ISO 8601 time)", created_utc)
     figures = _figures(result, figures_svg)

@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from ._validation import bad_value
 from .data import Campaign
 from .exceptions import DataError
 
@@ -68,8 +69,6 @@ def fixed_shifts_K(campaign: Campaign, fixed_C, *, strict: bool = True) -> dict:
 
 def normalise_exclude(values) -> tuple:
     """``exclude_C`` as a sorted tuple of distinct finite floats (°C)."""
-    from ._validation import bad_value
-
     if isinstance(values, (str, bytes)) or not hasattr(values, "__iter__"):
         raise bad_value("exclude_C", "a list of temperatures in °C", values)
     out = []

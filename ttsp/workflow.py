@@ -15,6 +15,7 @@ from numpy.typing import ArrayLike
 
 from . import checks as check_suite  # run_checks looked up at each build: a test may replace it
 from ._arrays import evenly_spaced_rows
+from ._fit_points_diagnosis import fixed_loss_ratio
 from ._validation import bad_value
 from .bands import band_columns
 from .build_options import (
@@ -41,9 +42,15 @@ from .build_steps import (
     fit_steps,
 )
 from .checks import disagreeing_temperatures_K
-from .data import Campaign
+from .crossval import cross_validate
+from .data import Campaign, Isotherm
 from .exceptions import DataError, TtspWarning
+from .model import QUANTITY_COLUMNS, ViscoelasticModel
+from .selection import fixed_shifts_K, without_isotherms
+from .shifting import default_reference_temperature_K
+from .transition import estimate_glass_transition
 from .units import celsius_to_kelvin
+from .vertical_choice import choose_vertical_shift
 
 __all__ = ["BuildOptions", "BuildResult", "build", "check", "predict", "fit_steps", "FittedSteps",
            "band_columns", "LAW_CHOICES", "VERTICAL_CHOICES", "SHIFT_ON_CHOICES", "GAP_CHOICES",
@@ -55,8 +62,6 @@ __all__ = ["BuildOptions", "BuildResult", "build", "check", "predict", "fit_step
 
 def _thin_for_checks(campaign: Campaign, shifts):
     """The campaign and shift result restricted to an even subset of each dense isotherm."""
-    from .data import Isotherm
-
     picks = [evenly_spaced_rows(iso.values.values(), iso.n_points, MAX_CHECK_POINTS_PER_ISOTHERM)
              for iso in campaign.isotherms]
     if all(p.size == iso.n_points for p, iso in zip(picks, campaign.isotherms, strict=True)):
@@ -123,8 +128,6 @@ def _prepared_campaign(campaign, options: BuildOptions) -> Campaign:
     the reason when no master curve can be built from it."""
     if not isinstance(campaign, Campaign):
         raise bad_value("campaign", "a ttsp Campaign (see ttsp.read_campaign)", type(campaign).__name__)
-    from .selection import fixed_shifts_K, without_isotherms
-
     campaign = without_isotherms(campaign, options.exclude_C).with_derived()
     fixed_shifts_K(campaign, dict(options.fixed_log10_aT))   # each names an isotherm
     if not set(campaign.quantities) - {"tan_delta", "phase_angle_rad"}:
@@ -136,8 +139,6 @@ def _prepared_campaign(campaign, options: BuildOptions) -> Campaign:
     if options.shift_on == "tan_delta" and campaign.domain != "frequency":
         raise DataError("shift_on='tan_delta' needs frequency-domain data; this campaign is "
                         "time-domain")
-    from ._fit_points_diagnosis import fixed_loss_ratio
-
     ratio = fixed_loss_ratio(campaign)
     if ratio is not None:
         e1, e2 = campaign.symbol("storage_modulus_Pa"), campaign.symbol("loss_modulus_Pa")
@@ -149,8 +150,6 @@ def _prepared_campaign(campaign, options: BuildOptions) -> Campaign:
 
 
 def _reference_temperature_K(campaign: Campaign, options: BuildOptions) -> float:
-    from .shifting import default_reference_temperature_K
-
     return (celsius_to_kelvin(options.reference_temperature_C).item()
             if options.reference_temperature_C is not None
             else default_reference_temperature_K(campaign))
@@ -178,8 +177,6 @@ def _computed_parts(campaign: Campaign, options: BuildOptions, t_ref_K: float, s
     shifts = _flag_disagreements(shifts, checks)
     glass = None
     if campaign.domain == "frequency":
-        from .transition import estimate_glass_transition
-
         glass = estimate_glass_transition(model, campaign,
                                           frequency_Hz=options.isochrone_frequency_Hz)
     if options.bands:
@@ -189,8 +186,6 @@ def _computed_parts(campaign: Campaign, options: BuildOptions, t_ref_K: float, s
     if not options.cross_validation:
         held_out = None
     elif held_out is None:
-        from .crossval import cross_validate
-
         step("cross-validation")
         held_out = cross_validate(campaign, options, t_ref_K, full=fitted)
     return dict(options=options, fitted=fitted, shifts=shifts, law_fit=law_fit,
@@ -217,7 +212,6 @@ def _choose_vertical(campaign, options, t_ref_K, step):
     """``vertical="auto"``: every candidate built and cross-validated
     (:func:`ttsp.vertical_choice.choose_vertical_shift`), the progress named once."""
     from .crossval import cross_validate
-    from .vertical_choice import choose_vertical_shift
 
     step("shift factors (vertical shift chosen by held-out isotherms)")
     return choose_vertical_shift(
@@ -256,8 +250,6 @@ def predict(model, quantity: str, temperature_C: ArrayLike, *, time_s: ArrayLike
     (:mod:`ttsp.bands`), and the level in ``frame.attrs["band_level"]``.
     """
     import pandas as pd
-
-    from .model import QUANTITY_COLUMNS, ViscoelasticModel
 
     if isinstance(model, BuildResult):
         model = model.model

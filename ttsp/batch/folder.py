@@ -12,6 +12,9 @@ import os
 from pathlib import Path
 
 from ..exceptions import DataError
+from ..io.atomic import output_kind, tidy_leftovers
+from ..io.marker import MARKER, file_sha256, read_marker
+from ..io.renames import folder_lock
 from .results_table import RESULT_FILES
 
 __all__ = ["batch_lock", "check_results_files", "tidy"]
@@ -20,17 +23,12 @@ __all__ = ["batch_lock", "check_results_files", "tidy"]
 def batch_lock(out: Path):
     """The lock of a batch folder: a ``.ttsp-lock`` file inside it (the batch writes there
     anyway; the folder above may not be writable, as when ``--out .`` is the home folder)."""
-    from ..io.renames import folder_lock
-
     return folder_lock(out.resolve(), out, lock_file=out / ".ttsp-lock")
 
 
 def check_results_files(out: Path) -> None:
     """Refuse a batch folder whose results table ttsp did not write (or that was changed since):
     it is the user's, and the batch would overwrite it."""
-    from ..io.atomic import output_kind
-    from ..io.marker import file_sha256, read_marker
-
     kind = output_kind(out)
     if kind not in (None, "batch"):
         raise DataError(f"{out}: is the output folder of a ttsp {kind}, not of a batch; choose "
@@ -49,9 +47,6 @@ def tidy(out: Path) -> None:
     """Remove what killed runs of this batch left in its folder (the caller holds its lock):
     the hidden temporary folders and lock files of killed builds (their previous outputs
     recovered), and half-written copies of the results table and of the marker."""
-    from ..io.atomic import tidy_leftovers
-    from ..io.marker import MARKER
-
     tidy_leftovers(out)
     for name in (*RESULT_FILES, MARKER):   # write_text_atomic's temporary copies
         for stale in out.glob(f".{name}.*"):

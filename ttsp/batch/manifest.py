@@ -21,6 +21,7 @@ from pathlib import Path
 
 from .._validation import bad_value, where
 from ..exceptions import DataError
+from ..io.readers import TABLE_SUFFIXES
 from ..workflow import BuildOptions
 from .results_table import RESULT_FILES
 
@@ -332,8 +333,6 @@ def _item_from_row(values: dict, base: Path, file: str, row: int) -> BatchItem:
 
 
 def _read_folder(folder: Path) -> list:
-    from ..io.readers import TABLE_SUFFIXES
-
     items = []
     for q in sorted(folder.iterdir(), key=lambda q: q.name):
         if q.name.startswith((".", "~$")):

@@ -15,6 +15,8 @@ import math
 import time
 from pathlib import Path
 
+from ..io.atomic import write_text_atomic
+from ..io.marker import file_sha256, write_marker
 from ..io.writers import neutralise_formula
 from .rows import HEAD_COLUMNS, TAIL_COLUMNS
 
@@ -67,8 +69,6 @@ def _csv_cell(value):
 
 def result_hashes(out: Path) -> dict:
     """SHA-256 of the results files now in ``out`` (checked to be ttsp's before the run)."""
-    from ..io.marker import file_sha256
-
     return {name: file_sha256(out / name) for name in RESULT_FILES if (out / name).is_file()}
 
 
@@ -130,9 +130,6 @@ class ResultsTable:
                 "results.csv": header.getvalue() + "".join(c for _, c in formatted)}
 
     def write(self) -> None:
-        from ..io.atomic import write_text_atomic
-        from ..io.marker import write_marker
-
         t0 = time.perf_counter()
         texts = self._texts()
         # the marker first, vouching for the files as they are and as they are about to be,

@@ -12,6 +12,8 @@ from dataclasses import dataclass
 from pathlib import Path
 
 from .. import __version__
+from ..io.readers import hash_inputs
+from ..io.writers import NUMBER_FILES
 from ..workflow import BuildOptions
 from .rows import error_text, failed_row, row_from_summary
 from .worker import payload_for
@@ -36,8 +38,6 @@ def reusable_summary(item, folder: Path, sha: str, figures: bool):
     figures : bool
         Whether this run asks for figures (then ``report.html`` must be there too).
     """
-    from ..io.writers import NUMBER_FILES
-
     try:
         summary = json.loads((folder / "summary.json").read_text(encoding="utf-8"))
     except (OSError, ValueError):
@@ -76,8 +76,6 @@ class Plan:
 
 def plan_campaigns(items, out: Path, *, figures: bool, force: bool) -> Plan:
     """Hash every campaign's inputs and sort the campaigns into to build and known already."""
-    from ..io.readers import hash_inputs
-
     plan = Plan([], [])
     for item in items:
         folder = out / item.id

@@ -16,6 +16,8 @@ import time
 from pathlib import Path
 from typing import Any
 
+from .._lifetime import end_with_parent, watch_process
+from ..runner import run_build
 from ..workflow import BuildOptions
 from .rows import error_text, failed_row, row_from_summary
 
@@ -37,8 +39,6 @@ def build_one(payload: dict) -> dict:
     """Build one campaign into its output folder; return its results row. Never raises."""
     t0 = time.perf_counter()
     try:
-        from ..runner import run_build
-
         # an earlier build of this campaign (and only that) may be replaced
         replace = payload["force"] or (Path(payload["out"]) / "summary.json").is_file()
         # the batch is parallel across campaigns already: no extra drawing process per build
@@ -60,8 +60,6 @@ def worker_init(batch_pid: int | None = None) -> None:
     they end with the batch's main process ``batch_pid`` however it ends (``kill -9`` included):
     the kernel's parent-death signal (Linux) follows the fork server between them, a watch
     thread follows the main process itself."""
-    from .._lifetime import end_with_parent, watch_process
-
     with contextlib.suppress(ValueError, OSError):
         signal.signal(signal.SIGINT, signal.SIG_IGN)
     end_with_parent()

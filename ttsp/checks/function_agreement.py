@@ -35,6 +35,7 @@ import numpy as np
 
 from ..data import Campaign
 from ..exceptions import DataError, FitError
+from ..shifting import shift_isotherms
 from .result import CheckResult
 
 __all__ = ["check_function_agreement", "AGREEMENT_WARN_DECADES", "AGREEMENT_FAIL_DECADES",
@@ -97,8 +98,6 @@ def _reference_temperature_K(shifts) -> float:
 def _single_function_shifts(data: Campaign, t_ref: float, pair: tuple):
     """The shifts found on each function of ``pair`` alone (gaps bridged, spline master
     curve), or None when either cannot be shifted."""
-    from ..shifting import shift_isotherms
-
     fits = []
     try:
         # the single-function fits' own warnings (plateaus, bridges) are about fits the user did

@@ -12,6 +12,7 @@ import numpy as np
 
 from ..data import Campaign
 from ..exceptions import DataError
+from ..relaxation_creep import compare_relaxation_creep
 from ._inputs import _align_shifts, _keep, _reduced_log_x
 from .result import CheckResult, _grade
 
@@ -41,8 +42,6 @@ def check_relaxation_creep(campaign: Campaign, shifts: ShiftResult) -> CheckResu
     present = {q for iso in campaign.isotherms for q in iso.values}
     if not {"relaxation_modulus_Pa", "creep_compliance_1_per_Pa"} <= present:
         return None
-    from ..relaxation_creep import compare_relaxation_creep
-
     table = _align_shifts(campaign, shifts)
     curves: dict[str, tuple[list, list]] = {"relaxation_modulus_Pa": ([], []), "creep_compliance_1_per_Pa": ([], [])}
     for k, iso in enumerate(campaign.isotherms):

@@ -14,6 +14,7 @@ import math
 import numpy as np
 
 from ..data import Campaign
+from ..shifting import USED_STDERR_CAP
 from ._inputs import _align_shifts, _as_campaign, _keep, _reduced_log_x
 from .data_quality import OUTLIER_WARN_PERCENT
 from .noise import NOISE_FLOOR_LOG10, _typical_noise, estimate_noise
@@ -64,8 +65,6 @@ def check_shifted_superposition(campaign: Campaign, shifts: ShiftResult) -> Chec
     sy = _typical_noise(noise, quantity)
     # an undetermined shift reports a stderr up to 100 decades; more abscissa noise than the cap
     # would turn its pairs into ordinate-only comparisons, so it counts as at most that
-    from ..shifting import USED_STDERR_CAP
-
     sx = np.clip(np.where(np.isfinite(table.stderr), table.stderr, 0.0), NOISE_FLOOR_LOG10,
                  USED_STDERR_CAP)
     flagged = sum(int(m.sum()) for m in table.outliers) if table.outliers is not None else 0

@@ -21,6 +21,8 @@ import json
 import os
 from pathlib import Path
 
+from .. import __version__
+
 __all__ = ["MARKER", "file_sha256", "read_marker", "write_marker", "why_not_replaceable",
            "protected_place"]
 
@@ -63,7 +65,6 @@ def write_marker(folder: str | Path, kind: str, files: dict | None = None) -> No
         File name -> list of accepted SHA-256 hashes. Default: every file now in ``folder``
         (sub-folders are not expected in a build's output and are not listed).
     """
-    from .. import __version__
     from .atomic import write_text_atomic
 
     folder = Path(folder)

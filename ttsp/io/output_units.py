@@ -9,6 +9,8 @@ from __future__ import annotations
 
 import math
 
+from .._validation import check_choice
+
 __all__ = ["UNIT_SYSTEMS", "in_output_units"]
 
 UNIT_SYSTEMS = ("SI", "engineering")
@@ -35,8 +37,6 @@ def in_output_units(frame, units: str = "SI"):
         f = ω/(2π) for every ``*frequency*_rad_s`` column (renamed ``*_Hz``); other columns
         unchanged unless engineering units rename and scale them. ``frame.attrs`` are kept.
     """
-    from .._validation import check_choice
-
     check_choice("units", units, UNIT_SYSTEMS)
     out = frame.copy()
     renames = {}

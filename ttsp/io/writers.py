@@ -22,6 +22,7 @@ import numpy as np
 
 from .._arrays import to_plain
 from .atomic import write_text_atomic
+from .output_units import in_output_units
 
 __all__ = ["write_build_numbers", "frame_to_csv_text", "summary_to_json_text", "NUMBER_FILES",
            "neutralise_formula"]
@@ -116,8 +117,6 @@ def write_build_numbers(result, folder: str | Path, *, created_utc: str = "",
     their frequencies are in Hz either way (:mod:`ttsp.io.output_units`), and summary.json stays
     SI (its key ``csv_units`` says which the tables use). Returns a dict file name -> path.
     """
-    from .output_units import in_output_units
-
     folder = Path(folder)
     out = {}
 

@@ -6,6 +6,7 @@ Layer 4 (figures). matplotlib is imported inside the functions only.
 
 from __future__ import annotations
 
+from ..bands import band_columns
 from ._build_data import BAND_LEVEL
 from ._look import _GREY
 
@@ -27,8 +28,6 @@ def _extrapolation_handle():
 
 def _band(ax, frame, quantity, x, factor, colour, order=slice(None)):
     """Shade the band of ``quantity`` when the table has it; True if drawn."""
-    from ..bands import band_columns
-
     low, high = band_columns(quantity)
     if low not in frame:
         return False

@@ -16,6 +16,7 @@ if TYPE_CHECKING:
 
 import numpy as np
 
+from .._log_slope import local_log_slope
 from .._validation import bad_value
 from ._labels import _compliance_unit, _letters, _modulus_unit
 from ._look import (
@@ -36,8 +37,6 @@ __all__ = ["plot_superposition_check", "plot_cross_validation"]
 def _local_log_slope(x, y, half_window: int = 2):
     """d log10 y / d log10 x, smoothed over a fixed width in log x (:mod:`ttsp._log_slope`):
     at least ±``half_window`` neighbours, more on dense records."""
-    from .._log_slope import local_log_slope
-
     return local_log_slope(x, y, min_points=half_window)
 
 
