@@ -28,7 +28,7 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from ttsp.data import Campaign
+from ttsp.data import Campaign, Isotherm
 
 
 @dataclass(frozen=True)
@@ -157,3 +157,52 @@ def report_campaign(*, source, metadata, seed, units_as_read) -> Campaign:
             "storage_modulus_Pa": storage * noise[0], "loss_modulus_Pa": loss * noise[1]}))
     return Campaign.from_frame(pd.concat(parts, ignore_index=True), domain="frequency",
                                source=source, units_as_read=units_as_read, metadata=metadata)
+
+
+# ---- the exact campaigns of the shift tests (Ferry 1980 ch. 3 modes; WLF 1955 shifts) ----
+SHIFT_TEST_TEMPERATURES_K = 300 + 5 * np.arange(9.0)
+
+
+def wlf_320(T, C1=10.0, C2=80.0, Tr=320.0):
+    d = np.asarray(T, float) - Tr
+    return -C1 * d / (C2 + d)
+
+
+def gaussian_spectrum(center, width, E_g=1e9, E_inf=1e6):
+    lt = np.arange(center - 6 * width, center + 6 * width + 1e-9, 0.25)
+    h = np.exp(-0.5 * ((lt - center) / width) ** 2)
+    return 10.0 ** lt, h / h.sum() * (E_g - E_inf), E_inf
+
+
+def shift_test_campaign(temps=SHIFT_TEST_TEMPERATURES_K, *, noise=0.02, seed=1, domain="frequency",
+             log10_bT=None, center=None, width=None, E_inf=1e6, n_points=10, Tr=320.0):
+    """The exact campaign of the shift tests: a Prony spectrum (Gaussian in log τ) under WLF(C1=10, C2=80 K, T_r=320 K); returns
+    (campaign, exact log10 a_T relative to 320 K)."""
+    rng = np.random.default_rng(seed)
+    T = np.asarray(temps, float)
+    laT = wlf_320(T, Tr=Tr)
+    bT = np.zeros_like(T) if log10_bT is None else np.asarray(log10_bT, float)
+    if domain == "frequency":
+        x = 2 * np.pi * np.geomspace(0.1, 100, n_points)
+        lo, hi = np.log10(x[0]) + laT.min(), np.log10(x[-1]) + laT.max()
+        c = -(lo + hi) / 2 if center is None else center
+    else:
+        x = np.geomspace(1.0, 1000.0, n_points)
+        lo, hi = np.log10(x[0]) - laT.max(), np.log10(x[-1]) - laT.min()
+        c = (lo + hi) / 2 if center is None else center
+    tau, Ei, Einf = gaussian_spectrum(c, max((hi - lo) / 6, 1.0) if width is None else width,
+                             E_inf=E_inf)
+    isos = []
+    for k, t in enumerate(T):
+        a, b = 10.0 ** laT[k], 10.0 ** bT[k]
+        if domain == "frequency":
+            wt = x[:, None] * a * tau
+            ep = (Einf + np.sum(Ei * wt ** 2 / (1 + wt ** 2), axis=1)) * b
+            epp = np.sum(Ei * wt / (1 + wt ** 2), axis=1) * b
+            vals = {"storage_modulus_Pa": ep * np.exp(noise * rng.standard_normal(x.size)),
+                    "loss_modulus_Pa": epp * np.exp(noise * rng.standard_normal(x.size))}
+        else:
+            e = (Einf + np.sum(Ei * np.exp(-x[:, None] / (a * tau)), axis=1)) * b
+            vals = {"relaxation_modulus_Pa": e * np.exp(noise * rng.standard_normal(x.size))}
+        isos.append(Isotherm(t, x, vals, np.arange(x.size) + 2 + k * x.size))
+    return Campaign(tuple(isos), domain), laT

@@ -215,3 +215,13 @@ def run_trial(work: Path, command: str, seed: int, *, full_s=None) -> Trial:
                         f"{rerun.stderr.strip()[:200]}; hidden {hidden_now})")
     return Trial(command, seed, figures, signal.Signals(sig).name, delay, full_s, status,
                  len(left), intact, not output, len(hidden), rerun_ok, problems)
+
+
+def wait_gone(tag: str, seconds: float) -> list:
+    deadline = time.monotonic() + seconds
+    while time.monotonic() < deadline:
+        left = tagged_processes(tag)
+        if not left:
+            return []
+        time.sleep(0.05)
+    return tagged_processes(tag)

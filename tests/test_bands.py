@@ -18,7 +18,11 @@ import warnings
 import numpy as np
 import pandas as pd
 import pytest
-from test_shifting import campaign, spectrum, wlf  # the exact-campaign generator of the shift tests
+from _campaigns import gaussian_spectrum as spectrum
+from _campaigns import (  # the exact-campaign generator of the shift tests
+    shift_test_campaign as campaign,
+)
+from _campaigns import wlf_320 as wlf
 from typer.testing import CliRunner
 
 import ttsp

@@ -540,6 +540,7 @@ def cluster():
         yield local
 
 
+@pytest.mark.slow  # end-to-end: a whole command or process
 def test_dask_cluster_gives_the_same_table(cluster, first_batch, tmp_path):
     from distributed import Client
 

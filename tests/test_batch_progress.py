@@ -52,6 +52,7 @@ def _fast_or_slow_task(payload):
     return batch._failed_row(payload, "not built (test)")
 
 
+@pytest.mark.slow  # end-to-end: a whole command or process
 def test_ctrl_c_says_at_once_what_it_waits_for(tmp_path, capfd, monkeypatch):
     data = tmp_path / "data"
     data.mkdir()

@@ -24,7 +24,8 @@ from pathlib import Path
 import pandas as pd
 import pytest
 from _campaigns import write_batch_campaign, write_manifest
-from fault_injection import tagged_processes
+from _processes import dead_pid
+from fault_injection import tagged_processes, wait_gone
 from typer.testing import CliRunner
 
 from ttsp import batch
@@ -154,16 +155,6 @@ def start_batch(campaigns: Path, tmp_path: Path, n: int = 6):
     return proc, out, tag
 
 
-def wait_gone(tag: str, seconds: float) -> list:
-    deadline = time.monotonic() + seconds
-    while time.monotonic() < deadline:
-        left = tagged_processes(tag)
-        if not left:
-            return []
-        time.sleep(0.05)
-    return tagged_processes(tag)
-
-
 def kill_all(pids) -> None:
     for pid in pids:
         try:
@@ -251,7 +242,6 @@ def test_a_batch_tidies_what_killed_runs_left_in_its_folder(campaigns, tmp_path)
     """Leftovers of builds killed in an earlier run (temporary folders of ended processes, lock
     files, a half-written copy of the results table) go; a moved-aside previous output of a
     campaign whose folder is missing comes back."""
-    from test_output_safety import dead_pid
 
     out = tmp_path / "out"
     manifest = manifest_of(campaigns, 2, tmp_path / "m.csv")

@@ -320,6 +320,7 @@ def test_version_via_python_m():
     assert proc.returncode == 0 and proc.stdout.startswith("ttsp ")
 
 
+@pytest.mark.slow  # end-to-end: a whole command or process
 def test_demo_builds_the_bundled_campaign(tmp_path):
     res = runner.invoke(app, ["demo", "--out", str(tmp_path / "demo"), "-q"])
     assert res.exit_code == 0, res.output

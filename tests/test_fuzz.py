@@ -405,6 +405,7 @@ def test_build_gives_the_same_shifts_for_valid_variants_of_one_campaign(tmp_path
     assert got["shift_law"]["parameters"] == summary["shift_law"]["parameters"]
 
 
+@pytest.mark.slow  # end-to-end: a whole command or process
 @pytest.mark.parametrize("name, data, code", [
     ("random.csv", bytes(np.random.default_rng(11).integers(0, 256, 3000, dtype=np.uint8)), 2),
     ("utf16.csv", ("\ufeffTemp (°C)\tFreq (Hz)\tE' (MPa)\n20\t0.5\t100\n20\t5\t200\n40\t0.5\t50\n"

@@ -143,3 +143,17 @@ def test_developers_guide_draws_every_module():
     unnamed = [str(p.relative_to(root)) for p in sorted((root / "ttsp").rglob("*.py"))
                if p.stem not in ("__init__", "__main__") and f"`{p.stem}`" not in table]
     assert not unnamed, unnamed
+
+
+def test_test_modules_never_import_each_other():
+    """A helper two test modules share lives in a helper module (tests/_campaigns.py,
+    tests/_processes.py, tests/_console.py, tests/fault_injection.py), so that running one
+    test module never runs another's module-level code."""
+    tests = Path(__file__).resolve().parent
+    crossing = []
+    for path in sorted(tests.glob("test_*.py")):
+        for node in ast.walk(ast.parse(path.read_text(encoding="utf-8"))):
+            names = ([a.name for a in node.names] if isinstance(node, ast.Import)
+                     else [node.module or ""] if isinstance(node, ast.ImportFrom) else [])
+            crossing += [f"{path.name}: {n}" for n in names if n.startswith("test_")]
+    assert not crossing, crossing

@@ -11,7 +11,7 @@ import re
 import warnings
 
 import numpy as np
-from test_shifting import campaign
+from _campaigns import shift_test_campaign as campaign
 
 from ttsp.data import Campaign, Isotherm
 

@@ -24,7 +24,8 @@ from pathlib import Path
 
 import pytest
 from _campaigns import write_campaign
-from test_robustness import tree_hash
+from _processes import dead_pid, kill_while_writing, tree_hash
+from fault_injection import wait_gone
 from typer.testing import CliRunner
 
 from ttsp.cli import app
@@ -35,15 +36,6 @@ from ttsp.io.marker import MARKER, read_marker, why_not_replaceable
 
 ROOT = Path(__file__).resolve().parents[1]
 runner = CliRunner()
-
-
-def dead_pid() -> int:
-    """A process id no process has: above the kernel's largest (a pid of a process that ended
-    may be reused at once on a busy machine)."""
-    try:
-        return int(Path("/proc/sys/kernel/pid_max").read_text()) + 1
-    except OSError:
-        return 2 ** 22 + 1   # Linux's largest pid_max, 4194304; a common fact, from memory
 
 
 def made_output(folder: Path, kind="build", files=("summary.json",)) -> Path:
@@ -161,6 +153,7 @@ def test_second_run_into_the_same_folder_fails_at_once(tmp_path):
     assert not (tmp_path / ".ttsp-lock-out").exists()   # released and removed
 
 
+@pytest.mark.slow  # end-to-end: a whole command or process
 def test_two_builds_at_once_the_second_fails(tmp_path):
     """End to end: two ``ttsp build`` processes into one --out; the first finishes, the second
     exits 2 naming the first, and the output is the first's."""
@@ -254,6 +247,7 @@ def test_existing_output_without_force_is_refused_before_the_fit(tmp_path, monke
 
 
 # ---- ttsp demo ---------------------------------------------------------------------------------
+@pytest.mark.slow  # end-to-end: a whole command or process
 def test_demo_replaces_only_its_own_untouched_output(tmp_path):
     demo = tmp_path / "demo"
     assert invoke("demo", "--out", demo, "-q").exit_code == 0
@@ -367,18 +361,18 @@ def test_noreplace_rename_never_replaces(tmp_path):
     assert (tmp_path / "c").is_dir() and not a.exists()
 
 
+@pytest.mark.slow  # end-to-end: a whole command or process
 def test_killed_build_leaves_one_hidden_folder_and_the_next_run_tidies(tmp_path):
     """A build with figures draws in forked processes; killed while writing it leaves exactly
     one hidden temporary folder (the early figures are drawn inside it), and the next run
     removes it."""
-    from test_robustness import _kill_while_writing
 
     campaign = write_campaign(tmp_path / "c.csv")
     out = tmp_path / "out"
     made_output(out)
     before = tree_hash(out)
     env = {**os.environ, "PYTHONPATH": str(ROOT)}
-    status = _kill_while_writing(["build", str(campaign), "--out", str(out), "--force", "-q"],
+    status = kill_while_writing(["build", str(campaign), "--out", str(out), "--force", "-q"],
                                  out, env)
     assert status == -signal.SIGKILL
     assert tree_hash(out) == before
@@ -388,10 +382,10 @@ def test_killed_build_leaves_one_hidden_folder_and_the_next_run_tidies(tmp_path)
     assert not list(tmp_path.glob(".ttsp-*"))
 
 
+@pytest.mark.slow  # end-to-end: a whole command or process
 def test_sigterm_during_a_build_exits_143_and_leaves_nothing_hidden(tmp_path):
     """SIGTERM unwinds the build like Ctrl-C: the previous output stays, the temporary folder,
     the lock file and the drawing processes go."""
-    from test_batch_safety import wait_gone
 
     campaign = write_campaign(tmp_path / "c.csv")
     out = made_output(tmp_path / "out")

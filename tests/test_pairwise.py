@@ -8,7 +8,9 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
-from test_shifting import campaign  # the exact-campaign generator of the shift tests
+from _campaigns import (
+    shift_test_campaign as campaign,  # the exact-campaign generator of the shift tests
+)
 
 from ttsp.pairwise import chained_pairwise_log10_aT, collapse_functions, neighbour_mismatch
 

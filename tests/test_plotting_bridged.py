@@ -12,7 +12,7 @@ import warnings
 
 import numpy as np
 import pytest
-from test_shifting import campaign
+from _campaigns import shift_test_campaign as campaign
 
 pytest.importorskip("matplotlib")
 

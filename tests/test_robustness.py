@@ -28,7 +28,6 @@ import runpy
 import signal
 import subprocess
 import sys
-import time
 import warnings
 from pathlib import Path
 
@@ -36,6 +35,7 @@ import numpy as np
 import pytest
 from _campaigns import write_campaign
 from _console import run_console as run
+from _processes import kill_while_writing, tree_hash
 
 from ttsp.exceptions import DataError, DroppedRowsWarning
 from ttsp.io.readers import DEFAULT_MAX_POINTS, read_campaign
@@ -44,11 +44,6 @@ ROOT = Path(__file__).resolve().parents[1]
 BAD = Path(__file__).resolve().parent / "data" / "bad"
 with open(BAD / "catalogue.csv", encoding="utf-8", newline="") as _fh:
     CATALOGUE = list(csv.DictReader(_fh))
-
-
-def tree_hash(folder: Path) -> dict:
-    return {str(p.relative_to(folder)): hashlib.sha256(p.read_bytes()).hexdigest()
-            for p in sorted(folder.rglob("*")) if p.is_file()}
 
 
 def sha(path: Path) -> str:
@@ -298,6 +293,7 @@ def test_internal_error_traceback_only_with_debug(inputs, tmp_path, capsys, monk
     assert not (tmp_path / "o").exists()
 
 
+@pytest.mark.slow  # end-to-end: a whole command or process
 @pytest.mark.parametrize("debug", [False, True])
 def test_internal_error_in_a_real_process(inputs, tmp_path, debug):
     """End to end through python -m ttsp: a sitecustomize plants the fault in the workflow."""
@@ -347,29 +343,7 @@ def test_absurd_frequency_span_is_bad_input_not_an_internal_error(tmp_path, caps
 
 
 # ---- atomic outputs under SIGKILL -------------------------------------------------------------------
-def _kill_while_writing(args, out: Path, env) -> int:
-    """Start a build, wait until it has begun writing its temporary folder, SIGKILL it (and the
-    process it forks to draw figures). Returns the exit status (-9 when killed)."""
-    proc = subprocess.Popen([sys.executable, "-m", "ttsp"] + args, env=env,
-                            stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL,
-                            start_new_session=True)
-    try:
-        deadline = time.monotonic() + 120
-        while time.monotonic() < deadline:
-            started = [p for p in out.parent.glob(f".ttsp-tmp-{out.name}.*")
-                       if (p / "summary.json").exists()]
-            if started or proc.poll() is not None:
-                break
-            time.sleep(0.005)
-        assert proc.poll() is None, "the build finished before it could be killed"
-        os.killpg(proc.pid, signal.SIGKILL)
-        return proc.wait(timeout=60)
-    finally:
-        if proc.poll() is None:  # never leave our own process behind
-            os.killpg(proc.pid, signal.SIGKILL)
-            proc.wait(timeout=60)
-
-
+@pytest.mark.slow  # end-to-end: a whole command or process
 @pytest.mark.parametrize("previous", [False, True], ids=["no previous output",
                                                          "a previous output"])
 def test_sigkill_during_a_build_leaves_the_previous_output_or_none(previous, tmp_path, capsys,
@@ -384,7 +358,7 @@ def test_sigkill_during_a_build_leaves_the_previous_output_or_none(previous, tmp
         before = tree_hash(out)
     env = {**os.environ, "PYTHONPATH": str(ROOT)}
     # with figures the writing takes seconds: the kill lands while the folder is half written
-    status = _kill_while_writing(["build", str(campaign), "--out", str(out), "--force", "-q"],
+    status = kill_while_writing(["build", str(campaign), "--out", str(out), "--force", "-q"],
                                  out, env)
     assert status == -signal.SIGKILL
     if previous:

@@ -16,7 +16,9 @@ from pathlib import Path
 import jsonschema
 import numpy as np
 import pytest
-from test_shifting import campaign  # the exact-campaign generator of the shift tests
+from _campaigns import (
+    shift_test_campaign as campaign,  # the exact-campaign generator of the shift tests
+)
 from typer.testing import CliRunner
 
 import ttsp
