@@ -179,12 +179,28 @@ def verdicts(campaign):
     return out, res
 
 
+def _collapse_ratio(result):
+    """Largest ratio over isotherms of the build's rms misfit against the master curve
+    (overlap quality, decades) to the isotherm's noise (checks/noise.py: the larger of E' and
+    E'', stabilised by the typical noise): how far the joint shift fails to collapse the data."""
+    from ttsp.checks.noise import estimate_noise
+
+    noise = estimate_noise(result.campaign)
+    typical = max(noise["typical"].get(q, 0.0) for q in ("storage_modulus_Pa", "loss_modulus_Pa"))
+    own = np.array([np.nanmax([row.get("storage_modulus_Pa", np.nan),
+                               row.get("loss_modulus_Pa", np.nan)])
+                    for row in noise["per_isotherm"]])
+    sigma = np.sqrt(0.5 * (np.where(np.isfinite(own), own, typical) ** 2 + typical ** 2))
+    ratio = np.asarray(result.shifts.overlap_quality, float) / sigma
+    return float(np.nanmax(ratio))
+
+
 def _separating_statistics(result):
-    """Candidate statistics of the function_agreement table of a build: the largest
+    """Candidate statistics of a build: from its function_agreement table the largest
     per-isotherm |z|, the weighted trend's |z| and drift (decades), the largest pairwise |z| of
     two informative isotherms, the ordinary-least-squares trend's |t| (residual scatter as its
-    noise) and drift; None when the check did not run or fewer than 3 isotherms are
-    informative."""
+    noise) and drift; and the collapse ratio (:func:`_collapse_ratio`). None when the check did
+    not run or fewer than 3 isotherms are informative."""
     from ttsp.checks.function_agreement import AGREEMENT_TOLERANCE_DECADES, _build_shifts_at
 
     agree = [c for c in result.checks if c.name == "function_agreement"]
@@ -208,7 +224,8 @@ def _separating_statistics(result):
             "trend drift": trend["drift_decades"],
             "pair |z|": float(np.max(np.abs(d[i] - d[j]) / np.sqrt(se[i] ** 2 + se[j] ** 2))),
             "OLS |t|": abs(float(slope / ols_se)),
-            "OLS drift": abs(float(slope)) * float(np.ptp(log_aT))}
+            "OLS drift": abs(float(slope)) * float(np.ptp(log_aT)),
+            "collapse ratio": _collapse_ratio(result)}
 
 
 def oracle(n_simple, n_per_strength, false_warn=0.10):
@@ -271,7 +288,7 @@ def main(argv=None):
     args = p.parse_args(argv)
     n_simple, n_per_strength = (60, 3) if args.quick else (240, 10)
     if args.oracle:
-        oracle(n_simple, n_per_strength)
+        oracle(n_simple, 2 * n_per_strength)   # twice the seeds: the rates at 0.1 decade
         return
     t0 = time.perf_counter()
 
