@@ -478,6 +478,22 @@ def test_rise_within_the_uncertainty_warns():
     assert "within its uncertainty" in result.message
 
 
+def test_rise_within_the_uncertainty_at_undetermined_shifts_is_not_counted():
+    """The same rise between isotherms whose shifts the data do not fix (flag low-information,
+    a plateau) is listed but not counted: on the benchmark's simple campaigns every such warning
+    was noise (bench_checks.py); a rise beyond the uncertainty there still fails."""
+    t = np.array([0, 10, 20, 30.0]) + 273.15
+    flags = ((), ("low-information",), ("low-information",), ())
+    within = checks.check_monotonic_shifts(
+        Shifts(t, np.array([2, 1, 1.05, 0]), np.full(4, 0.05), flags=flags))
+    assert within.status == "pass" and within.value == 0.0
+    assert within.details["uncounted_rises"][0]["undetermined"] is True
+    assert "not counted" in within.message
+    beyond = checks.check_monotonic_shifts(
+        Shifts(t, np.array([2, 1, 1.5, 0]), np.full(4, 0.05), flags=flags))
+    assert beyond.status == "fail" and beyond.value == 1.0
+
+
 def test_reversed_sign_convention_is_recognised():
     t = np.array([0, 10, 20, 30.0]) + 273.15
     result = checks.check_monotonic_shifts(Shifts(t, np.array([-3, -1, 0, 1.0])))

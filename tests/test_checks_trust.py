@@ -201,3 +201,37 @@ def test_kramers_kronig_names_the_worst_isotherms():
     assert kk.status in ("warn", "fail")
     assert "largest at" in kk.message and "°C (" in kk.message
     assert len(kk.details["worst_isotherms"]) == 3
+
+
+def _bench_two_process(strength, seed):
+    """A two_process campaign of benchmarks/bench_checks.py (two spectra, each on its own WLF
+    law; the laws differ by ``strength`` decades at the end of the range)."""
+    root = str(Path(__file__).resolve().parents[1])
+    if root not in sys.path:
+        sys.path.insert(0, root)
+    from benchmarks.bench_checks import complex_case
+
+    return complex_case("two_process", strength, seed)
+
+
+def test_two_processes_drifting_apart_are_flagged_by_the_trend():
+    """Two processes whose laws differ by 0.3 decade (benchmark seed 115202): no isotherm's
+    single-function shifts differ beyond their own errors, but their difference drifts steadily
+    with log a_T (about 0.16 decade over the range, slope 3.9 standard errors): the pooled trend
+    flags it, and the message says it is a drift, not one isotherm."""
+    result = {c.name: c for c in checks_of(_bench_two_process(0.3, 115202))}
+    agree = result["function_agreement"]
+    assert agree.status == "warn"
+    assert agree.details["trend"]["significant"]
+    assert agree.details["disagreeing_temperatures_C"] == []
+    assert agree.value == pytest.approx(agree.details["trend"]["drift_decades"])
+    assert "drifts" in agree.message
+
+
+def test_one_law_shows_no_significant_trend():
+    """A simple campaign (one WLF law, 2 % noise): the trend of the single-function shift
+    difference stays within its thresholds, so function_agreement passes."""
+    result = {c.name: c for c in checks_of(campaign(TEMPS_K, wlf, wlf, noise=0.02, seed=1))}
+    agree = result["function_agreement"]
+    assert agree.status == "pass"
+    assert not agree.details["trend"]["significant"]

@@ -25,7 +25,8 @@ The checks
     Prony series and the other is predicted from it.
 ``function_agreement``
     Shifts found on E' alone and on E'' alone, compared isotherm by isotherm against their
-    standard errors; a disagreement names the isotherms and its size in decades.
+    standard errors, and their difference tested for a steady drift with log a_T; a
+    disagreement names the isotherms (or the drift) and its size in decades.
 ``overlap_coverage``
     Decades of overlap in the ordinate between neighbouring isotherms; gaps named.
 ``monotonic_shifts``
@@ -81,6 +82,8 @@ from .data_quality import (
 from .function_agreement import (
                            AGREEMENT_FAIL_DECADES,
                            AGREEMENT_TOLERANCE_DECADES,
+                           AGREEMENT_TREND_DECADES,
+                           AGREEMENT_TREND_Z,
                            AGREEMENT_WARN_DECADES,
                            AGREEMENT_Z,
                            check_function_agreement,
@@ -161,7 +164,7 @@ __all__ = [
     "KK_WARN_PERCENT", "KK_FAIL_PERCENT", "KK_MIN_RATIO", "KK_NOISE_FACTOR", "KK_EDGE_DECADES",
     "KK_TERMS_PER_DECADE",
     "AGREEMENT_WARN_DECADES", "AGREEMENT_FAIL_DECADES", "AGREEMENT_Z",
-    "AGREEMENT_TOLERANCE_DECADES",
+    "AGREEMENT_TOLERANCE_DECADES", "AGREEMENT_TREND_Z", "AGREEMENT_TREND_DECADES",
     "MIN_OVERLAP_DECADES", "MIN_OVERLAP_FRACTION", "GAP_NOISE_FACTOR",
     "MONOTONIC_SIGMA",
     "LAW_PATTERN_ALPHA", "LAW_RESIDUAL_FLOOR_DECADES", "LAW_RESIDUAL_FAIL_DECADES",
