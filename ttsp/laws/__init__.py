@@ -66,7 +66,8 @@ _HOME = {
     "MAX_HELD_OUT_ROWS": "choice",
     "HELD_OUT_GAIN_RATIO": "choice",
     "HELD_OUT_GAIN_MIN": "choice",
-    "HELD_OUT_GAIN_RATIO_POLYNOMIAL": "choice",
+    "BIC_VERY_STRONG": "choice",
+    "LACK_OF_FIT_P": "choice",
 }
 
 __all__ = [

@@ -91,7 +91,7 @@ def fit_shift_law(temperature_K: Any, log10_aT: Any, *, reference_temperature_K:
         (low, high) for parameters, e.g. ``{"C2_K": (10, 300)}``, intersected with the limits
         that keep the law defined over the data (e.g. C2 > T_ref - min T for WLF).
     polynomial_order : int
-        Order of the polynomial law (default 2), also used by ``"auto"``.
+        Order of the polynomial law (default 2).
 
     Returns
     -------
@@ -264,7 +264,8 @@ def _choose(model: str, models: tuple, candidates: dict, table: ShiftTable,
         return (ranking[0], f"the {ranking[0]} law was the only one that could be fitted to "
                             f"{table.n} points", {})
     held_out = held_out_scores(candidates, table, order)
-    chosen, reason = choose_by_held_out(candidates, held_out, models, weighted=table.weighted)
+    chosen, reason = choose_by_held_out(candidates, held_out, models, weighted=table.weighted,
+                                        n_rows=table.weigh.size)
     return chosen, reason, held_out
 
 

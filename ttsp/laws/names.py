@@ -23,7 +23,11 @@ LAW_MODELS: tuple[str, ...] = (WLF, ARRHENIUS, WLF_ARRHENIUS, VFT, POLYNOMIAL)
 #: Laws compared by ``fit_shift_law(model="auto")``, in order of preference on a tie.
 #: VFT is left out: it is the same law as WLF written with other constants (T_inf = T_ref - C2,
 #: B = C1 C2), so it would always tie with WLF; convert a WLF result with ``.to_vft()``.
-AUTO_MODELS: tuple[str, ...] = (WLF, ARRHENIUS, POLYNOMIAL, WLF_ARRHENIUS)
+#: The polynomial is left out too: an empirical law, it fits on request only. On the real
+#: binders of the benchmark, built without their 46 °C isotherm, it won the leave-one-out
+#: comparison on five of five and then missed that isotherm's shift by 0.07 decade (14-17 %
+#: rms on G′ and G″), where WLF missed it by 0.02 (5-6 %).
+AUTO_MODELS: tuple[str, ...] = (WLF, ARRHENIUS, WLF_ARRHENIUS)
 
 #: Titles of the laws in the report.
 LAW_TITLES: dict[str, str] = {WLF: "WLF", ARRHENIUS: "Arrhenius",
