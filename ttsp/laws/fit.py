@@ -26,7 +26,7 @@ from .._validation import bad_value, check_choice, check_finite, check_positive
 from ..exceptions import DataError, FitError, FitQualityWarning
 from ._solver import Outcome, fit_one
 from ._table import ShiftTable, checked_shifts, weighted_table
-from .choice import choose_by_held_out, held_out_scores
+from .choice import HELD_OUT_GAIN_MIN, choose_by_held_out, held_out_scores
 from .names import AUTO_MODELS
 from .registry import SHIFT_LAWS
 from .results import ShiftLawFit
@@ -117,8 +117,9 @@ def fit_shift_law(temperature_K: Any, log10_aT: Any, *, reference_temperature_K:
     table = weighted_table(T, y, tr, stderr, covariance)
     models = AUTO_MODELS if model == "auto" else (model,)
     fixed_all, bounds_all = _checked_fixed_and_bounds(fixed, bounds, models, model, order)
-    rows, candidates = _fit_candidates(models, model, table, fixed_all, bounds_all, order)
-    chosen, reason, held_out = _choose(model, models, candidates, table, order)
+    rows, candidates, held_out = _fit_candidates(models, model, table, fixed_all, bounds_all,
+                                                 order)
+    chosen, reason = _choose(model, models, candidates, held_out, table)
     _complete_rows(rows, candidates[chosen].bic, held_out)
     result = _fit_result(table, candidates[chosen], rows, reason)
     for note in result.notes:
@@ -172,20 +173,57 @@ def _check_fixed_and_bounds(fixed, bounds, allowed: Iterable[str], what: str):
 
 
 def _fit_candidates(models: tuple, model: str, table: ShiftTable, fixed_all: dict,
-                    bounds_all: dict, order: int) -> tuple[list, dict]:
-    """Every law of ``models`` fitted: one row each for ``candidates``, and the laws fitted.
-    Under ``"auto"`` a law that cannot be fitted is a row with its reason; otherwise it
-    raises."""
-    rows, candidates = [], {}
-    for m in models:
-        row, candidate = _fit_candidate(m, model, table, fixed_all, bounds_all, order)
-        rows.append(row)
+                    bounds_all: dict, order: int) -> tuple[list, dict, dict]:
+    """Every law of ``models`` fitted: one row each for ``candidates`` (in the order of
+    ``models``), the laws fitted, and under ``"auto"`` each one's held-out score. Under
+    ``"auto"`` a law that cannot be fitted is a row with its reason; otherwise it raises.
+
+    Under ``"auto"`` the laws are fitted from the fewest constants up, and a law that could
+    not be preferred whatever its score is not fitted (:func:`_cannot_be_preferred`)."""
+    rows: dict = {}
+    candidates: dict = {}
+    held_out: dict = {}
+    by_size = sorted(models, key=lambda m: (len(SHIFT_LAWS[m].fit_parameter_names(order)),
+                                            models.index(m)))
+    for m in by_size:
+        why = (_cannot_be_preferred(m, models, candidates, held_out, table, order)
+               if model == "auto" else "")
+        if why:
+            rows[m] = {"model": m, "n_free": len(SHIFT_LAWS[m].fit_parameter_names(order)),
+                       "status": "not needed", "detail": why,
+                       "chi_square": None, "aic": None, "bic": None, "delta_bic": None}
+            continue
+        rows[m], candidate = _fit_candidate(m, model, table, fixed_all, bounds_all, order)
         if candidate is not None:
             candidates[m] = candidate
+            if model == "auto":
+                held_out.update(held_out_scores({m: candidate}, table, order))
     if not candidates:
         raise FitError("no shift law could be fitted: "
-                       + "; ".join(r["detail"] for r in rows))
-    return rows, candidates
+                       + "; ".join(rows[m]["detail"] for m in models))
+    return [rows[m] for m in models], candidates, held_out
+
+
+def _cannot_be_preferred(m: str, models: tuple, candidates: dict, held_out: dict,
+                         table: ShiftTable, order: int) -> str:
+    """Why law ``m`` need not be fitted, or "": the laws with fewer constants already predict
+    the left-out shifts within their noise (the choice so far scores at most
+    HELD_OUT_GAIN_MIN squared standard errors), so ``m``, with more constants and a table
+    long enough to score it by held-out prediction, could not beat it by more than that. The
+    outcome is the same as fitting it; the saving is the costliest fit of the build (the
+    four-constant WLF-Arrhenius law and its refits, three quarters of the law fit's time)."""
+    k = len(SHIFT_LAWS[m].fit_parameter_names(order))
+    simpler = {c: v for c, v in candidates.items() if len(v.outcome.free_names) < k}
+    if not (simpler and table.weighted and table.T_fit.size - 1 > k and table.T_fit.size > 2):
+        return ""
+    chosen, _ = choose_by_held_out(simpler, {c: held_out[c] for c in simpler}, models,
+                                   weighted=True, n_rows=table.weigh.size)
+    a = held_out[chosen]
+    if not (math.isfinite(a) and a <= HELD_OUT_GAIN_MIN):
+        return ""
+    return (f"not fitted: the {chosen} law already predicts left-out shift factors within "
+            f"their noise (mean squared error {a:.3g} squared standard errors, at most "
+            f"{HELD_OUT_GAIN_MIN:g}), so a law with more constants could not be preferred")
 
 
 def _fit_candidate(m: str, model: str, table: ShiftTable, fixed_all: dict, bounds_all: dict,
@@ -252,21 +290,19 @@ def _information(chi2: float, n: int, k: int, floor: float) -> tuple[float, floa
     return neg2ll + 2 * k, neg2ll + k * math.log(n)
 
 
-def _choose(model: str, models: tuple, candidates: dict, table: ShiftTable,
-            order: int) -> tuple[str, str, dict]:
-    """The law returned, the sentence saying why, and each law's held-out score (auto only)."""
+def _choose(model: str, models: tuple, candidates: dict, held_out: dict,
+            table: ShiftTable) -> tuple[str, str]:
+    """The law returned and the sentence saying why."""
     ranking = sorted(candidates, key=lambda m: (candidates[m].bic,
                                                 len(candidates[m].outcome.free_names),
                                                 models.index(m)))
     if model != "auto":
-        return ranking[0], f"the {ranking[0]} law was requested", {}
+        return ranking[0], f"the {ranking[0]} law was requested"
     if len(ranking) == 1:
         return (ranking[0], f"the {ranking[0]} law was the only one that could be fitted to "
-                            f"{table.n} points", {})
-    held_out = held_out_scores(candidates, table, order)
-    chosen, reason = choose_by_held_out(candidates, held_out, models, weighted=table.weighted,
-                                        n_rows=table.weigh.size)
-    return chosen, reason, held_out
+                            f"{table.n} points")
+    return choose_by_held_out(candidates, held_out, models, weighted=table.weighted,
+                              n_rows=table.weigh.size)
 
 
 def _complete_rows(rows: list, bic: float, held_out: Mapping[str, float]) -> None:
