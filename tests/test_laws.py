@@ -731,6 +731,31 @@ def test_short_table_keeps_wlf_on_wlf_shifts():
     assert taken <= 5
 
 
+def test_auto_leaves_out_a_law_that_could_not_be_preferred(monkeypatch):
+    """When WLF already predicts the left-out shifts within their noise (held-out mean square
+    at most HELD_OUT_GAIN_MIN), WLF-Arrhenius could not beat it by more than that: it is not
+    fitted (its row says why), and the choice is the one the full comparison makes."""
+    from ttsp.laws import fit as law_fit
+
+    law = make_shift_law("wlf", SHORT_TR, C1=12.3, C2_K=156.0)
+    T = np.linspace(283.15, 373.15, 16)
+    rng = np.random.default_rng(7)
+    y = law.log10_aT(T) + rng.normal(0.0, 0.01, T.size)
+    stderr = np.full(T.size, 0.02)   # the noise overstated: held-out scores near 0.25
+    fit = fit_shift_law(T, y, reference_temperature_K=SHORT_TR, stderr=stderr)
+    rows = {c["model"]: c for c in fit.candidates}
+    assert rows["wlf-arrhenius"]["status"] == "not needed"
+    assert "could not be preferred" in rows["wlf-arrhenius"]["detail"]
+    assert rows["wlf"]["held_out_mean_square"] <= choice.HELD_OUT_GAIN_MIN
+    # noise understated tenfold: WLF's held-out score is far above 1 and the law is fitted
+    loud = fit_shift_law(T, y, reference_temperature_K=SHORT_TR, stderr=stderr / 10)
+    assert {c["model"]: c["status"] for c in loud.candidates}["wlf-arrhenius"] == "fitted"
+    monkeypatch.setattr(law_fit, "_cannot_be_preferred", lambda *a, **k: "")
+    full = fit_shift_law(T, y, reference_temperature_K=SHORT_TR, stderr=stderr)
+    assert {c["model"]: c["status"] for c in full.candidates}["wlf-arrhenius"] == "fitted"
+    assert full.model == fit.model == "wlf"
+
+
 def test_auto_skips_laws_without_enough_points():
     T = np.array([380.0, 400.0, 430.0])
     y = universal().log10_aT(T)
