@@ -6,10 +6,16 @@ ranges of some function are disjoint no horizontal shift can make them overlap
 what no vertical shift changes: tan δ and δ, and the differences between the shifted functions.
 Across every other pair the pairwise overlap shift (:func:`~ttsp.shifting._overlap.pair_shift`)
 is the seed of the joint fit. With ``gaps="stop"`` a gap is an error naming both temperatures.
+
+A build fits the same isotherms with two master-curve models to choose between them; the seeds
+depend on the data alone, so the last few are kept (keyed by the data's bytes and the options
+that matter) and the second fit reuses them.
 """
 
 from __future__ import annotations
 
+import hashlib
+from collections import OrderedDict
 from dataclasses import dataclass
 
 import numpy as np
@@ -32,6 +38,11 @@ class Neighbours:
     gaps: dict
 
 
+#: seeds kept for reuse (a build's master-curve choice, then its checks)
+_KEPT_SEEDS = 8
+_seeds: OrderedDict = OrderedDict()
+
+
 def neighbour_seeds(data: FitData, options: ShiftOptions) -> Neighbours:
     """Gaps in the ordinate between neighbours, and pairwise seeds across the others.
 
@@ -40,6 +51,34 @@ def neighbour_seeds(data: FitData, options: ShiftOptions) -> Neighbours:
     DataError
         With ``gaps="stop"``, when any neighbours cannot overlap.
     """
+    key = _seed_key(data, options)
+    if key not in _seeds:
+        _seeds[key] = _computed_seeds(data, options)
+        while len(_seeds) > _KEPT_SEEDS:
+            _seeds.popitem(last=False)
+    found = _seeds[key]
+    if found.gaps and options.gaps == "stop":
+        stop_on_gaps(found.gaps, options.temps)
+    return Neighbours(pairs={k: dict(v) for k, v in found.pairs.items()}, gaps=dict(found.gaps))
+
+
+def _seed_key(data: FitData, options: ShiftOptions) -> bytes:
+    """What the seeds depend on: the log data of every isotherm, how the functions shift and
+    the words for them."""
+    h = hashlib.blake2b(digest_size=20)
+    for xk, yk in zip(data.X, data.Y, strict=True):
+        h.update(np.ascontiguousarray(xk, dtype=float).tobytes())
+        h.update(np.ascontiguousarray(yk, dtype=float).tobytes())
+        h.update(b"|")
+    h.update(np.asarray(options.vsign, dtype=float).tobytes())
+    h.update(b"v" if options.fit_vertical else b"-")
+    h.update(np.asarray(options.temps, dtype=float).tobytes())
+    # the names in a gap's message: G' for shear data, E' for tensile
+    h.update(repr(tuple(options.derived.symbol(q) for q in options.chosen)).encode())
+    return h.digest()
+
+
+def _computed_seeds(data: FitData, options: ShiftOptions) -> Neighbours:
     X, Y = data.X, data.Y
     gap_info: dict[int, str] = {}
     pairs: dict[int, dict] = {}
@@ -55,8 +94,6 @@ def neighbour_seeds(data: FitData, options: ShiftOptions) -> Neighbours:
             gap_info[k] = "fewer than 3 of their points can be made to overlap"
             continue
         pairs[k] = ps
-    if gap_info and options.gaps == "stop":
-        stop_on_gaps(gap_info, options.temps)
     return Neighbours(pairs=pairs, gaps=gap_info)
 
 
