@@ -263,8 +263,11 @@ class _Predictor:
         self.b = float(model.vertical_factor(iso.temperature_K))
         self.measured = {f: np.asarray(iso.values[f], dtype=float) for f in functions}
 
-    def values(self, f: str, log10_aT: float) -> np.ndarray:
-        series, x, a = self.model.series, self.iso.x, 10.0 ** log10_aT
+    def values(self, f: str, log10_aT) -> np.ndarray:
+        """Function ``f`` at the isotherm's abscissae for one log10 a_T (shape (m,)) or an array
+        of them (shape (g, m): one row per shift, one evaluation of the series)."""
+        series, x = self.model.series, self.iso.x
+        a = 10.0 ** np.asarray(log10_aT, dtype=float)[..., None]
         if f == "storage_modulus_Pa":
             return series.storage_modulus(x * a) * self.b
         if f == "loss_modulus_Pa":
@@ -277,24 +280,40 @@ class _Predictor:
             return series.relaxation_modulus(x / a) * self.b
         return self.model.creep_series.creep_compliance(x / a) / self.b
 
-    def mean_squares(self, log10_aT: float) -> dict:
+    def mean_squares(self, log10_aT) -> dict:
+        """Per function, the mean squared relative error at ``log10_aT`` (a float, or an
+        array for one value per shift); NaN for a function without points."""
         out = {}
         for f in self.functions:
             m = self.measured[f]
             ok = np.isfinite(m) & (m != 0)
+            if not ok.any():
+                out[f] = np.full(np.shape(log10_aT), math.nan) if np.ndim(log10_aT) else math.nan
+                continue
             with np.errstate(all="ignore"):
-                rel = self.values(f, log10_aT)[ok] / m[ok] - 1.0
-            out[f] = float(np.mean(rel * rel)) if rel.size else math.nan
+                rel = self.values(f, log10_aT)[..., ok] / m[ok] - 1.0
+            v = np.mean(rel * rel, axis=-1)
+            out[f] = v if np.ndim(log10_aT) else float(v)
         return out
 
-    def pooled(self, log10_aT: float) -> float:
-        v = [x for x in self.mean_squares(log10_aT).values() if math.isfinite(x)]
-        return float(np.mean(v)) if v else math.inf
+    def pooled(self, log10_aT) -> float:
+        """Mean over the functions of their mean squares (inf when none is finite)."""
+        return float(self.pooled_many(np.array([float(log10_aT)]))[0])
+
+    def pooled_many(self, log10_aT: np.ndarray) -> np.ndarray:
+        """:meth:`pooled` at each of an array of shifts, the series evaluated once."""
+        ms = np.array([np.broadcast_to(v, log10_aT.shape)
+                       for v in self.mean_squares(log10_aT).values()])
+        finite = np.isfinite(ms)
+        count = finite.sum(axis=0)
+        total = np.where(finite, ms, 0.0).sum(axis=0)
+        with np.errstate(all="ignore"):
+            return np.where(count > 0, total / np.maximum(count, 1), math.inf)
 
     def best_shift(self, around: float) -> float:
         grid = np.arange(around - _BEST_SHIFT_WINDOW, around + _BEST_SHIFT_WINDOW + 1e-9,
                          _GRID_STEP)
-        costs = np.array([self.pooled(s) for s in grid])
+        costs = self.pooled_many(grid)
         g = int(np.argmin(costs))
         res = minimize_scalar(self.pooled, bounds=(grid[g] - _GRID_STEP, grid[g] + _GRID_STEP),
                               method="bounded", options={"xatol": 1e-4})
