@@ -614,22 +614,27 @@ def test_a_small_deviation_is_not_an_outlier_at_the_default_setting():
 
 def test_second_model_reuses_the_pairwise_seeds(monkeypatch):
     """A build fits the same isotherms with two master-curve models: the pairwise seeds, which
-    depend on the data alone, are computed once and give the same shifts as fresh ones; other
-    data get their own."""
+    depend on the two isotherms of a pair alone, are computed once and give the same shifts as
+    fresh ones; a campaign less one isotherm (a fold of the cross-validation) computes only the
+    pair across the gap; other data get their own."""
     from ttsp.shifting import _neighbours
 
     calls = []
     real = _neighbours.pair_shift
     monkeypatch.setattr(_neighbours, "pair_shift", lambda *a, **k: calls.append(1) or real(*a, **k))
-    monkeypatch.setattr(_neighbours, "_seeds", type(_neighbours._seeds)())
+    monkeypatch.setattr(_neighbours, "_pairs", type(_neighbours._pairs)())
     camp, _ = campaign(seed=11)
     spline = shift_isotherms(camp, 320.0, master_curve="spline")
     n_pairs = len(calls)
     assert n_pairs == len(camp) - 1
     shift_isotherms(camp, 320.0, master_curve="spectrum")
     assert len(calls) == n_pairs                      # reused
-    monkeypatch.setattr(_neighbours, "_seeds", type(_neighbours._seeds)())
+    monkeypatch.setattr(_neighbours, "_pairs", type(_neighbours._pairs)())
     fresh = shift_isotherms(camp, 320.0, master_curve="spline")
     np.testing.assert_array_equal(fresh.log10_aT, spline.log10_aT)
+    fold = Campaign(tuple(i for k, i in enumerate(camp.isotherms) if k != 4), camp.domain,
+                    camp.modulus_kind)
+    shift_isotherms(fold, 320.0, master_curve="spline")
+    assert len(calls) == 2 * n_pairs + 1              # only the pair across the left-out one
     shift_isotherms(campaign(seed=12)[0], 320.0, master_curve="spline")
-    assert len(calls) == 2 * n_pairs + len(camp) - 1  # new data: computed again
+    assert len(calls) == 3 * n_pairs + 1              # new data: computed again

@@ -7,9 +7,10 @@ what no vertical shift changes: tan δ and δ, and the differences between the s
 Across every other pair the pairwise overlap shift (:func:`~ttsp.shifting._overlap.pair_shift`)
 is the seed of the joint fit. With ``gaps="stop"`` a gap is an error naming both temperatures.
 
-A build fits the same isotherms with two master-curve models to choose between them; the seeds
-depend on the data alone, so the last few are kept (keyed by the data's bytes and the options
-that matter) and the second fit reuses them.
+A build fits the same isotherms with two master-curve models to choose between them, and each
+fold of its cross-validation fits them again less one; a pair's seed depends on the two
+isotherms alone, so the last few hundred are kept (keyed by the pair's bytes and how the
+functions shift) and reused.
 """
 
 from __future__ import annotations
@@ -38,9 +39,10 @@ class Neighbours:
     gaps: dict
 
 
-#: seeds kept for reuse (a build's master-curve choice, then its checks)
-_KEPT_SEEDS = 8
-_seeds: OrderedDict = OrderedDict()
+#: pairwise seeds kept for reuse: a build's two master-curve models, then each fold of its
+#: cross-validation (all pairs but the one across the left-out isotherm)
+_KEPT_PAIRS = 512
+_pairs: OrderedDict = OrderedDict()
 
 
 def neighbour_seeds(data: FitData, options: ShiftOptions) -> Neighbours:
@@ -51,50 +53,45 @@ def neighbour_seeds(data: FitData, options: ShiftOptions) -> Neighbours:
     DataError
         With ``gaps="stop"``, when any neighbours cannot overlap.
     """
-    key = _seed_key(data, options)
-    if key not in _seeds:
-        _seeds[key] = _computed_seeds(data, options)
-        while len(_seeds) > _KEPT_SEEDS:
-            _seeds.popitem(last=False)
-    found = _seeds[key]
-    if found.gaps and options.gaps == "stop":
-        stop_on_gaps(found.gaps, options.temps)
-    return Neighbours(pairs={k: dict(v) for k, v in found.pairs.items()}, gaps=dict(found.gaps))
-
-
-def _seed_key(data: FitData, options: ShiftOptions) -> bytes:
-    """What the seeds depend on: the log data of every isotherm, how the functions shift and
-    the words for them."""
-    h = hashlib.blake2b(digest_size=20)
-    for xk, yk in zip(data.X, data.Y, strict=True):
-        h.update(np.ascontiguousarray(xk, dtype=float).tobytes())
-        h.update(np.ascontiguousarray(yk, dtype=float).tobytes())
-        h.update(b"|")
-    h.update(np.asarray(options.vsign, dtype=float).tobytes())
-    h.update(b"v" if options.fit_vertical else b"-")
-    h.update(np.asarray(options.temps, dtype=float).tobytes())
-    # the names in a gap's message: G' for shear data, E' for tensile
-    h.update(repr(tuple(options.derived.symbol(q) for q in options.chosen)).encode())
-    return h.digest()
-
-
-def _computed_seeds(data: FitData, options: ShiftOptions) -> Neighbours:
     X, Y = data.X, data.Y
     gap_info: dict[int, str] = {}
     pairs: dict[int, dict] = {}
     for k in range(options.n - 1):
-        g, col = ordinate_gap(_gap_view(Y[k], options), _gap_view(Y[k + 1], options))
+        g, col, ps = _pair(X[k], Y[k], X[k + 1], Y[k + 1], options)
         if g > 0:
             what = (options.derived.symbol(options.chosen[col]) if not options.fit_vertical
                     else "vertical-shift-free")
             gap_info[k] = f"their {what} ranges are {g:.2f} decades apart"
             continue
-        ps = pair_shift(X[k], Y[k], X[k + 1], Y[k + 1], options.vsign, options.fit_vertical)
         if ps is None:
             gap_info[k] = "fewer than 3 of their points can be made to overlap"
             continue
-        pairs[k] = ps
+        pairs[k] = dict(ps)
+    if gap_info and options.gaps == "stop":
+        stop_on_gaps(gap_info, options.temps)
     return Neighbours(pairs=pairs, gaps=gap_info)
+
+
+def _pair(xa, Ya, xb, Yb, options: ShiftOptions):
+    """The ordinate gap of two neighbours (and its column) and, without a gap, the pairwise
+    shift that lays b on a (None when too few points overlap); kept for reuse."""
+    h = hashlib.blake2b(digest_size=20)
+    for a in (xa, Ya, xb, Yb, options.vsign):
+        arr = np.ascontiguousarray(a, dtype=float)
+        h.update(repr(arr.shape).encode())
+        h.update(arr.tobytes())
+    h.update(b"v" if options.fit_vertical else b"-")
+    key = h.digest()
+    if key in _pairs:
+        _pairs.move_to_end(key)
+        return _pairs[key]
+    g, col = ordinate_gap(_gap_view(Ya, options), _gap_view(Yb, options))
+    ps = (pair_shift(xa, Ya, xb, Yb, options.vsign, options.fit_vertical) if g <= 0
+          else None)
+    _pairs[key] = (g, col, ps)
+    while len(_pairs) > _KEPT_PAIRS:
+        _pairs.popitem(last=False)
+    return _pairs[key]
 
 
 def _gap_view(Yk, options: ShiftOptions):
