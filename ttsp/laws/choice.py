@@ -61,10 +61,13 @@ BIC_VERY_STRONG = 10.0
 LACK_OF_FIT_P = 0.05
 
 
-def held_out_scores(candidates: Mapping, table: ShiftTable, order: int) -> dict[str, float]:
+def held_out_scores(candidates: Mapping, table: ShiftTable, order: int,
+                    weighting_without: WeightingsWithout | None = None) -> dict[str, float]:
     """Mean squared held-out error of each fitted law (see :func:`held_out_score`); the
-    ``candidates`` carry each law's outcome and its held parameters and bounds."""
-    weighting_without = _WeightingsWithout(table)
+    ``candidates`` carry each law's outcome and its held parameters and bounds. Laws scored
+    one call at a time share the table's weightings less one row by passing the same
+    ``weighting_without``."""
+    weighting_without = weighting_without or WeightingsWithout(table)
     if table.covariance is not None:
         scale = np.sqrt(np.diag(table.covariance))
     else:
@@ -74,8 +77,10 @@ def held_out_scores(candidates: Mapping, table: ShiftTable, order: int) -> dict[
             for m, c in candidates.items()}
 
 
-class _WeightingsWithout:
-    """The table's weighting less one row: one per left-out row, shared by every law."""
+class WeightingsWithout:
+    """The table's weighting less one row: one per left-out row, shared by every law (with a
+    covariance each is an eigen-decomposition, n³ work: 0.25 s on 200 rows when every law
+    made its own)."""
 
     def __init__(self, table: ShiftTable):
         self.weights, self.covariance = table.weights, table.covariance

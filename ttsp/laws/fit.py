@@ -26,7 +26,7 @@ from .._validation import bad_value, check_choice, check_finite, check_positive
 from ..exceptions import DataError, FitError, FitQualityWarning
 from ._solver import Outcome, fit_one
 from ._table import ShiftTable, checked_shifts, weighted_table
-from .choice import HELD_OUT_GAIN_MIN, choose_by_held_out, held_out_scores
+from .choice import HELD_OUT_GAIN_MIN, WeightingsWithout, choose_by_held_out, held_out_scores
 from .names import AUTO_MODELS
 from .registry import SHIFT_LAWS
 from .results import ShiftLawFit
@@ -185,6 +185,7 @@ def _fit_candidates(models: tuple, model: str, table: ShiftTable, fixed_all: dic
     held_out: dict = {}
     by_size = sorted(models, key=lambda m: (len(SHIFT_LAWS[m].fit_parameter_names(order)),
                                             models.index(m)))
+    without = WeightingsWithout(table)
     for m in by_size:
         why = (_cannot_be_preferred(m, models, candidates, held_out, table, order)
                if model == "auto" else "")
@@ -197,7 +198,7 @@ def _fit_candidates(models: tuple, model: str, table: ShiftTable, fixed_all: dic
         if candidate is not None:
             candidates[m] = candidate
             if model == "auto":
-                held_out.update(held_out_scores({m: candidate}, table, order))
+                held_out.update(held_out_scores({m: candidate}, table, order, without))
     if not candidates:
         raise FitError("no shift law could be fitted: "
                        + "; ".join(rows[m]["detail"] for m in models))
