@@ -37,8 +37,8 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 from scipy.optimize import minimize_scalar
-from threadpoolctl import threadpool_limits
 
+from ._blas import one_blas_thread
 from .data import Campaign
 from .exceptions import DataError, FitError
 from .result_contract import ResultContract, format_number, stderr_or_nan
@@ -398,7 +398,7 @@ def cross_validate(campaign: Campaign, options: BuildOptions | None = None,
     functions = scored_functions(campaign)
     start_from = None if full is None else full.shifts
 
-    with warnings.catch_warnings(), threadpool_limits(limits=1, user_api="blas"):
+    with warnings.catch_warnings(), one_blas_thread():
         warnings.simplefilter("ignore")
         held = [_held_out(campaign, int(k), options, t_ref, functions, start_from)
                 for k in held_out_indices(len(campaign))]

@@ -15,6 +15,7 @@ from numpy.typing import ArrayLike
 
 from . import checks as check_suite  # run_checks looked up at each build: a test may replace it
 from ._arrays import evenly_spaced_rows
+from ._blas import one_blas_thread
 from ._fit_points_diagnosis import fixed_loss_ratio
 from ._validation import bad_value
 from .bands import band_columns
@@ -98,12 +99,9 @@ def build(campaign: Campaign, options: BuildOptions | None = None, *, input_sha2
     campaign = _prepared_campaign(campaign, options)
     t_ref_K = _reference_temperature_K(campaign, options)
     step = progress or (lambda name: None)
-    from threadpoolctl import threadpool_limits
-
     # The linear algebra here is many small problems: one BLAS thread is faster than several,
     # and much faster on a loaded machine or beside other worker processes.
-    with threadpool_limits(limits=1, user_api="blas"), \
-            warnings.catch_warnings(record=True) as caught:
+    with one_blas_thread(), warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always", TtspWarning)
         parts = _computed_parts(campaign, options, t_ref_K, step)
     messages = _collected_messages(caught, (parts["shifts"], parts["prony_fit"]))

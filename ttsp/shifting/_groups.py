@@ -15,6 +15,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from .._blas import one_blas_thread
 from .._noise import typical_log_noise
 from ._fit_data import FitData
 from ._joint_fit import JointProblem, JointSolution, fit_joint
@@ -97,7 +98,8 @@ def fit_groups(data: FitData, neighbours: Neighbours, options: ShiftOptions) -> 
         for ci, comp in enumerate(comps):
             if len(comp) < 2:
                 continue
-            fits[ci] = _fit_group(comp, data, neighbours.pairs, options, warm)
+            with one_blas_thread():   # small problems: see ttsp._blas
+                fits[ci] = _fit_group(comp, data, neighbours.pairs, options, warm)
             new_gaps.update(_gaps_after_fit(comp, fits[ci].u_range, x_word))
         if not new_gaps:
             break
