@@ -58,6 +58,15 @@ def test_summary_validates_against_the_shipped_schema(built):
     assert set(summary["shift_law"]["parameters"]) >= {"C1", "C2_K"}
 
 
+def test_summary_gives_the_equilibrium_modulus_with_its_stderr(built):
+    """The equilibrium modulus comes with the half-width of its profile interval (the Prony
+    fit's stderr), which the report's Prony table shows as ± s."""
+    summary = json.loads((built / "summary.json").read_text("utf-8"))
+    s = summary["prony"]["equilibrium_modulus_stderr_Pa"]
+    assert s is None or s > 0
+    assert s is not None   # this campaign's E_inf is fitted, so its interval is known
+
+
 def test_summary_fails_the_schema_when_a_key_is_missing(built):
     jsonschema = pytest.importorskip("jsonschema")
     from importlib.resources import files

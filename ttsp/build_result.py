@@ -278,6 +278,11 @@ class BuildResult(ResultContract):
         }
         law_section.update({k: v for k, v in law.items() if k not in law_section})
         prony = self.series.to_dict()
+        # the half-width of its profile interval (ttsp.prony.nnls): data short of the plateau
+        # leave the equilibrium modulus poorly known, which the number alone does not say
+        e_inf_stderr = float(dict(self.prony_fit.stderr).get("equilibrium_modulus_Pa", math.nan))
+        prony["equilibrium_modulus_stderr_Pa"] = (e_inf_stderr if math.isfinite(e_inf_stderr)
+                                                  else None)
         ensemble = getattr(self.model, "ensemble", None)
         shifting = self.shifts.to_dict()
         shift_factors = shifting.pop("shift_factors")

@@ -232,9 +232,9 @@ def _fit_law(shifts, t_ref_K: float, model: str, fixed):
     all shifts used are well determined and the law fits them about as well as their noise
     allows. The estimate does not change when the covariance is scaled, and its scale is known
     only roughly (the stderr err by tens of percent), so a reduced chi-square of 2 or 3 is no
-    reason to drop it; above LACK_OF_FIT_REDUCED_CHI_SQUARE (real binders that are not quite
-    thermorheologically simple give reduced chi-squares in the hundreds) the misfit is the
-    material's, not the chain's noise, and the law is fitted to each shift weighed by its
+    reason to drop it; above LACK_OF_FIT_REDUCED_CHI_SQUARE (real binders gave 87-4000 before the
+    shifts' noise scale was pooled over the functions, 0.5-3.5 since, 5 December 2026) the
+    misfit is the material's, not the chain's noise, and the law is fitted to each shift weighed by its
     stderr instead, which stays closer to the shifts themselves; a note and a
     FitQualityWarning say so. Not when the reference lies outside the measured range:
     its gauge is extrapolated, which moves every shift by the same unknown amount; that inflates

@@ -470,6 +470,13 @@ _LAW_WEIGHTING = {
 }
 
 
+def _equilibrium_stderr(fit, factor: float) -> str:
+    """"± s" of the equilibrium modulus in the table's unit, or "" when it is not known (the
+    fit's profile interval, :mod:`ttsp.prony.nnls`)."""
+    s = float(dict(getattr(fit, "stderr", {}) or {}).get("equilibrium_modulus_Pa", np.nan))
+    return f"± {_num(s / factor, 2)}" if np.isfinite(s) and s > 0 else ""
+
+
 def _prony(result) -> dict:
     series = result.series
     fit = result.prony_fit
@@ -494,6 +501,7 @@ def _prony(result) -> dict:
         "unit": unit,
         "terms": terms,
         "einf": _num(einf / factor, 6),
+        "einf_stderr": _equilibrium_stderr(fit, factor),
         "e0": _num(series.instantaneous_modulus_Pa / factor, 6),
         "g_infinity": _num(norm.g_infinity, 6),
         "e0_Pa": _num(norm.instantaneous_modulus_Pa, 6),
