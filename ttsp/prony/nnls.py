@@ -235,7 +235,7 @@ class LinearProblem:
         n = x.size
         norms = np.linalg.norm(self.aw, axis=0)
         norms[norms == 0] = 1.0
-        r_aug = np.linalg.qr(np.column_stack([self.aw / norms, self.bw]), mode="r")
+        r_aug = np.asarray(np.linalg.qr(np.column_stack([self.aw / norms, self.bw]), mode="r"))
         top_rows = min(r_aug.shape[0], n)
         c = r_aug[:top_rows, n]
         outside = float(r_aug[n, n]) ** 2 if r_aug.shape[0] > n else 0.0
