@@ -32,12 +32,12 @@ __all__ = ["check_kramers_kronig", "KK_WARN_PERCENT", "KK_FAIL_PERCENT", "KK_MIN
 #: check's own truncation reads far more, so the thresholds are read off that null distribution
 #: (benchmarks/bench_checks.py, 5 December 2026: its 192 simple frequency campaigns and 192 more
 #: on fresh seeds 50000+i; percentiles 90/95/97/99 of 9.0/14.0/18.1/26.3 % and 16.4/20.3/23.8/
-#: 29.4 %, above 35 % only 50.8 and 43.6 %). 35 % warns (1 of 384 simple frequency campaigns,
-#: 0.3 %) and 50 % fails (1 of 384). At the former 20 % the check warned on 3 % of the
-#: benchmark's simple campaigns and 8 % of the fresh ones, for no detection the other checks
-#: lacked: every complex campaign it flagged was flagged by function_agreement too. A level error
-#: of E'' reads: ×1.3 passes (26.7 %), ×1.4 warns (35.6 %), ×1.6 fails (53.4 %); E'' on its own
-#: shift law is caught by function_agreement.
+#: 29.4 %, above 35 % only 50.8 and 43.6 %). 35 % warns (on 1 of 384 simple frequency
+#: campaigns, 0.3 %) and 50 % fails (1 of 384). At the former 20 % the check warned on 3 % of
+#: the benchmark's simple frequency campaigns and 6 % of the fresh ones, for no detection the
+#: other checks lacked: every complex campaign it flagged was flagged by function_agreement too.
+#: A level error of E'' reads: ×1.3 passes (26.7 %), ×1.4 warns (35.6 %), ×1.6 fails (53.4 %);
+#: E'' on its own shift law is caught by function_agreement.
 KK_WARN_PERCENT = 35.0
 KK_FAIL_PERCENT = 50.0
 #: A function is predicted from the other only where it is at least this fraction of the other
