@@ -217,7 +217,7 @@ def _bench_two_process(strength, seed):
 def test_two_processes_drifting_apart_are_flagged_by_the_trend():
     """Two processes whose laws differ by 0.3 decade (benchmark seed 115202): no isotherm's
     single-function shifts differ beyond their own errors, but their difference drifts steadily
-    with log a_T (about 0.16 decade over the range, slope 3.9 standard errors): the pooled trend
+    with log a_T (about 0.16 decade over the range, slope 3.4 standard errors): the pooled trend
     flags it, and the message says it is a drift, not one isotherm."""
     result = {c.name: c for c in checks_of(_bench_two_process(0.3, 115202))}
     agree = result["function_agreement"]
@@ -235,6 +235,16 @@ def test_one_law_shows_no_significant_trend():
     agree = result["function_agreement"]
     assert agree.status == "pass"
     assert not agree.details["trend"]["significant"]
+
+
+def test_two_processes_at_the_former_miss_are_flagged():
+    """Two processes 0.3 decade apart (benchmark seed 115208), missed by the trend at z 2 and
+    0.08 decade: its single-function difference drifts by 0.078 decade over the informative
+    isotherms with a slope of 1.7 standard errors, which the thresholds set on the benchmark
+    (z 1.5, 0.055 decade) flag."""
+    agree = {c.name: c for c in checks_of(_bench_two_process(0.3, 115208))}["function_agreement"]
+    assert agree.status == "warn"
+    assert agree.details["trend"]["significant"]
 
 
 def test_a_reference_one_function_cannot_place_does_not_fail_simple_data():
