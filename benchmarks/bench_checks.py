@@ -34,7 +34,8 @@ flagged (overall warn or fail) and the share failed; and the time the checks add
 25-isotherm campaign.
 
 ``--oracle`` measures how far any statistic of the two single-function shift tables can go at
-separating two processes from one (see :func:`oracle`).
+separating two processes from one (see :func:`oracle`), and how far a likelihood-ratio test
+that knows the two-process model can go (see :func:`likelihood_ratio_limit`).
 
 Targets (issue 21): overall 'fail' on ≤ 1 % of simple campaigns, any 'warn' on ≤ 10 %; complex
 campaigns whose shifts differ by ≥ 0.3 decade: ≥ 95 % flagged; ≥ 0.1 decade: ≥ 70 %; checks on
@@ -141,11 +142,19 @@ def _iso(t, w, e1, e2, noise, rng, k):
                     np.arange(w.size) + 2 + k * w.size)
 
 
-def complex_case(family, strength, seed):
-    """One complex campaign of a family at a strength (decades)."""
+def complex_noise(seed):
+    """The log-normal noise (relative) that :func:`complex_case` draws for ``seed``."""
+    rng = np.random.default_rng(seed)
+    rng.integers(8, 21)
+    return float(rng.uniform(0.005, 0.03))
+
+
+def complex_case(family, strength, seed, noise_free=False):
+    """One complex campaign of a family at a strength (decades); ``noise_free`` builds the same
+    campaign without its noise (the two spectral families only)."""
     rng = np.random.default_rng(seed)
     n = int(rng.integers(8, 21))
-    noise = float(rng.uniform(0.005, 0.03))
+    noise = float(rng.uniform(0.005, 0.03)) * (0.0 if noise_free else 1.0)
     C1, C2 = float(rng.uniform(8, 18)), float(rng.uniform(50, 130))
     tr = 300.0
     T = _temperatures(C1, C2, tr, n, rng)
@@ -279,6 +288,42 @@ def oracle(n_simple, n_per_strength, false_warn=0.10):
                   + f"  (false {100 * fa:.0f} %)")
 
 
+def likelihood_ratio_limit(n_per_strength, false_alarm=0.08):
+    """Detection of two processes by a likelihood-ratio test that knows the two-process model.
+
+    The noise-free campaign of each two_process seed is shifted as one material (free shift per
+    isotherm, spline master curves of E' and E'', every point kept: no outlier rejection); its
+    sum of squared misfits over the noise variance is the noncentrality λ that the test of
+    "one material" against "the two-process model with the ratio of its two laws free" would
+    have (Wilks, Ann. Math. Stat. 9, 60, 1938; noncentral χ² under the alternative: Wald,
+    Trans. Am. Math. Soc. 54, 426, 1943). Its power at a false-alarm rate ``false_alarm`` is
+    P(χ²₁(λ) > χ²₁,1−α), averaged over seeds: what any test of these campaigns can reach when it
+    knows the model, an upper estimate for tests that do not.
+    """
+    from scipy.stats import chi2, ncx2
+
+    from ttsp.shifting import shift_isotherms
+
+    cut = float(chi2.ppf(1.0 - false_alarm, 1))
+    print(f"\nLikelihood-ratio limit: two_process detected at {100 * false_alarm:.0f} % false "
+          "alarms by a test that knows the model (mean power over seeds)")
+    for j, s in enumerate(STRENGTHS["two_process"]):
+        powers = []
+        for r in range(n_per_strength):
+            seed = 5000 + 100 * j + r + 110000
+            camp = complex_case("two_process", s, seed, noise_free=True)
+            t_mid = sorted(iso.temperature_K for iso in camp.isotherms)[len(camp) // 2]
+            with warnings.catch_warnings():
+                warnings.simplefilter("ignore")
+                fit = shift_isotherms(camp, t_mid, robust=False, outlier_threshold=1e9,
+                                      master_curve="spline")
+            n_points = 2 * sum(iso.n_points for iso in camp.isotherms)
+            sigma_log10 = complex_noise(seed) / np.log(10.0)
+            lam = n_points * float(fit.rms_residual) ** 2 / sigma_log10 ** 2
+            powers.append(1.0 - float(ncx2.cdf(cut, 1, lam)))
+        print(f"  {s:5.2f} decade: {100 * np.mean(powers):4.0f} %")
+
+
 def main(argv=None):
     p = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     p.add_argument("--quick", action="store_true")
@@ -289,6 +334,7 @@ def main(argv=None):
     n_simple, n_per_strength = (60, 3) if args.quick else (240, 10)
     if args.oracle:
         oracle(n_simple, 2 * n_per_strength)   # twice the seeds: the rates at 0.1 decade
+        likelihood_ratio_limit(5 * n_per_strength)
         return
     t0 = time.perf_counter()
 

@@ -16,8 +16,11 @@ For each isotherm k the difference and its significance are
 with s'_k, s''_k the standard errors of the two single-function fits and τ
 (:data:`AGREEMENT_TOLERANCE_DECADES`) an allowance for what the two fits' different weightings of
 the same noisy data give on simple campaigns. Isotherms whose shift one function alone cannot
-fix (flagged low-information, a plateau of that function, or bridged by a law across a gap) are
-left out: there a single-function shift is not evidence. An isotherm disagrees when |z_k| exceeds
+fix (flagged low-information, a plateau of that function, or bridged by a law across a gap, or
+with more than :data:`AGREEMENT_MAX_OUTLIER_FRACTION` of its points rejected by one fit) are left
+out: there a single-function shift is not evidence. Both fits put log10 a_T = 0 at the reference,
+so d = 0 there by construction; when the reference is not informative, d is anchored at the
+informative isotherm nearest to it instead. An isotherm disagrees when |z_k| exceeds
 :data:`AGREEMENT_Z` and |d_k| exceeds the warn (fail) size in decades.
 
 A second, pooled test looks for a trend of d_k with log10 a_T over the informative isotherms:
@@ -51,7 +54,7 @@ from .result import CheckResult
 
 __all__ = ["check_function_agreement", "AGREEMENT_WARN_DECADES", "AGREEMENT_FAIL_DECADES",
            "AGREEMENT_Z", "AGREEMENT_TOLERANCE_DECADES", "AGREEMENT_TREND_Z",
-           "AGREEMENT_TREND_DECADES"]
+           "AGREEMENT_TREND_DECADES", "AGREEMENT_MAX_OUTLIER_FRACTION"]
 
 #: Thresholds, set on benchmarks/bench_checks.py (the full rates are in DEVELOPERS.md "Where the
 #: targets stand"): an isotherm disagrees when its two single-function shifts differ by more
@@ -67,26 +70,41 @@ AGREEMENT_FAIL_DECADES = 0.2
 AGREEMENT_Z = 2.5
 #: Allowance (decades) added in quadrature to the combined stderr: the two fits weigh the same
 #: noisy points differently, and their stderrs come from the local curvature of each objective.
-AGREEMENT_TOLERANCE_DECADES = 0.02
-#: The pooled trend test (module docstring), set on benchmarks/bench_checks.py (full run, 5
-#: December 2026; 183 simple frequency campaigns with both functions, 10 per complex strength).
-#: The single-function stderrs are correlated, so |z_β| is heavy-tailed on simple campaigns
-#: (median 0.7, 90th percentile 1.9, 97th 2.8, largest 3.9) and the drift too (median 0.02,
-#: 95th percentile 0.08, largest 0.17 decade); both are required. At z 2 and 0.08 decade, 8 of
-#: 183 simple frequency campaigns (4.4 %) trip the trend, 6 of them not warned by any other
-#: check (+2.5 % overall; the rates of every check are printed by the benchmark); two processes
-#: 0.3 decade apart are flagged 9/10 (was 8/10; the tenth drifts by 0.079 decade over its
-#: informative isotherms, its difference sits at the two coldest, which one function alone
-#: cannot place), 0.1 decade 3/10 (0/10); E'' on its own law 0.1 decade 7/10 (5/10). At z 3
-#: and 0.12 decade no simple campaign newly warns but 0.1 decade stays at 1/10. To flag the
-#: tenth at 0.3 (drift > 0.075) costs 11 new simple warns (overall 13.8 %). The limit at 0.1
-#: decade, ``python benchmarks/bench_checks.py --oracle`` (20 seeds per strength): spending the
-#: whole 10 % false-warn budget on this check alone, the best statistic of the two shift tables
-#: flags two processes 0.1 decade apart at 60 % (weighted trend |z|), the best (z, drift) pair
-#: at 65 %, the per-isotherm |z| at 35 %, the collapse of the joint shift (misfit over noise) at
-#: 20 %; 0.3 decade at 95–100 %. 70 % at 0.1 decade is beyond these statistics.
-AGREEMENT_TREND_Z = 2.0
-AGREEMENT_TREND_DECADES = 0.08
+#: 0.03 (was 0.02) with the trend test below: on the 364 simple frequency campaigns of the
+#: benchmark's and fresh seeds it gives the same false-warn rate at a larger detection than 0.02.
+AGREEMENT_TOLERANCE_DECADES = 0.03
+#: The pooled trend test (module docstring), set on benchmarks/bench_checks.py (5 December 2026)
+#: with 192 more simple campaigns on fresh seeds (simple_case(i, 50000 + i)) and 40 more
+#: two_process campaigns per strength 0.1 and 0.3 (seeds 115040–115079 and 115240–115279), so
+#: that the thresholds follow the physics, not the benchmark's seeds. The single-function stderrs
+#: are correlated and generous (the χ² of the differences about their mean is a third of its
+#: degrees of freedom, median over simple campaigns), so |z_β| is not a standard normal: on
+#: simple campaigns (tolerance 0.02) its 90th percentile is 1.8, its 95th 2.4 (the drift's 0.06
+#: and 0.08 decade); both are required. At z 1.5 and 0.055 decade (with the tolerance 0.03 and
+#: Kramers–Kronig's warn at 35 %) the overall verdict warns on 8.8 % of the benchmark's simple
+#: campaigns and 7.1 % of the fresh ones, fails on 0.4 % and 0 %; two processes 0.1 decade apart
+#: are flagged 7/10 on the benchmark's seeds and 33/50 (66 %) with the fresh ones, 0.3 decade
+#: 10/10 and 49/50 (98 %); E'' on its own law 0.1 decade 9/10 (18/20). Was (z 2, 0.08 decade,
+#: tolerance 0.02, KK at 20 %): warns 9.2 % and 10.9 % (fresh), two processes 0.1 decade 3/10
+#: (16/50), 0.3 decade 9/10 (47/50). Neighbours on the same grid: z 1.6 and 0.05–0.06 decade
+#: give 8.4–9.2 % and 52–60 %, z 1.4 and 0.06 decade 9.6 % and 58 %; a drift of 0.05 decade is
+#: the warn size itself. The limit at 0.1 decade: thresholding one statistic of the two shift
+#: tables at 8–10 % false warns on the 364 simple frequency campaigns (this check alone), two
+#: processes 0.1 decade apart are flagged at 56–68 % (weighted trend |z|), 66–68 % (generalized
+#: least squares with the fits' full covariances instead of their stderrs), 58–68 % (drift);
+#: the pairs of the oracle (``python benchmarks/bench_checks.py --oracle``, 20 seeds per
+#: strength, thresholds after seeing the data) 60–70 %; a likelihood-ratio test that knows the
+#: two-process model reaches 71 % at 8 % false alarms (its 50 seeds; 74 % on the 50 seeds
+#: above). Counting the low-information isotherms too, with their own stderrs, makes |z_β|
+#: heavier-tailed on simple campaigns and lowers detection (36 % at 8 % false warns). 70 % is at
+#: the edge of what these data hold.
+AGREEMENT_TREND_Z = 1.5
+AGREEMENT_TREND_DECADES = 0.055
+#: An isotherm whose single-function fit leaves out more than this share of its points as
+#: outliers is not informative: on a fresh simple campaign (bimodal, 30 isotherms, 5 % noise,
+#: simple_case(80, 50080)) the E'' fit rejected 7 of the 10 points of the reference isotherm and
+#: placed it 2.6 decades off, which failed the check on simple data.
+AGREEMENT_MAX_OUTLIER_FRACTION = 1.0 / 3.0
 
 _PAIRS = (("storage_modulus_Pa", "loss_modulus_Pa"),
           ("storage_compliance_1_per_Pa", "loss_compliance_1_per_Pa"))
@@ -141,6 +159,57 @@ def _single_function_shifts(data: Campaign, t_ref: float, pair: tuple):
     except (DataError, FitError):
         return None
     return fits
+
+
+def _outlier_count(flags: tuple) -> int:
+    """The number of points a fit left out as outliers (its flag ``outliers:N``), else 0."""
+    for flag in flags:
+        if flag.startswith("outliers:"):
+            return int(flag.split(":", 1)[1])
+    return 0
+
+
+def _points_per_isotherm(campaign: Campaign, temperatures_K: np.ndarray) -> np.ndarray:
+    """The number of points of the campaign's isotherm nearest to each temperature."""
+    temps = np.array([iso.temperature_K for iso in campaign.isotherms])
+    return np.array([campaign.isotherms[int(np.argmin(np.abs(temps - t)))].n_points
+                     for t in temperatures_K])
+
+
+def _informative(flags_a: tuple, flags_b: tuple, n_points: np.ndarray) -> np.ndarray:
+    """Isotherms whose shift each function alone fixes: not low-information (a plateau of that
+    function or too little overlap), not bridged by a law across a gap, and with at most
+    :data:`AGREEMENT_MAX_OUTLIER_FRACTION` of its points left out as outliers by either fit (a
+    fit that rejects most of an isotherm does not describe it)."""
+    return np.array([not any(f.startswith(("low-information", "bridged")) for f in fa + fb)
+                     and max(_outlier_count(fa), _outlier_count(fb))
+                     <= AGREEMENT_MAX_OUTLIER_FRACTION * n
+                     for fa, fb, n in zip(flags_a, flags_b, n_points, strict=True)])
+
+
+def _reference_index(flags: tuple, temperatures_K: np.ndarray, t_ref: float) -> int:
+    """The isotherm the single-function fits are anchored at (flag ``reference``), else the one
+    nearest to the reference temperature."""
+    for k, f in enumerate(flags):
+        if "reference" in f:
+            return k
+    return int(np.argmin(np.abs(temperatures_K - t_ref)))
+
+
+def _regauged(d: np.ndarray, se: np.ndarray, temperatures_K: np.ndarray,
+              informative: np.ndarray, ref: int) -> tuple[np.ndarray, np.ndarray]:
+    """Differences anchored at an informative isotherm. Both single-function fits set
+    log10 a_T = 0 at the reference, so d = 0 there by construction; when one function alone
+    cannot place the reference, every other d carries that misplacement as a constant. Then
+    the informative isotherm nearest in temperature becomes the anchor: d_k − d_j, with the
+    variances added (a conservative bound: the two are positively correlated)."""
+    if informative[ref] or not informative.any():
+        return d, se
+    candidates = np.flatnonzero(informative)
+    j = int(candidates[np.argmin(np.abs(temperatures_K[candidates] - temperatures_K[ref]))])
+    se_new = np.sqrt(se ** 2 + se[j] ** 2 - AGREEMENT_TOLERANCE_DECADES ** 2)
+    se_new[j] = AGREEMENT_TOLERANCE_DECADES
+    return d - d[j], se_new
 
 
 def _build_shifts_at(shifts, temperatures_K: np.ndarray) -> np.ndarray:
@@ -229,18 +298,16 @@ def check_function_agreement(campaign: Campaign, shifts: ShiftResult):
     sa = np.nan_to_num(np.asarray(a.log10_aT_stderr, float), nan=0.0)
     sb = np.nan_to_num(np.asarray(b.log10_aT_stderr, float), nan=0.0)
     se = np.sqrt(sa ** 2 + sb ** 2 + AGREEMENT_TOLERANCE_DECADES ** 2)
-    z = d / se
     T = np.asarray(a.temperature_K, float)
     e1, e2 = campaign.symbol(pair[0]), campaign.symbol(pair[1])
+    informative = _informative(a.flags, b.flags, _points_per_isotherm(campaign, T))
+    d, se = _regauged(d, se, T, informative, _reference_index(a.flags, T, t_ref))
+    z = d / se
     rows = [{"temperature_C": float(t - 273.15), f"log10_aT_{pair[0]}": float(x),
              f"log10_aT_{pair[1]}": float(y), "difference_decades": float(dd),
-             "z": float(zz)}
-            for t, x, y, dd, zz in zip(T, a.log10_aT, b.log10_aT, d, z, strict=True)]
-    informative = np.array([not any(f.startswith(("low-information", "bridged"))
-                                    for f in fa + fb)
-                            for fa, fb in zip(a.flags, b.flags, strict=True)])
-    for row, ok in zip(rows, informative, strict=True):
-        row["informative"] = bool(ok)
+             "z": float(zz), "informative": bool(ok)}
+            for t, x, y, dd, zz, ok in zip(T, a.log10_aT, b.log10_aT, d, z, informative,
+                                           strict=True)]
     significant = (np.abs(z) > AGREEMENT_Z) & informative
     size = np.where(significant, np.abs(d), 0.0)
     build_log_aT = _build_shifts_at(shifts, T)
