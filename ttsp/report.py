@@ -470,13 +470,6 @@ _LAW_WEIGHTING = {
 }
 
 
-def _equilibrium_stderr(fit, factor: float) -> str:
-    """"± s" of the equilibrium modulus in the table's unit, or "" when it is not known (the
-    fit's profile interval, :mod:`ttsp.prony.nnls`)."""
-    s = float(dict(getattr(fit, "stderr", {}) or {}).get("equilibrium_modulus_Pa", np.nan))
-    return f"± {_num(s / factor, 2)}" if np.isfinite(s) and s > 0 else ""
-
-
 def _prony(result) -> dict:
     series = result.series
     fit = result.prony_fit
@@ -484,6 +477,7 @@ def _prony(result) -> dict:
     tau = np.asarray(series.tau_s, dtype=float)
     e_i = np.asarray(series.modulus_Pa, dtype=float)
     einf = float(series.equilibrium_modulus_Pa)
+    s_inf = float(dict(getattr(fit, "stderr", {}) or {}).get("equilibrium_modulus_Pa", np.nan))
     unit, factor = _modulus_unit(list(e_i) + [einf, series.instantaneous_modulus_Pa])
     terms = [{"i": str(k + 1), "tau": _num(t, 6), "modulus": _num(m / factor, 6)}
              for k, (t, m) in enumerate(zip(tau, e_i, strict=True)) if m > 0]
@@ -501,7 +495,8 @@ def _prony(result) -> dict:
         "unit": unit,
         "terms": terms,
         "einf": _num(einf / factor, 6),
-        "einf_stderr": _equilibrium_stderr(fit, factor),
+        # "± s" from the fit's profile interval (ttsp.prony.nnls), "" where it is not known
+        "einf_stderr": f"± {_num(s_inf / factor, 2)}" if np.isfinite(s_inf) and s_inf > 0 else "",
         "e0": _num(series.instantaneous_modulus_Pa / factor, 6),
         "g_infinity": _num(norm.g_infinity, 6),
         "e0_Pa": _num(norm.instantaneous_modulus_Pa, 6),
