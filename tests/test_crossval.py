@@ -173,3 +173,20 @@ def test_a_fold_started_from_the_full_shifts_reaches_the_same_shifts():
     assert warm.iterations < cold.iterations
     with pytest.raises(ttsp.DataError, match="start_from"):
         shift_isotherms(train, 320.0, start_from={"a": 1})
+
+
+def test_best_shift_scan_in_chunks_matches_one_evaluation(monkeypatch):
+    """The best-a_T scan evaluates the series for many shifts at once, in chunks that bound its
+    memory on dense isotherms; chunked or not, the costs are the same."""
+    from ttsp import crossval
+
+    camp, _ = campaign(noise=0.02, seed=4)
+    camp = camp.with_derived()
+    result = quiet(ttsp.build, camp, cross_validation=False)
+    predictor = crossval._Predictor(result.model, camp.isotherms[3],
+                                    crossval.scored_functions(camp))
+    grid = np.linspace(-2.0, 2.0, 121)
+    whole = predictor.pooled_many(grid)
+    monkeypatch.setattr(crossval, "_SCAN_VALUES", 3 * camp.isotherms[3].x.size)
+    np.testing.assert_allclose(predictor.pooled_many(grid), whole, rtol=1e-12)
+    assert predictor.pooled(0.3) == pytest.approx(float(predictor.pooled_many(np.array([0.3]))[0]))

@@ -756,6 +756,35 @@ def test_auto_leaves_out_a_law_that_could_not_be_preferred(monkeypatch):
     assert full.model == fit.model == "wlf"
 
 
+def test_leaving_out_laws_counts_held_constants(monkeypatch):
+    """With constants held, a law's free constants decide whether it could be preferred: WLF
+    with C1 and C2 held has none, so it is fitted and compared (it was left out as a
+    two-constant law and Arrhenius chosen instead, on 87 of 200 seeds); the choice is the one
+    the full comparison makes. With only Arrhenius fitted, the reason says what was done."""
+    from ttsp.laws import fit as law_fit
+
+    tr, T = 300.0, np.linspace(290.0, 320.0, 8)
+    truth = -10.0 * (T - tr) / (80.0 + T - tr)
+    skip = law_fit._cannot_be_preferred
+    for seed in range(20):
+        y = truth + np.random.default_rng(seed).normal(0.0, 0.15, T.size) * (T != tr)
+        for fixed in ({"C1": 10.0, "C2_K": 80.0}, {"C1": 10.0}):
+            kwargs = dict(reference_temperature_K=tr, stderr=np.full(T.size, 0.15), fixed=fixed)
+            monkeypatch.setattr(law_fit, "_cannot_be_preferred", skip)
+            fast = fit_shift_law(T, y, **kwargs)
+            monkeypatch.setattr(law_fit, "_cannot_be_preferred", lambda *a, **k: "")
+            assert fast.model == fit_shift_law(T, y, **kwargs).model, (seed, fixed)
+    monkeypatch.setattr(law_fit, "_cannot_be_preferred", skip)
+    arr = ArrheniusLaw(TG, {"activation_energy_kJ_per_mol": 200.0})
+    T9 = np.linspace(TG - 20.0, TG + 20.0, 9)
+    y9 = arr.log10_aT(T9) + np.random.default_rng(3).normal(0.0, 0.01, 9) * (T9 != TG)
+    fit = fit_shift_law(T9, y9, reference_temperature_K=TG, stderr=np.full(9, 0.02))
+    status = {c["model"]: c["status"] for c in fit.candidates}
+    assert status == {"wlf": "not needed", "arrhenius": "fitted", "wlf-arrhenius": "not needed"}
+    assert "chosen by leave-one-out prediction" in fit.reason
+    assert "only one that could be fitted" not in fit.reason
+
+
 def test_auto_skips_laws_without_enough_points():
     T = np.array([380.0, 400.0, 430.0])
     y = universal().log10_aT(T)

@@ -55,6 +55,8 @@ SCORED_FUNCTIONS = {
 #: the best a_T is searched within this many decades of the law's a_T
 _BEST_SHIFT_WINDOW = 3.0
 _GRID_STEP = 0.05
+#: shift-point pairs evaluated at once by the best-shift scan (times the Prony terms, floats)
+_SCAN_VALUES = 20_000
 
 
 @dataclass(frozen=True)
@@ -301,7 +303,13 @@ class _Predictor:
         return float(self.pooled_many(np.array([float(log10_aT)]))[0])
 
     def pooled_many(self, log10_aT: np.ndarray) -> np.ndarray:
-        """:meth:`pooled` at each of an array of shifts, the series evaluated once."""
+        """:meth:`pooled` at each of an array of shifts, the series evaluated once per chunk of
+        shifts (a chunk spans at most _SCAN_VALUES shift-point pairs: a dense isotherm's whole
+        grid at once took 0.8 GB for 20,000 points)."""
+        per_chunk = max(1, _SCAN_VALUES // max(self.iso.x.size, 1))
+        if log10_aT.size > per_chunk:
+            return np.concatenate([self.pooled_many(log10_aT[i:i + per_chunk])
+                                   for i in range(0, log10_aT.size, per_chunk)])
         ms = np.array([np.broadcast_to(v, log10_aT.shape)
                        for v in self.mean_squares(log10_aT).values()])
         finite = np.isfinite(ms)

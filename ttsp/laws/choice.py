@@ -196,6 +196,10 @@ def _reason(chosen: str, candidates: Mapping, held_out: Mapping[str, float],
     others = sorted((m for m in candidates if m != chosen), key=lambda m: held_out[m])
     unit = "squared standard errors" if weighted else "squared decades"
     a = held_out[chosen]
+    if not others and math.isfinite(a):   # the others failed, or were not needed
+        return (f"the {chosen} law was chosen by leave-one-out prediction of the interior "
+                f"shift factors (mean squared error {a:.3g} {unit}); no other law was fitted "
+                "to compare with (see each candidate's status)")
     if not others or not math.isfinite(a):
         return (f"the {chosen} law was the only one whose held-out predictions could "
                 "be computed")

@@ -183,15 +183,17 @@ def _fit_candidates(models: tuple, model: str, table: ShiftTable, fixed_all: dic
     rows: dict = {}
     candidates: dict = {}
     held_out: dict = {}
-    by_size = sorted(models, key=lambda m: (len(SHIFT_LAWS[m].fit_parameter_names(order)),
-                                            models.index(m)))
+
+    def n_free(m):   # constants the fit determines: the law's names less those held
+        names = SHIFT_LAWS[m].fit_parameter_names(order)
+        return len(names) - sum(n in fixed_all for n in names)
+
     without = WeightingsWithout(table)
-    for m in by_size:
-        why = (_cannot_be_preferred(m, models, candidates, held_out, table, order)
+    for m in sorted(models, key=lambda m: (n_free(m), models.index(m))):
+        why = (_cannot_be_preferred(n_free(m), models, candidates, held_out, table)
                if model == "auto" else "")
         if why:
-            rows[m] = {"model": m, "n_free": len(SHIFT_LAWS[m].fit_parameter_names(order)),
-                       "status": "not needed", "detail": why,
+            rows[m] = {"model": m, "n_free": n_free(m), "status": "not needed", "detail": why,
                        "chi_square": None, "aic": None, "bic": None, "delta_bic": None}
             continue
         rows[m], candidate = _fit_candidate(m, model, table, fixed_all, bounds_all, order)
@@ -205,15 +207,16 @@ def _fit_candidates(models: tuple, model: str, table: ShiftTable, fixed_all: dic
     return [rows[m] for m in models], candidates, held_out
 
 
-def _cannot_be_preferred(m: str, models: tuple, candidates: dict, held_out: dict,
-                         table: ShiftTable, order: int) -> str:
-    """Why law ``m`` need not be fitted, or "": the laws with fewer constants already predict
-    the left-out shifts within their noise (the choice so far scores at most
-    HELD_OUT_GAIN_MIN squared standard errors), so ``m``, with more constants and a table
-    long enough to score it by held-out prediction, could not beat it by more than that. The
-    outcome is the same as fitting it; the saving is the costliest fit of the build (the
-    four-constant WLF-Arrhenius law and its refits, three quarters of the law fit's time)."""
-    k = len(SHIFT_LAWS[m].fit_parameter_names(order))
+def _cannot_be_preferred(k: int, models: tuple, candidates: dict, held_out: dict,
+                         table: ShiftTable) -> str:
+    """Why a law with ``k`` free constants need not be fitted, or "": the laws with fewer
+    already predict the left-out shifts within their noise (the choice among them scores at
+    most HELD_OUT_GAIN_MIN squared standard errors), so one with more constants, on a table
+    long enough to score it by held-out prediction, could not beat that choice by more than
+    that. The laws are fitted in order of their free constants, so every law with fewer is
+    among ``candidates``; the outcome is the same as fitting it, and the saving is the
+    costliest fit of the build (the four-constant WLF-Arrhenius law and its refits, three
+    quarters of the law fit's time)."""
     simpler = {c: v for c, v in candidates.items() if len(v.outcome.free_names) < k}
     if not (simpler and table.weighted and table.T_fit.size - 1 > k and table.T_fit.size > 2):
         return ""
@@ -299,7 +302,7 @@ def _choose(model: str, models: tuple, candidates: dict, held_out: dict,
                                                 models.index(m)))
     if model != "auto":
         return ranking[0], f"the {ranking[0]} law was requested"
-    if len(ranking) == 1:
+    if len(ranking) == 1 and not math.isfinite(held_out.get(ranking[0], math.nan)):
         return (ranking[0], f"the {ranking[0]} law was the only one that could be fitted to "
                             f"{table.n} points")
     return choose_by_held_out(candidates, held_out, models, weighted=table.weighted,
