@@ -663,4 +663,4 @@ def test_an_undamped_step_that_fails_raises_the_damping():
     start = SimpleNamespace(phi=1.0, vec=np.zeros(2))
     mu, outcome = _joint_fit._Fit._damped_step(stub, start, A, g, np.ones(2, bool), 0.0, 0.3)
     assert outcome is not None and outcome.point.phi == 0.5
-    assert 0.0 < mu < 1e-6
+    assert 0.0 < mu < 1e-3      # raised from zero, and only as far as the rejections needed

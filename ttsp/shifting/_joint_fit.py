@@ -55,6 +55,12 @@ _MAD_TO_SIGMA = 1.482602218505602  # 1 / Φ⁻¹(3/4): MAD of a normal sample to
 #: negligible wherever the data determine a shift (stderr ~0.01), it stops a shift that the
 #: data do not constrain (a plateau) from wandering off
 _PRIOR_SD = 1.0
+#: a shift that moves by less than this fraction of its conditional standard error in a step
+#: has settled (see _Fit._settled)
+_SETTLED_FRACTION = 0.01
+#: steps of a round whose noise scales will still change (the last round has max_iter): on the
+#: demo's E' alone, a first round over isotherms that a gap then split took all 200
+_PROVISIONAL_ROUND_STEPS = 50
 
 
 @dataclass
@@ -289,13 +295,15 @@ class _Fit:
         return data + 0.5 * float(theta @ (self.model.pen @ theta)) + 0.5 * prior
 
     def gauss_newton(self, max_iter=100, tol=1e-10, max_shift_step=0.3, curve_only=False,
-                     settled_shift=1e-5):
+                     settled_shift=1e-5, provisional=False):
         """Damped Gauss–Newton (Levenberg–Marquardt) from the current parameters; the curve
         alone with ``curve_only``. Each iteration takes the first damped step that does not
         raise the objective; it stops when the objective and the shifts have settled (no shift
         moving by ``settled_shift`` decades or more, two steps running, while the objective
-        creeps), when no step descends, or after ``max_iter`` iterations. Returns whether it
-        converged."""
+        creeps; in a ``provisional`` round, whose noise scales will still change, a shift has
+        also settled once it moves by under a hundredth of its standard error, see
+        :meth:`_settled`), when no step descends, or after ``max_iter`` iterations. Returns
+        whether it converged."""
         vec = self.pack()
         theta, s, c = self.unpack(vec)
         point = self._point(vec, theta, s, c)
@@ -318,16 +326,18 @@ class _Fit:
                 # shifts (carrying the curve over) and start the iteration afresh
                 self._rebuild_grid(outcome, it)
                 return self.gauss_newton(max_iter, tol, max_shift_step, curve_only,
-                                         settled_shift)
+                                         settled_shift, provisional)
             if outcome is not None:
                 dphi = point.phi - outcome.point.phi
+                settled = self._settled(point.vec, outcome.point.vec, A, free, settled_shift,
+                                        provisional)
                 point, big = outcome.point, outcome.big
                 # converged: the objective no longer changes, or the shifts have stopped
                 # (< 1e-5 decades per step for two steps running) while the objective only
                 # creeps (< 1e-4 of itself per step: the spectrum trading its constant
                 # against modes beyond the data along a flat valley does this); with no
                 # free shift (a curve-only pass) that is two steps of such creeping
-                creep = big < settled_shift and dphi <= 1e-4 * (1.0 + point.phi)
+                creep = settled and dphi <= 1e-4 * (1.0 + point.phi)
                 slow = slow + 1 if creep else 0
                 if (dphi <= tol * (1.0 + point.phi) and big < 1e-6) or slow >= 2:
                     converged = True
@@ -339,6 +349,34 @@ class _Fit:
         self.iterations += it
         self.converged = converged
         return converged
+
+    def _settled(self, old_vec, new_vec, A, free, settled_shift: float,
+                 provisional: bool) -> bool:
+        """Whether every shift (and vertical shift) of a step moved by less than
+        ``settled_shift`` decades or, in a ``provisional`` round, by less than
+        _SETTLED_FRACTION of its standard error, sqrt((A⁻¹)_kk) with A the normal matrix of
+        the step (in units of the noise scales). A shift the data barely determine (two
+        isotherms beyond a gap on a plateau, held by the weak prior and traded against the
+        curve) zig-zags by 0.001-0.01 decade for hundreds of steps; against its standard error
+        of two decades that is settled for a round whose noise scales will change anyway. Not
+        in the last round: a small step does not bound what is left to go, and a shift that
+        crept 0.006 decade per step was stopped 0.7 stderr short of its optimum."""
+        nt = self.n_theta
+        moved = np.abs(new_vec[nt:] - old_vec[nt:])
+        if np.all(moved <= settled_shift):
+            return True
+        if not provisional:
+            return False
+        free_sc = free[nt:]
+        if not np.all(moved[~free_sc] <= settled_shift):
+            return False
+        try:
+            ridge = 1e-12 * (float(np.max(np.diag(A))) + 1.0)
+            cov = np.linalg.inv(A + ridge * np.eye(A.shape[0]))
+        except np.linalg.LinAlgError:
+            return False
+        sd = np.sqrt(np.maximum(np.diag(cov)[free[:nt].sum():], 0.0))
+        return bool(np.all(moved[free_sc] <= np.maximum(settled_shift, _SETTLED_FRACTION * sd)))
 
     def _point(self, vec, theta, s, c) -> _Point:
         # with the Jacobian at once: most trial steps are accepted, and evaluating the
@@ -385,7 +423,8 @@ class _Fit:
                 return mu, _OffGrid(th_t, s_t, c_t)
             new = self._point(trial, th_t, s_t, c_t)
             if np.isfinite(new.phi) and new.phi <= point.phi:
-                return max(mu / 3.0, 1e-10), _Step(new, big)
+                return _next_damping(mu, point.phi - new.phi, A, g_f, trial[free] - point.vec[free]), \
+                    _Step(new, big)
             mu = max(mu, 1e-8) * 4.0
         return mu, None
 
@@ -438,6 +477,19 @@ class _Fit:
             base = max(_MAD_TO_SIGMA * np.median(np.abs(rq - np.median(rq))), floor)
             sig[group] = base * rel[group]
         return sig
+
+
+def _next_damping(mu: float, actual: float, A, g, step) -> float:
+    """The damping after an accepted step, by how well the quadratic model predicted its
+    decrease: ρ = actual / (−gᵀδ − ½ δᵀAδ), µ ← µ max(1/3, 1 − (2ρ − 1)³) (Nielsen's rule:
+    Madsen, Nielsen & Tingleff, Methods for Non-linear Least Squares Problems, DTU, 2004,
+    §3.2). A step that decreased far less than predicted (a zig-zag across a curved valley)
+    keeps the damping up instead of lowering it by three."""
+    predicted = float(-g @ step - 0.5 * step @ (A @ step))
+    if not predicted > 0.0 or mu == 0.0:
+        return max(mu / 3.0, 1e-10) if mu > 0.0 else 0.0
+    rho = actual / predicted
+    return max(mu * max(1.0 / 3.0, 1.0 - (2.0 * rho - 1.0) ** 3), 1e-10)
 
 
 def fit_joint(prob: JointProblem, s0, c0=None, *, model="spectrum", robust=True, huber=1.5,
@@ -496,7 +548,8 @@ def _settle(fit: _Fit, huber: float | None, max_iter: int) -> None:
     # then the joint fit, with the noise scales re-estimated from its residuals until they
     # settle (the first round's come from the curve at the starting shifts, so at least two)
     # A round whose noise scales will still change need not settle the shifts finely: to
-    # 1e-3 decades (a tenth of a typical stderr) there, to 1e-5 in the last round.
+    # 1e-3 decades (a tenth of a typical stderr) there, to 1e-5 in the last round; nor run
+    # long (at most _PROVISIONAL_ROUND_STEPS steps: the next round goes on from where it stops)
     for round_ in range(4):
         r, raw, _, _, _ = fit.evaluate(fit.theta, fit.s, fit.c, jac=False)
         new_sigma = fit.estimate_sigma(raw)
@@ -504,7 +557,8 @@ def _settle(fit: _Fit, huber: float | None, max_iter: int) -> None:
         fit.sigma = new_sigma
         fit.huber = huber
         last = (round_ > 0 and change < 0.05) or round_ == 3
-        fit.gauss_newton(max_iter=max_iter, settled_shift=1e-5 if last else 1e-3)
+        fit.gauss_newton(max_iter=max_iter if last else min(max_iter, _PROVISIONAL_ROUND_STEPS),
+                         settled_shift=1e-5 if last else 1e-3, provisional=not last)
         if last:
             break
 
