@@ -664,3 +664,16 @@ def test_an_undamped_step_that_fails_raises_the_damping():
     mu, outcome = _joint_fit._Fit._damped_step(stub, start, A, g, np.ones(2, bool), 0.0, 0.3)
     assert outcome is not None and outcome.point.phi == 0.5
     assert 0.0 < mu < 1e-3      # raised from zero, and only as far as the rejections needed
+
+
+def test_damping_follows_the_gain_ratio():
+    """Nielsen's rule (Madsen, Nielsen & Tingleff 2004, §3.2): a step that decreased the
+    objective as the quadratic model predicted lowers the damping threefold, one that decreased
+    far less raises it (a zig-zag), and an undamped linear pass stays undamped."""
+    from ttsp.shifting._joint_fit import _next_damping
+
+    A, g = np.diag([2.0, 2.0]), np.array([-2.0, -2.0])
+    step = np.array([1.0, 1.0])                     # the Newton step: predicted decrease 2
+    assert _next_damping(1e-3, 2.0, A, g, step) == pytest.approx(1e-3 / 3.0)
+    assert _next_damping(1e-3, 0.1, A, g, step) > 1e-3     # 5 % of the prediction
+    assert _next_damping(0.0, 2.0, A, g, step) == 0.0
