@@ -43,7 +43,11 @@ ROOT = Path(__file__).resolve().parents[1]
 if str(ROOT) not in sys.path:
     sys.path.insert(0, str(ROOT))
 
-from benchmarks.generator import benchmark_cases, case_campaign  # noqa: E402
+from benchmarks.generator import (  # noqa: E402
+    benchmark_cases,
+    case_campaign,
+    points_at_true_shifts,
+)
 from ttsp.exceptions import FitQualityWarning  # noqa: E402
 from ttsp.history import strain_under_stress, stress_under_strain  # noqa: E402
 from ttsp.interconvert import creep_to_relaxation, relaxation_to_creep  # noqa: E402
@@ -182,17 +186,11 @@ def _true_shift_fit_error(case, noise: float, end: bool = False) -> tuple:
     """Worst and rms relative error (%) of D(t) from the default fit on the case's points
     at the true shifts, over the valid reduced range (and with ``end`` the signed error at
     its long-time end)."""
-    camp, truth, true_log10_aT = case_campaign(case, noise=noise)
-    w = np.concatenate([iso.x * 10.0 ** la
-                        for iso, la in zip(camp.isotherms, true_log10_aT, strict=True)])
-    ep = np.concatenate([iso.values["storage_modulus_Pa"] for iso in camp.isotherms])
-    epp = np.concatenate([iso.values["loss_modulus_Pa"] for iso in camp.isotherms])
-    order = np.argsort(w)
+    w, ep, epp, (e_inf, e_i, tau) = points_at_true_shifts(case, noise=noise)
     with warnings.catch_warnings():
         warnings.simplefilter("ignore", FitQualityWarning)
-        fit = fit_prony_frequency(w[order], ep[order], epp[order])
-    shift = float(truth.log10_aT[0] - true_log10_aT[0])
-    exact = relaxation_to_creep(PronySeries(truth.E_inf, truth.tau_i * 10.0 ** shift, truth.E_i))
+        fit = fit_prony_frequency(w, ep, epp)
+    exact = relaxation_to_creep(PronySeries(e_inf, tau, e_i))
     lo, hi = fit.series.valid_reduced_time_range_s
     t = np.logspace(np.log10(lo), np.log10(hi), 200)
     rel = relaxation_to_creep(fit.series).creep_compliance(t) / exact.creep_compliance(t) - 1

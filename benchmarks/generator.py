@@ -218,3 +218,17 @@ def case_campaign(case, noise=0.02):
     true = truth.log10_aT - float(wlf_log10_aT(ref, case["C1"], case["C2_K"],
                                                case["wlf_reference_K"]))
     return camp, truth, true
+def points_at_true_shifts(case, noise=0.02):
+    """The master-curve points of a case's campaign placed by its exact shifts: reduced ω
+    (rad/s), E', E'' (Pa) in order of ω, and the generating spectrum (E_∞, E_i, τ_i) referred
+    to the case's ``shift_reference_K`` like the shifts."""
+    camp, truth, true_log10_aT = case_campaign(case, noise=noise)
+    w = np.concatenate([iso.x * 10.0 ** la
+                        for iso, la in zip(camp.isotherms, true_log10_aT, strict=True)])
+    ep = np.concatenate([iso.values["storage_modulus_Pa"] for iso in camp.isotherms])
+    epp = np.concatenate([iso.values["loss_modulus_Pa"] for iso in camp.isotherms])
+    order = np.argsort(w)
+    tau = truth.tau_i * 10.0 ** float(truth.log10_aT[0] - true_log10_aT[0])
+    return w[order], ep[order], epp[order], (truth.E_inf, truth.E_i, tau)
+
+

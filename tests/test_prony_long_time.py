@@ -27,20 +27,7 @@ ROOT = str(Path(__file__).resolve().parents[1])
 if ROOT not in sys.path:
     sys.path.insert(0, ROOT)
 
-from benchmarks.generator import benchmark_cases, case_campaign  # noqa: E402
-
-
-def _points_at_true_shifts(case, noise):
-    """Reduced ω (rad/s), E', E'' (Pa) of a benchmark case at its exact shifts, and the
-    generating spectrum (E_∞, E_i, τ_i at the shift reference temperature)."""
-    camp, truth, true_log10_aT = case_campaign(case, noise=noise)
-    w = np.concatenate([iso.x * 10.0 ** la
-                        for iso, la in zip(camp.isotherms, true_log10_aT, strict=True)])
-    ep = np.concatenate([iso.values["storage_modulus_Pa"] for iso in camp.isotherms])
-    epp = np.concatenate([iso.values["loss_modulus_Pa"] for iso in camp.isotherms])
-    order = np.argsort(w)
-    tau = truth.tau_i * 10.0 ** float(truth.log10_aT[0] - true_log10_aT[0])
-    return w[order], ep[order], epp[order], (truth.E_inf, truth.E_i, tau)
+from benchmarks.generator import benchmark_cases, points_at_true_shifts  # noqa: E402
 
 
 def _fit(w, ep, epp, **kw):
@@ -75,7 +62,7 @@ def test_long_time_end_of_creep_matches_laplace_inversion_of_the_generating_spec
     up to t = 1/ω_min, within 0.2 % of the exact creep by Laplace inversion (the default grid
     and margin cost at most 0.05 % over the window on the twelve benchmark cases; with noise
     the end's error is the noise's, 0.3-1.2 % standard deviation there)."""
-    w, ep, epp, spectrum = _points_at_true_shifts(_case(name), noise=0.0)
+    w, ep, epp, spectrum = points_at_true_shifts(_case(name), noise=0.0)
     fit = _fit(w, ep, epp)
     lo, hi = fit.series.valid_reduced_time_range_s
     assert hi == pytest.approx(1.0 / w.min())
@@ -91,7 +78,7 @@ def test_equilibrium_modulus_falls_within_its_stderr_as_often_as_a_standard_erro
     with three NaN at the bound 0), and within one in at least 6 of 12 (73 % over 60)."""
     z = []
     for case in benchmark_cases(12):
-        w, ep, epp, (e_inf, _, _) = _points_at_true_shifts(case, noise=0.02)
+        w, ep, epp, (e_inf, _, _) = points_at_true_shifts(case, noise=0.02)
         fit = _fit(w, ep, epp)
         se = fit.stderr["equilibrium_modulus_Pa"]
         assert np.isfinite(se) and se > 0
@@ -105,7 +92,7 @@ def test_equilibrium_modulus_at_the_bound_zero_gets_an_interval_that_holds_the_t
     """Case 06 at 2 % noise: the data stop at E'(ω_min) ≈ 2.6 E_∞ and the fit puts E_∞ at 0
     (a slow term beyond the data carries the plateau). The linearised error is undefined
     there; the profile interval reaches past the true E_∞ = 1 MPa."""
-    w, ep, epp, (e_inf, _, _) = _points_at_true_shifts(_case("06-symmetric"), noise=0.02)
+    w, ep, epp, (e_inf, _, _) = points_at_true_shifts(_case("06-symmetric"), noise=0.02)
     fit = _fit(w, ep, epp)
     assert fit.params["equilibrium_modulus_Pa"] == 0.0
     assert fit.stderr["equilibrium_modulus_Pa"] >= e_inf
