@@ -333,9 +333,6 @@ class ShiftLaw(abc.ABC):
     #: linear in all its constants: fitted by direct weighted linear least squares when no
     #: bound is given (see :class:`LinearShiftLaw`)
     linear_in_constants: ClassVar[bool] = False
-    #: an empirical law, with no physics to carry it between and beyond the shifts: fitted
-    #: when asked for by name, never chosen by ``"auto"`` (see :data:`~ttsp.laws.AUTO_MODELS`)
-    empirical: ClassVar[bool] = False
     #: solver of the refits on the table less one row (law choice): "trust-region" (scipy's
     #: least_squares, method "trf") or "levenberg-marquardt" (a few undamped steps)
     refit_solver: ClassVar[str] = "trust-region"

@@ -61,9 +61,9 @@ def fit_shift_law(temperature_K: Any, log10_aT: Any, *, reference_temperature_K:
 
     With ``model="auto"`` the laws of :data:`~ttsp.laws.AUTO_MODELS` with more points than free
     parameters are fitted and the one that best predicts left-out interior shifts is returned
-    (leave-one-out, Stone 1974; :mod:`ttsp.laws.choice`); more constants, or the empirical
-    polynomial, must win beyond the shifts' noise. AIC and BIC (Akaike 1974; Schwarz 1978) are
-    reported for each. VFT, WLF with other constants, is left out (use ``.law.to_vft()``).
+    (leave-one-out, Stone 1974; :mod:`ttsp.laws.choice`, which also says when BIC decides);
+    AIC and BIC (Akaike 1974; Schwarz 1978) are reported for each. VFT (WLF with other
+    constants: ``.law.to_vft()``) and the empirical polynomial are fitted by name only.
 
     Parameters
     ----------

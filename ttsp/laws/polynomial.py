@@ -37,7 +37,6 @@ class PolynomialLaw(LinearShiftLaw):
     """
 
     model: ClassVar[str] = POLYNOMIAL
-    empirical: ClassVar[bool] = True
 
     @classmethod
     def _expected_names(cls, params=None):

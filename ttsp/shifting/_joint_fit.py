@@ -55,8 +55,8 @@ _MAD_TO_SIGMA = 1.482602218505602  # 1 / Φ⁻¹(3/4): MAD of a normal sample to
 #: negligible wherever the data determine a shift (stderr ~0.01), it stops a shift that the
 #: data do not constrain (a plateau) from wandering off
 _PRIOR_SD = 1.0
-#: a shift that moves by less than this fraction of its conditional standard error in a step
-#: has settled (see _Fit._settled)
+#: in a provisional round, a shift that moves by less than this fraction of its standard
+#: error in a step has settled (see _Fit._settled)
 _SETTLED_FRACTION = 0.01
 #: steps of a round whose noise scales will still change (the last round has max_iter): on the
 #: demo's E' alone, a first round over isotherms that a gap then split took all 200
@@ -295,15 +295,13 @@ class _Fit:
         return data + 0.5 * float(theta @ (self.model.pen @ theta)) + 0.5 * prior
 
     def gauss_newton(self, max_iter=100, tol=1e-10, max_shift_step=0.3, curve_only=False,
-                     settled_shift=1e-5, provisional=False):
+                     provisional=False):
         """Damped Gauss–Newton (Levenberg–Marquardt) from the current parameters; the curve
         alone with ``curve_only``. Each iteration takes the first damped step that does not
-        raise the objective; it stops when the objective and the shifts have settled (no shift
-        moving by ``settled_shift`` decades or more, two steps running, while the objective
-        creeps; in a ``provisional`` round, whose noise scales will still change, a shift has
-        also settled once it moves by under a hundredth of its standard error, see
-        :meth:`_settled`), when no step descends, or after ``max_iter`` iterations. Returns
-        whether it converged."""
+        raise the objective; it stops when the objective and the shifts have settled (see
+        :meth:`_settled`; two steps running, while the objective only creeps), when no step
+        descends, or after ``max_iter`` iterations. A ``provisional`` round, whose noise scales
+        will still change, settles more loosely. Returns whether it converged."""
         vec = self.pack()
         theta, s, c = self.unpack(vec)
         point = self._point(vec, theta, s, c)
@@ -326,11 +324,10 @@ class _Fit:
                 # shifts (carrying the curve over) and start the iteration afresh
                 self._rebuild_grid(outcome, it)
                 return self.gauss_newton(max_iter, tol, max_shift_step, curve_only,
-                                         settled_shift, provisional)
+                                         provisional)
             if outcome is not None:
                 dphi = point.phi - outcome.point.phi
-                settled = self._settled(point.vec, outcome.point.vec, A, free, settled_shift,
-                                        provisional)
+                settled = self._settled(point.vec, outcome.point.vec, A, free, provisional)
                 point, big = outcome.point, outcome.big
                 # converged: the objective no longer changes, or the shifts have stopped
                 # (< 1e-5 decades per step for two steps running) while the objective only
@@ -350,11 +347,10 @@ class _Fit:
         self.converged = converged
         return converged
 
-    def _settled(self, old_vec, new_vec, A, free, settled_shift: float,
-                 provisional: bool) -> bool:
-        """Whether every shift (and vertical shift) of a step moved by less than
-        ``settled_shift`` decades or, in a ``provisional`` round, by less than
-        _SETTLED_FRACTION of its standard error, sqrt((A⁻¹)_kk) with A the normal matrix of
+    def _settled(self, old_vec, new_vec, A, free, provisional: bool) -> bool:
+        """Whether every shift (and vertical shift) of a step moved by less than 1e-5 decade
+        or, in a ``provisional`` round, by less than 1e-3 decade (a tenth of a typical stderr)
+        or _SETTLED_FRACTION of its standard error, sqrt((A⁻¹)_kk) with A the normal matrix of
         the step (in units of the noise scales). A shift the data barely determine (two
         isotherms beyond a gap on a plateau, held by the weak prior and traded against the
         curve) zig-zags by 0.001-0.01 decade for hundreds of steps; against its standard error
@@ -362,6 +358,7 @@ class _Fit:
         in the last round: a small step does not bound what is left to go, and a shift that
         crept 0.006 decade per step was stopped 0.7 stderr short of its optimum."""
         nt = self.n_theta
+        settled_shift = 1e-3 if provisional else 1e-5
         moved = np.abs(new_vec[nt:] - old_vec[nt:])
         if np.all(moved <= settled_shift):
             return True
@@ -423,8 +420,8 @@ class _Fit:
                 return mu, _OffGrid(th_t, s_t, c_t)
             new = self._point(trial, th_t, s_t, c_t)
             if np.isfinite(new.phi) and new.phi <= point.phi:
-                return _next_damping(mu, point.phi - new.phi, A, g_f, trial[free] - point.vec[free]), \
-                    _Step(new, big)
+                step = trial[free] - point.vec[free]
+                return _next_damping(mu, point.phi - new.phi, A, g_f, step), _Step(new, big)
             mu = max(mu, 1e-8) * 4.0
         return mu, None
 
@@ -547,9 +544,9 @@ def _settle(fit: _Fit, huber: float | None, max_iter: int) -> None:
     fit.gauss_newton(max_iter=min(max_iter, 50), tol=1e-4, curve_only=True)
     # then the joint fit, with the noise scales re-estimated from its residuals until they
     # settle (the first round's come from the curve at the starting shifts, so at least two)
-    # A round whose noise scales will still change need not settle the shifts finely: to
-    # 1e-3 decades (a tenth of a typical stderr) there, to 1e-5 in the last round; nor run
-    # long (at most _PROVISIONAL_ROUND_STEPS steps: the next round goes on from where it stops)
+    # A round whose noise scales will still change need not settle the shifts finely (see
+    # _Fit._settled), nor run long (at most _PROVISIONAL_ROUND_STEPS steps: the next round
+    # goes on from where it stops)
     for round_ in range(4):
         r, raw, _, _, _ = fit.evaluate(fit.theta, fit.s, fit.c, jac=False)
         new_sigma = fit.estimate_sigma(raw)
@@ -558,7 +555,7 @@ def _settle(fit: _Fit, huber: float | None, max_iter: int) -> None:
         fit.huber = huber
         last = (round_ > 0 and change < 0.05) or round_ == 3
         fit.gauss_newton(max_iter=max_iter if last else min(max_iter, _PROVISIONAL_ROUND_STEPS),
-                         settled_shift=1e-5 if last else 1e-3, provisional=not last)
+                         provisional=not last)
         if last:
             break
 
