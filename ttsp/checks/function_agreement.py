@@ -161,30 +161,16 @@ def _single_function_shifts(data: Campaign, t_ref: float, pair: tuple):
     return fits
 
 
-def _outlier_count(flags: tuple) -> int:
-    """The number of points a fit left out as outliers (its flag ``outliers:N``), else 0."""
-    for flag in flags:
-        if flag.startswith("outliers:"):
-            return int(flag.split(":", 1)[1])
-    return 0
-
-
-def _points_per_isotherm(campaign: Campaign, temperatures_K: np.ndarray) -> np.ndarray:
-    """The number of points of the campaign's isotherm nearest to each temperature."""
-    temps = np.array([iso.temperature_K for iso in campaign.isotherms])
-    return np.array([campaign.isotherms[int(np.argmin(np.abs(temps - t)))].n_points
-                     for t in temperatures_K])
-
-
-def _informative(flags_a: tuple, flags_b: tuple, n_points: np.ndarray) -> np.ndarray:
+def _informative(a: ShiftResult, b: ShiftResult) -> np.ndarray:
     """Isotherms whose shift each function alone fixes: not low-information (a plateau of that
     function or too little overlap), not bridged by a law across a gap, and with at most
     :data:`AGREEMENT_MAX_OUTLIER_FRACTION` of its points left out as outliers by either fit (a
     fit that rejects most of an isotherm does not describe it)."""
     return np.array([not any(f.startswith(("low-information", "bridged")) for f in fa + fb)
-                     and max(_outlier_count(fa), _outlier_count(fb))
-                     <= AGREEMENT_MAX_OUTLIER_FRACTION * n
-                     for fa, fb, n in zip(flags_a, flags_b, n_points, strict=True)])
+                     and max(int(np.sum(ma)), int(np.sum(mb)))
+                     <= AGREEMENT_MAX_OUTLIER_FRACTION * np.size(ma)
+                     for fa, fb, ma, mb in zip(a.flags, b.flags, a.outlier_mask, b.outlier_mask,
+                                               strict=True)])
 
 
 def _reference_index(flags: tuple, temperatures_K: np.ndarray, t_ref: float) -> int:
@@ -300,7 +286,7 @@ def check_function_agreement(campaign: Campaign, shifts: ShiftResult):
     se = np.sqrt(sa ** 2 + sb ** 2 + AGREEMENT_TOLERANCE_DECADES ** 2)
     T = np.asarray(a.temperature_K, float)
     e1, e2 = campaign.symbol(pair[0]), campaign.symbol(pair[1])
-    informative = _informative(a.flags, b.flags, _points_per_isotherm(campaign, T))
+    informative = _informative(a, b)
     d, se = _regauged(d, se, T, informative, _reference_index(a.flags, T, t_ref))
     z = d / se
     rows = [{"temperature_C": float(t - 273.15), f"log10_aT_{pair[0]}": float(x),
