@@ -136,23 +136,48 @@ def _fork_drawing(render, folder: Path, *, private: bool = False) -> int:
     from .plotting import save_figures
 
     parent = os.getpid()
-    pid = os.fork()
-    if pid == 0:
-        # a short-lived drawing process: without the cyclic collector its collections do not
-        # walk (and so copy-on-write) the heap it shares with the parent
-        gc.disable()
-        code = 1
+    pid, held = _fork_with_stops_held()
+    if pid != 0:
+        return pid
+    # a short-lived drawing process: without the cyclic collector its collections do not
+    # walk (and so copy-on-write) the heap it shares with the parent
+    gc.disable()
+    code = 1
+    try:
+        signal.pthread_sigmask(signal.SIG_SETMASK, held)
+        end_with_parent()   # a killed build leaves no drawing process behind
+        if os.getppid() != parent:  # it died before the line above
+            os._exit(1)
+        save_figures(render(), folder)
+        code = 0
+    finally:
+        if private and os.getppid() != parent:  # orphaned: nobody will collect the files
+            shutil.rmtree(folder, ignore_errors=True)
+        os._exit(code)
+
+
+def _fork_with_stops_held() -> tuple[int, Any]:
+    """``os.fork()`` with SIGTERM and Ctrl-C held until it returns: a handler that runs inside
+    fork()'s after-fork callbacks (logging registers one) has its exception printed and
+    ignored, and a build stopped at that instant ran on to the end and exited 0. Returns the
+    pid and the signal mask to restore; the parent's is restored here (a stop that came
+    meanwhile is handled then, and the child, whose pid the caller would never learn, is
+    stopped first), the child restores its own."""
+    held = signal.pthread_sigmask(signal.SIG_BLOCK, {signal.SIGTERM, signal.SIGINT})
+    try:
+        pid = os.fork()
+    except BaseException:
+        signal.pthread_sigmask(signal.SIG_SETMASK, held)
+        raise
+    if pid != 0:
         try:
-            end_with_parent()   # a killed build leaves no drawing process behind
-            if os.getppid() != parent:  # it died before the line above
-                os._exit(1)
-            save_figures(render(), folder)
-            code = 0
-        finally:
-            if private and os.getppid() != parent:  # orphaned: nobody will collect the files
-                shutil.rmtree(folder, ignore_errors=True)
-            os._exit(code)
-    return pid
+            signal.pthread_sigmask(signal.SIG_SETMASK, held)
+        except BaseException:
+            with contextlib.suppress(OSError):
+                os.kill(pid, signal.SIGKILL)
+                os.waitpid(pid, 0)
+            raise
+    return pid, held
 
 
 def _child_ok(pid: int) -> bool:
