@@ -28,12 +28,14 @@ the Jacobian ∂F/∂θ, keeps θ within its bounds and carries the roughness pe
 
 from __future__ import annotations
 
+from dataclasses import dataclass
+
 import numpy as np
 import scipy.sparse as sp
 from scipy.optimize import nnls
 
-__all__ = ["MASTER_MODELS", "SpectrumModel", "SplineModel", "make_curve_model",
-           "DENSE_JACOBIAN_MAX_ENTRIES"]
+__all__ = ["MASTER_MODELS", "CarriedSpectrum", "SpectrumModel", "SplineModel",
+           "make_curve_model", "DENSE_JACOBIAN_MAX_ENTRIES"]
 
 MASTER_MODELS = ("spectrum", "spline")
 _LN10 = np.log(10.0)
@@ -82,7 +84,9 @@ class SplineModel:
         self.margin = float(margin)
         self.lam = float(smoothing)
 
-    def build(self, u, theta_old=None):
+    def build(self, u, theta_old=None, carried=None):
+        """Knots over the reduced range u and the penalty; θ starts at zero (``theta_old`` and
+        ``carried`` are not needed: the first Gauss–Newton step solves a linear model)."""
         lo, hi = float(u.min()), float(u.max())
         m = self.margin + 3 * self.h
         self.u0 = lo - m
@@ -104,6 +108,10 @@ class SplineModel:
 
     def on_grid(self, u):
         return u.min() >= self.lo_ok + 1e-9 and u.max() <= self.hi_ok - 1e-9
+
+    def carried(self, theta) -> None:
+        """Nothing to carry to another fit (see :meth:`build`)."""
+        return None
 
     def project(self, theta):
         return theta
@@ -159,6 +167,24 @@ _SPECTRAL_KIND = {"storage_modulus_Pa": "E1", "loss_modulus_Pa": "E2",
                   "relaxation_modulus_Pa": "relax", "creep_compliance_1_per_Pa": "creep"}
 
 
+@dataclass(frozen=True)
+class CarriedSpectrum:
+    """A fitted spectrum in absolute units, to start another fit of nearly the same isotherms
+    from (a cross-validation fold): log10 τ_j, E_0 and φ_j as in :class:`SpectrumModel`, in
+    units of ``10**log10_scale``, and whether it is a time-domain (relaxation/creep) one."""
+
+    ltau: np.ndarray
+    theta: np.ndarray
+    log10_scale: float
+    time: bool
+
+    def moved(self, du: float) -> CarriedSpectrum:
+        """The same spectrum for reduced abscissae u + du (another gauge of the shifts): in
+        frequency ωτ = 1 at log10 τ = −u, in time t/τ = 1 at log10 τ = u."""
+        return CarriedSpectrum(self.ltau + (du if self.time else -du), self.theta,
+                               self.log10_scale, self.time)
+
+
 class SpectrumModel:
     """A smooth positive spectrum shared by all functions (see the module docstring).
 
@@ -189,7 +215,10 @@ class SpectrumModel:
                                 for k in self.kinds])[prob.fn]
         self.y = y
 
-    def build(self, u, theta_old=None):
+    def build(self, u, theta_old=None, carried: CarriedSpectrum | None = None):
+        """The grid of log10 τ over the reduced range u, its penalty, and the starting θ: the
+        old θ moved onto the new grid (``theta_old``, after the shifts left the old one), a
+        ``carried`` spectrum of another fit in this fit's units, or :meth:`_start`."""
         lo, hi = float(u.min()), float(u.max())
         m = self.margin
         # grid of log10 τ: in frequency ω τ = 1 at log τ = -u; in time t/τ = 1 at log τ = u
@@ -212,7 +241,17 @@ class SpectrumModel:
         if theta_old is not None and old is not None:
             phi = np.interp(self.ltau, old, theta_old[1:])
             return np.concatenate([[theta_old[0]], phi])
+        if carried is not None and carried.time == self.time:
+            # the same spectrum in this fit's units: strengths times 10**(old − new scale)
+            d = carried.log10_scale - self.log10_scale
+            phi = np.interp(self.ltau, carried.ltau, carried.theta[1:]) + _LN10 * d
+            return np.concatenate([[carried.theta[0] * 10.0 ** d], phi])
         return self._start(u)
+
+    def carried(self, theta) -> CarriedSpectrum:
+        """``theta`` on the present grid as a :class:`CarriedSpectrum`."""
+        return CarriedSpectrum(self.ltau.copy(), np.array(theta, float), self.log10_scale,
+                               bool(self.time))
 
     def _kernels(self, u):
         """Kernel matrices at reduced abscissae u: (K, dK/dln x) for E1/E2 (frequency) or for

@@ -58,6 +58,12 @@ class GroupFits:
     fits: dict
     gaps: dict
 
+    def fitted_curves(self, temps: np.ndarray) -> tuple:
+        """Per fitted group: its temperatures, its shifts in its own gauge and its fitted
+        spectrum (``ShiftResult.fitted_curves``)."""
+        return tuple((temps[comp], self.fits[ci].s, self.fits[ci].solution.curve)
+                     for ci, comp in enumerate(self.comps) if ci in self.fits)
+
 
 @dataclass
 class Shifts:
@@ -158,6 +164,27 @@ def _component_start(start, comp, anchor, gauge_fixed):
     return (s if gauge_fixed else s - s[anchor]), c - c[anchor]
 
 
+def _component_curve(start_from, temps, anchor_T: float, gauge_fixed: bool,
+                     direction: float):
+    """The spectrum of the earlier fit's group that holds ``temps`` (all of them), moved into
+    this group's gauge (its shift 0 at ``anchor_T`` unless fixed shifts set the gauge); None
+    when no such group has one."""
+    if start_from is None:
+        return None
+    for group_T, group_s, curve in start_from.fitted_curves:
+        if curve is None:
+            continue
+        j = [np.flatnonzero(np.abs(group_T - t) <= 1e-9 * max(abs(t), 1.0)) for t in temps]
+        if not all(k.size for k in j):
+            continue
+        if gauge_fixed:
+            return curve
+        a = np.flatnonzero(np.abs(group_T - anchor_T) <= 1e-9 * max(abs(anchor_T), 1.0))
+        # u here = x + d (s − s[anchor]) = u there − d s[anchor]
+        return curve.moved(-direction * float(group_s[a[0]]))
+    return None
+
+
 def _fit_group(comp, data: FitData, pairs, options: ShiftOptions, start=None) -> GroupFit:
     """Seed by chained pairwise shifts, then fit one connected group of isotherms jointly
     (iterations from ``start``, an earlier fit's shifts, when given)."""
@@ -207,7 +234,11 @@ def _fit_group(comp, data: FitData, pairs, options: ShiftOptions, start=None) ->
                         relative_noise=np.where(ratio >= NOISE_RATIO_TRUSTED, ratio, 1.0))
     sol = fit_joint(prob, s0, c0 if options.fit_vertical else None, model=options.model,
                     robust=options.robust, smoothing=options.smoothing,
-                    start=_component_start(start, comp, anchor, bool(fixed_here)))
+                    start=_component_start(start, comp, anchor, bool(fixed_here)),
+                    start_curve=_component_curve(options.start_from, temps[comp],
+                                                 float(temps[comp][anchor]), fixed_here,
+                                                 options.direction)
+                    if start is not None else None)
     u_range = [(float(sol.u[iso == a].min()), float(sol.u[iso == a].max())) for a in range(m)]
     return GroupFit(s=sol.s, c=sol.c if options.fit_vertical else np.zeros(m), cov_s=sol.cov_s,
                     cov_c=sol.cov_c, solution=sol, iso=iso, fn=fn, point=point,

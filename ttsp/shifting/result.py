@@ -119,6 +119,10 @@ class ShiftResult(ResultContract):
     log10_aT_covariance: np.ndarray | None = None
     residual_correlation: float = float("nan")
     correlation_inflation: float = 1.0
+    #: per fitted group: its temperatures (K), its shifts in the group's own gauge and the
+    #: fitted spectrum (None for splines); where a related fit (a cross-validation fold)
+    #: starts its curve
+    fitted_curves: tuple = field(default=(), repr=False, compare=False)
 
     # ---- views -------------------------------------------------------------------------------
     @property

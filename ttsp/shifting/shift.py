@@ -20,7 +20,7 @@ from ._bridge import bridge_across_gaps
 from ._diagnostics import OUTLIER_THRESHOLD, Diagnosis, diagnose
 from ._fit_data import FitData, prepare_fit_data
 from ._gauge import fix_gauge
-from ._groups import Shifts, fit_groups
+from ._groups import GroupFits, Shifts, fit_groups
 from ._neighbours import neighbour_seeds
 from ._options import ShiftOptions, resolve_options
 from .result import ShiftResult
@@ -107,7 +107,7 @@ def shift_isotherms(campaign: Campaign, reference_temperature_K: float | None = 
     shifts = bridge_across_gaps(groups, options)
     fix_gauge(shifts, options)
     diagnosis = diagnose(campaign, data, groups, shifts, options)
-    return _result(campaign, options, data, shifts, diagnosis)
+    return _result(campaign, options, data, shifts, diagnosis, groups)
 
 
 def _read_only(a, dtype=float):
@@ -118,7 +118,7 @@ def _read_only(a, dtype=float):
 
 
 def _result(campaign: Campaign, options: ShiftOptions, data: FitData, shifts: Shifts,
-            diag: Diagnosis) -> ShiftResult:
+            diag: Diagnosis, groups: GroupFits) -> ShiftResult:
     """The frozen result: arrays read-only, the pooled noise scale of each function, the
     method in one line, the notes of every step in order as its warnings."""
     notes = data.notes + shifts.notes + diag.notes
@@ -144,4 +144,4 @@ def _result(campaign: Campaign, options: ShiftOptions, data: FitData, shifts: Sh
         residual_scale_log10=scale, expansion_coefficient_per_K=options.alpha,
         converged=bool(diag.converged), iterations=diag.iterations, notes=tuple(notes),
         log10_aT_covariance=_read_only(shifts.cov_s), residual_correlation=float(diag.rho_all),
-        correlation_inflation=float(diag.inflation_all))
+        correlation_inflation=float(diag.inflation_all), fitted_curves=groups.fitted_curves(options.temps))
