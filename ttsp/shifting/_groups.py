@@ -137,6 +137,11 @@ def _gaps_after_fit(comp: list, u: list, x_word: str) -> dict:
     return gaps
 
 
+def _at_temperature(known: np.ndarray, t: float) -> np.ndarray:
+    """Indices of ``known`` temperatures equal to ``t`` (to 1e-9 of it)."""
+    return np.flatnonzero(np.abs(known - t) <= 1e-9 * max(abs(t), 1.0))
+
+
 def _start_of(start_from, temps, fit_vertical):
     """Per isotherm (log10 a_T, log10 b_T) of an earlier fit, matched by temperature (NaN
     where it has no such isotherm); None without an earlier fit."""
@@ -145,7 +150,7 @@ def _start_of(start_from, temps, fit_vertical):
     known = np.asarray(start_from.temperature_K, float)
     s, c = np.full(temps.size, np.nan), np.zeros(temps.size)
     for k, t in enumerate(temps):
-        j = np.flatnonzero(np.abs(known - t) <= 1e-9 * max(abs(t), 1.0))
+        j = _at_temperature(known, t)
         if j.size:
             s[k] = start_from.log10_aT[j[0]]
             if fit_vertical:
@@ -174,12 +179,12 @@ def _component_curve(start_from, temps, anchor_T: float, gauge_fixed: bool,
     for group_T, group_s, curve in start_from.fitted_curves:
         if curve is None:
             continue
-        j = [np.flatnonzero(np.abs(group_T - t) <= 1e-9 * max(abs(t), 1.0)) for t in temps]
+        j = [_at_temperature(group_T, t) for t in temps]
         if not all(k.size for k in j):
             continue
         if gauge_fixed:
             return curve
-        a = np.flatnonzero(np.abs(group_T - anchor_T) <= 1e-9 * max(abs(anchor_T), 1.0))
+        a = _at_temperature(group_T, anchor_T)
         # u here = x + d (s − s[anchor]) = u there − d s[anchor]
         return curve.moved(-direction * float(group_s[a[0]]))
     return None
