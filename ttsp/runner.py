@@ -136,7 +136,7 @@ def _fork_drawing(render, folder: Path, *, private: bool = False) -> int:
     from .plotting import save_figures
 
     parent = os.getpid()
-    pid, held = _fork_with_stops_held()
+    pid, arrived = _fork_with_stops_held()
     if pid != 0:
         return pid
     # a short-lived drawing process: without the cyclic collector its collections do not
@@ -144,7 +144,8 @@ def _fork_drawing(render, folder: Path, *, private: bool = False) -> int:
     gc.disable()
     code = 1
     try:
-        signal.pthread_sigmask(signal.SIG_SETMASK, held)
+        for sig in arrived:   # a stop during the fork: the parent's, and so this drawing's
+            signal.raise_signal(sig)
         end_with_parent()   # a killed build leaves no drawing process behind
         if os.getppid() != parent:  # it died before the line above
             os._exit(1)
@@ -156,28 +157,38 @@ def _fork_drawing(render, folder: Path, *, private: bool = False) -> int:
         os._exit(code)
 
 
-def _fork_with_stops_held() -> tuple[int, Any]:
-    """``os.fork()`` with SIGTERM and Ctrl-C held until it returns: a handler that runs inside
-    fork()'s after-fork callbacks (logging registers one) has its exception printed and
-    ignored, and a build stopped at that instant ran on to the end and exited 0. Returns the
-    pid and the signal mask to restore; the parent's is restored here (a stop that came
-    meanwhile is handled then, and the child, whose pid the caller would never learn, is
-    stopped first), the child restores its own."""
-    held = signal.pthread_sigmask(signal.SIG_BLOCK, {signal.SIGTERM, signal.SIGINT})
+def _fork_with_stops_held() -> tuple[int, list]:
+    """``os.fork()`` with SIGTERM and Ctrl-C recorded, not acted on, until it returns; returns
+    the pid and the stops that arrived meanwhile.
+
+    A handler that raises inside fork()'s after-fork callbacks (``logging`` registers some)
+    has its exception printed and ignored: a build stopped at that instant ran on to the end
+    and exited 0. Blocking the signals in this thread is not enough, since another thread
+    (a BLAS pool's) may take them and the handler still runs here at the next chance. So the
+    handlers are swapped for ones that only record, and put back once fork() has returned;
+    the parent then stops the child (whose pid its caller would never learn) and raises the
+    first recorded stop through the handler it had. The child raises them itself (see
+    :func:`_fork_drawing`). Outside the main thread, a plain fork."""
+    arrived: list[int] = []
+    stops = (signal.SIGTERM, signal.SIGINT)
+    try:
+        previous = {sig: signal.signal(sig, lambda signum, _frame: arrived.append(signum))
+                    for sig in stops}
+    except ValueError:   # not the main thread: handlers cannot be set here
+        return os.fork(), arrived
+    pid = -1
     try:
         pid = os.fork()
-    except BaseException:
-        signal.pthread_sigmask(signal.SIG_SETMASK, held)
-        raise
-    if pid != 0:
-        try:
-            signal.pthread_sigmask(signal.SIG_SETMASK, held)
-        except BaseException:
+    finally:
+        for sig, handler in previous.items():
+            signal.signal(sig, handler)
+        if pid > 0 and arrived:
             with contextlib.suppress(OSError):
                 os.kill(pid, signal.SIGKILL)
                 os.waitpid(pid, 0)
-            raise
-    return pid, held
+        if pid != 0 and arrived:
+            signal.raise_signal(arrived[0])
+    return pid, arrived
 
 
 def _child_ok(pid: int) -> bool:
