@@ -439,7 +439,9 @@ def test_a_stop_arriving_during_a_fork_is_raised_after_it_and_the_child_is_colle
             time.sleep(30)
             os._exit(0)
         forked.append(pid)
-        os.kill(os.getpid(), signal.SIGTERM)   # arrives before fork() has returned
+        # taken by the other thread, handled here at the next chance: still within the fork
+        signal.pthread_kill(other.ident, signal.SIGTERM)
+        time.sleep(0.05)
         return pid
 
     def raise_stopped(signum, frame):
@@ -460,3 +462,29 @@ def test_a_stop_arriving_during_a_fork_is_raised_after_it_and_the_child_is_colle
         release.set()
     with pytest.raises(ChildProcessError):      # already collected by the helper
         os.waitpid(forked[0], os.WNOHANG)
+
+
+def test_an_ignored_stop_during_a_fork_leaves_the_child_running(monkeypatch):
+    """Ctrl-C is ignored in a background job of a non-interactive shell: a SIGINT during the
+    fork must then neither raise nor kill the drawing child (its caller would wait on a pid
+    already collected)."""
+    from ttsp import runner
+
+    real_fork = os.fork
+
+    def fork_then_interrupt():
+        pid = real_fork()
+        if pid == 0:
+            time.sleep(0.5)
+            os._exit(0)
+        os.kill(os.getpid(), signal.SIGINT)
+        return pid
+
+    previous = signal.signal(signal.SIGINT, signal.SIG_IGN)
+    try:
+        monkeypatch.setattr(runner.os, "fork", fork_then_interrupt)
+        pid, _ = runner._fork_with_stops_held()
+        assert signal.getsignal(signal.SIGINT) == signal.SIG_IGN
+    finally:
+        signal.signal(signal.SIGINT, previous)
+    assert os.waitstatus_to_exitcode(os.waitpid(pid, 0)[1]) == 0   # ran to its end

@@ -166,28 +166,35 @@ def _fork_with_stops_held() -> tuple[int, list]:
     and exited 0. Blocking the signals in this thread is not enough, since another thread
     (a BLAS pool's) may take them and the handler still runs here at the next chance. So the
     handlers are swapped for ones that only record, and put back once fork() has returned;
-    the parent then stops the child (whose pid its caller would never learn) and raises the
-    first recorded stop through the handler it had. The child raises them itself (see
-    :func:`_fork_drawing`). Outside the main thread, a plain fork."""
+    the parent then raises the first recorded stop through the handler it had and, if that
+    (or anything else here) raises, stops and collects the child, whose pid its caller would
+    never learn. The child raises the stops itself (see :func:`_fork_drawing`) and never
+    raises out of here. An ignored signal stays ignored. Outside the main thread, a plain
+    fork."""
     arrived: list[int] = []
-    stops = (signal.SIGTERM, signal.SIGINT)
-    try:
-        previous = {sig: signal.signal(sig, lambda signum, _frame: arrived.append(signum))
-                    for sig in stops}
-    except ValueError:   # not the main thread: handlers cannot be set here
+    if threading.current_thread() is not threading.main_thread():
         return os.fork(), arrived
+    kept = {sig: signal.getsignal(sig) for sig in (signal.SIGTERM, signal.SIGINT)}
+    kept = {sig: h for sig, h in kept.items() if h is not None and h != signal.SIG_IGN}
     pid = -1
     try:
-        pid = os.fork()
-    finally:
-        for sig, handler in previous.items():
-            signal.signal(sig, handler)
-        if pid > 0 and arrived:
+        try:
+            for sig in kept:
+                signal.signal(sig, lambda signum, _frame: arrived.append(signum))
+            pid = os.fork()
+        finally:
+            for sig, handler in kept.items():
+                signal.signal(sig, handler)
+        if pid != 0 and arrived:
+            signal.raise_signal(arrived[0])
+    except BaseException:
+        if pid == 0:        # the child: nothing of the parent's unwinding runs here
+            os._exit(1)
+        if pid > 0:
             with contextlib.suppress(OSError):
                 os.kill(pid, signal.SIGKILL)
                 os.waitpid(pid, 0)
-        if pid != 0 and arrived:
-            signal.raise_signal(arrived[0])
+        raise
     return pid, arrived
 
 

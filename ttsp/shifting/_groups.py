@@ -61,7 +61,7 @@ class GroupFits:
     def fitted_curves(self, temps: np.ndarray) -> tuple:
         """Per fitted group: its temperatures, its shifts in its own gauge and its fitted
         spectrum (``ShiftResult.fitted_curves``)."""
-        return tuple((temps[comp], self.fits[ci].s, self.fits[ci].solution.curve)
+        return tuple((temps[comp], self.fits[ci].s.copy(), self.fits[ci].solution.curve)
                      for ci, comp in enumerate(self.comps) if ci in self.fits)
 
 

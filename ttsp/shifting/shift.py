@@ -144,4 +144,5 @@ def _result(campaign: Campaign, options: ShiftOptions, data: FitData, shifts: Sh
         residual_scale_log10=scale, expansion_coefficient_per_K=options.alpha,
         converged=bool(diag.converged), iterations=diag.iterations, notes=tuple(notes),
         log10_aT_covariance=_read_only(shifts.cov_s), residual_correlation=float(diag.rho_all),
-        correlation_inflation=float(diag.inflation_all), fitted_curves=groups.fitted_curves(options.temps))
+        correlation_inflation=float(diag.inflation_all),
+        fitted_curves=groups.fitted_curves(options.temps))
