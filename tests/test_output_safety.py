@@ -455,7 +455,7 @@ def test_a_stop_arriving_during_a_fork_is_raised_after_it_and_the_child_is_colle
     try:
         monkeypatch.setattr(runner.os, "fork", fork_then_stop)
         with pytest.raises(_Stopped):
-            runner._fork_with_stops_held()
+            runner._fork_recording_stops()
         assert signal.getsignal(signal.SIGTERM) is raise_stopped   # the handler put back
     finally:
         signal.signal(signal.SIGTERM, previous)
@@ -483,7 +483,7 @@ def test_an_ignored_stop_during_a_fork_leaves_the_child_running(monkeypatch):
     previous = signal.signal(signal.SIGINT, signal.SIG_IGN)
     try:
         monkeypatch.setattr(runner.os, "fork", fork_then_interrupt)
-        pid, _ = runner._fork_with_stops_held()
+        pid, _ = runner._fork_recording_stops()
         assert signal.getsignal(signal.SIGINT) == signal.SIG_IGN
     finally:
         signal.signal(signal.SIGINT, previous)

@@ -136,7 +136,7 @@ def _fork_drawing(render, folder: Path, *, private: bool = False) -> int:
     from .plotting import save_figures
 
     parent = os.getpid()
-    pid, arrived = _fork_with_stops_held()
+    pid, arrived = _fork_recording_stops()
     if pid != 0:
         return pid
     # a short-lived drawing process: without the cyclic collector its collections do not
@@ -157,7 +157,7 @@ def _fork_drawing(render, folder: Path, *, private: bool = False) -> int:
         os._exit(code)
 
 
-def _fork_with_stops_held() -> tuple[int, list]:
+def _fork_recording_stops() -> tuple[int, list]:
     """``os.fork()`` with SIGTERM and Ctrl-C recorded, not acted on, until it returns; returns
     the pid and the stops that arrived meanwhile.
 

@@ -179,8 +179,7 @@ def _component_curve(start_from, temps, anchor_T: float, gauge_fixed: bool,
     for group_T, group_s, curve in start_from.fitted_curves:
         if curve is None:
             continue
-        j = [_at_temperature(group_T, t) for t in temps]
-        if not all(k.size for k in j):
+        if not all(_at_temperature(group_T, t).size for t in temps):
             continue
         if gauge_fixed:
             return curve
@@ -242,8 +241,7 @@ def _fit_group(comp, data: FitData, pairs, options: ShiftOptions, start=None) ->
                     start=_component_start(start, comp, anchor, bool(fixed_here)),
                     start_curve=_component_curve(options.start_from, temps[comp],
                                                  float(temps[comp][anchor]), fixed_here,
-                                                 options.direction)
-                    if start is not None else None)
+                                                 options.direction))
     u_range = [(float(sol.u[iso == a].min()), float(sol.u[iso == a].max())) for a in range(m)]
     return GroupFit(s=sol.s, c=sol.c if options.fit_vertical else np.zeros(m), cov_s=sol.cov_s,
                     cov_c=sol.cov_c, solution=sol, iso=iso, fn=fn, point=point,
