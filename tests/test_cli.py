@@ -160,6 +160,18 @@ def test_build_with_figures_writes_png_svg_and_report(campaign_file, tmp_path):
     assert pngs == svgs and len(pngs) >= 7
     html = (out / "report.html").read_text("utf-8")
     assert "<svg" in html and "extrapolation" in html.lower()
+    # with figures, the cross-validation is done by a forked child while the build goes on and
+    # the drawing is shared between children: the numbers are those of a build without them
+    plain = tmp_path / "plain"
+    assert runner.invoke(app, ["build", str(campaign_file), "--out", str(plain), "--no-figures",
+                               "-q"]).exit_code == 0
+    for name in ("shift_factors.csv", "prony.csv", "material_functions.csv"):
+        assert sha(out / name) == sha(plain / name), name
+    with_figures, without = (json.loads((o / "summary.json").read_text("utf-8"))
+                             for o in (out, plain))
+    assert with_figures["cross_validation"]["per_isotherm"]       # something to compare
+    assert with_figures["cross_validation"] == without["cross_validation"]
+    assert with_figures["shift_law"] == without["shift_law"]
 
 
 # ---- --strict and checks ---------------------------------------------------------------------

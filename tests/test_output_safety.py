@@ -429,7 +429,7 @@ def test_a_stop_arriving_during_a_fork_is_raised_after_it_and_the_child_is_colle
     collected rather than left behind. (Blocking the signal in the main thread instead failed
     here once in the full suite: another thread took the signal and the handler ran inside
     the fork all the same.)"""
-    from ttsp import runner
+    from ttsp import _forked
 
     real_fork, forked = os.fork, []
 
@@ -453,9 +453,9 @@ def test_a_stop_arriving_during_a_fork_is_raised_after_it_and_the_child_is_colle
     other.start()
     previous = signal.signal(signal.SIGTERM, raise_stopped)
     try:
-        monkeypatch.setattr(runner.os, "fork", fork_then_stop)
+        monkeypatch.setattr(_forked.os, "fork", fork_then_stop)
         with pytest.raises(_Stopped):
-            runner._fork_recording_stops()
+            _forked.fork_recording_stops()
         assert signal.getsignal(signal.SIGTERM) is raise_stopped   # the handler put back
     finally:
         signal.signal(signal.SIGTERM, previous)
@@ -468,7 +468,7 @@ def test_an_ignored_stop_during_a_fork_leaves_the_child_running(monkeypatch):
     """Ctrl-C is ignored in a background job of a non-interactive shell: a SIGINT during the
     fork must then neither raise nor kill the drawing child (its caller would wait on a pid
     already collected)."""
-    from ttsp import runner
+    from ttsp import _forked
 
     real_fork = os.fork
 
@@ -482,8 +482,8 @@ def test_an_ignored_stop_during_a_fork_leaves_the_child_running(monkeypatch):
 
     previous = signal.signal(signal.SIGINT, signal.SIG_IGN)
     try:
-        monkeypatch.setattr(runner.os, "fork", fork_then_interrupt)
-        pid, _ = runner._fork_recording_stops()
+        monkeypatch.setattr(_forked.os, "fork", fork_then_interrupt)
+        pid, _ = _forked.fork_recording_stops()
         assert signal.getsignal(signal.SIGINT) == signal.SIG_IGN
     finally:
         signal.signal(signal.SIGINT, previous)

@@ -15,7 +15,6 @@ if TYPE_CHECKING:
 
 import contextlib
 import datetime
-import gc
 import os
 import shutil
 import signal
@@ -26,6 +25,7 @@ import warnings
 from pathlib import Path
 from typing import Any
 
+from ._forked import BACKGROUND_NICENESS, AsideWork, can_fork, child_ok, start_child
 from .exceptions import DataError, OptionValueError
 
 __all__ = ["Progress", "read_inputs", "run_build", "parse_pairs"]
@@ -115,92 +115,40 @@ class Progress:
         self._previous_handler = None
 
 
-# The figures drawn after the fit, in groups of about equal drawing cost: all but the last are
-# drawn by forked children while this process draws the last (three processes keep two cores
-# busy until the end, where two groups left one core idle while the slower group finished; the
-# optional spectrum figure has a group of its own); the figures of the measured data alone are
-# drawn earlier, while the fit runs.
-_FIGURE_GROUPS = (("prony_fit",), ("master_curve", "time_functions"), ("relaxation_spectrum",),
-                  ("shift_factors", "frequency_functions"))
+# What each figure drawn after the fit costs to draw and save (tenths of a second of one core,
+# measured on the demo campaign; relative costs are what matter): the drawing is shared out by
+# these between forked children and this process (see :func:`_drawing_shares`).
+_DRAW_COST = {"prony_fit": 5.7, "master_curve": 3.1, "frequency_functions": 3.0,
+              "relaxation_spectrum": 3.0, "shift_factors": 2.7, "isochrone": 2.7,
+              "time_functions": 2.5, "cross_validation": 1.6}
+_REPORT_COST = 1.0   # this process also writes the report once its share is drawn
 
 
-def _can_fork() -> bool:
-    return hasattr(os, "fork") and (os.cpu_count() or 1) > 1
+def _drawing_shares(names, processes: int = 3) -> list[list[str]]:
+    """Share the figures ``names`` out between ``processes`` drawers, the last of them this
+    process, so that they finish together: the costliest figure first, each to the drawer with
+    the least work so far (longest-processing-time-first; Graham 1969, within 4/3 of the best
+    share). Three drawers keep two cores busy to the end, where two left one core idle while the
+    slower finished. Returns the shares, this process's last; empty shares are kept."""
+    load = [0.0] * (processes - 1) + [_REPORT_COST]
+    shares: list[list[str]] = [[] for _ in range(processes)]
+    for name in sorted(names, key=lambda n: -_DRAW_COST.get(n, 3.0)):
+        k = load.index(min(load))
+        shares[k].append(name)
+        load[k] += _DRAW_COST.get(name, 3.0)
+    return shares
 
 
 def _fork_drawing(render, folder: Path, *, private: bool = False) -> int:
     """Fork a child that renders figures with ``render()`` and saves them into ``folder``;
-    returns its pid. The child leaves with ``os._exit`` and runs no cleanup of the parent; a
-    ``private`` folder it removes itself if the parent was killed meanwhile."""
-    from ._lifetime import end_with_parent
+    returns its pid. A ``private`` folder (the campaign's figures, drawn while the build runs)
+    the child removes itself if the parent was killed meanwhile; that child runs at
+    :data:`~ttsp._forked.BACKGROUND_NICENESS`, since the build is what the user waits for."""
     from .plotting import save_figures
 
-    parent = os.getpid()
-    pid, arrived = _fork_recording_stops()
-    if pid != 0:
-        return pid
-    # a short-lived drawing process: without the cyclic collector its collections do not
-    # walk (and so copy-on-write) the heap it shares with the parent
-    gc.disable()
-    code = 1
-    try:
-        for sig in arrived:   # a stop during the fork: the parent's, and so this drawing's
-            signal.raise_signal(sig)
-        end_with_parent()   # a killed build leaves no drawing process behind
-        if os.getppid() != parent:  # it died before the line above
-            os._exit(1)
-        save_figures(render(), folder)
-        code = 0
-    finally:
-        if private and os.getppid() != parent:  # orphaned: nobody will collect the files
-            shutil.rmtree(folder, ignore_errors=True)
-        os._exit(code)
-
-
-def _fork_recording_stops() -> tuple[int, list]:
-    """``os.fork()`` with SIGTERM and Ctrl-C recorded, not acted on, until it returns; returns
-    the pid and the stops that arrived meanwhile.
-
-    A handler that raises inside fork()'s after-fork callbacks (``logging`` registers some)
-    has its exception printed and ignored: a build stopped at that instant ran on to the end
-    and exited 0. Blocking the signals in this thread is not enough, since another thread
-    (a BLAS pool's) may take them and the handler still runs here at the next chance. So the
-    handlers are swapped for ones that only record, and put back once fork() has returned;
-    the parent then raises the first recorded stop through the handler it had and, if that
-    (or anything else here) raises, stops and collects the child, whose pid its caller would
-    never learn. The child raises the stops itself (see :func:`_fork_drawing`) and never
-    raises out of here. An ignored signal stays ignored. Outside the main thread, a plain
-    fork."""
-    arrived: list[int] = []
-    if threading.current_thread() is not threading.main_thread():
-        return os.fork(), arrived
-    kept = {sig: signal.getsignal(sig) for sig in (signal.SIGTERM, signal.SIGINT)}
-    kept = {sig: h for sig, h in kept.items() if h is not None and h != signal.SIG_IGN}
-    pid = -1
-    try:
-        try:
-            for sig in kept:
-                signal.signal(sig, lambda signum, _frame: arrived.append(signum))
-            pid = os.fork()
-        finally:
-            for sig, handler in kept.items():
-                signal.signal(sig, handler)
-        if pid != 0 and arrived:
-            signal.raise_signal(arrived[0])
-    except BaseException:
-        if pid == 0:        # the child: nothing of the parent's unwinding runs here
-            os._exit(1)
-        if pid > 0:
-            with contextlib.suppress(OSError):
-                os.kill(pid, signal.SIGKILL)
-                os.waitpid(pid, 0)
-        raise
-    return pid, arrived
-
-
-def _child_ok(pid: int) -> bool:
-    _, status = os.waitpid(pid, 0)
-    return os.waitstatus_to_exitcode(status) == 0
+    return start_child(lambda: save_figures(render(), folder),
+                       orphaned=(lambda: shutil.rmtree(folder, ignore_errors=True))
+                       if private else None, nice=BACKGROUND_NICENESS if private else 0)
 
 
 def start_campaign_figures(campaign: Campaign, tmp: str | Path):
@@ -209,14 +157,21 @@ def start_campaign_figures(campaign: Campaign, tmp: str | Path):
     The child draws into a hidden sub-folder of the output's temporary folder ``tmp``, so a build
     killed meanwhile leaves one temporary folder, not two.
     """
-    if not _can_fork():
+    if not can_fork():
         return None
-    from .plotting import load_matplotlib, render_campaign_figures
+    from .plotting import render_campaign_figures
 
-    load_matplotlib()   # once here, not again in every drawing child
     folder = Path(tmp) / ".early-figures"
     folder.mkdir()
+    # the child loads matplotlib itself; this process does so while it waits for the
+    # cross-validation (see run_build), before it forks the other drawing children
     return _fork_drawing(lambda: render_campaign_figures(campaign), folder, private=True), folder
+
+
+def _load_matplotlib() -> None:
+    from .plotting import load_matplotlib
+
+    load_matplotlib()
 
 
 def discard_campaign_figures(handle) -> None:
@@ -224,16 +179,16 @@ def discard_campaign_figures(handle) -> None:
     if handle is not None:
         with contextlib.suppress(OSError):
             os.kill(handle[0], signal.SIGKILL)
-        _child_ok(handle[0])
+        child_ok(handle[0])
         shutil.rmtree(handle[1], ignore_errors=True)
 
 
 def draw_figures(result, folder: str | Path, *, parallel: bool = True, early=None) -> dict:
     """Render and save every figure as PNG and SVG. Returns ``{name: {"png", "svg"}}``.
 
-    With ``parallel`` and two or more cores, two groups of figures are drawn in forked
-    children while this process draws the third (drawing dominates the wall time of a build
-    with figures); ``early`` is the handle of :func:`start_campaign_figures`, whose files are moved
+    With ``parallel`` and two or more cores, two shares of the figures are drawn in forked
+    children while this process draws the third (:func:`_drawing_shares`; drawing dominates the
+    wall time of a build with figures); ``early`` is the handle of :func:`start_campaign_figures`, whose files are moved
     in. Whatever a child fails to draw is drawn here, so the result never depends on forking.
     """
     from .plotting import (
@@ -253,17 +208,14 @@ def draw_figures(result, folder: str | Path, *, parallel: bool = True, early=Non
     later = [n for n in every if n not in CAMPAIGN_FIGURES]
     children = []   # (pid, names) of forked drawers
     try:
-        if parallel and _can_fork():
-            for group in _FIGURE_GROUPS[:-1]:
-                names = [n for n in later if n in group]
-                if names:
-                    children.append((_fork_drawing(
-                        lambda names=names: render_figures(result, names), folder), names))
-            drawn = {n for _, names in children for n in names}
-            later = [n for n in later if n not in drawn]
+        if parallel and can_fork():
+            *forked, later = _drawing_shares(later)
+            for names in filter(None, forked):
+                children.append((_fork_drawing(
+                    lambda names=names: render_figures(result, names), folder), names))
         saved.update(save_figures(render_figures(result, later), folder))
         for pid, names in list(children):
-            ok = _child_ok(pid)
+            ok = child_ok(pid)
             children.remove((pid, names))
             if ok:
                 saved.update({k: figure_files(folder, k) for k in names})
@@ -274,9 +226,9 @@ def draw_figures(result, folder: str | Path, *, parallel: bool = True, early=Non
             with contextlib.suppress(OSError):
                 os.kill(pid, signal.SIGKILL)
             with contextlib.suppress(OSError):
-                _child_ok(pid)
+                child_ok(pid)
         raise
-    if early is not None and _child_ok(early[0]) and all(
+    if early is not None and child_ok(early[0]) and all(
             (early[1] / f"{k}.{e}").is_file() for k in CAMPAIGN_FIGURES for e in ("png", "svg")):
         for k in CAMPAIGN_FIGURES:
             for e in ("png", "svg"):
@@ -319,11 +271,14 @@ def run_build(inputs: Sequence[str | Path], options: BuildOptions, out: Path, *,
         with atomic_output_dir(out, force=force, protect=inputs, kind=kind,
                                replaces=replaces) as tmp, warnings.catch_warnings():
             warnings.simplefilter("ignore")  # all worth saying is in result.warnings already
-            early = start_campaign_figures(campaign, tmp) if figures and parallel_figures else None
+            aside = figures and parallel_figures
+            early = start_campaign_figures(campaign, tmp) if aside else None
             try:
                 try:
-                    result = build(campaign, options, input_sha256=hash_inputs(inputs),
-                                   input_files=[Path(p).name for p in inputs], progress=progress)
+                    with AsideWork(meanwhile=_load_matplotlib, enabled=aside) as work_aside:
+                        result = build(campaign, options, input_sha256=hash_inputs(inputs),
+                                       input_files=[Path(p).name for p in inputs],
+                                       progress=progress, aside=work_aside)
                 except DataError as exc:  # found while fitting: say which input it is about
                     source = str(campaign.source)
                     if source and not str(exc).startswith(source):

@@ -78,6 +78,7 @@ def _thin_for_checks(campaign: Campaign, shifts):
 
 def build(campaign: Campaign, options: BuildOptions | None = None, *, input_sha256: str | None = None,
           input_files: Sequence[str | Path] = (), progress: Callable[[str], object] | None = None,
+          aside: Callable[[Callable[[], Any]], Callable[[], Any]] | None = None,
           **option_values: Any) -> BuildResult:
     """Run the whole job on a campaign and return a :class:`BuildResult`.
 
@@ -92,6 +93,12 @@ def build(campaign: Campaign, options: BuildOptions | None = None, *, input_sha2
         default: a hash of the campaign's numbers.
     progress : callable, optional
         Called with the name of each step as it starts (the CLI prints them).
+    aside : callable, optional
+        ``aside(compute)`` returns a function that gives ``compute()``'s value: the
+        cross-validation is handed to it once the shifts, law and series are fitted, and its
+        value asked for after the checks. The command line passes a
+        :class:`ttsp._forked.AsideWork`, which computes it in a forked child meanwhile; by
+        default it is computed when asked for.
 
     Warnings raised by the steps are collected into ``result.warnings`` (and re-emitted).
     """
@@ -103,7 +110,7 @@ def build(campaign: Campaign, options: BuildOptions | None = None, *, input_sha2
     # and much faster on a loaded machine or beside other worker processes.
     with one_blas_thread(), warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always", TtspWarning)
-        parts = _computed_parts(campaign, options, t_ref_K, step)
+        parts = _computed_parts(campaign, options, t_ref_K, step, aside or _when_asked)
     messages = _collected_messages(caught, (parts["shifts"], parts["prony_fit"]))
     return BuildResult(campaign, parts["options"], parts["shifts"], parts["law_fit"],
                        parts["prony_fit"], parts["model"], parts["checks"], messages,
@@ -153,15 +160,25 @@ def _reference_temperature_K(campaign: Campaign, options: BuildOptions) -> float
             else default_reference_temperature_K(campaign))
 
 
-def _computed_parts(campaign: Campaign, options: BuildOptions, t_ref_K: float, step) -> dict:
+def _when_asked(compute: Callable[[], Any]) -> Callable[[], Any]:
+    """The default ``aside`` of :func:`build`: the value is computed when it is asked for."""
+    return compute
+
+
+def _computed_parts(campaign: Campaign, options: BuildOptions, t_ref_K: float, step,
+                    aside) -> dict:
     """Every computed part of a build: the fitting steps (with the vertical shift chosen when
-    asked), the spectrum, the checks, Tg, the bands and the held-out isotherms."""
+    asked), the spectrum, the checks, Tg, the bands and the held-out isotherms (handed to
+    ``aside`` as soon as the fit is done; see :func:`build`)."""
     held_out = vertical_choice = None
     if options.vertical == "auto":
         options, fitted, held_out, vertical_choice = _choose_vertical(campaign, options,
                                                                       t_ref_K, step)
     else:
         fitted = fit_steps(campaign, options, t_ref_K, step)
+    held_out_value = None
+    if options.cross_validation and held_out is None:
+        held_out_value = aside(lambda: cross_validate(campaign, options, t_ref_K, full=fitted))
     shifts, law_fit, prony_fit, model = (fitted.shifts, fitted.law_fit, fitted.prony_fit,
                                          fitted.model)
     spectrum = None
@@ -183,9 +200,9 @@ def _computed_parts(campaign: Campaign, options: BuildOptions, t_ref_K: float, s
                                                    options))
     if not options.cross_validation:
         held_out = None
-    elif held_out is None:
+    elif held_out_value is not None:
         step("cross-validation")
-        held_out = cross_validate(campaign, options, t_ref_K, full=fitted)
+        held_out = held_out_value()
     return dict(options=options, fitted=fitted, shifts=shifts, law_fit=law_fit,
                 prony_fit=prony_fit, model=model, spectrum=spectrum, checks=checks, glass=glass,
                 held_out=held_out, vertical_choice=vertical_choice)
