@@ -13,7 +13,7 @@ from _campaigns import shift_test_campaign
 
 import ttsp
 from ttsp._forked import AsideWork, can_fork
-from ttsp.runner import _DRAW_COST, _REPORT_COST, _drawing_shares
+from ttsp.runner import _DRAW_COST, _REPORT_COST, _UNKNOWN_COST, _drawing_shares
 
 needs_fork = pytest.mark.skipif(not can_fork(), reason="needs os.fork and two cores")
 
@@ -24,7 +24,7 @@ def test_drawing_shares_give_every_figure_once_and_finish_together():
     assert len(shares) == 3
     drawn = [name for share in shares for name in share]
     assert sorted(drawn) == sorted(names)
-    loads = [sum(_DRAW_COST.get(n, 3.0) for n in share) for share in shares]
+    loads = [sum(_DRAW_COST.get(n, _UNKNOWN_COST) for n in share) for share in shares]
     loads[-1] += _REPORT_COST            # the last share is this process's, which also reports
     # longest-processing-time-first is within 4/3 of the best split (Graham 1969), and the
     # best split is no shorter than the mean load or the costliest figure

@@ -118,9 +118,10 @@ class Progress:
 # What each figure drawn after the fit costs to draw and save (tenths of a second of one core,
 # measured on the demo campaign; relative costs are what matter): the drawing is shared out by
 # these between forked children and this process (see :func:`_drawing_shares`).
-_DRAW_COST = {"prony_fit": 5.7, "master_curve": 3.1, "frequency_functions": 3.0,
-              "relaxation_spectrum": 3.0, "shift_factors": 2.7, "isochrone": 2.7,
-              "time_functions": 2.5, "cross_validation": 1.6}
+_DRAW_COST = {"prony_fit": 4.1, "time_functions": 3.3, "master_curve": 2.8,
+              "frequency_functions": 2.6, "relaxation_spectrum": 2.6, "shift_factors": 2.3,
+              "isochrone": 2.0, "cross_validation": 1.4}
+_UNKNOWN_COST = 2.6
 _REPORT_COST = 1.0   # this process also writes the report once its share is drawn
 
 
@@ -132,10 +133,10 @@ def _drawing_shares(names, processes: int = 3) -> list[list[str]]:
     slower finished. Returns the shares, this process's last; empty shares are kept."""
     load = [0.0] * (processes - 1) + [_REPORT_COST]
     shares: list[list[str]] = [[] for _ in range(processes)]
-    for name in sorted(names, key=lambda n: -_DRAW_COST.get(n, 3.0)):
+    for name in sorted(names, key=lambda n: -_DRAW_COST.get(n, _UNKNOWN_COST)):
         k = load.index(min(load))
         shares[k].append(name)
-        load[k] += _DRAW_COST.get(name, 3.0)
+        load[k] += _DRAW_COST.get(name, _UNKNOWN_COST)
     return shares
 
 
