@@ -360,3 +360,22 @@ def test_demo_builds_the_bundled_campaign(tmp_path):
     (other / "keep.txt").write_text("user data")
     res = runner.invoke(app, ["demo", "--out", str(other), "-q"])
     assert res.exit_code == 2 and (other / "keep.txt").read_text() == "user data"
+
+
+def test_the_console_command_freezes_its_objects_at_exit_after_the_libraries_handlers():
+    """The installed command's last garbage collections are skipped (gc.freeze at exit, after
+    the handlers libraries register), once however often ``main`` runs in a process."""
+    script = ("import atexit, gc, sys\n"
+              "atexit.register(lambda: print('frozen', gc.get_freeze_count() > 0))\n"
+              "from ttsp.cli import main\n"
+              "sys.argv = ['ttsp', '--version']\n"
+              "for _ in range(2):\n"
+              "    try:\n"
+              "        main()\n"
+              "    except SystemExit:\n"
+              "        pass\n"
+              "atexit.register(lambda: print('not yet', gc.get_freeze_count()))\n")
+    proc = subprocess.run([sys.executable, "-c", script], capture_output=True, text=True,
+                          timeout=60)
+    assert proc.returncode == 0, proc.stderr
+    assert proc.stdout.splitlines()[-2:] == ["not yet 0", "frozen True"]
