@@ -17,8 +17,6 @@ __all__ = ["figure_files", "save_figures", "load_matplotlib"]
 
 _PNG_DPI = 150
 _SVG_SALT = "ttsp"             # fixes the ids matplotlib writes into SVG files
-# with these, Figure.set_layout_engine(None) leaves a figure without any layout engine
-_NO_AUTOMATIC_LAYOUT = {"figure.autolayout": False, "figure.constrained_layout.use": False}
 
 
 def load_matplotlib() -> None:
@@ -128,7 +126,8 @@ def save_figures(figures, folder: str | Path) -> dict:
         engine = fig.get_layout_engine()
         if engine is not None:
             engine.execute(fig)
-        with matplotlib.rc_context(_NO_AUTOMATIC_LAYOUT):
+        with matplotlib.rc_context({"figure.autolayout": False,   # so that None means none
+                                    "figure.constrained_layout.use": False}):
             fig.set_layout_engine(None)
         try:
             with matplotlib.rc_context({"svg.hashsalt": _SVG_SALT, "svg.fonttype": "path"}):
