@@ -12,8 +12,9 @@ import pytest
 from _campaigns import shift_test_campaign
 
 import ttsp
+from ttsp._drawing import _DRAW_COST, _OWN_EXTRA, _UNKNOWN_COST
+from ttsp._drawing import drawing_shares as _drawing_shares
 from ttsp._forked import AsideWork, can_fork
-from ttsp.runner import _DRAW_COST, _REPORT_COST, _UNKNOWN_COST, _drawing_shares
 
 needs_fork = pytest.mark.skipif(not can_fork(), reason="needs os.fork and two cores")
 
@@ -25,7 +26,7 @@ def test_drawing_shares_give_every_figure_once_and_finish_together():
     drawn = [name for share in shares for name in share]
     assert sorted(drawn) == sorted(names)
     loads = [sum(_DRAW_COST.get(n, _UNKNOWN_COST) for n in share) for share in shares]
-    loads[-1] += _REPORT_COST            # the last share is this process's, which also reports
+    loads[-1] += _OWN_EXTRA              # the last share is the drawing process's own
     # longest-processing-time-first is within 4/3 of the best split (Graham 1969), and the
     # best split is no shorter than the mean load or the costliest figure
     bound = max(sum(loads) / 3, max(_DRAW_COST.values()))
@@ -41,16 +42,6 @@ def test_work_aside_gives_the_value_computed_in_a_child():
         value = aside(lambda: (os.getpid(), [1.5, "x"]))
         pid, payload = value()
     assert pid != parent and payload == [1.5, "x"]
-
-
-@needs_fork
-def test_meanwhile_runs_once_before_the_first_wait():
-    ran = []
-    with AsideWork(meanwhile=lambda: ran.append(os.getpid())) as aside:
-        first, second = aside(lambda: 1), aside(lambda: 2)
-        assert ran == []
-        assert (first(), second()) == (1, 2)
-    assert ran == [os.getpid()]
 
 
 def _fails_in_a_child(parent):

@@ -10,22 +10,42 @@ arrives while it is forked reaches both processes (:func:`fork_recording_stops`)
 from __future__ import annotations
 
 import contextlib
+import copyreg
 import gc
+import io
 import os
 import pickle
 import signal
 import threading
 from collections.abc import Callable
+from types import MappingProxyType
 from typing import Any
 
 __all__ = ["can_fork", "fork_recording_stops", "start_child", "child_ok", "AsideWork",
-           "BACKGROUND_NICENESS"]
+           "BACKGROUND_NICENESS", "dumps"]
 
 #: niceness of children whose work is not on the build's critical path (work aside, figures of
 #: the campaign drawn during the build): on two cores the parent's own build is what the user
 #: waits for, so it keeps the processor when both compete (measured on the demo: 3.17-3.29 s
 #: wall against 3.32-3.43 s at equal priority; the figures drawn at the end keep full priority).
 BACKGROUND_NICENESS = 10
+
+
+def _read_only_view(d: dict) -> MappingProxyType:
+    return MappingProxyType(d)
+
+
+def dumps(value: Any) -> bytes:
+    """``pickle.dumps`` for sending a value to or from a forked child: results keep read-only
+    views of dicts (``types.MappingProxyType``), which pickle cannot take; they are sent as
+    the dicts they show and come back as views. Only the pickler made here knows this: nothing
+    changes for other pickling in the process. (Read-only arrays come back writable.)"""
+    buffer = io.BytesIO()
+    pickler = pickle.Pickler(buffer, protocol=pickle.HIGHEST_PROTOCOL)
+    pickler.dispatch_table = {**copyreg.dispatch_table,
+                              MappingProxyType: lambda view: (_read_only_view, (dict(view),))}
+    pickler.dump(value)
+    return buffer.getvalue()
 
 
 def can_fork() -> bool:
@@ -126,13 +146,9 @@ class AsideWork:
     forked, or the child fails, the value is computed here when asked for, so the result never
     depends on forking. Use as a context manager: children not waited for by its end (the
     build failed or was stopped) are killed and collected.
-
-    ``meanwhile`` is run once, the first time this process would wait for a child: work it needs
-    later anyway (loading the plotting library) done while the child finishes.
     """
 
-    def __init__(self, *, meanwhile: Callable[[], object] | None = None, enabled: bool = True):
-        self._meanwhile = meanwhile
+    def __init__(self, *, enabled: bool = True):
         self._enabled = enabled and can_fork()
         self._open: dict[int, int] = {}    # pid -> read end of its pipe
 
@@ -158,9 +174,6 @@ class AsideWork:
         return lambda: self._value(pid, compute)
 
     def _value(self, pid: int, compute: Callable[[], Any]) -> Any:
-        if self._meanwhile is not None:
-            meanwhile, self._meanwhile = self._meanwhile, None
-            meanwhile()
         with os.fdopen(self._open[pid], "rb") as pipe:
             data = pipe.read()
         del self._open[pid]
@@ -173,6 +186,6 @@ class AsideWork:
 def _answer(compute: Callable[[], Any], read_end: int, write_end: int) -> None:
     """In the child: compute and write the pickled value into the pipe."""
     os.close(read_end)
-    data = pickle.dumps(compute(), protocol=pickle.HIGHEST_PROTOCOL)
+    data = dumps(compute())
     with os.fdopen(write_end, "wb") as pipe:
         pipe.write(data)

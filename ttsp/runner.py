@@ -11,12 +11,8 @@ from typing import TYPE_CHECKING
 
 if TYPE_CHECKING:
     from .build_options import BuildOptions
-    from .data import Campaign
 
-import contextlib
 import datetime
-import os
-import shutil
 import signal
 import sys
 import threading
@@ -25,7 +21,8 @@ import warnings
 from pathlib import Path
 from typing import Any
 
-from ._forked import BACKGROUND_NICENESS, AsideWork, can_fork, child_ok, start_child
+from ._drawing import DrawingChild, draw_figures
+from ._forked import AsideWork
 from .exceptions import DataError, OptionValueError
 
 __all__ = ["Progress", "read_inputs", "run_build", "parse_pairs"]
@@ -115,133 +112,6 @@ class Progress:
         self._previous_handler = None
 
 
-# What each figure drawn after the fit costs to draw and save (tenths of a second of one core,
-# measured on the demo campaign; relative costs are what matter): the drawing is shared out by
-# these between forked children and this process (see :func:`_drawing_shares`).
-_DRAW_COST = {"prony_fit": 4.1, "time_functions": 3.3, "master_curve": 2.8,
-              "frequency_functions": 2.6, "relaxation_spectrum": 2.6, "shift_factors": 2.3,
-              "isochrone": 2.0, "cross_validation": 1.4}
-_UNKNOWN_COST = 2.6
-_REPORT_COST = 1.0   # this process also writes the report once its share is drawn
-
-
-def _drawing_shares(names, processes: int = 3) -> list[list[str]]:
-    """Share the figures ``names`` out between ``processes`` drawers, the last of them this
-    process, so that they finish together: the costliest figure first, each to the drawer with
-    the least work so far (longest-processing-time-first; Graham 1969, within 4/3 of the best
-    share). Three drawers keep two cores busy to the end, where two left one core idle while the
-    slower finished. Returns the shares, this process's last; empty shares are kept."""
-    load = [0.0] * (processes - 1) + [_REPORT_COST]
-    shares: list[list[str]] = [[] for _ in range(processes)]
-    for name in sorted(names, key=lambda n: -_DRAW_COST.get(n, _UNKNOWN_COST)):
-        k = load.index(min(load))
-        shares[k].append(name)
-        load[k] += _DRAW_COST.get(name, _UNKNOWN_COST)
-    return shares
-
-
-def _fork_drawing(render, folder: Path, *, private: bool = False) -> int:
-    """Fork a child that renders figures with ``render()`` and saves them into ``folder``;
-    returns its pid. A ``private`` folder (the campaign's figures, drawn while the build runs)
-    the child removes itself if the parent was killed meanwhile; that child runs at
-    :data:`~ttsp._forked.BACKGROUND_NICENESS`, since the build is what the user waits for."""
-    from .plotting import save_figures
-
-    return start_child(lambda: save_figures(render(), folder),
-                       orphaned=(lambda: shutil.rmtree(folder, ignore_errors=True))
-                       if private else None, nice=BACKGROUND_NICENESS if private else 0)
-
-
-def start_campaign_figures(campaign: Campaign, tmp: str | Path):
-    """Start drawing the figures of the measured data in a child process (two or more cores),
-    so that they are ready when the fit ends. Returns a handle for :func:`draw_figures`, or None.
-    The child draws into a hidden sub-folder of the output's temporary folder ``tmp``, so a build
-    killed meanwhile leaves one temporary folder, not two.
-    """
-    if not can_fork():
-        return None
-    from .plotting import render_campaign_figures
-
-    folder = Path(tmp) / ".early-figures"
-    folder.mkdir()
-    # the child loads matplotlib itself; this process does so while it waits for the
-    # cross-validation (see run_build), before it forks the other drawing children
-    return _fork_drawing(lambda: render_campaign_figures(campaign), folder, private=True), folder
-
-
-def _load_matplotlib() -> None:
-    from .plotting import load_matplotlib
-
-    load_matplotlib()
-
-
-def discard_campaign_figures(handle) -> None:
-    """Stop an early drawing child and remove what it drew (the build failed)."""
-    if handle is not None:
-        with contextlib.suppress(OSError):
-            os.kill(handle[0], signal.SIGKILL)
-        child_ok(handle[0])
-        shutil.rmtree(handle[1], ignore_errors=True)
-
-
-def draw_figures(result, folder: str | Path, *, parallel: bool = True, early=None) -> dict:
-    """Render and save every figure as PNG and SVG. Returns ``{name: {"png", "svg"}}``.
-
-    With ``parallel`` and two or more cores, two shares of the figures are drawn in forked
-    children while this process draws the third (:func:`_drawing_shares`; drawing dominates the
-    wall time of a build with figures); ``early`` is the handle of :func:`start_campaign_figures`, whose files are moved
-    in. Whatever a child fails to draw is drawn here, so the result never depends on forking.
-    """
-    from .plotting import (
-        CAMPAIGN_FIGURES,
-        figure_files,
-        figure_names,
-        load_matplotlib,
-        render_campaign_figures,
-        render_figures,
-        save_figures,
-    )
-
-    load_matplotlib()   # before forking: the children share the loaded modules
-    folder = Path(folder)
-    saved = {}
-    every = figure_names(result)
-    later = [n for n in every if n not in CAMPAIGN_FIGURES]
-    children = []   # (pid, names) of forked drawers
-    try:
-        if parallel and can_fork():
-            *forked, later = _drawing_shares(later)
-            for names in filter(None, forked):
-                children.append((_fork_drawing(
-                    lambda names=names: render_figures(result, names), folder), names))
-        saved.update(save_figures(render_figures(result, later), folder))
-        for pid, names in list(children):
-            ok = child_ok(pid)
-            children.remove((pid, names))
-            if ok:
-                saved.update({k: figure_files(folder, k) for k in names})
-            else:
-                saved.update(save_figures(render_figures(result, names), folder))
-    except BaseException:   # Ctrl-C, SIGTERM: no drawing process goes on writing
-        for pid, _ in children:
-            with contextlib.suppress(OSError):
-                os.kill(pid, signal.SIGKILL)
-            with contextlib.suppress(OSError):
-                child_ok(pid)
-        raise
-    if early is not None and child_ok(early[0]) and all(
-            (early[1] / f"{k}.{e}").is_file() for k in CAMPAIGN_FIGURES for e in ("png", "svg")):
-        for k in CAMPAIGN_FIGURES:
-            for e in ("png", "svg"):
-                shutil.move(early[1] / f"{k}.{e}", folder / f"{k}.{e}")
-            saved[k] = figure_files(folder, k)
-    else:
-        saved.update(save_figures(render_campaign_figures(result.campaign), folder))
-    if early is not None:
-        shutil.rmtree(early[1], ignore_errors=True)
-    return {name: saved[name] for name in every if name in saved}
-
-
 def run_build(inputs: Sequence[str | Path], options: BuildOptions, out: Path, *, figures: bool,
               force: bool, quiet: bool, column=None, unit=None, sheet: str | int | None = None,
               tolerance: float = 0.5, modulus_kind: str | None = None,
@@ -262,6 +132,8 @@ def run_build(inputs: Sequence[str | Path], options: BuildOptions, out: Path, *,
     from .workflow import build
 
     progress = Progress(quiet)
+    parallel = figures and parallel_figures
+    drawing = DrawingChild.start() if parallel else None   # loads matplotlib meanwhile
     try:
         progress("reading")
         with warnings.catch_warnings():
@@ -272,34 +144,42 @@ def run_build(inputs: Sequence[str | Path], options: BuildOptions, out: Path, *,
         with atomic_output_dir(out, force=force, protect=inputs, kind=kind,
                                replaces=replaces) as tmp, warnings.catch_warnings():
             warnings.simplefilter("ignore")  # all worth saying is in result.warnings already
-            aside = figures and parallel_figures
-            early = start_campaign_figures(campaign, tmp) if aside else None
+            if drawing is not None:
+                drawing.send_campaign(campaign, tmp)
             try:
-                try:
-                    with AsideWork(meanwhile=_load_matplotlib, enabled=aside) as work_aside:
-                        result = build(campaign, options, input_sha256=hash_inputs(inputs),
-                                       input_files=[Path(p).name for p in inputs],
-                                       progress=progress, aside=work_aside)
-                except DataError as exc:  # found while fitting: say which input it is about
-                    source = str(campaign.source)
-                    if source and not str(exc).startswith(source):
-                        raise DataError(f"{source}: {exc}") from None
-                    raise
-                progress("writing")
-                write_build_numbers(result, tmp, created_utc=created, units=units)
-                if figures:
-                    from .report import render_report
-
-                    saved = draw_figures(result, tmp, parallel=parallel_figures, early=early)
-                    early = None
-                    svg = {name: Path(paths["svg"]).read_text(encoding="utf-8")
-                           for name, paths in saved.items()}
-                    (tmp / "report.html").write_text(render_report(result, svg, created_utc=created,
-                                                                   title=title),
-                                                     encoding="utf-8")
-            finally:
-                discard_campaign_figures(early)
+                with AsideWork(enabled=parallel) as work_aside:
+                    result = build(campaign, options, input_sha256=hash_inputs(inputs),
+                                   input_files=[Path(p).name for p in inputs],
+                                   progress=progress, aside=work_aside)
+            except DataError as exc:  # found while fitting: say which input it is about
+                source = str(campaign.source)
+                if source and not str(exc).startswith(source):
+                    raise DataError(f"{source}: {exc}") from None
+                raise
+            progress("writing")
+            write_build_numbers(result, tmp, created_utc=created, units=units)
+            if figures:
+                _write_figures_and_report(result, tmp, drawing, created=created, title=title)
         progress.done()
     finally:
         progress.cancel()   # after an error: no reminder outlives the run
+        if drawing is not None:
+            drawing.stop()  # after an error: no drawing goes on; after success, a no-op
     return result, Path(out)
+
+
+def _write_figures_and_report(result, folder: Path, drawing: DrawingChild | None, *,
+                              created: str, title: str | None) -> None:
+    """Every figure as PNG and SVG and the HTML report with the SVGs inside. The figures the
+    drawing child (if any) did not deliver are drawn here."""
+    from .plotting import figure_files, figure_names
+    from .report import render_report
+
+    delivered = drawing.finish(result) if drawing is not None else []
+    missing = [n for n in figure_names(result) if n not in delivered]
+    if missing:
+        draw_figures(result, folder, missing)
+    svg = {name: figure_files(folder, name)["svg"].read_text(encoding="utf-8")
+           for name in figure_names(result)}
+    (folder / "report.html").write_text(render_report(result, svg, created_utc=created,
+                                                      title=title), encoding="utf-8")
