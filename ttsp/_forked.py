@@ -24,10 +24,10 @@ from typing import Any
 __all__ = ["can_fork", "fork_recording_stops", "start_child", "child_ok", "AsideWork",
            "BACKGROUND_NICENESS", "dumps"]
 
-#: niceness of children whose work is not on the build's critical path (work aside, figures of
-#: the campaign drawn during the build): on two cores the parent's own build is what the user
-#: waits for, so it keeps the processor when both compete (measured on the demo: 3.17-3.29 s
-#: wall against 3.32-3.43 s at equal priority; the figures drawn at the end keep full priority).
+#: niceness of children whose work is not on the build's critical path (work aside: the
+#: cross-validation): on two cores the parent's own build is what the user waits for, so it
+#: keeps the processor when both compete (measured on the demo: 3.17-3.29 s wall against
+#: 3.32-3.43 s at equal priority). The drawing child is not niced: it ends the build.
 BACKGROUND_NICENESS = 10
 
 
@@ -94,11 +94,9 @@ def fork_recording_stops() -> tuple[int, list]:
     return pid, arrived
 
 
-def start_child(work: Callable[[], object], *,
-                orphaned: Callable[[], object] | None = None, nice: int = 0) -> int:
+def start_child(work: Callable[[], object], *, nice: int = 0) -> int:
     """Fork a child that runs ``work()`` and leaves (exit code 0 when it returned, 1 when it
-    raised); returns its pid to the parent. ``orphaned()`` runs in the child at its end when
-    the parent died meanwhile (to remove what nobody will collect)."""
+    raised); returns its pid to the parent."""
     from ._lifetime import end_with_parent
 
     parent = os.getpid()
@@ -120,9 +118,6 @@ def start_child(work: Callable[[], object], *,
         work()
         code = 0
     finally:
-        if orphaned is not None and os.getppid() != parent:
-            with contextlib.suppress(BaseException):
-                orphaned()
         os._exit(code)
 
 
